@@ -1,0 +1,136 @@
+/**
+ * Shared records of the numerical core. Plain data only: every core function takes these (or
+ * plain numbers) and returns new records. Units follow ../shared/DESIGN.md §3:
+ * time in years (calendar days / 365), rates and yields continuously compounded decimals
+ * (0.045, not 4.5), volatilities as decimals per sqrt(year).
+ */
+
+export type OptionKind = 'call' | 'put';
+export type LegKind = OptionKind | 'shares';
+export type ExerciseStyle = 'european' | 'american';
+
+/** Merton (1976) jumps: Poisson intensity per year; mean and s.d. of the log jump size. */
+export interface Jumps {
+  intensity: number;
+  mean: number;
+  sd: number;
+}
+
+/** The market: spot, continuously compounded rate and dividend yield. */
+export interface Market {
+  spot: number;
+  rate: number;
+  yield: number;
+}
+
+/**
+ * A walk of the spot: dS/S = (drift − yield) dt + vol dW (+ compensated jumps).
+ * `drift` is the expected total return (dividends included): the rate for the
+ * risk-neutral walk, the user's μ for the view.
+ */
+export interface Walk {
+  drift: number;
+  vol: number;
+  jumps?: Jumps;
+}
+
+/** Per-share value and Greeks of one option (units: DESIGN.md §3). */
+export interface Greeks {
+  value: number;
+  /** per 1.00 of spot */
+  delta: number;
+  /** per 1.00 of spot */
+  gamma: number;
+  /** per vol point (0.01) */
+  vega: number;
+  /** per calendar day: analytic time derivative / 365 */
+  theta: number;
+  /** per 1% of rate */
+  rho: number;
+}
+
+/** One leg as the core sees it. */
+export interface LegInput {
+  /** signed: contracts for options, shares for stock */
+  qty: number;
+  kind: LegKind;
+  /** strike (0 for shares) */
+  strike: number;
+  /** years from asof to expiry (0 for shares) */
+  years: number;
+  /** the leg's implied vol (diffusion vol when jumps are on); 0 for shares */
+  iv: number;
+  /** entry price per share; null = entered at its fair value */
+  entry: number | null;
+}
+
+export interface CheckInput {
+  market: Market;
+  legs: LegInput[];
+  /** contract multiplier for option legs (shares use 1) */
+  mult: number;
+  style: ExerciseStyle;
+  /** years from asof to the horizon; ≤ the earliest option expiry */
+  horizonYears: number;
+  /** the user's view; the risk-neutral twin uses drift = rate and the same vol and jumps */
+  view: Walk;
+}
+
+export interface LegResult extends Greeks {
+  probItmRiskNeutral: number;
+  probItmView: number;
+}
+
+export interface PositionTotals {
+  cost: number;
+  value: number;
+  delta: number;
+  gamma: number;
+  vega: number;
+  theta: number;
+  rho: number;
+}
+
+export interface Outcome {
+  /** P(P&L > 0) under the view */
+  probProfit: number;
+  expectedPnl: number;
+  /** expected P&L under drift = rate with the view's vol (and jumps) */
+  expectedPnlRiskNeutral: number;
+  /** expectedPnl − expectedPnlRiskNeutral */
+  viewEdge: number;
+  attribution: { price: number; vol: number; drift: number };
+  /** lower quantiles inf{x : F(x) ≥ p} of the P&L under the view */
+  pnlQuantiles: { p05: number; p25: number; p50: number; p75: number; p95: number };
+  /** average P&L of the worst 5% of outcomes (expected shortfall at 5%, atoms handled) */
+  tailMean05: number;
+  /** spots at the horizon where P&L crosses zero, ascending */
+  breakevens: number[];
+  /** sup of P&L over spot at the horizon; null when unbounded */
+  maxGain: number | null;
+  /** inf of P&L over spot at the horizon (signed: a loss is negative); null when unbounded */
+  maxLoss: number | null;
+}
+
+/** Sampled curves for the chart (the chart never recomputes finance). */
+export interface Curves {
+  /** spot at the horizon, ascending */
+  spot: number[];
+  /** view density of the spot at the horizon at each `spot` */
+  densityView: number[];
+  /** risk-neutral density (drift = rate, view vol and jumps) at each `spot` */
+  densityRiskNeutral: number[];
+  /** P&L at the horizon (money) at each `spot` */
+  pnl: number[];
+  /** P&L distribution under the view: bin centres (money) and density per unit of money */
+  pnlDensity: { x: number[]; density: number[]; atoms: { x: number; prob: number }[] };
+}
+
+export interface CheckCore {
+  legs: LegResult[];
+  position: PositionTotals;
+  outcome: Outcome;
+  curves: Curves;
+  /** which model produced which figure, and other assumptions worth stating */
+  notes: string[];
+}

@@ -1,0 +1,124 @@
+/**
+ * Typed requests: what the parser (src/request/parse.ts) makes of the text of a request
+ * (grammar: ../shared/DESIGN.md §2). Values are in core units: percentages already divided by
+ * 100 (iv 28% → 0.28), dates as ISO strings (yyyy-mm-dd). Relative expiries (`30d`, `6w`, `3m`,
+ * `1y`) are kept relative here and turned into dates against `asof` by the resolver.
+ *
+ * Every field keeps the character index of its token in the request text (`…At`), so that a
+ * later check (e.g. a horizon after an expiry) can still put a caret under the right token.
+ */
+
+import type { ExerciseStyle, Jumps, LegKind } from '../core/types.js';
+
+/** An expiry as written: an ISO date, or a span from asof. */
+export type ExpirySpec = { date: string } | { span: number; unit: 'd' | 'w' | 'm' | 'y' };
+
+export interface LegSpec {
+  qty: number;
+  kind: LegKind;
+  strike?: number;
+  expiry?: ExpirySpec;
+  entry?: number;
+  iv?: number;
+  /** index of the leg's first token */
+  at: number;
+  /** index of each term of the leg that was written */
+  termsAt: Partial<Record<'strike' | 'expiry' | 'entry' | 'iv', number>>;
+}
+
+/** Terms that may follow the legs, in any order. All optional; the resolver fills defaults. */
+export interface Terms {
+  spot?: number;
+  rate?: number;
+  yield?: number;
+  iv?: number;
+  exp?: ExpirySpec;
+  drift?: number;
+  vol?: number;
+  horizon?: ExpirySpec;
+  asof?: string;
+  mult?: number;
+  style?: ExerciseStyle;
+  jumps?: Jumps;
+  on?: string;
+}
+
+export type TermName = keyof Terms;
+
+export interface CheckRequest {
+  verb: 'check';
+  legs: LegSpec[];
+  terms: Terms;
+  termsAt: Partial<Record<TermName, number>>;
+}
+
+export interface IvRequest {
+  verb: 'iv';
+  kind: 'call' | 'put';
+  strike: number;
+  expiry: ExpirySpec;
+  price: number;
+  terms: Terms;
+  termsAt: Partial<Record<TermName | 'price' | 'strike' | 'expiry', number>>;
+}
+
+export interface TouchRequest {
+  verb: 'touch';
+  level: number;
+  /** the date by which the level must be touched */
+  by: ExpirySpec;
+  terms: Terms;
+  termsAt: Partial<Record<TermName | 'level' | 'by', number>>;
+}
+
+export interface MarkRequest {
+  verb: 'mark';
+  /** absent: list the channel's marks */
+  symbol?: string;
+  terms: Pick<Terms, 'spot' | 'iv' | 'yield' | 'rate'>;
+}
+
+export interface LogRequest {
+  verb: 'log';
+  count: number;
+}
+
+export interface AgainRequest {
+  verb: 'again';
+  number: number;
+  /** the override text after the number, parsed as terms (and possibly legs) by the caller */
+  rest: string;
+  restAt: number;
+}
+
+export interface CompareRequest {
+  verb: 'compare';
+  /** the parts' texts between `;`, with their start index in the request */
+  parts: { text: string; at: number }[];
+}
+
+export interface HelpRequest {
+  verb: 'help';
+  topic?: string;
+}
+
+export type Request =
+  | CheckRequest
+  | IvRequest
+  | TouchRequest
+  | MarkRequest
+  | LogRequest
+  | AgainRequest
+  | CompareRequest
+  | HelpRequest;
+
+/** A parse error: message for humans, index of the first bad token, one corrected example. */
+export interface ParseError {
+  message: string;
+  at: number;
+  /** length of the bad token (for the caret line) */
+  length: number;
+  example: string;
+}
+
+export type ParseResult = { ok: true; request: Request } | { ok: false; error: ParseError };
