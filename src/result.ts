@@ -1,0 +1,57 @@
+/**
+ * The machine-readable result of a check (DESIGN.md §4), assembled from the resolved request and
+ * the core's figures. The text answer, the headline, the log summary and the chart all read this.
+ */
+import type { CheckCore, Curves, ExerciseStyle, Jumps, LegKind, Outcome, PositionTotals } from './core/types.js';
+
+export interface LegJson {
+  qty: number;
+  type: LegKind;
+  strike: number | null;
+  expiry: string | null;
+  years: number | null;
+  iv: number | null;
+  /** entry price per share used (the fair value when none was written) */
+  entry: number;
+  entryGiven: boolean;
+  value: number;
+  delta: number;
+  gamma: number;
+  vega: number;
+  theta: number;
+  rho: number;
+  probItmRiskNeutral: number | null;
+  probItmView: number | null;
+}
+
+/** The outcome under the risk-neutral twin of the view, for the side-by-side column. */
+export interface RiskNeutralOutcome {
+  probProfit: number;
+  expectedPnl: number;
+  pnlQuantiles: Outcome['pnlQuantiles'];
+  tailMean05: number;
+}
+
+export interface CheckJson {
+  kind: 'check';
+  symbol?: string;
+  asof: string;
+  horizon: string;
+  horizonYears: number;
+  market: { spot: number; rate: number; yield: number };
+  view: { drift: number; vol: number; model: 'lognormal' | 'merton-jumps'; jumps?: Jumps };
+  style: ExerciseStyle;
+  mult: number;
+  notes: string[];
+  legs: LegJson[];
+  position: PositionTotals;
+  outcome: Outcome;
+  outcomeRiskNeutral: RiskNeutralOutcome;
+}
+
+export interface CheckAssembly {
+  json: CheckJson;
+  /** the view's curves, for the chart (not printed in --json) */
+  curves: Curves;
+}
+export type { CheckCore };
