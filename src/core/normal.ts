@@ -76,8 +76,13 @@ function expHalfSquareSplit(y: number): number {
   return Math.exp(-0.5 * h * h) * Math.exp(-0.5 * del);
 }
 
-/** Φ(−y) for y > 0.67448975 (finite), full relative precision. */
-function lowerTail(y: number): number {
+const SQRT_2PI = 2.506628274631000502415765284811;
+
+/**
+ * Mills ratio Φ(−y)/φ(y) for y > 0.67448975 (any y up to +Infinity), from Cody's rational
+ * functions without any exponential.
+ */
+function millsTail(y: number): number {
   if (y <= SQRT_32) {
     let n = C8 * y;
     let d = y;
@@ -95,25 +100,35 @@ function lowerTail(y: number): number {
     d = (d + D5) * y;
     n = (n + C6) * y;
     d = (d + D6) * y;
-    // y²/2 ≤ 16 here, so the rounding of y·y costs at most ~2e−15 relative after exp.
-    return (Math.exp(-0.5 * y * y) * (n + C7)) / (d + D7);
+    return (SQRT_2PI * (n + C7)) / (d + D7);
   }
-  if (y <= FAR) {
-    const s = 1 / (y * y);
-    let n = P5 * s;
-    let d = s;
-    n = (n + P0) * s;
-    d = (d + Q0) * s;
-    n = (n + P1) * s;
-    d = (d + Q1) * s;
-    n = (n + P2) * s;
-    d = (d + Q2) * s;
-    n = (n + P3) * s;
-    d = (d + Q3) * s;
-    const r = (s * (n + P4)) / (d + Q4);
-    return (expHalfSquareSplit(y) * (INV_SQRT_2PI - r)) / y;
-  }
-  return y > FAR ? 0 : NaN;
+  const s = 1 / (y * y);
+  let n = P5 * s;
+  let d = s;
+  n = (n + P0) * s;
+  d = (d + Q0) * s;
+  n = (n + P1) * s;
+  d = (d + Q1) * s;
+  n = (n + P2) * s;
+  d = (d + Q2) * s;
+  n = (n + P3) * s;
+  d = (d + Q3) * s;
+  const r = (s * (n + P4)) / (d + Q4);
+  return (1 - SQRT_2PI * r) / y;
+}
+
+/** Φ(z) − ½ on Cody's central range |z| ≤ 0.67448975. */
+function centralHalf(z: number): number {
+  const s = z * z;
+  let n = A4 * s;
+  let d = s;
+  n = (n + A0) * s;
+  d = (d + B0) * s;
+  n = (n + A1) * s;
+  d = (d + B1) * s;
+  n = (n + A2) * s;
+  d = (d + B2) * s;
+  return (z * (n + A3)) / (d + B3);
 }
 
 /** Standard normal density φ(z) = e^{−z²/2}/√(2π). */
@@ -131,20 +146,30 @@ export function normPdf(z: number): number {
  */
 export function normCdf(z: number): number {
   const y = Math.abs(z);
-  if (y <= CENTRAL) {
-    const s = z * z;
-    let n = A4 * s;
-    let d = s;
-    n = (n + A0) * s;
-    d = (d + B0) * s;
-    n = (n + A1) * s;
-    d = (d + B1) * s;
-    n = (n + A2) * s;
-    d = (d + B2) * s;
-    return 0.5 + (z * (n + A3)) / (d + B3);
-  }
-  const t = lowerTail(y);
+  if (y <= CENTRAL) return 0.5 + centralHalf(z);
+  const t = normPdf(y) * millsTail(y);
   return z < 0 ? t : 1 - t;
+}
+
+/**
+ * Φ(z) when φ(z) is already known (`pdf` must be normPdf(z) or equal to it within rounding):
+ * saves the exponential in inner loops that need both. Same precision as normCdf.
+ */
+export function normCdfWithPdf(z: number, pdf: number): number {
+  const y = Math.abs(z);
+  if (y <= CENTRAL) return 0.5 + centralHalf(z);
+  const t = pdf * millsTail(y);
+  return z < 0 ? t : 1 - t;
+}
+
+/**
+ * Mills ratio Φ(−u)/φ(u) for u ≥ 0 (also fine for moderately negative u, down to about −37).
+ * For u > 0.6745 no exponential is evaluated, so it stays exact where Φ(−u) and φ(u) underflow;
+ * used to work with logarithms of tiny option prices.
+ */
+export function normMills(u: number): number {
+  if (u > CENTRAL) return millsTail(u);
+  return (0.5 - centralHalf(u)) * SQRT_2PI * Math.exp(0.5 * u * u);
 }
 
 /** Upper tail 1 − Φ(z) = Φ(−z), with full relative precision for large positive z. */

@@ -1,0 +1,187 @@
+/**
+ * Black-Scholes-Merton for European options on a stock with a continuous dividend yield q
+ * (Merton 1973): value, Greeks and the probability of finishing in the money.
+ *
+ *   d1 = (ln(S/K) + (r − q + σ²/2)T) / (σ√T),  d2 = d1 − σ√T
+ *   call = S e^{−qT} Φ(d1) − K e^{−rT} Φ(d2),  put = K e^{−rT} Φ(−d2) − S e^{−qT} Φ(−d1)
+ *
+ * Units (DESIGN.md §3): value per share; delta and gamma per 1.00 of spot; vega per vol point
+ * (∂V/∂σ × 0.01); theta per calendar day (∂V/∂t = −∂V/∂T, divided by 365); rho per 1% of rate
+ * (∂V/∂r × 0.01).
+ *
+ * Speed: one log, one sqrt, the two discount exponentials and one exponential for φ(d1);
+ * φ(d2) follows from the identity K e^{−rT} φ(d2) = S e^{−qT} φ(d1), and Φ(d1), Φ(d2) reuse
+ * the densities (normCdfWithPdf), so no further exponential is taken.
+ *
+ * Limits (never NaN or Infinity for finite inputs with S, K > 0, σ ≥ 0, T ≥ 0):
+ * - T ≤ 0 (expired): value = intrinsic max(±(S − K), 0); delta is the step ±1 / 0, and ±½
+ *   exactly at the money (the average of the one-sided limits); gamma, vega, theta, rho are 0
+ *   (nothing is left to decay or to discount).
+ * - σ√T = 0 with T > 0: the forward is certain; value = max(±(S e^{−qT} − K e^{−rT}), 0) and the
+ *   Greeks are the σ → 0 limits (delta ±e^{−qT} or 0, gamma 0; at exactly the money-forward,
+ *   delta ±½e^{−qT} and vega S e^{−qT}√T/√(2π), its limit).
+ * - Extreme S/K: Φ saturates to 0 or 1 cleanly; the value is clamped at the no-arbitrage lower
+ *   bound so rounding can never make it negative.
+ */
+import type { Greeks, OptionKind } from './types.js';
+import { normCdf, normCdfWithPdf, normPdf } from './normal.js';
+
+const INV_SQRT_2PI = 0.398942280401432677939946059934;
+/** σ√T below this is treated as the certain-forward limit (d1 would overflow or be 0/0). */
+const TINY_SD = 1e-15;
+
+/** Value per share of a European call or put under Black-Scholes-Merton. */
+export function bsmValue(
+  kind: OptionKind,
+  S: number,
+  K: number,
+  T: number,
+  r: number,
+  q: number,
+  sigma: number,
+): number {
+  if (!(T > 0)) return kind === 'call' ? Math.max(S - K, 0) : Math.max(K - S, 0);
+  const dq = Math.exp(-q * T);
+  const dr = Math.exp(-r * T);
+  const fS = S * dq; // S e^{−qT}
+  const fK = K * dr; // K e^{−rT}
+  const sd = sigma * Math.sqrt(T);
+  if (!(sd > TINY_SD)) {
+    return kind === 'call' ? Math.max(fS - fK, 0) : Math.max(fK - fS, 0);
+  }
+  const d1 = Math.log(fS / fK) / sd + 0.5 * sd;
+  const d2 = d1 - sd;
+  const p1 = normPdf(d1);
+  const ratio = fS / fK;
+  let p2 = p1 * ratio;
+  if (p1 === 0 || !(p2 < Infinity)) p2 = normPdf(d2);
+  if (kind === 'call') {
+    const v = fS * normCdfWithPdf(d1, p1) - fK * normCdfWithPdf(d2, p2);
+    return Math.max(v, fS - fK, 0);
+  }
+  const v = fK * normCdfWithPdf(-d2, p2) - fS * normCdfWithPdf(-d1, p1);
+  return Math.max(v, fK - fS, 0);
+}
+
+/** Value and Greeks per share (units in the module comment). */
+export function bsmGreeks(
+  kind: OptionKind,
+  S: number,
+  K: number,
+  T: number,
+  r: number,
+  q: number,
+  sigma: number,
+): Greeks {
+  if (!(T > 0)) return expired(kind, S, K);
+  const sqT = Math.sqrt(T);
+  const dq = Math.exp(-q * T);
+  const dr = Math.exp(-r * T);
+  const fS = S * dq;
+  const fK = K * dr;
+  const sd = sigma * sqT;
+  if (!(sd > TINY_SD)) return certainForward(kind, S, K, T, r, q, fS, fK, dq, sqT);
+  const ratio = fS / fK;
+  const d1 = Math.log(ratio) / sd + 0.5 * sd;
+  const d2 = d1 - sd;
+  const p1 = normPdf(d1);
+  let p2 = p1 * ratio; // φ(d2) = φ(d1)·S e^{−qT}/(K e^{−rT})
+  if (p1 === 0 || !(p2 < Infinity)) p2 = normPdf(d2);
+  const fSp1 = fS * p1;
+  const gamma = (dq * p1) / (S * sd);
+  const vega = fSp1 * sqT * 0.01;
+  const decay = (-fSp1 * sigma) / (2 * sqT);
+  if (kind === 'call') {
+    const n1 = normCdfWithPdf(d1, p1);
+    const n2 = normCdfWithPdf(d2, p2);
+    const a = fS * n1;
+    const b = fK * n2;
+    return {
+      value: Math.max(a - b, fS - fK, 0),
+      delta: dq * n1,
+      gamma,
+      vega,
+      theta: (decay - r * b + q * a) / 365,
+      rho: K * T * dr * n2 * 0.01,
+    };
+  }
+  const n1 = normCdfWithPdf(-d1, p1);
+  const n2 = normCdfWithPdf(-d2, p2);
+  const a = fS * n1;
+  const b = fK * n2;
+  return {
+    value: Math.max(b - a, fK - fS, 0),
+    delta: -dq * n1,
+    gamma,
+    vega,
+    theta: (decay + r * b - q * a) / 365,
+    rho: -K * T * dr * n2 * 0.01,
+  };
+}
+
+function expired(kind: OptionKind, S: number, K: number): Greeks {
+  const sign = kind === 'call' ? 1 : -1;
+  const m = sign * (S - K);
+  return {
+    value: Math.max(m, 0),
+    delta: m > 0 ? sign : m < 0 ? 0 : 0.5 * sign,
+    gamma: 0,
+    vega: 0,
+    theta: 0,
+    rho: 0,
+  };
+}
+
+/** σ√T = 0, T > 0: the σ → 0 limits of the formulas above. */
+function certainForward(
+  kind: OptionKind,
+  S: number,
+  K: number,
+  T: number,
+  r: number,
+  q: number,
+  fS: number,
+  fK: number,
+  dq: number,
+  sqT: number,
+): Greeks {
+  const sign = kind === 'call' ? 1 : -1;
+  const m = sign * (fS - fK);
+  // Φ(±d1) and Φ(±d2) of the option's own side: 1 in the money, 0 out, ½ exactly at the money.
+  const n = m > 0 ? 1 : m < 0 ? 0 : 0.5;
+  const atTheMoney = m === 0;
+  return {
+    value: Math.max(m, 0),
+    delta: sign * dq * n,
+    gamma: 0,
+    vega: atTheMoney ? fS * INV_SQRT_2PI * sqT * 0.01 : 0,
+    theta: (sign * (q * fS - r * fK) * n) / 365,
+    rho: sign * K * T * (fK / K) * n * 0.01,
+  };
+}
+
+/**
+ * Probability that the option finishes in the money (S_T > K for a call, S_T < K for a put)
+ * when dS = (drift − q) S dt + σ S dW; drift = r gives the risk-neutral probability.
+ * Limits: T ≤ 0 or σ√T = 0 compare the (certain) forward S e^{(drift−q)T} with K, strictly;
+ * a forward exactly at the strike gives 0 (it finishes at the strike, not beyond it).
+ */
+export function probItm(
+  kind: OptionKind,
+  S: number,
+  K: number,
+  T: number,
+  drift: number,
+  q: number,
+  sigma: number,
+): number {
+  const t = T > 0 ? T : 0;
+  const sd = sigma * Math.sqrt(t);
+  const m = Math.log(S / K) + (drift - q) * t; // ln(F/K)
+  if (!(sd > TINY_SD)) {
+    if (kind === 'call') return m > 0 ? 1 : 0;
+    return m < 0 ? 1 : 0;
+  }
+  const d2 = m / sd - 0.5 * sd;
+  return kind === 'call' ? normCdf(d2) : normCdf(-d2);
+}
