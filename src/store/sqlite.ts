@@ -19,7 +19,7 @@
  * - Every statement filters by channel; there is no query that can reach another channel's rows.
  */
 import Database from 'better-sqlite3';
-import { mkdirSync } from 'node:fs';
+import { existsSync, mkdirSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
 import { StoreError, toStoreError, type StoreOp } from './errors.js';
 import { migrate, schemaVersion, SCHEMA_VERSION } from './migrations.js';
@@ -75,6 +75,10 @@ export function openStore(path: string, opts: OpenOptions = {}): Store {
   }
   const ctx = { path, busyTimeoutMs };
   let db: Database.Database;
+  if (path !== '' && path !== ':memory:' && !path.startsWith('file:') && !existsSync(dirname(resolve(path)))) {
+    // better-sqlite3 checks this itself and throws a bare TypeError; say it plainly instead
+    throw new StoreError('unavailable', 'open', `the log folder does not exist (${dirname(resolve(path))})`);
+  }
   try {
     db = new Database(path, { readonly, fileMustExist: readonly, timeout: busyTimeoutMs });
   } catch (e) {
