@@ -1,0 +1,259 @@
+/**
+ * Where each part of a reply goes in the workspace, and what the asker is told when the platform
+ * refuses something.
+ *
+ *   rejected            → one ephemeral reply to the asker; nothing in the channel
+ *   ephemeral answer    → one ephemeral reply (help, lists)
+ *   answer with headline→ root line in the channel (or, asked inside a thread, the thread itself),
+ *                         the full answer in the thread, then the chart PNG uploaded into the thread
+ *   answer, no headline → the answer as a message in the channel (or the asker's thread)
+ *
+ * After posting, the log entry records its thread and permalink and whether it was delivered.
+ * Every platform failure becomes a clear ephemeral message; a failed chart never holds back the
+ * text answer.
+ */
+import type { webApi } from '@slack/bolt';
+import type { Reply, Answer } from '../reply.js';
+import type { Store } from '../store/store.js';
+import { answerMessages, monoNotice, plainNotice, rootMessage, type Message } from './blocks.js';
+
+type WebClient = webApi.WebClient;
+
+/** Sends an ephemeral reply through the slash command's response URL. */
+export type Respond = (msg: { response_type: 'ephemeral'; replace_original: false; text: string; blocks: unknown[] }) => Promise<unknown>;
+
+export interface Origin {
+  source: 'command' | 'mention';
+  channel: string;
+  user: string;
+  /** the thread the request was asked in (mentions inside a thread) */
+  threadTs?: string;
+  /** for slash commands: the response URL, which reaches the asker even where Kolmo is not a member */
+  respond?: Respond;
+}
+
+export type Outcome = 'answered' | 'answered-no-chart' | 'ephemeral' | 'rejected' | 'undelivered';
+
+export interface Delivery {
+  outcome: Outcome;
+  /** the thread the answer went to */
+  threadTs?: string;
+  /** platform failures met on the way (already told to the asker) */
+  failures: string[];
+}
+
+interface PlatformErrorShape {
+  code?: string;
+  data?: { error?: string; needed?: string };
+  retryAfter?: number;
+  statusCode?: number;
+  message?: string;
+}
+
+/** A sentence for the asker about why the platform refused `what`. */
+export function explainFailure(err: unknown, what: string): string {
+  const e = (err ?? {}) as PlatformErrorShape;
+  const code = e.code ?? '';
+  const apiError = e.data?.error ?? '';
+  if (code === 'slack_webapi_platform_error') {
+    switch (apiError) {
+      case 'not_in_channel':
+        return `Kolmo could not post ${what}: it is not a member of this channel. Invite it with \`/invite @Kolmo\` and ask again.`;
+      case 'channel_not_found':
+        return `Kolmo could not post ${what}: it cannot see this channel (a private channel or conversation it has not been added to). Add it to the channel and ask again.`;
+      case 'is_archived':
+        return `Kolmo could not post ${what}: this channel is archived.`;
+      case 'restricted_action':
+      case 'restricted_action_read_only_channel':
+      case 'restricted_action_thread_only_channel':
+        return `Kolmo could not post ${what}: the workspace does not allow it to post here.`;
+      case 'missing_scope':
+        return `Kolmo could not post ${what}: its installation lacks a permission${e.data?.needed ? ` (${e.data.needed})` : ''}. Ask a workspace admin to reinstall the app from its manifest.`;
+      case 'ratelimited':
+      case 'rate_limited':
+        return `Kolmo could not post ${what}: the workspace is rate-limiting it. Try again in a minute.`;
+      case 'invalid_auth':
+      case 'not_authed':
+      case 'token_revoked':
+      case 'account_inactive':
+        return `Kolmo could not post ${what}: its workspace credentials were refused. Ask a workspace admin to check the installation.`;
+      default:
+        return `Kolmo could not post ${what}: the workspace refused it (${apiError || 'unknown error'}).`;
+    }
+  }
+  if (code === 'slack_webapi_rate_limited_error' || /rate limit/i.test(e.message ?? '')) {
+    return `Kolmo could not post ${what}: the workspace kept rate-limiting it after several retries. Try again in a minute.`;
+  }
+  if (code === 'slack_webapi_http_error') {
+    return `Kolmo could not post ${what}: the workspace answered with HTTP ${e.statusCode ?? 'error'}. Try again shortly.`;
+  }
+  if (code === 'slack_webapi_request_error') {
+    return `Kolmo could not post ${what}: the workspace could not be reached. Try again shortly.`;
+  }
+  return `Kolmo could not post ${what}: ${e.message ?? String(err)}.`;
+}
+
+export interface DeliverDeps {
+  client: WebClient;
+  store: Store | null;
+  /** told about failures that could not even reach the asker */
+  onLost?: (what: string, err: unknown) => void;
+}
+
+async function postAll(client: WebClient, channel: string, threadTs: string | undefined, msgs: Message[]): Promise<string[]> {
+  const ts: string[] = [];
+  for (const m of msgs) {
+    const r = await client.chat.postMessage({
+      channel,
+      text: m.text,
+      blocks: m.blocks as never,
+      ...(threadTs ? { thread_ts: threadTs } : {}),
+      unfurl_links: false,
+      unfurl_media: false,
+    });
+    ts.push(String(r.ts ?? ''));
+  }
+  return ts;
+}
+
+/** Sends messages only the asker sees: the response URL first (slash commands), else chat.postEphemeral. */
+export async function tellAsker(deps: DeliverDeps, origin: Origin, msgs: Message[]): Promise<boolean> {
+  let all = true;
+  for (const m of msgs) {
+    let sent = false;
+    let lastErr: unknown;
+    if (origin.respond) {
+      try {
+        await origin.respond({ response_type: 'ephemeral', replace_original: false, text: m.text, blocks: m.blocks });
+        sent = true;
+      } catch (err) {
+        lastErr = err;
+      }
+    }
+    if (!sent) {
+      try {
+        await deps.client.chat.postEphemeral({
+          channel: origin.channel,
+          user: origin.user,
+          text: m.text,
+          blocks: m.blocks as never,
+          ...(origin.threadTs ? { thread_ts: origin.threadTs } : {}),
+        });
+        sent = true;
+      } catch (err) {
+        lastErr = err;
+      }
+    }
+    if (!sent) {
+      all = false;
+      deps.onLost?.('ephemeral reply', lastErr);
+    }
+  }
+  return all;
+}
+
+function record(deps: DeliverDeps, fn: (s: Store) => void, failures: string[]): void {
+  if (!deps.store) return;
+  try {
+    fn(deps.store);
+  } catch (err) {
+    failures.push(`the log could not record the delivery (${err instanceof Error ? err.message : String(err)})`);
+  }
+}
+
+/**
+ * Delivers one reply. Never throws: every failure is told to the asker (when the platform lets
+ * Kolmo reach them) and returned.
+ */
+export async function deliver(
+  deps: DeliverDeps,
+  origin: Origin,
+  reply: Reply,
+  chart: { png?: Uint8Array; note?: string } = {},
+): Promise<Delivery> {
+  const failures: string[] = [];
+  if (reply.kind === 'rejected') {
+    await tellAsker(deps, origin, monoNotice(reply.message));
+    return { outcome: 'rejected', failures };
+  }
+  const a: Answer = reply;
+  const notes = [...a.warnings];
+  if (a.ephemeral) {
+    await tellAsker(deps, origin, monoNotice(a.text, [a.verb === 'help' ? '' : a.caution, ...notes].filter(Boolean).join(' · ')));
+    return { outcome: 'ephemeral', failures };
+  }
+
+  const { client } = deps;
+  const channel = origin.channel;
+  const logNumber = a.logNumber;
+  let threadTs: string | undefined;
+  let anchorTs: string | undefined;
+  try {
+    if (a.headline.trim() === '') {
+      // nothing for the channel root: the answer itself goes where it was asked
+      const ts = await postAll(client, channel, origin.threadTs, answerMessages(a));
+      anchorTs = ts[0];
+      threadTs = origin.threadTs ?? anchorTs;
+    } else if (origin.threadTs) {
+      threadTs = origin.threadTs;
+      const ts = await postAll(client, channel, threadTs, answerMessages(a, rootMessage(origin.user, a.headline)));
+      anchorTs = ts[0];
+    } else {
+      const rm = rootMessage(origin.user, a.headline);
+      const root = await client.chat.postMessage({ channel, text: rm.text, blocks: rm.blocks as never, unfurl_links: false, unfurl_media: false });
+      threadTs = String(root.ts ?? '');
+      anchorTs = threadTs;
+      try {
+        await postAll(client, channel, threadTs, answerMessages(a));
+      } catch (err) {
+        // the root line is in the channel but the answer is not: say so in the thread if possible
+        failures.push(explainFailure(err, 'the answer in the thread'));
+        throw err;
+      }
+    }
+  } catch (err) {
+    const why = failures[0] ?? explainFailure(err, 'the answer');
+    if (failures.length === 0) failures.push(why);
+    if (logNumber !== undefined) record(deps, (s) => s.setDelivery(channel, logNumber, 'undelivered'), failures);
+    await tellAsker(deps, origin, [plainNotice(`${why}${logNumber !== undefined ? ` (The check is in the log as #${logNumber}.)` : ''}`), ...monoNotice(a.text, a.caution)]);
+    return { outcome: 'undelivered', threadTs, failures };
+  }
+
+  if (logNumber !== undefined && threadTs) {
+    let permalink: string | null = null;
+    try {
+      const p = await client.chat.getPermalink({ channel, message_ts: anchorTs ?? threadTs });
+      permalink = typeof p.permalink === 'string' ? p.permalink : null;
+    } catch {
+      permalink = null; // the link is a convenience; the thread is recorded without it
+    }
+    const ts = threadTs;
+    record(deps, (s) => s.setThread(channel, logNumber, ts, permalink), failures);
+  }
+
+  let outcome: Outcome = 'answered';
+  if (chart.png) {
+    try {
+      await client.files.uploadV2({
+        channel_id: channel,
+        thread_ts: threadTs,
+        file: Buffer.from(chart.png.buffer, chart.png.byteOffset, chart.png.byteLength),
+        filename: logNumber !== undefined ? `kolmo-check-${logNumber}.png` : 'kolmo-chart.png',
+        title: logNumber !== undefined ? `Check #${logNumber}` : 'Kolmo chart',
+        alt_text: a.headline || 'Kolmo chart',
+      } as never);
+    } catch (err) {
+      outcome = 'answered-no-chart';
+      const why = explainFailure(err, 'the chart');
+      failures.push(why);
+      notes.push(`${why} The text answer is in the thread.`);
+    }
+  } else if (chart.note) {
+    outcome = 'answered-no-chart';
+    notes.push(`The chart was not drawn: ${chart.note}. The text answer is in the thread.`);
+  }
+  if (logNumber !== undefined) record(deps, (s) => s.setDelivery(channel, logNumber, 'delivered'), failures);
+  for (const f of failures.filter((f) => f.startsWith('the log'))) notes.push(f);
+  if (notes.length > 0) await tellAsker(deps, { ...origin, threadTs }, [plainNotice(notes.join('\n'))]);
+  return { outcome, threadTs, failures };
+}

@@ -1,0 +1,183 @@
+/**
+ * Heavy work (the engine and chart rendering) kept off the event loop that acknowledges requests.
+ *
+ * WorkerPool: a fixed set of worker threads (default: one per core), each running worker.js from
+ * the compiled tree, one job at a time, fed from a FIFO queue. A job has a deadline from the
+ * moment it is submitted; a job past it is abandoned (its worker, if it is running it, is
+ * terminated and replaced). A worker that dies takes only its own job with it and is replaced,
+ * with a growing pause when workers keep dying, so a broken build cannot spin.
+ *
+ * InlineEngine: the same work on the main thread (KOLMO_WORKERS=0), for comparison and small
+ * installations.
+ */
+import { Worker } from 'node:worker_threads';
+import type { Store } from '../store/store.js';
+import { work, type Job, type WorkResult } from './work.js';
+
+export interface Engine {
+  run(job: Job): Promise<WorkResult>;
+  close(): Promise<void>;
+  readonly size: number;
+}
+
+export class EngineError extends Error {
+  constructor(
+    message: string,
+    readonly reason: 'timeout' | 'crashed' | 'closed' | 'failed',
+  ) {
+    super(message);
+    this.name = 'EngineError';
+  }
+}
+
+interface Task {
+  id: number;
+  job: Job;
+  resolve: (r: WorkResult) => void;
+  reject: (e: Error) => void;
+  timer: NodeJS.Timeout;
+  slot?: Slot;
+  done: boolean;
+}
+
+interface Slot {
+  worker: Worker;
+  task?: Task;
+  ready: boolean;
+}
+
+export interface PoolOptions {
+  size: number;
+  /** database file each worker opens, or null for none */
+  dbPath: string | null;
+  /** deadline per job from submission */
+  taskTimeoutMs: number;
+  /** the worker script (default: worker.js beside this module) */
+  script?: URL;
+  /** told about worker deaths and restarts */
+  onEvent?: (e: { event: 'worker-exit' | 'worker-error'; detail: string }) => void;
+}
+
+export class WorkerPool implements Engine {
+  private readonly slots = new Set<Slot>();
+  private readonly queue: Task[] = [];
+  private nextId = 1;
+  private closing = false;
+  private crashes = 0;
+  private readonly script: URL;
+
+  constructor(private readonly opts: PoolOptions) {
+    if (!Number.isInteger(opts.size) || opts.size < 1) throw new RangeError('pool size must be a whole number ≥ 1');
+    this.script = opts.script ?? new URL('./worker.js', import.meta.url);
+    for (let i = 0; i < opts.size; i++) this.spawn();
+  }
+
+  get size(): number {
+    return this.opts.size;
+  }
+
+  /** jobs waiting for a worker */
+  get waiting(): number {
+    return this.queue.length;
+  }
+
+  run(job: Job): Promise<WorkResult> {
+    if (this.closing) return Promise.reject(new EngineError('the engine is shutting down', 'closed'));
+    return new Promise<WorkResult>((resolve, reject) => {
+      const task: Task = {
+        id: this.nextId++,
+        job,
+        resolve,
+        reject,
+        done: false,
+        timer: setTimeout(() => this.expire(task), this.opts.taskTimeoutMs),
+      };
+      task.timer.unref?.();
+      this.queue.push(task);
+      this.dispatch();
+    });
+  }
+
+  private spawn(): void {
+    if (this.closing) return;
+    const worker = new Worker(this.script, { workerData: { dbPath: this.opts.dbPath } });
+    const slot: Slot = { worker, ready: true };
+    this.slots.add(slot);
+    worker.on('message', (m: { id: number; ok: boolean; result?: WorkResult; error?: string }) => {
+      const task = slot.task;
+      if (!task || task.id !== m.id) return;
+      slot.task = undefined;
+      this.crashes = 0;
+      this.finish(task, m.ok && m.result ? { ok: true, value: m.result } : { ok: false, error: new EngineError(m.error ?? 'the worker failed', 'failed') });
+      this.dispatch();
+    });
+    worker.on('error', (err) => {
+      this.opts.onEvent?.({ event: 'worker-error', detail: err.message });
+    });
+    worker.on('exit', (code) => {
+      this.slots.delete(slot);
+      const task = slot.task;
+      slot.task = undefined;
+      if (task) this.finish(task, { ok: false, error: new EngineError(`the worker stopped (exit code ${code}) while answering`, 'crashed') });
+      if (this.closing) return;
+      this.opts.onEvent?.({ event: 'worker-exit', detail: `exit code ${code}` });
+      this.crashes++;
+      const pause = Math.min(5000, this.crashes <= 1 ? 0 : 100 * 2 ** Math.min(6, this.crashes - 2));
+      const t = setTimeout(() => {
+        this.spawn();
+        this.dispatch();
+      }, pause);
+      t.unref?.();
+    });
+  }
+
+  private dispatch(): void {
+    for (const slot of this.slots) {
+      if (this.queue.length === 0) return;
+      if (slot.task || !slot.ready) continue;
+      const task = this.queue.shift()!;
+      slot.task = task;
+      task.slot = slot;
+      slot.worker.postMessage({ id: task.id, job: task.job });
+    }
+  }
+
+  private expire(task: Task): void {
+    if (task.done) return;
+    const i = this.queue.indexOf(task);
+    if (i >= 0) this.queue.splice(i, 1);
+    const slot = task.slot;
+    this.finish(task, { ok: false, error: new EngineError(`no answer within ${Math.round(this.opts.taskTimeoutMs / 1000)} s`, 'timeout') });
+    if (slot && slot.task === task) {
+      // the worker is stuck on it: replace the worker
+      slot.task = undefined;
+      slot.ready = false;
+      void slot.worker.terminate();
+    }
+  }
+
+  private finish(task: Task, r: { ok: true; value: WorkResult } | { ok: false; error: Error }): void {
+    if (task.done) return;
+    task.done = true;
+    clearTimeout(task.timer);
+    if (r.ok) task.resolve(r.value);
+    else task.reject(r.error);
+  }
+
+  async close(): Promise<void> {
+    this.closing = true;
+    for (const t of this.queue.splice(0)) this.finish(t, { ok: false, error: new EngineError('the engine is shutting down', 'closed') });
+    await Promise.all([...this.slots].map((s) => s.worker.terminate()));
+    this.slots.clear();
+  }
+}
+
+/** The same work on the calling thread. */
+export class InlineEngine implements Engine {
+  readonly size = 0;
+  constructor(private readonly store: Store | null) {}
+  async run(job: Job): Promise<WorkResult> {
+    return work(job, this.store);
+  }
+  async close(): Promise<void> {}
+}
