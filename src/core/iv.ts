@@ -21,7 +21,8 @@
  *    the left of the root; on the upper branch g ≈ (e^{x/2} + e^{−x/2}) Φ(−s/2), exact at x = 0.
  * 4. Halley's iteration on f = ln b − ln b* (lower) or ln g − ln g* (upper), with analytic
  *    second derivative b''/b' = x²/s³ − s/4, kept inside a bracket (bisection if a step
- *    leaves it), until the step is below 1e−15·s.
+ *    leaves it), until the step is below 1e−11·s (then taken: the error left is
+ *    far below the rounding noise of the inputs).
  */
 import type { OptionKind } from './types.js';
 import { normInv, normMills } from './normal.js';
@@ -121,11 +122,17 @@ function solveNormalised(x: number, tv: number, hr: number): Solved {
   const lnTv = Math.log(tv);
   const sc = Math.sqrt(-2 * x);
   let lower = false;
+  let lnBc = 0;
   if (x < 0) {
     // b at the inflection point s_c (d1 = 0): b' = e^{x/2} φ(0), M(0) − M(s_c)
-    const lnBc = 0.5 * x - LN_SQRT_2PI + Math.log(MILLS_0 - normMills(sc));
+    lnBc = 0.5 * x - LN_SQRT_2PI + Math.log(MILLS_0 - normMills(sc));
     lower = lnTv < lnBc;
   }
+  // The at-the-money guess: g ≈ (e^{x/2} + e^{−x/2}) Φ(−s/2), exact at x = 0 and good while
+  // |x| ≪ s.
+  const e = Math.exp(0.5 * x);
+  let sAtm = -2 * normInv(hr / (e + 1 / e));
+  if (!(sAtm < Infinity)) sAtm = Math.max(2 * sc, 1);
   const x2 = x * x;
   let s: number;
   let lo: number;
@@ -133,13 +140,14 @@ function solveNormalised(x: number, tv: number, hr: number): Solved {
   if (lower) {
     lo = 0;
     hi = sc;
-    s = Math.min(-x / Math.sqrt(-2 * lnTv), sc);
+    // s² = 2x²/(|x| − 4 ln(b*/b_c)): equals s_c at b* = b_c and tends to the tail asymptotic
+    // ln b ≈ −x²/(2s²) as b* → 0 (a lower estimate of the root there).
+    const sTail = Math.sqrt((2 * x2) / (-x - 4 * (lnTv - lnBc)));
+    s = sTail < -0.5 * x ? sTail : Math.max(sTail, Math.min(sAtm, sc));
   } else {
     lo = sc;
     hi = Infinity;
-    const e = Math.exp(0.5 * x);
-    s = Math.max(-2 * normInv(hr / (e + 1 / e)), sc);
-    if (!(s < Infinity)) s = Math.max(2 * sc, 1);
+    s = Math.max(sAtm, sc);
   }
   const lnTarget = lower ? lnTv : Math.log(hr);
   let d1 = 0;
@@ -158,14 +166,17 @@ function solveNormalised(x: number, tv: number, hr: number): Solved {
     const fpp = fp * (x2 / (s * s * s) - 0.25 * s) - inv * inv;
     const newton = -f / fp;
     const den = 1 + (0.5 * newton * fpp) / fp; // 1 − f f''/(2 f'²)
-    let step = den > 0.5 ? newton / den : newton;
-    let next = s + step;
-    if (!(next > lo && next < hi)) {
-      next = hi < Infinity ? (lo > 0 ? Math.sqrt(lo * hi) : 0.5 * hi) : 2 * s;
-      step = next - s;
+    const step = den > 0.5 ? newton / den : newton;
+    if (!(w > 0) || f === 0) break;
+    // Halley is cubic (Newton quadratic): after a step this small the next would be far below
+    // the rounding of the inputs.
+    if (Math.abs(step) <= 1e-11 * s) {
+      s += step;
+      break;
     }
-    s = next;
-    if (Math.abs(step) <= 1e-15 * s || !(w > 0)) break;
+    const next = s + step;
+    // a step leaving the bracket falls back to bisection (geometric when both ends are finite)
+    s = next > lo && next < hi ? next : hi < Infinity ? (lo > 0 ? Math.sqrt(lo * hi) : 0.5 * hi) : 2 * s;
   }
   d1 = x / s + 0.5 * s;
   return { s, dbds: Math.exp(lnDbds(x, d1)) };
