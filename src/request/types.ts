@@ -36,6 +36,7 @@ export interface Terms {
   drift?: number;
   vol?: number;
   horizon?: ExpirySpec;
+  /** ISO date, or 'today' (`asof today`: the resolver's today) */
   asof?: string;
   mult?: number;
   style?: ExerciseStyle;
@@ -50,6 +51,8 @@ export interface CheckRequest {
   legs: LegSpec[];
   terms: Terms;
   termsAt: Partial<Record<TermName, number>>;
+  /** index just past the last token of the check (where a missing term would go) */
+  end?: number;
 }
 
 export interface IvRequest {
@@ -60,6 +63,8 @@ export interface IvRequest {
   price: number;
   terms: Terms;
   termsAt: Partial<Record<TermName | 'price' | 'strike' | 'expiry', number>>;
+  /** index just past the last token (where a missing term would go) */
+  end?: number;
 }
 
 export interface TouchRequest {
@@ -69,6 +74,8 @@ export interface TouchRequest {
   by: ExpirySpec;
   terms: Terms;
   termsAt: Partial<Record<TermName | 'level' | 'by', number>>;
+  /** index just past the last token (where a missing term would go) */
+  end?: number;
 }
 
 export interface MarkRequest {
@@ -95,6 +102,11 @@ export interface CompareRequest {
   verb: 'compare';
   /** the parts' texts between `;`, with their start index in the request */
   parts: { text: string; at: number }[];
+  /**
+   * each part as a check after inheriting from the one before (terms written in a part override,
+   * legs written in a part replace the legs); positions index the whole request text
+   */
+  checks?: CheckRequest[];
 }
 
 export interface HelpRequest {

@@ -1,0 +1,44 @@
+/**
+ * Canonical examples, one per verb and per term, with invented symbols (FERNWK, a freight
+ * company; QUILLOP, a paper mill). Errors fall back to these when the user's own request cannot
+ * be corrected mechanically. Every verb example parses (tested).
+ */
+export const EXAMPLES = {
+  check: '+2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% spot 100 rate 4.5% drift 9%',
+  leg: '+2 call 105 2027-03-19 @3.10 iv 28% spot 100',
+  shares: '100 shares @84.20 -1 call 90 3m iv 30% spot 84.20 horizon 3m',
+  compare: 'compare +1 call 90 3m iv 30% on FERNWK ; drift 0% ; drift 12%',
+  iv: 'iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5% yield 1%',
+  touch: 'touch 120 by 2027-03-19 spot 100 drift 8% vol 25%',
+  mark: 'mark FERNWK spot 84.20 iv 31% yield 1.2%',
+  log: 'log 20',
+  again: 'again 17 spot 102',
+  help: 'help check',
+  jumps: '+1 put 80 3m iv 30% spot 84.20 jumps 0.5/yr -8% 12% on FERNWK',
+  american: '-1 put 95 6w iv 27% spot 100 rate 4.5% style american',
+} as const;
+
+export type ExampleKey = keyof typeof EXAMPLES;
+
+/** A sample value for each term, used to build corrected examples from the user's own text. */
+export const SAMPLE: Record<string, string> = {
+  spot: '84.20',
+  rate: '4.5%',
+  yield: '1%',
+  iv: '28%',
+  vol: '26%',
+  drift: '9%',
+  exp: '2027-03-19',
+  horizon: '2027-02-15',
+  asof: '2027-01-04',
+  mult: '100',
+  style: 'american',
+  jumps: '0.5/yr -8% 12%',
+  on: 'FERNWK',
+  price: '3.10',
+  by: '2027-03-19',
+  strike: '100',
+  entry: '3.10',
+  level: '120',
+  symbol: 'FERNWK',
+};
