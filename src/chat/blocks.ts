@@ -2,7 +2,8 @@
  * Block Kit messages for answers, rejections and notices.
  *
  * Platform limits (Block Kit reference: a section block's text is at most 3000 characters, a
- * message carries at most 50 blocks, a message's top-level `text` at most 40000 characters):
+ * message carries at most 50 blocks, a message's top-level `text` at most 40000 characters; see
+ * also MESSAGE_BLOCK_CHARS_MAX):
  * a monospace answer is split on line boundaries into several section blocks, never cut inside a
  * row, and across several messages when it needs more than 50 blocks. Every message carries a
  * plain `text` fallback for notifications and clients without Block Kit.
@@ -11,6 +12,12 @@ import type { Answer } from '../reply.js';
 
 export const SECTION_TEXT_MAX = 3000;
 export const BLOCKS_PER_MESSAGE_MAX = 50;
+/**
+ * Block text per message. Not a documented limit: the platform has been seen refusing messages
+ * with msg_blocks_too_long from about 13,000 characters of block text (bolt-js issue #2509), so
+ * messages are kept below 12,000.
+ */
+export const MESSAGE_BLOCK_CHARS_MAX = 12000;
 /** the fallback `text` is kept well under the platform's 40000-character cap */
 export const FALLBACK_TEXT_MAX = 3000;
 
@@ -104,13 +111,31 @@ function fallback(s: string): string {
   return t.slice(0, cut > 0 ? cut : FALLBACK_TEXT_MAX - 2) + '\n…';
 }
 
-/** Packs blocks into messages of at most 50 blocks each; the fallback text is each message's own text. */
+function blockChars(b: Block): number {
+  if (b.type === 'section') return b.text.text.length;
+  if (b.type === 'context') return b.elements.reduce((n, e) => n + e.text.length, 0);
+  return 0;
+}
+
+/**
+ * Packs blocks, in order, into messages of at most 50 blocks and at most MESSAGE_BLOCK_CHARS_MAX
+ * characters of block text each; the fallback text is each message's own text.
+ */
 export function packMessages(blocks: Block[], plain: (bs: Block[]) => string): Message[] {
   const out: Message[] = [];
-  for (let i = 0; i < blocks.length; i += BLOCKS_PER_MESSAGE_MAX) {
-    const bs = blocks.slice(i, i + BLOCKS_PER_MESSAGE_MAX);
-    out.push({ text: fallback(plain(bs)), blocks: bs });
+  let cur: Block[] = [];
+  let chars = 0;
+  for (const b of blocks) {
+    const n = blockChars(b);
+    if (cur.length > 0 && (cur.length >= BLOCKS_PER_MESSAGE_MAX || chars + n > MESSAGE_BLOCK_CHARS_MAX)) {
+      out.push({ text: fallback(plain(cur)), blocks: cur });
+      cur = [];
+      chars = 0;
+    }
+    cur.push(b);
+    chars += n;
   }
+  if (cur.length > 0) out.push({ text: fallback(plain(cur)), blocks: cur });
   return out;
 }
 

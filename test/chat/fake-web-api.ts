@@ -1,0 +1,276 @@
+/**
+ * A stand-in for the workspace platform's Web API on 127.0.0.1, for end-to-end tests and the
+ * benchmark. It implements the methods the app uses, records every call with its parsed body and
+ * arrival time, and can be told to fail a method's next calls (429 with Retry-After, 5xx, or an
+ * `ok:false` error such as not_in_channel).
+ *
+ * Also served on the same port:
+ *   POST /upload/<file id>     the byte upload of files.uploadV2 (step 2 of 3)
+ *   POST /response/<id>        slash-command response URLs (ephemeral replies)
+ *   GET  /socket (WebSocket)   Socket Mode: sends {"type":"hello"}, then whatever envelopes a test sends
+ *
+ * Shapes of requests and responses follow the platform's published Web API reference
+ * (auth.test, chat.postMessage, chat.postEphemeral, chat.getPermalink, files.getUploadURLExternal,
+ * files.completeUploadExternal, apps.connections.open) and the Socket Mode protocol (hello, envelopes
+ * acknowledged by envelope_id).
+ */
+import { createServer, type IncomingMessage, type Server, type ServerResponse } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { WebSocketServer, type WebSocket } from 'ws';
+
+export interface Call {
+  /** Web API method (e.g. chat.postMessage), or 'upload' / 'response' for the other endpoints */
+  method: string;
+  path: string;
+  body: Record<string, unknown>;
+  /** raw request bytes */
+  raw: Buffer;
+  /** performance.now() at arrival */
+  at: number;
+  authorization: string | undefined;
+  /** status the fake answered with */
+  status: number;
+  /** `error` of an ok:false answer */
+  error?: string;
+}
+
+export interface Fault {
+  /** HTTP status to answer with (429, 500, ...) */
+  status?: number;
+  /** Retry-After seconds for a 429 */
+  retryAfter?: number;
+  /** answer 200 {ok:false, error} */
+  error?: string;
+  /** only when the call is for this channel */
+  channel?: string;
+}
+
+export const FAKE_TEAM = { team_id: 'T0FAKEDESK', team: 'Fernwick Desk (invented)' };
+export const FAKE_BOT = { user_id: 'UKOLMOBOT1', bot_id: 'BKOLMOBOT1', user: 'kolmo' };
+const PNG_SIGNATURE = Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
+
+function parseForm(raw: Buffer): Record<string, unknown> {
+  const out: Record<string, unknown> = {};
+  for (const [k, v] of new URLSearchParams(raw.toString('utf8'))) {
+    if ((v.startsWith('[') || v.startsWith('{')) && (k === 'blocks' || k === 'files' || k === 'attachments')) {
+      try {
+        out[k] = JSON.parse(v);
+        continue;
+      } catch {
+        /* keep the string */
+      }
+    }
+    out[k] = v;
+  }
+  return out;
+}
+
+export class FakeWebApi {
+  readonly calls: Call[] = [];
+  /** messages the app sent over Socket Mode (acks), parsed */
+  readonly socketMessages: Array<{ at: number; data: Record<string, unknown> }> = [];
+  private readonly faults = new Map<string, Fault[]>();
+  private ts = 0;
+  private fileNo = 0;
+  private readonly sockets = new Set<WebSocket>();
+  private readonly wss = new WebSocketServer({ noServer: true });
+  private waiters: Array<() => void> = [];
+
+  private constructor(
+    private readonly server: Server,
+    readonly port: number,
+  ) {}
+
+  /** Web API base URL, for KOLMO_API_URL */
+  get apiUrl(): string {
+    return `http://127.0.0.1:${this.port}/api/`;
+  }
+
+  responseUrl(id: string): string {
+    return `http://127.0.0.1:${this.port}/response/${encodeURIComponent(id)}`;
+  }
+
+  static async start(): Promise<FakeWebApi> {
+    let fake: FakeWebApi | undefined;
+    const server = createServer((req, res) => {
+      fake!.handle(req, res);
+    });
+    await new Promise<void>((resolve) => server.listen(0, '127.0.0.1', resolve));
+    fake = new FakeWebApi(server, (server.address() as AddressInfo).port);
+    server.on('upgrade', (req, socket, head) => {
+      if (!req.url?.startsWith('/socket')) {
+        socket.destroy();
+        return;
+      }
+      fake!.wss.handleUpgrade(req, socket, head, (ws) => fake!.onSocket(ws));
+    });
+    return fake;
+  }
+
+  /** The next calls of `method` fail as described, one fault per call, in order. */
+  fail(method: string, ...faults: Fault[]): void {
+    const list = this.faults.get(method) ?? [];
+    list.push(...faults);
+    this.faults.set(method, list);
+  }
+
+  callsOf(method: string): Call[] {
+    return this.calls.filter((c) => c.method === method);
+  }
+
+  /** Successful calls of `method`. */
+  okCallsOf(method: string): Call[] {
+    return this.calls.filter((c) => c.method === method && c.status === 200 && c.error === undefined);
+  }
+
+  /** Resolves once `pred` holds (checked after every call); rejects after `timeoutMs`. */
+  async waitFor(pred: () => boolean, timeoutMs: number, what = 'condition'): Promise<void> {
+    const deadline = performance.now() + timeoutMs;
+    while (!pred()) {
+      const left = deadline - performance.now();
+      if (left <= 0) throw new Error(`fake web api: timed out after ${timeoutMs} ms waiting for ${what}; calls: ${this.calls.map((c) => c.method).join(', ')}`);
+      await new Promise<void>((resolve) => {
+        const t = setTimeout(resolve, Math.min(left, 250));
+        this.waiters.push(() => {
+          clearTimeout(t);
+          resolve();
+        });
+      });
+    }
+  }
+
+  /** Sends a Socket Mode envelope to every connected client. */
+  sendEnvelope(envelope: Record<string, unknown>): void {
+    const s = JSON.stringify(envelope);
+    for (const ws of this.sockets) ws.send(s);
+  }
+
+  get socketCount(): number {
+    return this.sockets.size;
+  }
+
+  async close(): Promise<void> {
+    for (const ws of this.sockets) ws.terminate();
+    this.wss.close();
+    this.server.closeAllConnections();
+    await new Promise<void>((resolve) => this.server.close(() => resolve()));
+  }
+
+  private notify(): void {
+    const w = this.waiters;
+    this.waiters = [];
+    for (const f of w) f();
+  }
+
+  private onSocket(ws: WebSocket): void {
+    this.sockets.add(ws);
+    ws.on('message', (data) => {
+      try {
+        this.socketMessages.push({ at: performance.now(), data: JSON.parse(String(data)) as Record<string, unknown> });
+      } catch {
+        this.socketMessages.push({ at: performance.now(), data: { unparsed: String(data) } });
+      }
+      this.notify();
+    });
+    ws.on('close', () => this.sockets.delete(ws));
+    ws.send(JSON.stringify({ type: 'hello', num_connections: 1, debug_info: { host: 'fake-127.0.0.1' }, connection_info: { app_id: 'AKOLMOFAKE' } }));
+  }
+
+  private nextTs(): string {
+    this.ts++;
+    return `1798761600.${String(this.ts).padStart(6, '0')}`;
+  }
+
+  private handle(req: IncomingMessage, res: ServerResponse): void {
+    const chunks: Buffer[] = [];
+    req.on('data', (c: Buffer) => chunks.push(c));
+    req.on('end', () => {
+      const at = performance.now();
+      const raw = Buffer.concat(chunks);
+      const url = new URL(req.url ?? '/', 'http://127.0.0.1');
+      const path = url.pathname;
+      const type = req.headers['content-type'] ?? '';
+      let method: string;
+      let body: Record<string, unknown> = {};
+      if (path.startsWith('/api/')) {
+        method = path.slice(5);
+        if (type.includes('application/json')) {
+          try {
+            body = JSON.parse(raw.toString('utf8')) as Record<string, unknown>;
+          } catch {
+            body = {};
+          }
+        } else body = parseForm(raw);
+      } else if (path.startsWith('/upload/')) {
+        method = 'upload';
+        const i = raw.indexOf(PNG_SIGNATURE);
+        body = { file_id: decodeURIComponent(path.slice(8)), bytes: raw.length, png: i >= 0, pngOffset: i };
+      } else if (path.startsWith('/response/')) {
+        method = 'response';
+        try {
+          body = JSON.parse(raw.toString('utf8')) as Record<string, unknown>;
+        } catch {
+          body = {};
+        }
+        body.response_id = decodeURIComponent(path.slice(10));
+      } else {
+        method = `unknown:${path}`;
+      }
+      const call: Call = { method, path, body, raw, at, authorization: req.headers.authorization, status: 200 };
+      this.calls.push(call);
+
+      const send = (status: number, payload: unknown, headers: Record<string, string> = {}) => {
+        call.status = status;
+        if (payload && typeof payload === 'object' && (payload as { ok?: boolean }).ok === false) call.error = String((payload as { error?: unknown }).error);
+        res.writeHead(status, { 'content-type': typeof payload === 'string' ? 'text/plain' : 'application/json', ...headers });
+        res.end(typeof payload === 'string' ? payload : JSON.stringify(payload));
+        this.notify();
+      };
+
+      const list = this.faults.get(method);
+      const channel = String(body.channel ?? body.channel_id ?? '');
+      const fi = list ? list.findIndex((f) => f.channel === undefined || f.channel === channel) : -1;
+      if (list && fi >= 0) {
+        const f = list.splice(fi, 1)[0];
+        if (f.status === 429) return send(429, { ok: false, error: 'ratelimited' }, { 'retry-after': String(f.retryAfter ?? 1) });
+        if (f.status !== undefined && f.status !== 200) return send(f.status, 'fake server error');
+        return send(200, { ok: false, error: f.error ?? 'fake_error' });
+      }
+
+      if (method.startsWith('unknown:')) return send(404, 'not found');
+      if (method !== 'upload' && method !== 'response' && !/^Bearer (xox|xapp)/.test(String(req.headers.authorization ?? ''))) {
+        return send(200, { ok: false, error: 'not_authed' });
+      }
+      switch (method) {
+        case 'auth.test':
+          return send(200, { ok: true, url: 'https://fernwick-desk.invalid/', ...FAKE_TEAM, ...FAKE_BOT });
+        case 'chat.postMessage': {
+          const ts = this.nextTs();
+          return send(200, { ok: true, channel, ts, message: { type: 'message', text: body.text, ts, thread_ts: body.thread_ts, bot_id: FAKE_BOT.bot_id } });
+        }
+        case 'chat.postEphemeral':
+          return send(200, { ok: true, message_ts: this.nextTs() });
+        case 'chat.getPermalink': {
+          const ts = String(body.message_ts ?? '');
+          return send(200, { ok: true, channel, permalink: `https://fernwick-desk.invalid/archives/${channel}/p${ts.replace('.', '')}` });
+        }
+        case 'files.getUploadURLExternal': {
+          const id = `FKOLMO${String(++this.fileNo).padStart(4, '0')}`;
+          return send(200, { ok: true, upload_url: `http://127.0.0.1:${this.port}/upload/${id}`, file_id: id });
+        }
+        case 'upload':
+          return send(200, `OK - ${raw.length}`);
+        case 'files.completeUploadExternal': {
+          const files = Array.isArray(body.files) ? (body.files as Array<{ id: string; title?: string }>) : [];
+          return send(200, { ok: true, files: files.map((f) => ({ id: f.id, title: f.title ?? '' })) });
+        }
+        case 'response':
+          return send(200, 'ok');
+        case 'apps.connections.open':
+          return send(200, { ok: true, url: `ws://127.0.0.1:${this.port}/socket` });
+        default:
+          return send(200, { ok: false, error: 'unknown_method' });
+      }
+    });
+  }
+}
