@@ -63,11 +63,15 @@ export function toStoreError(err: unknown, op: StoreOp, context: { path?: string
   if (code === undefined) throw err;
 
   // SQLite primary codes come with extended suffixes: SQLITE_READONLY_DBMOVED, SQLITE_BUSY_SNAPSHOT, ...
+  if (code === 'SQLITE_READONLY_DIRECTORY') {
+    // the file may be writable, but SQLite cannot create the -wal/-shm files next to it
+    return new StoreError('readonly', op, `the log folder is read-only${where}`, opts);
+  }
   if (code.startsWith('SQLITE_READONLY')) return new StoreError('readonly', op, `the log file is read-only${where}`, opts);
   if (code.startsWith('SQLITE_FULL')) return new StoreError('full', op, 'disk full', opts);
   if (code.startsWith('SQLITE_BUSY') || code.startsWith('SQLITE_LOCKED')) {
     const t = context.busyTimeoutMs !== undefined ? ` for more than ${(context.busyTimeoutMs / 1000).toFixed(1)} s` : '';
-    return new StoreError('busy', op, `the log is busy: another process held it${t}; try again`, opts);
+    return new StoreError('busy', op, `the log is busy (another process held it${t}); try again`, opts);
   }
   if (code.startsWith('SQLITE_CANTOPEN')) return new StoreError('unavailable', op, `the log file cannot be opened${where}`, opts);
   if (code.startsWith('SQLITE_NOTADB')) return new StoreError('unavailable', op, `the file is not a Kolmo log${where}`, opts);

@@ -20,7 +20,7 @@
 import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import Database from 'better-sqlite3';
 import { spawn, type ChildProcessWithoutNullStreams } from 'node:child_process';
-import { mkdtempSync, rmSync } from 'node:fs';
+import { chmodSync, mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { createInterface } from 'node:readline';
@@ -37,7 +37,10 @@ let dir: string;
 beforeEach(() => {
   dir = mkdtempSync(join(tmpdir(), 'kolmo-store-proc-'));
 });
-afterEach(() => rmSync(dir, { recursive: true, force: true }));
+afterEach(() => {
+  chmodSync(dir, 0o700);
+  rmSync(dir, { recursive: true, force: true });
+});
 
 interface Ack {
   channel: string;
@@ -52,6 +55,8 @@ interface Writer {
   /** resolves with the exit code (or the signal name) once the child's output is fully read */
   done: Promise<number | string>;
   stderr: () => string;
+  /** "ERR <code> <op> <message>" lines */
+  errors: string[];
   onAck?: (a: Ack) => void;
 }
 
@@ -65,16 +70,17 @@ interface WriterConfig {
   waitForGo?: boolean;
 }
 
-function startWriter(cfg: WriterConfig): Writer {
-  const child = spawn(process.execPath, [writerScript, compiled.storeUrl, JSON.stringify(cfg)], { stdio: 'pipe' });
+function startWriter(cfg: WriterConfig, as?: { uid: number; gid: number }): Writer {
+  const child = spawn(process.execPath, [writerScript, compiled.storeUrl, JSON.stringify(cfg)], { stdio: 'pipe', ...as });
   let err = '';
   child.stderr.on('data', (d: Buffer) => (err += d.toString()));
-  const w: Writer = { child, acks: [], ready: Promise.resolve(), done: Promise.resolve(0), stderr: () => err };
+  const w: Writer = { child, acks: [], errors: [], ready: Promise.resolve(), done: Promise.resolve(0), stderr: () => err };
   let readyResolve!: () => void;
   w.ready = new Promise((res) => (readyResolve = res));
   const rl = createInterface({ input: child.stdout });
   rl.on('line', (line) => {
     if (line === 'READY') readyResolve();
+    if (line.startsWith('ERR ')) w.errors.push(line.slice(4));
     const m = /^ACK (\S+) (\d+) (\d+)$/.exec(line);
     if (m) {
       const a = { channel: m[1], number: Number(m[2]), seq: Number(m[3]) };
@@ -242,6 +248,52 @@ describe('a writer killed with SIGKILL mid-burst', () => {
           store.close();
         }
       }
+    });
+  }
+});
+
+describe('a log file made read-only with chmod 0444', () => {
+  // Root ignores file permissions, so when the tests run as root the writer is started as the
+  // unprivileged user nobody (uid 65534) through child_process's uid/gid options; otherwise it runs
+  // as the current user. The compiled store and the test folder are made readable for it.
+  const isRoot = process.getuid?.() === 0;
+  const as = isRoot ? { uid: 65534, gid: 65534 } : undefined;
+
+  for (const folder of ['writable', 'read-only'] as const) {
+    it(`gives a StoreError 'readonly' to a writer (folder ${folder}), and the file keeps its entries`, async () => {
+      const path = join(dir, 'locked.db');
+      const s = openStore(path);
+      s.appendCheck({
+        channel: 'C0DESKA', user: 'U0MAYA', at: '2027-01-04T15:30:00Z', verb: 'check',
+        text: 'check +1 call 105 2027-03-19', normalized: '{}', summary: { position: 'long call' },
+      });
+      s.close();
+      chmodSync(compiled.dir, 0o755);
+      chmodSync(path, 0o444);
+      // root owns the folder, so 0755 keeps nobody from writing in it; a non-root owner needs 0555
+      chmodSync(dir, folder === 'writable' ? 0o777 : isRoot ? 0o755 : 0o555);
+      const w = startWriter({ db: path, mode: 'append', user: 'U0LOCKED', channels: ['C0DESKA'], count: 3 }, as);
+      const code = await w.done;
+      expect(w.stderr()).toBe('');
+      expect(code).toBe(3);
+      expect(w.acks).toEqual([]);
+      expect(w.errors).toHaveLength(1);
+      if (folder === 'writable') {
+        // the open succeeds (SQLite falls back to read-only) and the first write is refused
+        expect(w.errors[0]).toMatch(/^readonly write the log could not be written: the log file is read-only \(/);
+      } else {
+        // SQLite cannot set up the write-ahead log files next to the file: SQLITE_READONLY_DIRECTORY
+        expect(w.errors[0]).toMatch(/^readonly open the log could not be opened: the log folder is read-only \(/);
+      }
+      chmodSync(dir, 0o700);
+      chmodSync(path, 0o644);
+      const r = openStore(path, { readonly: true });
+      try {
+        expect(r.recent('C0DESKA', 10).map((e) => e.user)).toEqual(['U0MAYA']);
+      } finally {
+        r.close();
+      }
+      expect(integrity(path)).toBe('ok');
     });
   }
 });

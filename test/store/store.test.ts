@@ -316,21 +316,7 @@ describe('faults become StoreError with a code and a user-facing message', () =>
     expect(r.get('C0DESKA', 1)?.delivered).toBe('pending');
   });
 
-  // root ignores file permissions, so this runs only for other users; readonly:true above covers root
-  it.skipIf(process.getuid?.() === 0)('read-only file when not root: chmod 0444 gives a StoreError', () => {
-    const path = join(dir, 'log.db');
-    const w = openStore(path);
-    w.appendCheck(input('C0DESKA'));
-    w.close();
-    chmodSync(path, 0o444);
-    chmodSync(dir, 0o555);
-    const e = storeError(() => {
-      const s = openStore(path);
-      opened.push(s);
-      s.appendCheck(input('C0DESKA'));
-    });
-    expect(['readonly', 'unavailable']).toContain(e.code);
-  });
+  // chmod 0444 on the file, with a writer process that is not root: processes.test.ts
 
   it('full: a real SQLITE_FULL (size cap via PRAGMA max_page_count) gives code "full" and loses nothing stored', () => {
     const s = open('log.db', { maxBytes: 96 * 1024 });
