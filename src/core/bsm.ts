@@ -21,7 +21,8 @@
  *   Greeks are the σ → 0 limits (delta ±e^{−qT} or 0, gamma 0; at exactly the money-forward,
  *   delta ±½e^{−qT} and vega S e^{−qT}√T/√(2π), its limit).
  * - Extreme S/K: Φ saturates to 0 or 1 cleanly; the value is clamped at the no-arbitrage lower
- *   bound so rounding can never make it negative.
+ *   bound so rounding can never make it negative. Gamma is capped at Number.MAX_VALUE (reached
+ *   only when S·σ√T is below about 1e−308).
  */
 import type { Greeks, OptionKind } from './types.js';
 import { normCdf, normCdfWithPdf, normPdf } from './normal.js';
@@ -88,7 +89,9 @@ export function bsmGreeks(
   let p2 = p1 * ratio; // φ(d2) = φ(d1)·S e^{−qT}/(K e^{−rT})
   if (p1 === 0 || !(p2 < Infinity)) p2 = normPdf(d2);
   const fSp1 = fS * p1;
-  const gamma = (dq * p1) / (S * sd);
+  let gamma = (dq * p1) / (S * sd);
+  // true gamma can exceed the largest double only for absurd inputs (S·σ√T below ~1e−308)
+  if (!(gamma <= Number.MAX_VALUE)) gamma = Number.MAX_VALUE;
   const vega = fSp1 * sqT * 0.01;
   const decay = (-fSp1 * sigma) / (2 * sqT);
   if (kind === 'call') {
