@@ -167,6 +167,21 @@ describe('isolation between channels', () => {
     expect(s.get('c0deska', 1)).toBeUndefined();
     expect(s.get('C0DESK%', 1)).toBeUndefined();
     expect(s.recent('C0DESK_', 5)).toEqual([]);
+    // ids are bound as parameters, never spliced into SQL
+    const odd = "C0'; DROP TABLE checks; --";
+    expect(s.appendCheck(input(odd)).number).toBe(1);
+    expect(s.get(odd, 1)?.channel).toBe(odd);
+    expect(s.get('C0DESKA', 1)?.number).toBe(1);
+  });
+
+  it("':memory:' gives a private log: two in-memory stores share nothing", () => {
+    const a = openStore(':memory:');
+    const b = openStore(':memory:');
+    opened.push(a, b);
+    a.appendCheck(input('C0DESKA'));
+    a.appendCheck(input('C0DESKA'));
+    expect(b.get('C0DESKA', 1)).toBeUndefined();
+    expect(b.appendCheck(input('C0DESKA')).number).toBe(1);
   });
 
   it('marks and rejected counters belong to one channel', () => {
