@@ -1,4 +1,8 @@
-/** Help topics (filled in below). */
+/**
+ * Help: the grammar, the terms and their units, and examples per verb (invented symbols only).
+ * Every example here parses (tested in test/request/help.test.ts).
+ */
+
 export const HELP_TOPICS = [
   'check',
   'compare',
@@ -14,6 +18,151 @@ export const HELP_TOPICS = [
 
 export type HelpTopic = (typeof HELP_TOPICS)[number];
 
+interface Section {
+  title: string;
+  lines: string[];
+  examples: string[];
+}
+
+const SECTIONS: Record<HelpTopic, Section> = {
+  check: {
+    title: 'check — fair value, Greeks and the likely outcome of a position under your view',
+    lines: [
+      '[check] LEG [LEG …] [TERMS]   (check is implied when the request starts with a leg)',
+      'LEG:   QTY TYPE [STRIKE] [EXPIRY] [@ENTRY] [iv PCT]',
+      '       QTY signed (+2 long, -2 short, 3 = long); TYPE call|put|shares (c, p, sh);',
+      '       EXPIRY yyyy-mm-dd or 30d / 6w / 3m / 1y from asof; ENTRY price per share;',
+      '       terms right after a leg (strike, expiry, @entry, iv) belong to that leg.',
+      'TERMS (any order, each once): spot P · rate PCT · yield PCT · iv PCT (legs without one) ·',
+      '       exp DATE|SPAN (legs without one) · drift PCT · vol PCT (the view) ·',
+      '       horizon DATE|SPAN · asof DATE|today · mult N · style american|european ·',
+      '       jumps RATE/yr MEAN% SD% · on SYMBOL (market terms from the channel\'s mark)',
+      'Defaults: asof today · rate and yield 0% (said in the notes) · horizon the earliest expiry',
+      '       (required for shares alone) · vol the position\'s iv, else the iv of the leg nearest',
+      '       the money · drift the rate (then the outcome is the risk-neutral one) · mult 100 ·',
+      '       style european · a leg without @ is entered at its fair value.',
+    ],
+    examples: [
+      '+2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% spot 100 rate 4.5% yield 1% drift 9% vol 26% horizon 2027-02-15 asof 2027-01-04',
+      '-1 put 80 3m @2.40 iv 33% on FERNWK drift 6%',
+      '100 shares @84.20 -1 call 90 2m @1.85 iv 29% spot 84.20 rate 4% drift 7%',
+    ],
+  },
+  compare: {
+    title: 'compare — several checks side by side',
+    lines: [
+      'compare CHECK ; PART ; PART …   (2 to 8 parts)',
+      'Each part inherits from the one before: terms written in a part override,',
+      'legs written in a part replace the legs. A leg\'s own iv is kept unless the leg is restated.',
+    ],
+    examples: [
+      'compare +1 call 90 3m iv 30% on FERNWK ; drift 0% ; drift 12%',
+      'compare +1 put 45 6w iv 35% spot 47.10 drift 5% ; +1 put 42 6w iv 38% ; vol 45%',
+    ],
+  },
+  iv: {
+    title: 'iv — the implied vol of one option price',
+    lines: [
+      'iv call|put STRIKE EXPIRY price P [spot P] [rate PCT] [yield PCT] [asof DATE] [on SYMBOL] [style …]',
+      'The price must lie strictly between the option\'s value at zero vol and its largest possible value.',
+    ],
+    examples: [
+      'iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5% yield 1%',
+      'iv put 38 6w price 1.12 on QUILLOP',
+    ],
+  },
+  touch: {
+    title: 'touch — the chance that the stock touches a level by a date',
+    lines: [
+      'touch LEVEL by DATE|SPAN [spot P] [drift PCT] [vol PCT | iv PCT] [rate PCT] [yield PCT] [jumps …] [asof DATE] [on SYMBOL]',
+      'Both the view (your drift and vol) and the risk-neutral walk (drift = rate) are shown.',
+    ],
+    examples: ['touch 120 by 2027-03-19 spot 100 drift 8% vol 25%', 'touch 70 by 2m on FERNWK vol 34%'],
+  },
+  mark: {
+    title: 'mark — store the market for a symbol in this channel',
+    lines: [
+      'mark SYMBOL [spot P] [iv PCT] [yield PCT] [rate PCT]   ·   mark   (lists the channel\'s marks)',
+      'Later requests say on SYMBOL; terms written in the request override the mark.',
+      'A mark older than a day is flagged as stale in the answer.',
+    ],
+    examples: ['mark FERNWK spot 84.20 iv 31% yield 1.2%', 'mark QUILLOP spot 41.05 iv 36% rate 4.25%', 'mark'],
+  },
+  log: {
+    title: 'log — the channel\'s past checks',
+    lines: ['log [N]   (the last N checks, default 10, at most 100)'],
+    examples: ['log', 'log 25'],
+  },
+  again: {
+    title: 'again — rerun a logged check, optionally with changes',
+    lines: [
+      'again N [TERMS or LEGS]   (terms override; legs replace the logged legs)',
+    ],
+    examples: ['again 17', 'again 17 spot 102 drift 5%', 'again 4 asof today'],
+  },
+  jumps: {
+    title: 'jumps — Merton jump diffusion',
+    lines: [
+      'jumps RATE/yr MEAN% SD%: jumps arrive RATE times a year on average; the log of each jump',
+      'is normal with that mean and s.d. (jumps 0.5/yr -8% 12%: one jump every two years,',
+      'about an 8% drop, give or take 12%). With jumps, iv and vol are the diffusion\'s vol; the',
+      'same jumps apply to the view and the risk-neutral walk, each compensated so its expected',
+      'total return stays the drift or the rate.',
+    ],
+    examples: ['+1 put 80 3m iv 30% spot 84.20 jumps 0.5/yr -8% 12%', 'touch 60 by 6m spot 84.20 vol 28% jumps 1/yr -10% 15%'],
+  },
+  american: {
+    title: 'style american — early exercise',
+    lines: [
+      'style american values every option leg with early exercise (finite differences on the',
+      'backward equation); the default is european (Black-Scholes-Merton).',
+    ],
+    examples: ['-1 put 95 6w iv 27% spot 100 rate 4.5% style american'],
+  },
+  units: {
+    title: 'units',
+    lines: [
+      'Percentages carry % (iv 28%, rate 4.5%); a bare number there is an error that suggests',
+      'the likely meaning. Rates and yields are continuously compounded. Time is calendar days',
+      'between asof and a date / 365; 3m means three calendar months (the day clamped to the',
+      'month\'s end). Prices are per share; money figures are qty × mult × per-share figures.',
+      'Vega is per vol point, theta per calendar day, rho per 1% of rate.',
+    ],
+    examples: ['+1 call 100 3m iv 30% spot 98.50 rate 4.5% yield 1.5%'],
+  },
+};
+
+/** The examples of a topic (for tests and for shells that offer them as buttons). */
+export function helpExamples(topic: HelpTopic): readonly string[] {
+  return SECTIONS[topic].examples;
+}
+
+function section(t: HelpTopic): string {
+  const s = SECTIONS[t];
+  return [s.title, ...s.lines.map((l) => `  ${l}`), 'Examples:', ...s.examples.map((e) => `  ${e}`)].join('\n');
+}
+
+/** Help text: the overview, or one topic. An unknown topic gets the overview with the topic list. */
 export function helpText(topic?: string): string {
-  return topic ?? '';
+  const t = (topic ?? '').toLowerCase() as HelpTopic;
+  if (t && t in SECTIONS) return section(t);
+  return [
+    'Kolmo prices an option position the market-consistent way (risk-neutral) and shows what it is',
+    'likely to make under your view of the stock (drift, vol, jumps) by a horizon.',
+    '',
+    'Verbs:',
+    '  LEG …            check a position (e.g. +1 call 100 3m iv 30% spot 98.50 drift 8%)',
+    '  compare A ; B    checks side by side, each part inheriting from the one before',
+    '  iv …             implied vol of an option price',
+    '  touch L by D …   chance of touching a level by a date',
+    '  mark SYMBOL …    store spot, iv, yield, rate for later `on SYMBOL`',
+    '  log [N]          past checks · again N [changes]  rerun one',
+    '  help [topic]     topics: ' + HELP_TOPICS.join(', '),
+    '',
+    'Words are case-insensitive, terms after the legs come in any order, percentages carry %.',
+    'Examples:',
+    `  ${SECTIONS.check.examples[1]}`,
+    `  ${SECTIONS.compare.examples[0]}`,
+    `  ${SECTIONS.touch.examples[0]}`,
+  ].join('\n');
 }
