@@ -88,7 +88,8 @@ export function toParseError(
       }
     }
   }
-  return { message: r.message, at: Math.max(0, r.at), length: Math.max(1, r.length), example };
+  const end = typeof text === 'string' ? text.length : 0;
+  return { message: r.message, at: Math.min(Math.max(0, r.at), end), length: Math.max(1, r.length), example };
 }
 
 function rejectAt(t: Tok, message: string, fix?: Edit, fallback?: ExampleKey): Reject {

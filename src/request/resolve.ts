@@ -147,7 +147,9 @@ class Resolver {
 
   error(r: Reject): Fail {
     const text = this.ctx.text;
-    if (!text) return { ok: false, error: toParseError('', new Reject(r.message, r.at, r.length, undefined, r.fallback)) };
+    if (!text) {
+      return { ok: false, error: { message: r.message, at: Math.max(0, r.at), length: Math.max(1, r.length), example: EXAMPLES[r.fallback] } };
+    }
     const accept = (candidate: string): boolean => {
       const p = parse(candidate);
       if (!p.ok) return false;
