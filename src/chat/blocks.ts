@@ -62,12 +62,13 @@ function pieces(line: string, room: number): string[] {
 
 /**
  * Splits monospace text into chunks of whole lines, each of which, escaped and wrapped in a code
- * fence, fits in `max` characters. Trailing blank lines are dropped; an empty text gives none.
+ * fence, fits in `max` characters. Trailing blank lines are dropped (other rows are kept exactly); a blank text gives none.
  */
 export function monoChunks(text: string, max = SECTION_TEXT_MAX): string[] {
   const room = max - 2 * FENCE.length - 2; // fences plus the newlines after and before them
-  const lines = text.replace(/\r\n?/g, '\n').replace(/\s+$/, '').split('\n');
-  if (lines.length === 1 && lines[0] === '') return [];
+  const lines = text.replace(/\r\n?/g, '\n').split('\n');
+  while (lines.length > 0 && lines[lines.length - 1].trim() === '') lines.pop();
+  if (lines.length === 0) return [];
   const chunks: string[] = [];
   let cur: string[] = [];
   let len = 0;

@@ -1,16 +1,25 @@
 /**
  * Heavy work (the engine and chart rendering) kept off the event loop that acknowledges requests.
  *
- * WorkerPool: a fixed set of worker threads (default: one per core), each running worker.js from
- * the compiled tree, one job at a time, fed from a FIFO queue. A job has a deadline from the
- * moment it is submitted; a job past it is abandoned (its worker, if it is running it, is
- * terminated and replaced). A worker that dies takes only its own job with it and is replaced,
- * with a growing pause when workers keep dying, so a broken build cannot spin.
+ * WorkerPool: a fixed set of worker processes (default: one per core), each running worker.js
+ * from the compiled tree, one job at a time, fed from a FIFO queue. A job has a deadline from the
+ * moment it is submitted; a job past it is abandoned (its worker, if it is running it, is killed
+ * and replaced). A worker that dies takes only its own job with it and is replaced, with a
+ * growing pause when workers keep dying, so a broken build cannot spin.
+ *
+ * Why processes and not worker_threads: tearing down a worker thread that has drawn a chart
+ * (canvas, a native addon, with fonts registered) ends the whole process with SIGSEGV — seen here
+ * on Node 20 with canvas as installed, whether the thread is terminated, exits itself, or the
+ * process exits with the thread alive. With threads, replacing a stuck worker or shutting down
+ * would crash the app; a child process can be killed safely. Messages use the 'advanced'
+ * (structured clone) serialization, so the PNG bytes travel as bytes. The workers get the
+ * environment without the workspace secrets.
  *
  * InlineEngine: the same work on the main thread (KOLMO_WORKERS=0), for comparison and small
  * installations.
  */
-import { Worker } from 'node:worker_threads';
+import { fork, type ChildProcess } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
 import type { Store } from '../store/store.js';
 import { work, type Job, type WorkResult } from './work.js';
 
@@ -19,6 +28,9 @@ export interface Engine {
   close(): Promise<void>;
   readonly size: number;
 }
+
+/** never handed to a worker */
+const SECRET_ENV = ['SLACK_BOT_TOKEN', 'SLACK_APP_TOKEN', 'SLACK_SIGNING_SECRET'];
 
 export class EngineError extends Error {
   constructor(
@@ -41,7 +53,7 @@ interface Task {
 }
 
 interface Slot {
-  worker: Worker;
+  worker: ChildProcess;
   task?: Task;
   ready: boolean;
 }
@@ -100,7 +112,14 @@ export class WorkerPool implements Engine {
 
   private spawn(): void {
     if (this.closing) return;
-    const worker = new Worker(this.script, { workerData: { dbPath: this.opts.dbPath } });
+    const env: NodeJS.ProcessEnv = { ...process.env, KOLMO_WORKER_DB: this.opts.dbPath ?? '' };
+    for (const k of SECRET_ENV) delete env[k];
+    const worker = fork(fileURLToPath(this.script), [], {
+      env,
+      serialization: 'advanced',
+      // the worker's stdout is not the app's log; its stderr (a crash report) is kept
+      stdio: ['ignore', 'ignore', 'inherit', 'ipc'],
+    });
     const slot: Slot = { worker, ready: true };
     this.slots.add(slot);
     worker.on('message', (m: { id: number; ok: boolean; result?: WorkResult; error?: string }) => {
@@ -114,13 +133,14 @@ export class WorkerPool implements Engine {
     worker.on('error', (err) => {
       this.opts.onEvent?.({ event: 'worker-error', detail: err.message });
     });
-    worker.on('exit', (code) => {
+    worker.on('exit', (code, signal) => {
       this.slots.delete(slot);
       const task = slot.task;
       slot.task = undefined;
-      if (task) this.finish(task, { ok: false, error: new EngineError(`the worker stopped (exit code ${code}) while answering`, 'crashed') });
+      const how = signal ? `signal ${signal}` : `exit code ${code}`;
+      if (task) this.finish(task, { ok: false, error: new EngineError(`the worker stopped (${how}) while answering`, 'crashed') });
       if (this.closing) return;
-      this.opts.onEvent?.({ event: 'worker-exit', detail: `exit code ${code}` });
+      this.opts.onEvent?.({ event: 'worker-exit', detail: how });
       this.crashes++;
       const pause = Math.min(5000, this.crashes <= 1 ? 0 : 100 * 2 ** Math.min(6, this.crashes - 2));
       const t = setTimeout(() => {
@@ -138,7 +158,10 @@ export class WorkerPool implements Engine {
       const task = this.queue.shift()!;
       slot.task = task;
       task.slot = slot;
-      slot.worker.postMessage({ id: task.id, job: task.job });
+      slot.worker.send({ id: task.id, job: task.job }, (err) => {
+        // the worker is gone: its exit handler fails the task and replaces it
+        if (err) slot.worker.kill('SIGKILL');
+      });
     }
   }
 
@@ -152,7 +175,7 @@ export class WorkerPool implements Engine {
       // the worker is stuck on it: replace the worker
       slot.task = undefined;
       slot.ready = false;
-      void slot.worker.terminate();
+      slot.worker.kill('SIGKILL');
     }
   }
 
@@ -167,7 +190,20 @@ export class WorkerPool implements Engine {
   async close(): Promise<void> {
     this.closing = true;
     for (const t of this.queue.splice(0)) this.finish(t, { ok: false, error: new EngineError('the engine is shutting down', 'closed') });
-    await Promise.all([...this.slots].map((s) => s.worker.terminate()));
+    await Promise.all(
+      [...this.slots].map(
+        (s) =>
+          new Promise<void>((resolve) => {
+            if (s.worker.exitCode !== null || s.worker.signalCode !== null) return resolve();
+            const t = setTimeout(() => s.worker.kill('SIGKILL'), 2000);
+            s.worker.once('exit', () => {
+              clearTimeout(t);
+              resolve();
+            });
+            s.worker.kill('SIGTERM');
+          }),
+      ),
+    );
     this.slots.clear();
   }
 }

@@ -1,6 +1,6 @@
 /**
  * One unit of heavy work for the chat app: the engine's answer and its chart as PNG bytes.
- * Runs inside a worker thread (worker.ts) or, with KOLMO_WORKERS=0, on the main thread.
+ * Runs inside a worker process (worker.ts) or, with KOLMO_WORKERS=0, on the main thread.
  */
 import { ask } from '../service.js';
 import type { Reply } from '../reply.js';
@@ -36,7 +36,7 @@ export async function work(job: Job, store: Store | null): Promise<WorkResult> {
   const r = await renderAnswerChart(chart);
   const out: WorkResult = { reply: { ...rest }, ms: 0 };
   if (r.ok) {
-    // a fresh buffer of its own, so it can be transferred without copying a shared pool
+    // a plain byte array of its own (not a view into a pooled buffer) for the trip to the app
     out.png = new Uint8Array(r.png.byteLength);
     out.png.set(r.png);
   } else {

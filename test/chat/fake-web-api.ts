@@ -32,6 +32,8 @@ export interface Call {
   status: number;
   /** `error` of an ok:false answer */
   error?: string;
+  /** what the fake answered (parsed JSON or text) */
+  response?: unknown;
 }
 
 export interface Fault {
@@ -221,6 +223,7 @@ export class FakeWebApi {
 
       const send = (status: number, payload: unknown, headers: Record<string, string> = {}) => {
         call.status = status;
+        call.response = payload;
         if (payload && typeof payload === 'object' && (payload as { ok?: boolean }).ok === false) call.error = String((payload as { error?: unknown }).error);
         res.writeHead(status, { 'content-type': typeof payload === 'string' ? 'text/plain' : 'application/json', ...headers });
         res.end(typeof payload === 'string' ? payload : JSON.stringify(payload));
