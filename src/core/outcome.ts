@@ -45,9 +45,11 @@ const Z_RANGE = 9.5;
 /** Components lighter than this do not shape the integration mesh. */
 const MESH_MIN_WEIGHT = 1e-17;
 /** Widest panel in log-spot where no density or live leg sets a finer scale. */
-const MAX_PANEL = 0.25;
+const MAX_PANEL = 0.5;
+/** Panel width in units of the local scale (before refinement). */
+const PANEL_SCALES = 2;
 /** Gauss-Legendre nodes per panel. */
-const GL_N = 10;
+const GL_N = 8;
 /** Probability from which a P&L atom is listed for the chart. */
 const ATOM_LIST_MIN = 1e-6;
 const CURVE_POINTS = 200;
@@ -213,14 +215,43 @@ function brentMin(f: (x: number) => number, a: number, b: number, tol: number): 
   return { x, fx };
 }
 
+/** Evaluations of a nondecreasing function G (a P&L cdf), kept sorted to bracket later solves. */
+class CdfCache {
+  readonly ys: number[] = [];
+  readonly gs: number[] = [];
+  constructor(private readonly G: (y: number) => number) {}
+  at(y: number): number {
+    const g = this.G(y);
+    let i = this.ys.length;
+    while (i > 0 && this.ys[i - 1] > y) i--;
+    this.ys.splice(i, 0, y);
+    this.gs.splice(i, 0, g);
+    return g;
+  }
+}
+
 /**
  * Lower quantile inf{y : G(y) ≥ p} of a nondecreasing G (a P&L cdf, possibly with jumps), given
- * G(lo) < p ≤ G(hi): Illinois regula falsi with bisection safeguards, to a bracket of width `tol`;
- * a jump (atom) inside the final bracket is returned exactly.
+ * G(lo) < p ≤ G(hi) among the cached values: Illinois regula falsi with bisection safeguards, to a
+ * bracket of width `tol`; a jump (atom) inside the final bracket is returned exactly.
  */
-function lowerQuantile(G: (y: number) => number, p: number, lo: number, hi: number, tol: number, atoms: number[]): number {
-  let glo = G(lo) - p;
-  let ghi = G(hi) - p;
+function lowerQuantile(cache: CdfCache, p: number, tol: number, atoms: number[]): number {
+  const { ys, gs } = cache;
+  // tightest bracket among the known evaluations (the first and last are the outer bracket)
+  let lo = ys[0];
+  let glo = gs[0] - p;
+  let hi = ys[ys.length - 1];
+  let ghi = gs[gs.length - 1] - p;
+  for (let i = 0; i < ys.length; i++) {
+    if (gs[i] < p) {
+      lo = ys[i];
+      glo = gs[i] - p;
+    } else {
+      hi = ys[i];
+      ghi = gs[i] - p;
+      break;
+    }
+  }
   if (glo >= 0) return lo;
   if (ghi < 0) return hi;
   let side = 0;
@@ -236,7 +267,7 @@ function lowerQuantile(G: (y: number) => number, p: number, lo: number, hi: numb
     if (!(x > lo + margin && x < hi - margin)) x = x <= lo + margin ? lo + margin : hi - margin;
     if (!(x > lo && x < hi)) x = 0.5 * (lo + hi);
     if (!(x > lo && x < hi)) break;
-    const gx = G(x) - p;
+    const gx = cache.at(x) - p;
     if (gx >= 0) {
       hi = x;
       ghi = gx;
@@ -250,7 +281,7 @@ function lowerQuantile(G: (y: number) => number, p: number, lo: number, hi: numb
     }
   }
   let best = hi;
-  for (const a of atoms) if (a > lo && a <= best && G(a) >= p) best = a;
+  for (const a of atoms) if (a > lo && a <= best && cache.at(a) >= p) best = a;
   return best;
 }
 
@@ -326,6 +357,7 @@ interface Segment {
 function linearEngine(segs: Segment[], view: SplitDist, rn: SplitDist, pf: PnlFn): PnlEngine {
   const f = pf.f;
   const [vlo, vhi] = logRange(view);
+  const cdfEnd = [0, ...segs.map((g) => (g.b === Infinity ? view.cont.components.reduce((a, c) => a + c.weight, 0) : spotCdf(view.cont, g.b)))];
   const interval = (s: Segment, y: number, strict: boolean): [number, number] | null => {
     if (s.beta === 0) return (strict ? s.alpha < y : s.alpha <= y) ? [s.a, s.b] : null;
     const r = (y - s.alpha) / s.beta;
@@ -351,12 +383,22 @@ function linearEngine(segs: Segment[], view: SplitDist, rn: SplitDist, pf: PnlFn
   return {
     exact: true,
     probBelow(y, strict) {
+      // P(S ≤ ·) at the segment ends once; only a segment cut by the level needs a new cdf
       let t = 0;
-      for (const s of segs) {
-        const iv = interval(s, y, strict);
-        if (iv) t += spotProb(view.cont, iv[0], iv[1]);
+      for (let i = 0; i < segs.length; i++) {
+        const s = segs[i];
+        if (s.beta === 0) {
+          if (strict ? s.alpha < y : s.alpha <= y) t += cdfEnd[i + 1] - cdfEnd[i];
+          continue;
+        }
+        const r = (y - s.alpha) / s.beta;
+        if (s.beta > 0) {
+          if (r >= s.b) t += cdfEnd[i + 1] - cdfEnd[i];
+          else if (r > s.a) t += spotCdf(view.cont, r) - cdfEnd[i];
+        } else if (r <= s.a) t += cdfEnd[i + 1] - cdfEnd[i];
+        else if (r < s.b) t += cdfEnd[i + 1] - spotCdf(view.cont, r);
       }
-      return Math.min(1, t + pointsBelow(view, y, strict, false));
+      return Math.min(1, Math.max(0, t + pointsBelow(view, y, strict, false)));
     },
     expectBelow(y, strict) {
       let t = 0;
@@ -476,7 +518,7 @@ function smoothEngine(
     const v = bps[i + 1];
     let x = u;
     while (x < v) {
-      let next = x + scaleAt(x) / refine;
+      let next = x + (PANEL_SCALES * scaleAt(x)) / refine;
       while (ei < edges.length && edges[ei] <= x) ei++;
       if (ei < edges.length && edges[ei] < next) next = edges[ei];
       if (next > v || v - next < 1e-12 * Math.max(1, Math.abs(v))) next = v;
@@ -547,24 +589,49 @@ function smoothEngine(
     return part(a, pb[i], i) + (prefV[j] - prefV[i + 1]) + part(pa[j], b, j);
   };
 
-  const tolX = 1e-13;
+  const tolX = 1e-11;
+  // maximal monotone runs of the samples (neighbouring runs share their end sample): on each run
+  // the set {P&L ≤ y} is a prefix or a suffix, found by bisection on the samples
+  const runs: number[] = [];
+  {
+    let s0 = 0;
+    let dir = 0;
+    for (let j = 1; j < ns; j++) {
+      const d = sfv[j] > sfv[j - 1] ? 1 : sfv[j] < sfv[j - 1] ? -1 : 0;
+      if (d === 0) continue;
+      if (dir === 0) dir = d;
+      else if (d !== dir) {
+        runs.push(s0, j - 1);
+        s0 = j - 1;
+        dir = d;
+      }
+    }
+    runs.push(s0, ns - 1);
+  }
   /** ln-spot intervals where P&L ≤ y (strict: < y), ends at ±Infinity beyond the samples */
   const below = (y: number, strict: boolean, precise: boolean): [number, number][] => {
     const out: [number, number][] = [];
     const isIn = (v: number): boolean => (strict ? v < y : v <= y);
     let inside = isIn(sfv[0]);
     let start = -Infinity;
-    for (let j = 0; j + 1 < ns; j++) {
-      const in2 = isIn(sfv[j + 1]);
-      if (in2 === inside) continue;
-      const fa = sfv[j] - y;
-      const fb = sfv[j + 1] - y;
+    for (let k = 0; k < runs.length; k += 2) {
+      let lo = runs[k];
+      let hi = runs[k + 1];
+      const a = isIn(sfv[lo]);
+      if (a === isIn(sfv[hi])) continue;
+      while (hi - lo > 1) {
+        const mid = (lo + hi) >> 1;
+        if (isIn(sfv[mid]) === a) lo = mid;
+        else hi = mid;
+      }
+      const fa = sfv[lo] - y;
+      const fb = sfv[hi] - y;
       const r = precise
-        ? brentRoot((x) => fx(x) - y, sx[j], sx[j + 1], fa, fb, tolX)
-        : fa === fb ? sx[j] : sx[j] + ((sx[j + 1] - sx[j]) * fa) / (fa - fb);
+        ? brentRoot((x) => fx(x) - y, sx[lo], sx[hi], fa, fb, tolX)
+        : fa === fb ? sx[lo] : sx[lo] + ((sx[hi] - sx[lo]) * fa) / (fa - fb);
       if (inside) out.push([start, r]);
       else start = r;
-      inside = in2;
+      inside = !inside;
     }
     if (inside) out.push([start, Infinity]);
     return out;
@@ -844,13 +911,17 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const pad = Math.max(1e-7 * scale, 1e-12 * Math.max(Math.abs(y0), Math.abs(y1)));
   const yLo = y0 - pad;
   const yHi = y1 + pad;
-  const G = (y: number): number => eng.probBelow(y, false);
-  const Q = (p: number): number => lowerQuantile(G, p, yLo, yHi, tolY, atomLevels);
+  const cache = new CdfCache((y) => eng.probBelow(y, false));
+  cache.at(yLo);
+  cache.at(yHi);
+  // seeds: atom levels and the P&L at the kinks, where the cdf may jump or bend
+  for (const y of dedupe([...atomLevels, ...kinks.map(pnl)])) if (y > yLo && y < yHi) cache.at(y);
+  const Q = (p: number): number => lowerQuantile(cache, p, tolY, atomLevels);
 
   const expectedPnl = eng.expectView();
   const expectedPnlRiskNeutral = eng.expectRiskNeutral();
   const viewEdge = expectedPnl - expectedPnlRiskNeutral;
-  const probProfit = 1 - eng.probBelow(0, false);
+  const probProfit = Math.min(1, Math.max(0, 1 - cache.at(0)));
   const qs = [0.05, 0.25, 0.5, 0.75, 0.95].map(Q);
   const alpha = 0.05;
   const q05 = qs[0];
@@ -942,30 +1013,36 @@ function buildCurves(
 }
 
 /** Replaces any non-finite number in place by 0; true when something was replaced. */
-function sanitize(o: unknown): boolean {
+function sanitize(r: CheckCore): boolean {
   let hit = false;
-  const walk = (v: unknown): void => {
-    if (Array.isArray(v)) {
-      for (let i = 0; i < v.length; i++) {
-        if (typeof v[i] === 'number') {
-          if (!Number.isFinite(v[i])) {
-            v[i] = 0;
-            hit = true;
-          }
-        } else walk(v[i]);
-      }
-    } else if (v && typeof v === 'object') {
-      const r = v as Record<string, unknown>;
-      for (const k of Object.keys(r)) {
-        if (typeof r[k] === 'number') {
-          if (!Number.isFinite(r[k] as number)) {
-            r[k] = 0;
-            hit = true;
-          }
-        } else walk(r[k]);
-      }
+  const rec = (o: Record<string, unknown>): void => {
+    for (const k in o) {
+      const v = o[k];
+      if (typeof v === 'number') {
+        if (!Number.isFinite(v)) {
+          o[k] = 0;
+          hit = true;
+        }
+      } else if (Array.isArray(v)) arr(v);
+      else if (v && typeof v === 'object') rec(v as Record<string, unknown>);
     }
   };
-  walk(o);
+  const arr = (a: unknown[]): void => {
+    for (let i = 0; i < a.length; i++) {
+      const v = a[i];
+      if (typeof v === 'number') {
+        if (!Number.isFinite(v)) {
+          a[i] = 0;
+          hit = true;
+        }
+      } else if (v && typeof v === 'object') rec(v as Record<string, unknown>);
+    }
+  };
+  for (const l of r.legs) rec(l as unknown as Record<string, unknown>);
+  rec(r.position as unknown as Record<string, unknown>);
+  rec(r.outcome as unknown as Record<string, unknown>);
+  const c = r.curves;
+  for (const a of [c.spot, c.densityView, c.densityRiskNeutral, c.pnl, c.pnlDensity.x, c.pnlDensity.density]) arr(a);
+  for (const a of c.pnlDensity.atoms) rec(a as unknown as Record<string, unknown>);
   return hit;
 }
