@@ -466,13 +466,23 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
   lo -= pad;
   hi += pad;
   if (lo < 0 && Math.min(...finiteWant, Infinity) >= 0) lo = 0; // spot never goes below zero
-  const xr = niceRange(lo, hi, 9);
+  const xr = niceRange(lo, hi, 10);
+  // The axis ends where the sampled curves end when they already hold everything needed, so
+  // the curves reach both edges; ticks stay at whole multiples of the step.
+  let xMin = xr.min;
+  let xMax = xr.max;
+  if (!empty && finiteWant.length) {
+    const g0 = c.spot[0];
+    const g1 = c.spot[c.spot.length - 1];
+    if (g0 > xMin && g0 <= Math.min(...finiteWant)) xMin = g0;
+    if (g1 < xMax && g1 >= Math.max(...finiteWant)) xMax = g1;
+  }
 
   // Keep the samples inside the range (and one either side so lines reach the edges).
   let i0 = 0;
   let i1 = c.spot.length - 1;
-  while (i0 < i1 && c.spot[i0 + 1] <= xr.min) i0++;
-  while (i1 > i0 && c.spot[i1 - 1] >= xr.max) i1--;
+  while (i0 < i1 && c.spot[i0 + 1] <= xMin) i0++;
+  while (i1 > i0 && c.spot[i1 - 1] >= xMax) i1--;
   const sx = c.spot.slice(i0, i1 + 1);
   const sv = c.dv.slice(i0, i1 + 1);
   const sr = c.drn.slice(i0, i1 + 1);
@@ -481,7 +491,7 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
   const pts = (ys: number[]) => keep.map((i) => ({ x: sx[i], y: ys[i] }));
 
   // Axes: densities from zero with headroom; P&L nicely rounded, always holding zero.
-  const inRange = keep.filter((i) => sx[i] >= xr.min && sx[i] <= xr.max);
+  const inRange = keep.filter((i) => sx[i] >= xMin && sx[i] <= xMax);
   const dMax = Math.max(0, ...inRange.map((i) => Math.max(sv[i], sr[i])));
   const pVals = inRange.map((i) => sp[i]);
   const pLo = Math.min(0, ...pVals);
@@ -503,7 +513,7 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
     markers,
     bands,
     hlines: [{ axis: 'yPnl', y: 0, color: '#7a7a7a', dash: [], width: 1.2 }],
-    labelStrip: 40,
+    labelStrip: 52,
     ...(empty ? { empty } : {}),
   };
 
@@ -571,9 +581,9 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
       scales: {
         x: {
           type: 'linear',
-          min: xr.min,
-          max: xr.max,
-          ticks: { stepSize: xr.step, font: TICK_FONT, color: INK, format: tickFormat(xr.step) },
+          min: xMin,
+          max: xMax,
+          ticks: { stepSize: xr.step, includeBounds: false, font: TICK_FONT, color: INK, format: tickFormat(xr.step) },
           grid: { color: GRID },
           title: { display: true, text: `spot at horizon${unit}`, font: AXIS_TITLE_FONT, color: INK },
         },
@@ -671,7 +681,7 @@ export function compareChartConfig(
   const pad = (hi - lo) * 0.04;
   lo -= pad;
   hi += pad;
-  const xr = niceRange(lo, hi, 9);
+  const xr = niceRange(lo, hi, 10);
 
   const styles = COMPARE_STYLES;
   let dMax = 0;

@@ -15,7 +15,6 @@
  */
 import { execFileSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
-import { endianness } from 'node:os';
 import { promisify } from 'node:util';
 import { deflate as deflateCb } from 'node:zlib';
 import { createRequire } from 'node:module';
@@ -173,29 +172,47 @@ function makePlugin(family: string): Plugin {
       if (!o || !x) return;
       const { ctx, chartArea: a } = chart;
       ctx.save();
-      // Stems of point masses.
+      // Stems of point masses. Stems of several checks at (nearly) one value stand side by side
+      // and their labels stack above the tallest, each in its check's colour.
       ctx.font = `11px "${family}"`;
       ctx.textAlign = 'center';
       ctx.textBaseline = 'bottom';
-      for (const s of o.stems ?? []) {
-        const sc = chart.scales[s.axis];
-        if (!sc || !finite(s.x) || !finite(s.y)) continue;
-        const px = x.getPixelForValue(s.x);
-        if (px < a.left - 0.5 || px > a.right + 0.5) continue;
-        const base = Math.min(a.bottom, sc.getPixelForValue(0));
-        const top = Math.max(a.top, sc.getPixelForValue(s.y));
-        ctx.strokeStyle = s.color;
-        ctx.fillStyle = s.color;
-        ctx.setLineDash([]);
-        ctx.lineWidth = 3;
-        ctx.beginPath();
-        ctx.moveTo(px, base);
-        ctx.lineTo(px, top);
-        ctx.stroke();
-        ctx.beginPath();
-        ctx.arc(px, top, 4.5, 0, Math.PI * 2);
-        ctx.fill();
-        if (s.label) ctx.fillText(s.label, px, top - 6);
+      const placed = (o.stems ?? [])
+        .map((s) => ({ s, sc: chart.scales[s.axis] }))
+        .filter(({ s, sc }) => sc && finite(s.x) && finite(s.y))
+        .map(({ s, sc }) => ({ s, px: x.getPixelForValue(s.x), base: Math.min(a.bottom, sc.getPixelForValue(0)), top: Math.max(a.top, sc.getPixelForValue(s.y)) }))
+        .filter((p) => p.px >= a.left - 0.5 && p.px <= a.right + 0.5)
+        .sort((p1, p2) => p1.px - p2.px);
+      const groups: (typeof placed)[] = [];
+      for (const p of placed) {
+        const g = groups[groups.length - 1];
+        if (g && p.px - g[0].px < 24) g.push(p);
+        else groups.push([p]);
+      }
+      for (const g of groups) {
+        const centre = g.reduce((t, p) => t + p.px, 0) / g.length;
+        const gap = 9;
+        g.forEach((p, i) => {
+          const px = g.length > 1 ? centre + (i - (g.length - 1) / 2) * gap : p.px;
+          ctx.strokeStyle = p.s.color;
+          ctx.fillStyle = p.s.color;
+          ctx.setLineDash([]);
+          ctx.lineWidth = 3;
+          ctx.beginPath();
+          ctx.moveTo(px, p.base);
+          ctx.lineTo(px, p.top);
+          ctx.stroke();
+          ctx.beginPath();
+          ctx.arc(px, p.top, 4, 0, Math.PI * 2);
+          ctx.fill();
+        });
+        const highest = Math.min(...g.map((p) => p.top));
+        const labelled = g.filter((p) => p.s.label).sort((p1, p2) => p1.top - p2.top);
+        labelled.forEach((p, j) => {
+          const y = highest - 7 - (labelled.length - 1 - j) * 13;
+          ctx.fillStyle = p.s.color;
+          ctx.fillText(p.s.label, centre, Math.max(a.top + 11, y));
+        });
       }
       // Marker lines, and their labels in the strip above the plot area.
       const strip = Math.max(0, o.labelStrip ?? 0);
@@ -306,20 +323,21 @@ function chunk(type: string, data: Buffer): Buffer {
  */
 export async function encodePng(raw: Buffer, width: number, height: number): Promise<Buffer> {
   if (raw.length < width * height * 4) throw new Error(`chart rendering failed: ${raw.length} raw bytes for ${width}×${height}`);
-  const le = endianness() === 'LE';
-  // byte offsets of B, G, R, A within a pixel
-  const [ob, og, or, oa] = le ? [0, 1, 2, 3] : [3, 2, 1, 0];
   const stride = width * 3 + 1;
   const rows = Buffer.allocUnsafe(stride * height);
+  const n = width * height;
+  // one 32-bit read per pixel: 0xAARRGGBB in native order whatever the platform's endianness
+  const px = raw.byteOffset % 4 === 0 ? new Uint32Array(raw.buffer, raw.byteOffset, n) : new Uint32Array(Uint8Array.from(raw.subarray(0, n * 4)).buffer);
   let s = 0;
   for (let y = 0; y < height; y++) {
     let o = y * stride;
     rows[o++] = 0; // filter: none
-    for (let x = 0; x < width; x++, s += 4) {
-      const w = 255 - raw[s + oa]; // premultiplied colour over white: c + (255 − a)
-      rows[o++] = raw[s + or] + w;
-      rows[o++] = raw[s + og] + w;
-      rows[o++] = raw[s + ob] + w;
+    for (let x = 0; x < width; x++, s++) {
+      const p = px[s];
+      const w = 255 - (p >>> 24); // premultiplied colour over white: c + (255 − a)
+      rows[o++] = ((p >>> 16) & 255) + w;
+      rows[o++] = ((p >>> 8) & 255) + w;
+      rows[o++] = (p & 255) + w;
     }
   }
   const ihdr = Buffer.alloc(13);
@@ -330,7 +348,8 @@ export async function encodePng(raw: Buffer, width: number, height: number): Pro
   ihdr[10] = 0;
   ihdr[11] = 0;
   ihdr[12] = 0;
-  const idat = await deflate(rows, { level: 6 });
+  // level 3: a tenth of level 6's time on flat chart images for ~15% more bytes
+  const idat = await deflate(rows, { level: 3 });
   return Buffer.concat([
     Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]),
     chunk('IHDR', ihdr),

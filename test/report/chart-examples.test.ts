@@ -1,7 +1,8 @@
 /**
- * Example renders (docs/examples/*.png) of an invented underlying, FERNWK: a vertical spread, a
- * short straddle, covered stock and a comparison. Each is rendered and decoded here; the files
- * are (re)written only when KOLMO_WRITE_EXAMPLES=1:
+ * Example renders (docs/examples/*.png) of an invented underlying, FERNWK, from real engine
+ * results (src/core/outcome.ts): a vertical spread, a short straddle, a calendar spread, covered
+ * stock, and a comparison of one spread under three views. Each is rendered and decoded here;
+ * the files are (re)written only when KOLMO_WRITE_EXAMPLES=1:
  *
  *   KOLMO_WRITE_EXAMPLES=1 npx vitest run test/report/chart-examples.test.ts
  */
@@ -10,28 +11,22 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { loadImage } from 'canvas';
-import { checkChartConfig, compareChartConfig, type ChartInput } from '../../src/report/chart.js';
+import { runCheck } from '../../src/core/outcome.js';
+import type { CheckInput, LegInput, Walk } from '../../src/core/types.js';
+import { chartInputFromCheck, checkChartConfig, compareChartConfig } from '../../src/report/chart.js';
 import { renderPng } from '../../src/report/render.js';
-import { callSpread, closedFormCurves, coveredStock, shortStraddle, type Gbm } from './chart-closed-forms.js';
 
 const OUT = join(dirname(fileURLToPath(import.meta.url)), '../../docs/examples');
 const WRITE = process.env.KOLMO_WRITE_EXAMPLES === '1';
 
-const G: Gbm = { s0: 100, mu: 0.09, r: 0.045, q: 0.01, sigma: 0.26, t: 42 / 365 };
+// asof 2027-01-04; near expiry 2027-02-19 (46 days), far expiry 2027-04-16 (102 days)
+const NEAR = 46 / 365;
+const FAR = 102 / 365;
+const market = { spot: 84.2, rate: 0.045, yield: 0.012 };
+const view: Walk = { drift: 0.11, vol: 0.31 };
 
-function base(position: string, pos: { strikes: number[]; breakevens: number[]; pnl: (s: number) => number }, probProfit: number, expectedPnl: number): ChartInput {
-  return {
-    position,
-    horizon: '2027-02-15',
-    view: { drift: G.mu, vol: G.sigma },
-    spot: G.s0,
-    strikes: pos.strikes,
-    breakevens: pos.breakevens,
-    probProfit,
-    expectedPnl,
-    curves: closedFormCurves(G, pos.pnl),
-    currency: 'USD',
-  };
+function check(legs: LegInput[], v: Walk = view): CheckInput {
+  return { market, legs, mult: 100, style: 'european', horizonYears: NEAR, view: v };
 }
 
 async function emit(name: string, png: Buffer) {
@@ -43,25 +38,51 @@ async function emit(name: string, png: Buffer) {
   }
 }
 
-describe('example renders (closed-form curves)', () => {
-  it('vertical spread, short straddle, covered stock, comparison', async () => {
-    // chance of profit and expected P&L here are illustrative labels, not computed figures
-    await emit('closed-form-call-spread.png', await renderPng(checkChartConfig(base('FERNWK +2/−2 call spread 105/115', callSpread, 0.31, -18))));
-    await emit('closed-form-short-straddle.png', await renderPng(checkChartConfig(base('FERNWK −1 straddle 100', shortStraddle, 0.55, 45))));
-    await emit('closed-form-covered-stock.png', await renderPng(checkChartConfig(base('FERNWK +100 shares, −1 call 110', coveredStock, 0.6, 95))));
-    const norm = (m: number, s: number, w = 1) => {
-      const x = Array.from({ length: 301 }, (_, i) => m - 5 * s + (10 * s * i) / 300);
-      return { x, density: x.map((v) => (w * Math.exp(-0.5 * ((v - m) / s) ** 2)) / (s * Math.sqrt(2 * Math.PI))), atoms: [] as { x: number; prob: number }[] };
-    };
-    const cmp = compareChartConfig(
-      [
-        { label: 'drift 0%', pnlDensity: norm(-60, 380), expectedPnl: -60 },
-        { label: 'drift 9%', pnlDensity: norm(40, 400), expectedPnl: 40 },
-        { label: 'drift 15%', pnlDensity: norm(130, 420), expectedPnl: 130 },
-        { label: 'spread', pnlDensity: { ...norm(300, 500, 0.5), atoms: [{ x: -410, prob: 0.3 }, { x: 1590, prob: 0.2 }] }, expectedPnl: 345 },
-      ],
-      { currency: 'USD' },
-    );
-    await emit('closed-form-compare.png', await renderPng(cmp));
+async function densityChart(name: string, position: string, inp: CheckInput) {
+  const core = runCheck(inp);
+  const cfg = checkChartConfig(chartInputFromCheck(inp, core, { position, horizon: '2027-02-19', currency: 'USD' }));
+  await emit(name, await renderPng(cfg));
+}
+
+const spread: LegInput[] = [
+  { qty: 2, kind: 'call', strike: 85, years: NEAR, iv: 0.32, entry: 3.55 },
+  { qty: -2, kind: 'call', strike: 95, years: NEAR, iv: 0.29, entry: 0.75 },
+];
+
+describe('example renders from the engine', () => {
+  it('vertical spread', () => densityChart('call-spread.png', 'FERNWK +2/−2 call spread 85/95', check(spread)));
+  it('short straddle', () =>
+    densityChart(
+      'short-straddle.png',
+      'FERNWK −1 straddle 85',
+      check([
+        { qty: -1, kind: 'call', strike: 85, years: NEAR, iv: 0.31, entry: 3.7 },
+        { qty: -1, kind: 'put', strike: 85, years: NEAR, iv: 0.31, entry: 4.3 },
+      ]),
+    ));
+  it('calendar spread', () =>
+    densityChart(
+      'calendar.png',
+      'FERNWK call calendar 85 Feb/Apr',
+      check([
+        { qty: -3, kind: 'call', strike: 85, years: NEAR, iv: 0.31, entry: null },
+        { qty: 3, kind: 'call', strike: 85, years: FAR, iv: 0.3, entry: null },
+      ]),
+    ));
+  it('covered stock', () =>
+    densityChart(
+      'covered-stock.png',
+      'FERNWK +200 shares, −2 call 90',
+      check([
+        { qty: 200, kind: 'shares', strike: 0, years: 0, iv: 0, entry: 84.2 },
+        { qty: -2, kind: 'call', strike: 90, years: NEAR, iv: 0.3, entry: 1.6 },
+      ]),
+    ));
+  it('comparison of the spread under three views', async () => {
+    const items = [0, 0.11, 0.2].map((drift) => {
+      const core = runCheck(check(spread, { drift, vol: 0.31 }));
+      return { label: `drift ${Math.round(drift * 100)}%`, pnlDensity: core.curves.pnlDensity, expectedPnl: core.outcome.expectedPnl };
+    });
+    await emit('compare.png', await renderPng(compareChartConfig(items, { title: 'FERNWK +2/−2 call spread 85/95: P&L at 2027-02-19 under three views', currency: 'USD' })));
   });
 });

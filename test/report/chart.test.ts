@@ -73,15 +73,22 @@ describe('checkChartConfig: x range, densities, P&L', () => {
     expect(x.max - x.min).toBeLessThan(1.6 * (Math.max(...need) - Math.min(...need)));
   });
 
-  it('uses nicely rounded ticks: bounds are whole multiples of a 1/2/2.5/5×10^k step, at most 10 steps', () => {
-    for (const s of [xScale(cfg), pnlScale(cfg)]) {
+  it('uses nicely rounded ticks: a 1/2/2.5/5×10^k step, 4 to 10 whole multiples of it on the axis, no odd bound label', () => {
+    const xs = cfg.options!.scales!.x as { min: number; max: number; ticks: { stepSize: number; includeBounds?: boolean } };
+    for (const s of [xs, pnlScale(cfg)]) {
       const step = s.ticks.stepSize;
       const mant = step / 10 ** Math.floor(Math.log10(step));
       expect([1, 2, 2.5, 5].some((m) => Math.abs(m - mant) < 1e-9)).toBe(true);
-      expect(Math.abs(s.min / step - Math.round(s.min / step))).toBeLessThan(1e-9);
-      expect(Math.abs(s.max / step - Math.round(s.max / step))).toBeLessThan(1e-9);
-      expect((s.max - s.min) / step).toBeLessThanOrEqual(10 + 1e-9);
+      const ticks = Math.floor(s.max / step + 1e-9) - Math.ceil(s.min / step - 1e-9) + 1;
+      expect(ticks).toBeGreaterThanOrEqual(4);
+      expect(ticks).toBeLessThanOrEqual(11);
     }
+    // the P&L axis ends on whole steps; the x axis either does or draws no tick at its bounds
+    const p = pnlScale(cfg);
+    expect(Math.abs(p.min / p.ticks.stepSize - Math.round(p.min / p.ticks.stepSize))).toBeLessThan(1e-9);
+    expect(Math.abs(p.max / p.ticks.stepSize - Math.round(p.max / p.ticks.stepSize))).toBeLessThan(1e-9);
+    const whole = (v: number) => Math.abs(v / xs.ticks.stepSize - Math.round(v / xs.ticks.stepSize)) < 1e-9;
+    expect((whole(xs.min) && whole(xs.max)) || xs.ticks.includeBounds === false).toBe(true);
   });
 
   it('draws densities that integrate to about 1 over the range (trapezoid rule)', () => {
