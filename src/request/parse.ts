@@ -276,10 +276,6 @@ class Cursor {
   }
 }
 
-function isWordToken(t: Tok): boolean {
-  return !NUMBER.test(t.text) && !PERCENT.test(t.text) && t.text !== '@' && t.text !== ';';
-}
-
 function isSpecToken(t: Tok): boolean {
   return SPAN.test(t.text) || looksLikeDate(t.text);
 }
@@ -340,11 +336,6 @@ export function suggestPercent(kind: PctKind, v: number): string {
   const decimalBelow = kind === 'rate' ? 0.2 : 1;
   const pct = a > 0 && a < decimalBelow ? v * 100 : v;
   return `${fmtNum(pct)}%`;
-}
-
-function inRange(kind: PctKind, v: number): boolean {
-  const [lo, hi] = PCT_RANGE[kind];
-  return v >= lo && v <= hi && (kind !== 'vol' || v > 0);
 }
 
 function readPercent(c: Cursor, term: Tok, name: string, kind: PctKind): number {
@@ -1157,11 +1148,12 @@ export function parse(text: string): ParseResult {
 export function parseCheckPart(
   text: string,
   verb: 'check' | 'iv' | 'touch' = 'check',
+  depth = 0,
 ): { ok: true; part: CheckPart; price?: number; by?: ExpirySpec } | { ok: false; error: ParseError } {
   try {
     const toks = tokenize(text);
-    const c = new Cursor(text, toks, 0, toks.length, verb === 'check' ? 'check' : verb);
-    const body = readBody(c, verb === 'check' ? 'check' : 'again', verb === 'check');
+    const c = new Cursor(text, toks, 0, toks.length, verb);
+    const body = readBody(c, verb, verb === 'check');
     return {
       ok: true,
       part: { check: checkOf(body, c.end()), legToks: body.legToks, termToks: body.termToks, toks },
@@ -1169,8 +1161,10 @@ export function parseCheckPart(
       by: body.by,
     };
   } catch (e) {
-    if (e instanceof Reject) return { ok: false, error: toParseError(text, e, () => false) };
-    return { ok: false, error: { message: 'Kolmo could not read this request', at: 0, length: 1, example: EXAMPLES.check } };
+    if (e instanceof Reject) {
+      return { ok: false, error: toParseError(text, e, (cand) => depth === 0 && parseCheckPart(cand, verb, 1).ok) };
+    }
+    return { ok: false, error: { message: 'Kolmo could not read this request', at: 0, length: 1, example: EXAMPLES[verb] } };
   }
 }
 
