@@ -42,15 +42,15 @@ export function bsmValue(
   sigma: number,
 ): number {
   if (!(T > 0)) return kind === 'call' ? Math.max(S - K, 0) : Math.max(K - S, 0);
-  const dq = Math.exp(-q * T);
-  const dr = Math.exp(-r * T);
-  const fS = S * dq; // S e^{−qT}
-  const fK = K * dr; // K e^{−rT}
+  // the log does not wait for the discount exponentials (shorter dependency chain)
+  const lnF = Math.log(S / K) + (r - q) * T; // ln(S e^{−qT} / K e^{−rT})
   const sd = sigma * Math.sqrt(T);
+  const fS = S * Math.exp(-q * T); // S e^{−qT}
+  const fK = K * Math.exp(-r * T); // K e^{−rT}
   if (!(sd > TINY_SD)) {
     return kind === 'call' ? Math.max(fS - fK, 0) : Math.max(fK - fS, 0);
   }
-  const d1 = Math.log(fS / fK) / sd + 0.5 * sd;
+  const d1 = lnF / sd + 0.5 * sd;
   const d2 = d1 - sd;
   const p1 = normPdf(d1);
   const ratio = fS / fK;
@@ -75,6 +75,7 @@ export function bsmGreeks(
   sigma: number,
 ): Greeks {
   if (!(T > 0)) return expired(kind, S, K);
+  const lnF = Math.log(S / K) + (r - q) * T;
   const sqT = Math.sqrt(T);
   const dq = Math.exp(-q * T);
   const dr = Math.exp(-r * T);
@@ -83,7 +84,7 @@ export function bsmGreeks(
   const sd = sigma * sqT;
   if (!(sd > TINY_SD)) return certainForward(kind, S, K, T, r, q, fS, fK, dq, sqT);
   const ratio = fS / fK;
-  const d1 = Math.log(ratio) / sd + 0.5 * sd;
+  const d1 = lnF / sd + 0.5 * sd;
   const d2 = d1 - sd;
   const p1 = normPdf(d1);
   let p2 = p1 * ratio; // φ(d2) = φ(d1)·S e^{−qT}/(K e^{−rT})

@@ -1,0 +1,72 @@
+/**
+ * Implied vol: solves per second over the accuracy grid of test/core/iv.test.ts (K/S 0.5–2,
+ * T 1 day–5 years, σ 5%–200%, calls and puts, prices from bsmValue, the points where the price
+ * determines the vol), against bsmValue calls on the same inputs in the same run
+ * (goal ≥ 1 million solves/s). Also reports the worst relative error in the same run.
+ */
+import { bsmGreeks, bsmValue } from '../../src/core/bsm.js';
+import { impliedVol } from '../../src/core/iv.js';
+import type { OptionKind } from '../../src/core/types.js';
+import { measure, report } from './harness.js';
+
+export function run(): void {
+  const kind: OptionKind[] = [];
+  const price: number[] = [];
+  const S: number[] = [];
+  const K: number[] = [];
+  const T: number[] = [];
+  const r: number[] = [];
+  const q: number[] = [];
+  const sig: number[] = [];
+  const ms = [0.5, 0.6, 0.7, 0.8, 0.9, 0.95, 1, 1.05, 1.1, 1.25, 1.5, 1.75, 2];
+  const Ts = [1 / 365, 7 / 365, 30 / 365, 0.25, 0.5, 1, 2, 5];
+  const vols = [0.05, 0.1, 0.2, 0.3, 0.5, 0.8, 1.2, 2];
+  for (const k of ['call', 'put'] as OptionKind[])
+    for (const m of ms)
+      for (const t of Ts)
+        for (const v of vols) {
+          const g = bsmGreeks(k, 100, 100 * m, t, 0.04, 0.015, v);
+          if (!(g.value > 1e-290 && (g.vega * 100 * v) / g.value >= 1e-4)) continue;
+          kind.push(k);
+          price.push(g.value);
+          S.push(100);
+          K.push(100 * m);
+          T.push(t);
+          r.push(0.04);
+          q.push(0.015);
+          sig.push(v);
+        }
+  const n = price.length;
+  let worst = 0;
+  for (let i = 0; i < n; i++) {
+    const res = impliedVol(kind[i], price[i], S[i], K[i], T[i], r[i], q[i]);
+    worst = Math.max(worst, res.ok ? Math.abs(res.iv / sig[i] - 1) : Infinity);
+  }
+  const value = measure(
+    'bsmValue on the same inputs',
+    () => {
+      let acc = 0;
+      for (let i = 0; i < n; i++) acc += bsmValue(kind[i], S[i], K[i], T[i], r[i], q[i], sig[i]);
+      return acc;
+    },
+    n,
+  );
+  const solve = measure(
+    `impliedVol over the grid (${n} points)`,
+    () => {
+      let acc = 0;
+      for (let i = 0; i < n; i++) {
+        const res = impliedVol(kind[i], price[i], S[i], K[i], T[i], r[i], q[i]);
+        if (res.ok) acc += res.iv;
+      }
+      return acc;
+    },
+    n,
+  );
+  report(value);
+  report(solve, value, '≥ 1 M/s');
+  console.log(
+    `impliedVol ${(solve.opsPerSec / 1e6).toFixed(2)} M solves/s = ${(solve.perOp / value.perOp).toFixed(1)} bsmValue calls per solve; ` +
+      `worst relative vol error over the grid ${worst.toExponential(1)} (goal ≤ 1e-10)`,
+  );
+}
