@@ -354,7 +354,7 @@ function readPercent(c: Cursor, term: Tok, name: string, kind: PctKind): number 
     }
     if (kind === 'vol' && v < lo) {
       const times100 = Number((v * 100).toPrecision(12));
-      const guess = inRange('vol', times100) ? ` — did you mean ${fmtNum(times100 * 100)}%?` : '';
+      const guess = times100 >= lo && times100 <= hi ? ` — did you mean ${fmtNum(times100 * 100)}%?` : '';
       throw c.reject(
         t,
         `${name} ${t.text} is below the ${fmtNum(lo * 100)}% floor${guess}`,
