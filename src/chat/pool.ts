@@ -138,7 +138,12 @@ export class WorkerPool implements Engine {
       const task = slot.task;
       slot.task = undefined;
       const how = signal ? `signal ${signal}` : `exit code ${code}`;
-      if (task) this.finish(task, { ok: false, error: new EngineError(`the worker stopped (${how}) while answering`, 'crashed') });
+      if (task) {
+        const error = this.closing
+          ? new EngineError('the engine is shutting down', 'closed')
+          : new EngineError(`the worker stopped (${how}) while answering`, 'crashed');
+        this.finish(task, { ok: false, error });
+      }
       if (this.closing) return;
       this.opts.onEvent?.({ event: 'worker-exit', detail: how });
       this.crashes++;

@@ -41,7 +41,8 @@ let app: RunningApp;
 
 beforeAll(async () => {
   fake = await FakeWebApi.start();
-  app = await startApp(httpEnv(fake.apiUrl, { KOLMO_WORKERS: '2' }));
+  // debug level: the most the logs ever say, so the secret and request-text checks below see everything
+  app = await startApp(httpEnv(fake.apiUrl, { KOLMO_WORKERS: '2', LOG_LEVEL: 'debug' }));
 });
 
 afterAll(async () => {
@@ -104,7 +105,10 @@ describe('slash command in HTTP mode', () => {
     const line = app.lines.find((l) => l.msg === 'request' && l.channel === channel)!;
     expect(line).toMatchObject({ channel, user: 'UTRADERAA1', verb: 'check', outcome: 'answered' });
     expect(typeof line.ms).toBe('number');
-    expect(app.stdout()).not.toContain('105 2027-03-19 @3.10');
+    // the request text appears in the logs, but only at debug level
+    const withText = app.lines.filter((l) => JSON.stringify(l).includes('call 105 2027-03-19 @3.10'));
+    expect(withText.length).toBeGreaterThan(0);
+    for (const l of withText) expect(l.level).toBe('debug');
   });
 
   it('help answers ephemerally with the grammar, nothing in the channel', async () => {
@@ -288,8 +292,9 @@ describe('modes and settings', () => {
     }
   });
 
-  it('no secret ever reached the HTTP app’s logs', () => {
+  it('no secret ever reached the HTTP app’s logs, even at debug level', () => {
     const all = app.stdout() + app.stderr();
+    expect(app.lines.some((l) => l.level === 'debug')).toBe(true);
     expect(all).not.toContain(BOT_TOKEN);
     expect(all).not.toContain(SECRET);
     expect(all).not.toContain('xoxb-fake');
