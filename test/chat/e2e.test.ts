@@ -172,6 +172,18 @@ describe('slash command in HTTP mode', () => {
     expect(responses('429')).toHaveLength(0);
   });
 
+  it('a rate limit that does not clear within the retries: the asker is told, ephemerally', async () => {
+    const channel = 'CDESK429B1';
+    // one more 429 than the client's retries (3): every attempt at the root line is refused
+    fake.fail('chat.postMessage', ...Array.from({ length: 4 }, () => ({ status: 429, retryAfter: 0, channel })));
+    await sendSlash(app.port, { text: CHECK, channel, responseUrl: fake.responseUrl('429b') });
+    await fake.waitFor(() => responses('429b').length > 0, WAIT, 'the rate-limit notice');
+    expect(fake.callsOf('chat.postMessage').filter((c) => c.body.channel === channel).map((c) => c.status)).toEqual([429, 429, 429, 429]);
+    expect(String(responses('429b')[0].body.text)).toMatch(/rate-limiting/);
+    expect(responses('429b')[0].body.response_type).toBe('ephemeral');
+    expect(completes(channel)).toHaveLength(0);
+  });
+
   it('a server error (5xx) once is retried too', async () => {
     const channel = 'CDESK500A1';
     fake.fail('files.completeUploadExternal', { status: 500, channel });
@@ -210,6 +222,18 @@ describe('slash command in HTTP mode', () => {
 });
 
 describe('mentions', () => {
+  it('a mention in the channel (not in a thread) gets a root line and the answer in its thread', async () => {
+    const channel = 'CDESKTOPM1';
+    const sent = await post(app.port, mentionBody({ text: CHECK, channel, ts: '1798700300.000100', botUserId: FAKE_BOT.user_id }), 'application/json');
+    expect(sent.status).toBe(200);
+    await answered(channel, 'the answer to a top-level mention');
+    const posts = inChannel('chat.postMessage', channel);
+    const rootTs = (posts[0].response as { ts: string }).ts;
+    expect(posts[0].body.thread_ts).toBeUndefined();
+    expect(posts.slice(1).every((p) => p.body.thread_ts === rootTs)).toBe(true);
+    expect(completes(channel)[0].body.thread_ts).toBe(rootTs);
+  });
+
   it('a mention inside an existing thread answers in that thread', async () => {
     const channel = 'CDESKTHRD1';
     const threadTs = '1798700000.000050';
