@@ -1,0 +1,742 @@
+/**
+ * American options by finite differences on the Kolmogorov backward (Black-Scholes-Merton)
+ * equation.
+ *
+ * In x = ln S and τ = time to expiry the value V(x, τ) solves
+ *
+ *     V_τ = ½σ² V_xx + (r − q − ½σ²) V_x − r V,      V(x, 0) = payoff,
+ *
+ * subject to V ≥ payoff (early exercise). Method:
+ *
+ * - grid in x stretched by sinh around ln K (x = ln K + c·sinh ξ, ξ uniform), with the strike
+ *   exactly on a node; three-point non-uniform differences (upwinded convection only at a node
+ *   where the central form would lose the M-matrix signs);
+ * - time steps graded towards expiry (τ_k = T·((1−β)u + βu²), u = k/M), Crank-Nicolson with the
+ *   first two steps replaced by four fully implicit half steps (Rannacher smoothing);
+ * - the early-exercise constraint by the Brennan-Schwartz algorithm (Thomas elimination in the
+ *   direction that ends in the exercise region, projecting during back substitution) whenever the
+ *   exercise region is a single interval at one end of the grid (a put with r > 0, a call with
+ *   q > 0); otherwise by projected SOR, which handles any shape of the exercise region (negative
+ *   rates or yields);
+ * - Dirichlet boundaries at both ends from the asymptotes: far out of the money 0, deep in the
+ *   money max(intrinsic, S e^{−qτ} − K e^{−rτ}) for a call, max(intrinsic, K e^{−rτ} − S e^{−qτ})
+ *   for a put.
+ *
+ * Units of the Greeks follow DESIGN.md §3 (per share; vega per vol point; theta per calendar day;
+ * rho per 1% of rate).
+ */
+import type { IvResult } from './iv.js';
+import type { Greeks, OptionKind } from './types.js';
+
+export interface AmericanOptions {
+  /** 'normal': about 1e-4 absolute on typical cases; 'fine': about 1e-5, several times slower. */
+  accuracy?: 'normal' | 'fine';
+}
+
+/** Grid sizes: space intervals and time steps. */
+export interface FdSize {
+  nx: number;
+  nt: number;
+}
+
+// ---------------------------------------------------------------------------------------------
+// grid
+
+/**
+ * Nodes in x: ln K + c·sinh(ξ), ξ uniform with spacing chosen from `n` intervals over the
+ * requested span, extended outwards so that ξ = 0 (the strike) is exactly a node.
+ */
+function sinhGrid(xK: number, xLo: number, xHi: number, n: number, c: number): Float64Array {
+  const lo = Math.asinh((xLo - xK) / c);
+  const hi = Math.asinh((xHi - xK) / c);
+  const d = (hi - lo) / n;
+  const nLo = Math.max(1, Math.ceil(-lo / d - 1e-9));
+  const nHi = Math.max(1, Math.ceil(hi / d - 1e-9));
+  const x = new Float64Array(nLo + nHi + 1);
+  for (let i = -nLo; i <= nHi; i++) x[i + nLo] = xK + c * Math.sinh(i * d);
+  x[nLo] = xK;
+  return x;
+}
+
+interface Problem {
+  kind: OptionKind;
+  K: number;
+  T: number;
+  r: number;
+  q: number;
+  sigma: number;
+}
+
+/** Half-width of the grid in x (from ln K), enough that the boundaries do not matter. */
+function halfWidth(p: Problem, sds: number): number {
+  const s = p.sigma * Math.sqrt(p.T);
+  const nu = Math.abs(p.r - p.q - 0.5 * p.sigma * p.sigma) * p.T;
+  return sds * s + nu + 0.02;
+}
+
+// ---------------------------------------------------------------------------------------------
+// solver
+
+interface Solution {
+  x: Float64Array;
+  /** payoff (the obstacle) at the nodes */
+  g: Float64Array;
+  /** values at τ = T */
+  v: Float64Array;
+  /** values at the two previous time levels (for theta), newest first */
+  v1: Float64Array;
+  v2: Float64Array;
+  /** τ of v, v1, v2 */
+  t0: number;
+  t1: number;
+  t2: number;
+}
+
+function payoff(kind: OptionKind, S: number, K: number): number {
+  return kind === 'call' ? Math.max(S - K, 0) : Math.max(K - S, 0);
+}
+
+/** Value on the boundary nodes at time to expiry τ. */
+function boundaryValue(p: Problem, S: number, tau: number, american: boolean): number {
+  const { kind, K, r, q } = p;
+  const fwd = kind === 'call' ? S * Math.exp(-q * tau) - K * Math.exp(-r * tau) : K * Math.exp(-r * tau) - S * Math.exp(-q * tau);
+  const eu = Math.max(fwd, 0);
+  return american ? Math.max(eu, payoff(kind, S, K)) : eu;
+}
+
+/**
+ * One backward solve from expiry to τ = T on the nodes `x` with `nt` graded time steps
+ * (τ_k = T·((1−β)u + βu²), u = k/nt; the first `rannacher` steps each as two implicit half
+ * steps, the rest Crank-Nicolson). `american` false solves the European problem with the same
+ * machinery (used to check the discretisation against BSM).
+ */
+export function solveBackward(
+  kind: OptionKind,
+  K: number,
+  T: number,
+  r: number,
+  q: number,
+  sigma: number,
+  x: Float64Array,
+  nt: number,
+  american = true,
+  beta = 1,
+  rannacher = 4,
+  smoothKink = true,
+): Solution {
+  const p: Problem = { kind, K, T, r, q, sigma };
+  const n = x.length;
+  const last = n - 1;
+  const S0 = Math.exp(x[0]);
+  const Sn = Math.exp(x[last]);
+  const g = new Float64Array(n);
+  for (let i = 0; i < n; i++) g[i] = payoff(kind, Math.exp(x[i]), K);
+  // spatial operator L V_i = a_i V_{i-1} + b_i V_i + c_i V_{i+1}
+  const a = new Float64Array(n);
+  const b = new Float64Array(n);
+  const c = new Float64Array(n);
+  const hs = 0.5 * sigma * sigma;
+  const mu = r - q - hs;
+  for (let i = 1; i < last; i++) {
+    const hm = x[i] - x[i - 1];
+    const hp = x[i + 1] - x[i];
+    const am = (2 * hs) / (hm * (hm + hp));
+    const cp = (2 * hs) / (hp * (hm + hp));
+    let ac = (-mu * hp) / (hm * (hm + hp));
+    let bc = (mu * (hp - hm)) / (hm * hp);
+    let cc = (mu * hm) / (hp * (hm + hp));
+    if (am + ac < 0 || cp + cc < 0) {
+      // convection dominates: one-sided difference in the upwind direction
+      if (mu > 0) {
+        ac = 0;
+        bc = -mu / hp;
+        cc = mu / hp;
+      } else {
+        ac = -mu / hm;
+        bc = mu / hm;
+        cc = 0;
+      }
+    }
+    a[i] = am + ac;
+    b[i] = -am - cp + bc - r;
+    c[i] = cp + cc;
+  }
+
+  // projection: 0 none, 1 exercise region at the low end (put), 2 at the high end (call), 3 PSOR
+  let method = 0;
+  if (american) {
+    if (kind === 'put') method = r > 0 ? 1 : q >= r ? 0 : 3;
+    else method = q > 0 ? 2 : r >= q ? 0 : 3;
+    // (a call with q ≤ 0 ≤ … and r ≥ q is never exercised early (Merton), nor a put with r ≤ 0
+    // and q ≥ r: the projection would never bind)
+  }
+
+  let v = Float64Array.from(g);
+  // the payoff's kink: at a node on the strike start from the payoff averaged over the node's
+  // cell [x − h₋/2, x + h₊/2] (smoothing of the initial data, with the implicit start below)
+  if (smoothKink) {
+    const xK = Math.log(K);
+    for (let i = 1; i < last; i++) {
+      if (Math.abs(x[i] - xK) > 1e-12) continue;
+      const am = 0.5 * (x[i] - x[i - 1]);
+      const ap = 0.5 * (x[i + 1] - x[i]);
+      // ∫ of (K − e^x)⁺ below the strike and (e^x − K)⁺ above, over the cell
+      const integral = kind === 'put' ? K * (am - 1 + Math.exp(-am)) : K * (Math.exp(ap) - 1 - ap);
+      v[i] = integral / (am + ap);
+    }
+  }
+  let v1 = new Float64Array(n);
+  let v2 = new Float64Array(n);
+  let next = new Float64Array(n);
+  let t1 = 0;
+  let t2 = 0;
+  const rhs = new Float64Array(n);
+  const lo = new Float64Array(n);
+  const up = new Float64Array(n);
+  const ib = new Float64Array(n); // 1 / eliminated diagonal
+  const dp = new Float64Array(n); // eliminated right-hand side
+
+  // the sequence of (τ0, τ1, θ) steps
+  const steps: number[] = [];
+  let tau = 0;
+  for (let k = 1; k <= nt; k++) {
+    const u = k / nt;
+    const tNext = k === nt ? T : T * ((1 - beta) * u + beta * u * u);
+    if (k <= rannacher) {
+      const mid = 0.5 * (tau + tNext);
+      steps.push(tau, mid, 1, mid, tNext, 1);
+    } else {
+      steps.push(tau, tNext, 0.5);
+    }
+    tau = tNext;
+  }
+
+  for (let s = 0; s < steps.length; s += 3) {
+    const tau0 = steps[s];
+    const tau1 = steps[s + 1];
+    const theta = steps[s + 2];
+    const dt = tau1 - tau0;
+    const ex = (1 - theta) * dt;
+    const im = theta * dt;
+    const v0 = boundaryValue(p, S0, tau1, american);
+    const vn = boundaryValue(p, Sn, tau1, american);
+    next[0] = v0;
+    next[last] = vn;
+    if (ex !== 0) {
+      for (let i = 1; i < last; i++) rhs[i] = v[i] + ex * (a[i] * v[i - 1] + b[i] * v[i] + c[i] * v[i + 1]);
+    } else {
+      for (let i = 1; i < last; i++) rhs[i] = v[i];
+    }
+    if (method === 1) {
+      // Brennan-Schwartz for the put: eliminate from the top, back-substitute upwards starting
+      // in the exercise region, projecting on the payoff as each value is found
+      let ibp = 1 / (1 - im * b[last - 1]);
+      ib[last - 1] = ibp;
+      let dpp = rhs[last - 1] + im * c[last - 1] * vn;
+      dp[last - 1] = dpp;
+      for (let i = last - 2; i >= 1; i--) {
+        const m = -im * c[i] * ibp;
+        ibp = 1 / (1 - im * b[i] + m * im * a[i + 1]);
+        dpp = rhs[i] - m * dpp;
+        ib[i] = ibp;
+        dp[i] = dpp;
+      }
+      let prev = v0;
+      for (let i = 1; i < last; i++) {
+        let y = (dp[i] + im * a[i] * prev) * ib[i];
+        if (y < g[i]) y = g[i];
+        next[i] = y;
+        prev = y;
+      }
+    } else if (method === 0 || method === 2) {
+      // Thomas elimination from the bottom, back substitution downwards (projected for the call)
+      let ibp = 1 / (1 - im * b[1]);
+      ib[1] = ibp;
+      let dpp = rhs[1] + im * a[1] * v0;
+      dp[1] = dpp;
+      for (let i = 2; i < last; i++) {
+        const m = -im * a[i] * ibp;
+        ibp = 1 / (1 - im * b[i] + m * im * c[i - 1]);
+        dpp = rhs[i] - m * dpp;
+        ib[i] = ibp;
+        dp[i] = dpp;
+      }
+      let prev = vn;
+      if (method === 2) {
+        for (let i = last - 1; i >= 1; i--) {
+          let y = (dp[i] + im * c[i] * prev) * ib[i];
+          if (y < g[i]) y = g[i];
+          next[i] = y;
+          prev = y;
+        }
+      } else {
+        for (let i = last - 1; i >= 1; i--) {
+          const y = (dp[i] + im * c[i] * prev) * ib[i];
+          next[i] = y;
+          prev = y;
+        }
+      }
+    } else {
+      // projected SOR started from the previous level
+      for (let i = 1; i < last; i++) next[i] = Math.max(v[i], g[i]);
+      const omega = 1.3;
+      const tol = 1e-12 * Math.max(1, K);
+      for (let it = 0; it < 5000; it++) {
+        let change = 0;
+        for (let i = 1; i < last; i++) {
+          const y = (rhs[i] + im * (a[i] * next[i - 1] + c[i] * next[i + 1])) / (1 - im * b[i]);
+          let z = next[i] + omega * (y - next[i]);
+          if (z < g[i]) z = g[i];
+          const d = Math.abs(z - next[i]);
+          if (d > change) change = d;
+          next[i] = z;
+        }
+        if (change < tol) break;
+      }
+    }
+    // rotate levels: v2 ← v1 ← v ← next
+    const old2 = v2;
+    v2 = v1;
+    v1 = v;
+    v = next;
+    next = old2;
+    t2 = t1;
+    t1 = tau0;
+  }
+  return { x, g, v, v1, v2, t0: T, t1, t2 };
+}
+
+// ---------------------------------------------------------------------------------------------
+// interpolation at a point
+
+/** Index j such that the four nodes j..j+3 surround x as centrally as possible. */
+function stencil4(x: Float64Array, xs: number): number {
+  let lo = 0;
+  let hi = x.length - 1;
+  while (hi - lo > 1) {
+    const m = (lo + hi) >> 1;
+    if (x[m] <= xs) lo = m;
+    else hi = m;
+  }
+  return Math.min(Math.max(lo - 1, 0), x.length - 4);
+}
+
+/** Value, first and second derivative at xs of the cubic through four nodes starting at j. */
+function lagrange4(x: Float64Array, v: Float64Array, j: number, xs: number): [number, number, number] {
+  let f = 0;
+  let f1 = 0;
+  let f2 = 0;
+  for (let k = 0; k < 4; k++) {
+    const xk = x[j + k];
+    let den = 1;
+    const d: number[] = [];
+    for (let m = 0; m < 4; m++) {
+      if (m === k) continue;
+      den *= xk - x[j + m];
+      d.push(xs - x[j + m]);
+    }
+    const w = v[j + k] / den;
+    f += w * d[0] * d[1] * d[2];
+    f1 += w * (d[0] * d[1] + d[0] * d[2] + d[1] * d[2]);
+    f2 += w * 2 * (d[0] + d[1] + d[2]);
+  }
+  return [f, f1, f2];
+}
+
+// ---------------------------------------------------------------------------------------------
+// public functions
+
+function checkInputs(S: number | null, K: number, T: number, r: number, q: number, sigma: number): void {
+  const bad = (what: string, v: number): never => {
+    throw new RangeError(`american: ${what} must be ${what === 'T' ? 'finite and ≥ 0' : 'finite and > 0'} (got ${v})`);
+  };
+  if (S !== null && !(Number.isFinite(S) && S > 0)) bad('S', S);
+  if (!(Number.isFinite(K) && K > 0)) bad('K', K);
+  if (!(Number.isFinite(T) && T >= 0)) bad('T', T);
+  if (!Number.isFinite(r) || !Number.isFinite(q)) throw new RangeError(`american: rate and yield must be finite (got ${r}, ${q})`);
+  if (!(Number.isFinite(sigma) && sigma >= 0)) throw new RangeError(`american: sigma must be finite and ≥ 0 (got ${sigma})`);
+}
+
+/**
+ * Grid sizes for an accuracy level: the value is the Richardson combination
+ * (4·V(2n) − V(n))/3 of two solves with n and 2n space intervals (the spatial error is a clean
+ * O(h²)); with quadratic grading of the time steps the time error is already far smaller.
+ */
+function sizeFor(accuracy: 'normal' | 'fine'): FdSize {
+  return accuracy === 'fine' ? { nx: 400, nt: 400 } : { nx: 160, nt: 160 };
+}
+
+/**
+ * With no volatility the path is deterministic: the holder exercises at the best time on
+ * S e^{(r−q)t}. Value = max over t ∈ [0, T] of e^{−rt}·payoff(S e^{(r−q)t}).
+ */
+function deterministicValue(kind: OptionKind, S: number, K: number, T: number, r: number, q: number): number {
+  const f = (t: number): number =>
+    kind === 'call' ? S * Math.exp(-q * t) - K * Math.exp(-r * t) : K * Math.exp(-r * t) - S * Math.exp(-q * t);
+  let best = Math.max(0, f(0), f(T));
+  // interior stationary point of f: r K e^{−rt} = q S e^{−qt}
+  if (r !== q && r * q > 0) {
+    const t = Math.log((r * K) / (q * S)) / (r - q);
+    if (t > 0 && t < T) best = Math.max(best, f(t));
+  }
+  return best;
+}
+
+/** Value and x-derivatives at the spot from one solve, plus the time levels for theta. */
+interface AtSpot {
+  f: number;
+  fx: number;
+  fxx: number;
+  /** ∂V/∂τ at τ = T, one-sided through the last three levels */
+  ft: number;
+}
+
+function solveAtSpot(p: Problem, S: number, nx: number, nt: number, withTheta: boolean, layout: Problem): AtSpot {
+  const x = gridFor(layout, S, nx);
+  const xs = Math.log(S);
+  const sol = solveBackward(p.kind, p.K, p.T, p.r, p.q, p.sigma, x, nt);
+  const j = stencil4(x, xs);
+  const [f, fx, fxx] = lagrange4(x, sol.v, j, xs);
+  let ft = 0;
+  if (withTheta) {
+    const f1 = lagrange4(x, sol.v1, j, xs)[0];
+    const f2 = lagrange4(x, sol.v2, j, xs)[0];
+    const h1 = sol.t0 - sol.t1;
+    const h2 = sol.t1 - sol.t2;
+    ft = ((2 * h1 + h2) / (h1 * (h1 + h2))) * f - ((h1 + h2) / (h1 * h2)) * f1 + (h1 / (h2 * (h1 + h2))) * f2;
+  }
+  return { f, fx, fxx, ft };
+}
+
+
+/** Richardson combination of a coarse (n) and a fine (2n) solve. */
+function richardson(p: Problem, S: number, size: FdSize, withTheta: boolean, layout: Problem = p): AtSpot {
+  const c = solveAtSpot(p, S, size.nx, size.nt, withTheta, layout);
+  const f = solveAtSpot(p, S, 2 * size.nx, size.nt, withTheta, layout);
+  const ex = (a: number, b: number): number => b + (b - a) / 3;
+  return { f: ex(c.f, f.f), fx: ex(c.fx, f.fx), fxx: ex(c.fxx, f.fxx), ft: ex(c.ft, f.ft) };
+}
+
+/** Value of the American option on grids of the given size (Richardson over n and 2n). */
+export function americanFdValue(
+  kind: OptionKind,
+  S: number,
+  K: number,
+  T: number,
+  r: number,
+  q: number,
+  sigma: number,
+  size: FdSize,
+): number {
+  checkInputs(S, K, T, r, q, sigma);
+  if (T === 0) return payoff(kind, S, K);
+  if (sigma * Math.sqrt(T) < 1e-4) return deterministicValue(kind, S, K, T, r, q);
+  const v = richardson({ kind, K, T, r, q, sigma }, S, size, false).f;
+  return Math.max(v, payoff(kind, S, K));
+}
+
+/** Value of the American option, 'normal' or 'fine' accuracy. */
+export function americanValue(
+  kind: OptionKind,
+  S: number,
+  K: number,
+  T: number,
+  r: number,
+  q: number,
+  sigma: number,
+  opts: AmericanOptions = {},
+): number {
+  return americanFdValue(kind, S, K, T, r, q, sigma, sizeFor(opts.accuracy ?? 'normal'));
+}
+
+/** Grid for a problem seen from spot S: spans ln K ± w and S ± w/2 at least. */
+function gridFor(p: Problem, S: number, nx: number): Float64Array {
+  const xK = Math.log(p.K);
+  const xs = Math.log(S);
+  const w = halfWidth(p, 5);
+  const xLo = Math.min(xK - w, xs - 0.6 * w);
+  const xHi = Math.max(xK + w, xs + 0.6 * w);
+  const sd = p.sigma * Math.sqrt(p.T);
+  const conc = Math.max(0.5 * sd, 0.01);
+  // keep the density of nodes near the strike when the span is widened for a far spot
+  const n = Math.round(nx * Math.max(1, (Math.asinh((xHi - xK) / conc) - Math.asinh((xLo - xK) / conc)) / (2 * Math.asinh(w / conc))));
+  return sinhGrid(xK, xLo, xHi, n, conc);
+}
+
+/**
+ * Value and Greeks of an American option (per share; DESIGN.md §3 units). Value, delta and gamma
+ * from the grid at the spot; theta from the last three time levels; vega and rho by central
+ * bumps of ±0.5 vol point and ±0.5% of rate, re-solved on the same grids (so the discretisation
+ * error largely cancels in the differences). Every figure is the Richardson combination over the
+ * two grid sizes.
+ */
+export function americanGreeks(
+  kind: OptionKind,
+  S: number,
+  K: number,
+  T: number,
+  r: number,
+  q: number,
+  sigma: number,
+  opts: AmericanOptions = {},
+): Greeks {
+  checkInputs(S, K, T, r, q, sigma);
+  const size = sizeFor(opts.accuracy ?? 'normal');
+  const intrinsic = payoff(kind, S, K);
+  if (T === 0) {
+    const itm = kind === 'call' ? S > K : S < K;
+    return { value: intrinsic, delta: itm ? (kind === 'call' ? 1 : -1) : 0, gamma: 0, vega: 0, theta: 0, rho: 0 };
+  }
+  const p: Problem = { kind, K, T, r, q, sigma };
+  if (sigma * Math.sqrt(T) < 1e-4) return deterministicGreeks(kind, S, K, T, r, q, sigma);
+  const base = richardson(p, S, size, true);
+  const value = Math.max(base.f, intrinsic);
+  let delta = base.fx / S;
+  let gamma = (base.fxx - base.fx) / (S * S);
+  let theta = -base.ft / 365;
+  if (base.f <= intrinsic) {
+    // exercise region: V = payoff
+    delta = intrinsic > 0 ? (kind === 'call' ? 1 : -1) : 0;
+    gamma = 0;
+    theta = 0;
+  } else {
+    // no-arbitrage bounds of the American value (V ≥ payoff and convex in S): |delta| ≤ 1 with the
+    // option's sign, gamma ≥ 0. Only the interpolation across the exercise boundary (a jump in
+    // V_SS) can step outside them, by a little.
+    delta = kind === 'call' ? Math.min(Math.max(delta, 0), 1) : Math.min(Math.max(delta, -1), 0);
+    if (gamma < 0) gamma = 0;
+  }
+  const at = (sig: number, rate: number): number => richardson({ ...p, sigma: sig, r: rate }, S, size, false, p).f;
+  const hv = Math.min(0.005, 0.5 * sigma);
+  const vega = ((at(sigma + hv, r) - at(sigma - hv, r)) / (2 * hv)) * 0.01;
+  const hr = 0.005;
+  const rho = ((at(sigma, r + hr) - at(sigma, r - hr)) / (2 * hr)) * 0.01;
+  return { value, delta, gamma, vega, theta, rho };
+}
+
+function deterministicGreeks(kind: OptionKind, S: number, K: number, T: number, r: number, q: number, sigma: number): Greeks {
+  const v = (s: number, t: number, rate: number): number => deterministicValue(kind, s, K, t, rate, q);
+  const value = v(S, T, r);
+  const hS = 1e-4 * S;
+  const delta = (v(S + hS, T, r) - v(S - hS, T, r)) / (2 * hS);
+  const ht = Math.min(1e-4, T / 2);
+  const theta = -((v(S, T, r) - v(S, T - ht, r)) / ht) / 365;
+  const rho = ((v(S, T, r + 1e-4) - v(S, T, r - 1e-4)) / 2e-4) * 0.01;
+  void sigma;
+  return { value, delta, gamma: 0, vega: 0, theta, rho };
+}
+
+// ---------------------------------------------------------------------------------------------
+// value curve
+
+/**
+ * One backward solve giving the American value at every spot, for revaluing a live leg across a
+ * distribution of spots. Inside the grid: a natural cubic spline in ln S through the node values
+ * (floored at intrinsic); outside it the asymptotes (deep in the money max(intrinsic, forward
+ * intrinsic), far out of the money 0). The grid spans [sLo, sHi] as far as it matters: beyond
+ * about 8 standard deviations from the strike the asymptotes are exact to far below 1e-8·K.
+ */
+export function americanValueCurve(
+  kind: OptionKind,
+  K: number,
+  T: number,
+  r: number,
+  q: number,
+  sigma: number,
+  sLo: number,
+  sHi: number,
+): (S: number) => number {
+  checkInputs(null, K, T, r, q, sigma);
+  if (!(Number.isFinite(sLo) && Number.isFinite(sHi) && sLo > 0 && sHi > sLo)) {
+    throw new RangeError(`americanValueCurve: need 0 < sLo < sHi, finite (got ${sLo}, ${sHi})`);
+  }
+  if (T === 0) return (S: number) => payoff(kind, Math.max(S, 0), K);
+  if (sigma * Math.sqrt(T) < 1e-4) {
+    return (S: number) => (S > 0 ? deterministicValue(kind, S, K, T, r, q) : payoff(kind, 0, K));
+  }
+  const p: Problem = { kind, K, T, r, q, sigma };
+  const xK = Math.log(K);
+  const wMax = halfWidth(p, 8);
+  const xLo = Math.max(Math.min(Math.log(sLo), xK - halfWidth(p, 6)), xK - wMax);
+  const xHi = Math.min(Math.max(Math.log(sHi), xK + halfWidth(p, 6)), xK + wMax);
+  const sd = sigma * Math.sqrt(T);
+  const conc = Math.max(0.8 * sd, 0.01);
+  // Richardson over two solves (n and 2n intervals): the fine node values corrected by the
+  // difference to the coarse solution (interpolated by its spline) over 3
+  const xc = sinhGrid(xK, xLo, xHi, CURVE_NX, conc);
+  const x = sinhGrid(xK, xLo, xHi, 2 * CURVE_NX, conc);
+  const coarse = naturalSpline(xc, solveBackward(kind, K, T, r, q, sigma, xc, CURVE_NT).v);
+  const fine = solveBackward(kind, K, T, r, q, sigma, x, CURVE_NT).v;
+  const vx = new Float64Array(x.length);
+  for (let i = 0; i < x.length; i++) {
+    const g = payoff(kind, Math.exp(x[i]), K);
+    const e = fine[i] + (fine[i] - coarse(x[i])) / 3;
+    vx[i] = e > g ? e : g;
+  }
+  const spline = naturalSpline(x, vx);
+  const x0 = x[0];
+  const xn = x[x.length - 1];
+  const asym = (S: number): number => boundaryValue(p, S, T, true);
+  return (S: number): number => {
+    if (!(S > 0)) return kind === 'put' ? K : 0;
+    const xs = Math.log(S);
+    const intrinsic = payoff(kind, S, K);
+    if (xs <= x0 || xs >= xn) return asym(S);
+    const v = spline(xs);
+    return v > intrinsic ? v : intrinsic;
+  };
+}
+
+/** Space intervals (coarse solve) and time steps of americanValueCurve. */
+const CURVE_NX = 200;
+const CURVE_NT = 160;
+
+/** Natural cubic spline through (x_i, y_i). */
+function naturalSpline(x: Float64Array, y: Float64Array): (t: number) => number {
+  const n = x.length;
+  const m = new Float64Array(n); // second derivatives
+  const cp = new Float64Array(n);
+  const dp = new Float64Array(n);
+  for (let i = 1; i < n - 1; i++) {
+    const hm = x[i] - x[i - 1];
+    const hp = x[i + 1] - x[i];
+    const aa = hm / 6;
+    const bb = (hm + hp) / 3;
+    const cc = hp / 6;
+    const dd = (y[i + 1] - y[i]) / hp - (y[i] - y[i - 1]) / hm;
+    const den = bb - aa * cp[i - 1];
+    cp[i] = cc / den;
+    dp[i] = (dd - aa * dp[i - 1]) / den;
+  }
+  for (let i = n - 2; i >= 1; i--) m[i] = dp[i] - cp[i] * m[i + 1];
+  return (t: number): number => {
+    let lo = 0;
+    let hi = n - 1;
+    while (hi - lo > 1) {
+      const k = (lo + hi) >> 1;
+      if (x[k] <= t) lo = k;
+      else hi = k;
+    }
+    const h = x[hi] - x[lo];
+    const A = (x[hi] - t) / h;
+    const B = 1 - A;
+    return A * y[lo] + B * y[hi] + ((A * A * A - A) * m[lo] + (B * B * B - B) * m[hi]) * (h * h) / 6;
+  };
+}
+
+// ---------------------------------------------------------------------------------------------
+// implied volatility
+
+/**
+ * The volatility at which the American value equals `price`. Fails (with the bound) when the
+ * price is at or below intrinsic value (the American lower bound) or at or above the upper bound
+ * (S for a call, K for a put). Brent's method on σ ∈ [0.0005, 5].
+ */
+export function americanImpliedVol(
+  kind: OptionKind,
+  price: number,
+  S: number,
+  K: number,
+  T: number,
+  r: number,
+  q: number,
+): IvResult {
+  if (!(S > 0 && K > 0 && T >= 0) || ![price, S, K, T, r, q].every(Number.isFinite)) {
+    return {
+      ok: false,
+      bound: 'lower',
+      boundValue: 0,
+      message: 'implied vol needs a finite price and positive spot, strike and time to expiry',
+    };
+  }
+  const intrinsic = payoff(kind, S, K);
+  const lower = Math.max(intrinsic, kind === 'call' ? S * Math.exp(-q * T) - K * Math.exp(-r * T) : K * Math.exp(-r * T) - S * Math.exp(-q * T), 0);
+  const upper = kind === 'call' ? S : K;
+  const size = sizeFor('normal');
+  if (T === 0 || price <= lower + 1e-9 * Math.max(1, K)) {
+    return {
+      ok: false,
+      message: `price ${price} is not above the American lower bound ${round6(lower)} (no time value), so no volatility fits`,
+      bound: 'lower',
+      boundValue: lower,
+    };
+  }
+  if (price >= upper) {
+    return { ok: false, message: `price ${price} is at or above the upper bound ${round6(upper)} (${kind === 'call' ? 'the spot' : 'the strike'})`, bound: 'upper', boundValue: upper };
+  }
+  const sMin = 0.0005;
+  const sMax = 5;
+  const f = (s: number): number => americanFdValue(kind, S, K, T, r, q, s, size) - price;
+  let a = sMin;
+  let b = sMax;
+  let fa = f(a);
+  let fb = f(b);
+  if (fa >= 0) {
+    return { ok: false, message: `price ${price} is below the value at ${sMin * 100}% volatility (${round6(fa + price)})`, bound: 'lower', boundValue: fa + price };
+  }
+  if (fb <= 0) {
+    return { ok: false, message: `price ${price} is above the value at ${sMax * 100}% volatility (${round6(fb + price)})`, bound: 'upper', boundValue: fb + price };
+  }
+  // Brent's method
+  let c = a;
+  let fc = fa;
+  let d = b - a;
+  let e = d;
+  for (let it = 0; it < 100; it++) {
+    if (fb * fc > 0) {
+      c = a;
+      fc = fa;
+      d = b - a;
+      e = d;
+    }
+    if (Math.abs(fc) < Math.abs(fb)) {
+      a = b;
+      b = c;
+      c = a;
+      fa = fb;
+      fb = fc;
+      fc = fa;
+    }
+    const tol = 1e-9 + 1e-10 * Math.abs(b);
+    const m = 0.5 * (c - b);
+    if (Math.abs(m) <= tol || fb === 0) break;
+    if (Math.abs(e) >= tol && Math.abs(fa) > Math.abs(fb)) {
+      const s = fb / fa;
+      let pp: number;
+      let qq: number;
+      if (a === c) {
+        pp = 2 * m * s;
+        qq = 1 - s;
+      } else {
+        const q1 = fa / fc;
+        const r1 = fb / fc;
+        pp = s * (2 * m * q1 * (q1 - r1) - (b - a) * (r1 - 1));
+        qq = (q1 - 1) * (r1 - 1) * (s - 1);
+      }
+      if (pp > 0) qq = -qq;
+      else pp = -pp;
+      if (2 * pp < Math.min(3 * m * qq - Math.abs(tol * qq), Math.abs(e * qq))) {
+        e = d;
+        d = pp / qq;
+      } else {
+        d = m;
+        e = d;
+      }
+    } else {
+      d = m;
+      e = d;
+    }
+    a = b;
+    fa = fb;
+    b += Math.abs(d) > tol ? d : m > 0 ? tol : -tol;
+    fb = f(b);
+  }
+  const iv = b;
+  const h = Math.min(0.005, 0.5 * iv);
+  const vega = ((f(iv + h) - f(iv - h)) / (2 * h)) * 0.01;
+  return { ok: true, iv, vega };
+}
+
+function round6(v: number): number {
+  return Math.round(v * 1e6) / 1e6;
+}
