@@ -449,7 +449,11 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
   const areaR = trapezoid(c.spot, c.drn);
   let empty: string | undefined;
   if (c.spot.length < 2) empty = 'no chart: the result carries no sampled curves';
-  else if (!(areaV > 0) && !(areaR > 0)) empty = 'no chart: both densities are zero everywhere';
+  else if (!(areaV > 0) && !(areaR > 0)) {
+    empty = 'no chart: the spot at the horizon has no spread to draw (a horizon of today or a zero volatility)';
+  } else if (c.pnl.every((v) => v === 0)) {
+    empty = 'no chart: the position has no exposure (its legs cancel; P&L is zero at every spot)';
+  }
 
   // x range: 0.5%–99.5% quantiles of both densities, today's spot, strikes and breakevens.
   const want: number[] = [];

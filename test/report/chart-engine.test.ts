@@ -13,7 +13,7 @@ import { runCheck } from '../../src/core/outcome.js';
 import { legGreeks, legValuer, type LegModel } from '../../src/core/pricer.js';
 import type { CheckInput, LegInput } from '../../src/core/types.js';
 import { chartInputFromCheck, checkChartConfig, trapezoid, type KolmoPluginOptions } from '../../src/report/chart.js';
-import { renderPng } from '../../src/report/render.js';
+import { renderPng, tryRenderPng } from '../../src/report/render.js';
 import { loadImage } from 'canvas';
 import { Z995, allNumbers, lognormalQuantile } from './chart-closed-forms.js';
 
@@ -173,7 +173,7 @@ describe.each(cases)('density chart of the engine result: $name', ({ inp, strike
 });
 
 describe('degenerate engine results', () => {
-  it('legs that cancel (+1 and −1 of the same call): no breakeven, no band, a chart of the densities only', () => {
+  it('legs that cancel (+1 and −1 of the same call): flagged for a text-only answer with a note', async () => {
     const inp = check(
       [
         { qty: 1, kind: 'call', strike: 100, years: T1, iv: 0.26, entry: 3 },
@@ -187,7 +187,14 @@ describe('degenerate engine results', () => {
     expect(k.bands).toEqual([]);
     expect(k.markers.filter((m) => m.kind === 'breakeven')).toEqual([]);
     expect(allNumbers(cfg).every(Number.isFinite)).toBe(true);
-    const p = cfg.options!.scales!.yPnl as { min: number; max: number };
-    expect(p.max).toBeGreaterThan(p.min);
+    expect(await tryRenderPng(cfg)).toEqual({ ok: false, note: expect.stringMatching(/no exposure/) });
+  });
+
+  it('a horizon of today (no spread in the spot): flagged for a text-only answer with a note', async () => {
+    const inp = check([{ qty: 1, kind: 'call', strike: 100, years: T1, iv: 0.26, entry: 3 }], 0);
+    const core = runCheck(inp);
+    const cfg = checkChartConfig(chartInputFromCheck(inp, core, { position: 'today', horizon: '2027-01-04' }));
+    expect(allNumbers(cfg).every(Number.isFinite)).toBe(true);
+    expect(await tryRenderPng(cfg)).toEqual({ ok: false, note: expect.stringMatching(/no spread/) });
   });
 });

@@ -217,17 +217,25 @@ describe('checkChartConfig: thinning, degenerate input', () => {
     expect(xScale(cfg).max).toBeGreaterThan(xScale(cfg).min);
   });
 
-  it('zero legs after cancelling (P&L zero everywhere): no band, no breakeven, a finite P&L axis around 0', () => {
+  it('zero legs after cancelling (P&L zero everywhere): flagged for a text-only answer, still a valid config', () => {
     const inp = inputFor({ strikes: [], breakevens: [], pnl: () => 0 }, G, { probProfit: 0, expectedPnl: 0 });
     const cfg = checkChartConfig(inp);
     const k = kolmo(cfg);
-    expect(k.empty).toBeUndefined();
+    expect(k.empty).toMatch(/no exposure/);
     expect(k.bands).toEqual([]);
     expect(k.markers.map((m) => m.kind)).toEqual(['spot']);
     expect(pnlScale(cfg).min).toBeLessThan(0);
     expect(pnlScale(cfg).max).toBeGreaterThan(0);
-    expect((cfg.options!.plugins!.subtitle as { text: string }).text).toContain('P&L is zero at every spot');
     expect(allNumbers(cfg).every(Number.isFinite)).toBe(true);
+  });
+
+  it('a shares-only position (no option legs) is a normal chart: a straight P&L, no strikes', () => {
+    const inp = inputFor({ strikes: [], breakevens: [100], pnl: (s) => 100 * (s - 100) });
+    const cfg = checkChartConfig(inp);
+    const k = kolmo(cfg);
+    expect(k.empty).toBeUndefined();
+    expect(k.markers.map((m) => m.kind)).toEqual(['spot', 'breakeven']);
+    expect(k.bands[0].from).toBeCloseTo(100, 9);
   });
 
   it('NaN, Infinity and mismatched lengths in the curves never reach the config', () => {
