@@ -285,6 +285,20 @@ function isKeyword(low: string): boolean {
   return low in TERM_WORDS || low in TYPE_WORDS || (VERBS as readonly string[]).includes(low) || low === 'price' || low === 'by';
 }
 
+/**
+ * A number written the way people write money: `1,000`, `$84.20`, `84.20$`. Returns the plain
+ * form to suggest, or undefined.
+ */
+function plainNumber(t: Tok): string | undefined {
+  const m = /^[$€£]?([+-]?\d{1,3}(?:,\d{3})+(?:\.\d+)?|[+-]?\d+(?:\.\d+)?)[$€£]?$/.exec(t.text);
+  if (!m || NUMBER.test(t.text)) return undefined;
+  return m[1].replace(/,/g, '');
+}
+
+function plainReject(c: Cursor, t: Tok, plain: string): Reject {
+  return c.reject(t, `numbers are written plainly, without thousands separators or currency signs: ${plain}`, replaceTok(t, plain));
+}
+
 // ---------------------------------------------------------------------------------------------
 // Value readers
 
@@ -296,6 +310,8 @@ function readPrice(c: Cursor, term: Tok, label: string, sample: string): number 
     throw c.reject(t, `${label} is a price, not a percentage: write ${t.text.slice(0, -1)}`, replaceTok(t, t.text.slice(0, -1)));
   }
   if (!NUMBER.test(t.text)) {
+    const plain = plainNumber(t);
+    if (plain !== undefined) throw plainReject(c, t, plain);
     if (isKeyword(t.low) || t.text === '@') {
       throw c.reject(t, `${label} needs a number before '${t.text}', e.g. ${sample}`, insertBefore(t, sample));
     }
@@ -629,6 +645,8 @@ function readLeg(c: Cursor, index: number): LegSpec {
       const v = c.peek();
       if (!v || v.text === ';') throw c.missing(t, `@ needs the entry price per share, e.g. @3.10`, '3.10');
       if (!NUMBER.test(v.text)) {
+        const plain = plainNumber(v);
+        if (plain !== undefined) throw plainReject(c, v, plain);
         throw c.reject(
           v,
           PERCENT.test(v.text) ? `the entry price is money per share, not a percentage` : `@ needs the entry price per share, e.g. @3.10; found '${v.text}'`,
@@ -688,6 +706,8 @@ function readLeg(c: Cursor, index: number): LegSpec {
     if (PERCENT.test(t.text)) {
       throw c.reject(t, `a percentage needs its name in front: iv ${t.text} (or rate, yield, drift, vol)`, insertBefore(t, 'iv'));
     }
+    const plain = plainNumber(t);
+    if (plain !== undefined) throw plainReject(c, t, plain);
     break;
   }
   if (kind !== 'shares' && leg.strike === undefined) {
@@ -714,6 +734,8 @@ function stray(c: Cursor, t: Tok, verb: BodyVerb, allowed: readonly AnyTerm[], l
   if (t.text === ';') {
     return c.reject(t, `';' separates the parts of a comparison: start the request with compare`, { at: 0, length: 0, text: 'compare ' });
   }
+  const plain = plainNumber(t);
+  if (plain !== undefined) return plainReject(c, t, plain);
   if (t.text === '@') {
     return c.reject(t, legs.length ? `an entry price (@3.10) goes right after its leg, before market terms` : `@ gives a leg's entry price and goes right after the leg`);
   }
@@ -1069,6 +1091,8 @@ function parseRequest(src: string): Request {
   const c = new Cursor(src, toks, 0, toks.length, 'check');
   if (isLegStart(c)) return parseCheck(src, toks, 0, toks.length).check;
   // not a verb, not a leg
+  const plain = plainNumber(first);
+  if (plain !== undefined) throw plainReject(c, first, plain);
   if (first.low in TYPE_WORDS) {
     throw rejectAt(first, `a leg starts with its quantity: +1 ${first.text} (long) or -1 ${first.text} (short)`, insertBefore(first, '+1'));
   }

@@ -80,6 +80,16 @@ describe('words', () => {
     bad('+1 call 100 3m spot abc', 'abc', /spot needs a number/);
   });
 
+  it('thousands separators and currency signs', () => {
+    let e = bad('+1 call 1,000 3m', '1,000', /without thousands separators/);
+    expect(e.example).toBe('+1 call 1000 3m');
+    e = bad('+1 call 100 3m spot $84.20', '$84.20', /currency signs: 84.20/);
+    expect(e.example).toBe('+1 call 100 3m spot 84.20');
+    e = bad('1,000 shares spot 84', '1,000', /thousands separators/);
+    expect(e.example).toBe('1000 shares spot 84');
+    bad('+1 call 100 3m @$3.10', '$3.10', /currency signs/);
+  });
+
   it('a value missing at the end: the caret just past the end', () => {
     const text = '+1 call 100 3m spot';
     const r = parse(text);
