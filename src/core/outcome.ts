@@ -310,9 +310,16 @@ interface SplitDist {
   points: { S: number; w: number }[];
 }
 
+/**
+ * Components narrower than this (in log-spot) are treated as point masses: a mesh cannot resolve
+ * them next to ln S, and the error of doing so is of the order of s in the quantiles and s² in
+ * the expectations.
+ */
+const POINT_S = 1e-8;
+
 function splitDist(d: SpotDist): SplitDist {
-  const cont = d.components.filter((c) => c.s > 0);
-  const points = d.components.filter((c) => !(c.s > 0)).map((c) => ({ S: Math.exp(c.mu), w: c.weight }));
+  const cont = d.components.filter((c) => c.s >= POINT_S);
+  const points = d.components.filter((c) => !(c.s >= POINT_S)).map((c) => ({ S: Math.exp(c.mu), w: c.weight }));
   return { cont: { components: cont }, points };
 }
 
@@ -508,7 +515,7 @@ function smoothEngine(
   const scaleAt = (x: number): number => {
     let s = MAX_PANEL;
     for (const w of windows) if (x >= w.lo && x < w.hi && w.scale < s) s = w.scale;
-    return Math.max(s, 1e-7);
+    return Math.max(s, 1e-9);
   };
   const pa: number[] = [];
   const pb: number[] = [];
@@ -608,6 +615,18 @@ function smoothEngine(
     }
     runs.push(s0, ns - 1);
   }
+  /** chart-grade root in a sample cell: one evaluation, then inverse quadratic interpolation */
+  const quickRoot = (a: number, b: number, fa: number, fb: number, y: number): number => {
+    if (fa === fb) return a;
+    const m = a + ((b - a) * fa) / (fa - fb);
+    if (!(m > a && m < b)) return m;
+    const fm = fx(m) - y;
+    const r =
+      (a * fm * fb) / ((fa - fm) * (fa - fb)) + (m * fa * fb) / ((fm - fa) * (fm - fb)) + (b * fa * fm) / ((fb - fa) * (fb - fm));
+    const [u, v, fu, fv] = fa * fm <= 0 ? [a, m, fa, fm] : [m, b, fm, fb];
+    if (r >= u && r <= v && Number.isFinite(r)) return r;
+    return fu === fv ? u : u + ((v - u) * fu) / (fu - fv);
+  };
   /** ln-spot intervals where P&L ≤ y (strict: < y), ends at ±Infinity beyond the samples */
   const below = (y: number, strict: boolean, precise: boolean): [number, number][] => {
     const out: [number, number][] = [];
@@ -626,9 +645,7 @@ function smoothEngine(
       }
       const fa = sfv[lo] - y;
       const fb = sfv[hi] - y;
-      const r = precise
-        ? brentRoot((x) => fx(x) - y, sx[lo], sx[hi], fa, fb, tolX)
-        : fa === fb ? sx[lo] : sx[lo] + ((sx[hi] - sx[lo]) * fa) / (fa - fb);
+      const r = precise ? brentRoot((x) => fx(x) - y, sx[lo], sx[hi], fa, fb, tolX) : quickRoot(sx[lo], sx[hi], fa, fb, y);
       if (inside) out.push([start, r]);
       else start = r;
       inside = !inside;
@@ -860,7 +877,8 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const optionGroups = active.filter((g) => g.leg.kind !== 'shares');
   const liveGroups = optionGroups.filter((g) => !expiresBy(g.leg, h));
   const strikesAll = dedupe(input.legs.filter((l) => l.kind !== 'shares' && l.strike > 0).map((l) => l.strike));
-  const kinks = dedupe(optionGroups.filter((g) => expiresBy(g.leg, h) && g.leg.strike > 0).map((g) => g.leg.strike));
+  // exact distinct strikes: the at-expiry segments must put every strike on the right side
+  const kinks = [...new Set(optionGroups.filter((g) => expiresBy(g.leg, h) && g.leg.strike > 0).map((g) => g.leg.strike))].sort((a, b) => a - b);
 
   let eng: PnlEngine;
   if (liveGroups.length === 0) {
@@ -926,7 +944,8 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const alpha = 0.05;
   const q05 = qs[0];
   const tailMean05 = (eng.expectBelow(q05, true) + q05 * (alpha - eng.probBelow(q05, true))) / alpha;
-  const breakevens = eng.breakevens();
+  // a crossing below a billionth of the spot is rounding in a P&L that is flat near zero there
+  const breakevens = eng.breakevens().filter((b) => b > 1e-9 * spot);
   const ext = eng.extremes();
 
   const outcome: Outcome = {
