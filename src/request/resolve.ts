@@ -197,8 +197,19 @@ function resolveBase(
       );
     }
     mark = ctx.mark;
-    const bad = (['spot', 'iv', 'yield', 'rate'] as const).find((k) => mark![k] !== undefined && !Number.isFinite(mark![k]));
-    if (bad) throw R.at(termsAt.on, `the mark for ${sym} has an unreadable ${bad}: record it again`);
+    const m = mark;
+    const within = (v: number | undefined, lo: number, hi: number, open = false) =>
+      v === undefined || (typeof v === 'number' && Number.isFinite(v) && (open ? v > lo : v >= lo) && v <= hi);
+    const bad = !within(m.spot, 0, LIMITS.price, true)
+      ? 'spot'
+      : !within(m.iv, LIMITS.volMin, LIMITS.volMax)
+        ? 'iv'
+        : !within(m.rate, LIMITS.rateMin, LIMITS.rateMax)
+          ? 'rate'
+          : !within(m.yield, LIMITS.rateMin, LIMITS.rateMax)
+            ? 'yield'
+            : undefined;
+    if (bad) throw R.term(termsAt.on, `the mark for ${sym} has an unusable ${bad}: record it again with mark ${sym} ${bad} …`);
   }
 
   const taken: string[] = [];
@@ -394,9 +405,19 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
   return { asof, horizon, input, legExpiries, notes, symbol: base.symbol };
 }
 
+/** Every number in a value is finite (the last guard before the core). */
+function allFinite(x: unknown): boolean {
+  if (typeof x === 'number') return Number.isFinite(x);
+  if (Array.isArray(x)) return x.every(allFinite);
+  if (x && typeof x === 'object') return Object.values(x).every(allFinite);
+  return true;
+}
+
 function guard<T>(R: () => Resolver, f: () => T): T | Fail {
   try {
-    return f();
+    const out = f();
+    if (!allFinite(out)) throw new Error('a resolved figure is not a finite number');
+    return out;
   } catch (e) {
     const r = R();
     if (e instanceof Reject) return r.error(e);

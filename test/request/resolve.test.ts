@@ -152,6 +152,12 @@ describe('marks', () => {
     expect(c.notes.some((n) => n.includes('stale'))).toBe(true);
   });
 
+  it('a mark with unusable figures is an error at on, never NaN in the input', () => {
+    for (const broken of [{ spot: 0 }, { spot: NaN }, { iv: -0.2 }, { iv: Infinity }, { rate: 7 }]) {
+      checkBad('+1 put 80 3m on FERNWK', 'on', /unusable/, { mark: { ...mark, ...broken } });
+    }
+  });
+
   it('on SYMBOL without a mark for it: error at on', () => {
     checkBad('+1 put 80 3m on QUILLOP', 'on', /no mark for QUILLOP/, { mark });
     checkBad('+1 put 80 3m on QUILLOP', 'on', /no mark for QUILLOP/);
