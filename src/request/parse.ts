@@ -737,7 +737,12 @@ function stray(c: Cursor, t: Tok, verb: BodyVerb, allowed: readonly AnyTerm[], l
   const plain = plainNumber(t);
   if (plain !== undefined) return plainReject(c, t, plain);
   if (t.text === '@') {
-    return c.reject(t, legs.length ? `an entry price (@3.10) goes right after its leg, before market terms` : `@ gives a leg's entry price and goes right after the leg`);
+    const v = c.peek(1);
+    const fix = v && NUMBER.test(v.text) ? { at: t.at, length: v.at + v.len - t.at, text: '' } : undefined;
+    const msg = legs.length
+      ? `an entry price (@3.10) goes right after its leg, before market terms`
+      : `@ gives a leg's entry price and goes right after the leg`;
+    return c.reject(t, msg, fix);
   }
   if (PERCENT.test(t.text)) {
     return c.reject(t, `a percentage needs its name in front (one of ${list})`);
@@ -756,7 +761,17 @@ function stray(c: Cursor, t: Tok, verb: BodyVerb, allowed: readonly AnyTerm[], l
   const low = t.low;
   if (low in TERM_WORDS || low === 'price' || low === 'by') {
     const name = (TERM_WORDS[low] ?? low) as AnyTerm;
-    return c.reject(t, `${name} does not apply to ${verb}; ${verb} takes ${list}`, { at: t.at, length: t.len, text: '' });
+    // the fix drops the term and its value (found by reading it on a scratch cursor)
+    let length = t.len;
+    try {
+      const scratch = new Cursor(c.src, c.toks, c.i + 1, c.to, c.fallback);
+      readTermValue(scratch, name, t, { terms: {}, termsAt: {}, termToks: {} });
+      const last = c.toks[scratch.i - 1];
+      length = last.at + last.len - t.at;
+    } catch {
+      /* drop the word only */
+    }
+    return c.reject(t, `${name} does not apply to ${verb}; ${verb} takes ${list}`, { at: t.at, length, text: '' });
   }
   if (low in TYPE_WORDS) {
     if (!legsOk) return c.reject(t, `${verb} takes no legs; it takes ${list}`);

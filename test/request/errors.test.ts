@@ -59,7 +59,8 @@ describe('words', () => {
   });
 
   it('a term that does not apply to the verb', () => {
-    bad('touch 120 by 3m horizon 2m', 'horizon', /horizon does not apply to touch/);
+    const e = bad('touch 120 by 3m horizon 2m spot 100', 'horizon', /horizon does not apply to touch/);
+    expect(e.example).toBe('touch 120 by 3m spot 100');
     bad('iv call 105 3m price 3.10 drift 9%', 'drift', /drift does not apply to iv/);
     bad('mark FERNWK drift 9%', 'drift', /drift does not apply to mark/);
   });
@@ -140,6 +141,8 @@ describe('legs', () => {
 
   it('two entries, two expiries, two ivs on one leg', () => {
     bad('+1 call 100 3m @1 @2', '@', /already has an entry price/, 1);
+    const e = bad('+1 call 100 3m spot 100 @2', '@', /goes right after its leg/);
+    expect(e.example).toBe('+1 call 100 3m spot 100');
     bad('+1 call 100 3m 6m', '6m', /already has an expiry/);
     bad('+1 call 100 3m iv 20% iv 30%', 'iv', /already has iv 20%/, 1);
     bad('+1 call 100 3m 110', '110', /already has strike 100/);
