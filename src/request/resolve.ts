@@ -283,7 +283,7 @@ function checkStrike(R: Resolver, K: number, S: number, at: number | undefined, 
   if (!(ratio >= 1 / LIMITS.strikeToSpot && ratio <= LIMITS.strikeToSpot)) {
     throw R.at(
       at,
-      `${label} ${num(K)} is ${ratio > 1 ? `${num(ratio)}×` : `1/${num(1 / ratio)} of`} spot ${num(S)}: a strike within 1/${LIMITS.strikeToSpot}× … ${LIMITS.strikeToSpot}× spot was expected (a typo?)`,
+      `${label} ${num(K)} is ${ratio > 1 ? `${num(ratio)}×` : `1/${num(1 / ratio)} of`} spot ${num(S)}: expected within 1/${LIMITS.strikeToSpot} … ${LIMITS.strikeToSpot}× spot (a typo?)`,
       R.replace(at, num(S)),
     );
   }

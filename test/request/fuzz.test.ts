@@ -314,3 +314,38 @@ describe('examples', () => {
     }
   });
 });
+
+describe('resolve under random dates', () => {
+  it('never throws; horizon ≤ every expiry; years = calendar days / 365', () => {
+    const day = fc
+      .record({ y: fc.integer({ min: 1990, max: 2199 }), m: fc.integer({ min: 1, max: 12 }), d: fc.integer({ min: 1, max: 31 }) })
+      .map(({ y, m, d }) => {
+        const last = new Date(Date.UTC(y, m, 0)).getUTCDate();
+        return `${y}-${String(m).padStart(2, '0')}-${String(Math.min(d, last)).padStart(2, '0')}`;
+      });
+    const span = fc.tuple(fc.integer({ min: 1, max: 40 }), fc.constantFrom('d', 'w', 'm', 'y')).map(([n, u]) => `${n}${u}`);
+    fc.assert(
+      fc.property(day, day, fc.array(span, { minLength: 1, maxLength: 4 }), fc.option(span, { nil: undefined }), (today, asof, spans, horizon) => {
+        const legs = spans.map((sp, i) => `${i % 2 ? -1 : 1} ${i % 3 ? 'put' : 'call'} ${90 + i * 5} ${sp} iv ${20 + i}%`);
+        const text = `${legs.join(' ')} spot 100 asof ${asof}${horizon ? ` horizon ${horizon}` : ''}`;
+        const p = parse(text);
+        if (!p.ok) throw new Error(`${text}: ${p.error.message}`);
+        const r = resolveCheck(p.request as CheckRequest, { today, text });
+        if (!r.ok) {
+          expect(parse(r.error.example).ok).toBe(true);
+          expect(r.error.at).toBeLessThanOrEqual(text.length);
+          return;
+        }
+        const c = r.check;
+        expect(c.asof).toBe(asof);
+        for (let i = 0; i < c.input.legs.length; i++) {
+          const days = Math.round((Date.parse(c.legExpiries[i]!) - Date.parse(asof)) / 86400000);
+          expect(c.input.legs[i].years).toBe(days / 365);
+          expect(c.input.horizonYears).toBeLessThanOrEqual(c.input.legs[i].years);
+        }
+        expect(c.input.horizonYears).toBeGreaterThan(0);
+      }),
+      { seed: 1206, numRuns: 2000 },
+    );
+  });
+});

@@ -280,6 +280,16 @@ describe('resolveTouch', () => {
     expect(r.notes.some((n) => n.startsWith('vol not given'))).toBe(true);
   });
 
+  it('a level absurdly far from spot is an error at the level', () => {
+    const text = 'touch 12000 by 3m spot 100 vol 25%';
+    const r = resolveTouch(req<TouchRequest>(text), { today: TODAY, text });
+    expect(r.ok).toBe(false);
+    if (r.ok) return;
+    expect(r.error.at).toBe(text.indexOf('12000'));
+    expect(r.error.message).toMatch(/the level 12000 is 120× spot 100/);
+    expect(r.error.example).toBe('touch 100 by 3m spot 100 vol 25%');
+  });
+
   it('no vol and no spot are errors', () => {
     const a = 'touch 90 by 3m spot 100';
     const r = resolveTouch(req<TouchRequest>(a), { today: TODAY, text: a });
