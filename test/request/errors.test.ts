@@ -387,3 +387,25 @@ describe('formatError', () => {
     expect(out[2].indexOf('^') - out[1].indexOf('+')).toBe(text.length);
   });
 });
+
+describe('the zod guard at the edge', () => {
+  it('rejects what the parser must never let through', async () => {
+    const { requestSchema } = await import('../../src/request/schema.js');
+    const good = parse('+1 call 100 3m iv 30% spot 100');
+    if (!good.ok) throw new Error('expected to parse');
+    expect(requestSchema.safeParse(good.request).success).toBe(true);
+    const leg = (good.request as { legs: object[] }).legs[0];
+    const bads = [
+      { ...good.request, terms: { spot: NaN } },
+      { ...good.request, terms: { spot: Infinity } },
+      { ...good.request, terms: { vol: 0 } },
+      { ...good.request, terms: { asof: '2027-02-30' } },
+      { ...good.request, terms: { horizon: { span: 0, unit: 'd' } } },
+      { ...good.request, legs: [{ ...leg, qty: 0 }] },
+      { ...good.request, legs: [{ ...leg, strike: undefined }] },
+      { ...good.request, legs: [] },
+      { verb: 'log', count: 1e6 },
+    ];
+    for (const b of bads) expect(requestSchema.safeParse(b).success).toBe(false);
+  });
+});
