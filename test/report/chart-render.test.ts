@@ -97,6 +97,19 @@ describe('renderPng', () => {
 });
 
 describe('encodePng', () => {
+  it('writes opaque pixels (the charts: white background) exactly, last pixel included', async () => {
+    // 5×3 opaque pixels of distinct colours, native little-endian ARGB32 = bytes B, G, R, A
+    const w = 5;
+    const h = 3;
+    const want = Array.from({ length: w * h }, (_, i) => [(i * 37) % 256, (i * 91 + 7) % 256, 255 - i * 11]);
+    const raw = Buffer.alloc(w * h * 4);
+    want.forEach(([r, g, b], i) => raw.set([b, g, r, 255], i * 4));
+    const p = await pixels(await encodePng(raw, w, h));
+    expect([p.width, p.height]).toEqual([w, h]);
+    const got = Array.from({ length: w * h }, (_, i) => [...p.data.subarray(i * 4, i * 4 + 4)]);
+    expect(got).toEqual(want.map((c) => [...c, 255]));
+  });
+
   it('writes premultiplied ARGB pixels as RGB over white that libpng decodes exactly', async () => {
     // 3×2 pixels, native little-endian ARGB32 = bytes B, G, R, A (node-canvas raw format)
     const w = 3;
