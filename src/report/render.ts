@@ -301,10 +301,15 @@ function makePlugin(family: string): Plugin {
       const { ctx, chartArea: a } = chart;
       ctx.save();
       ctx.font = `15px "${family}"`;
-      ctx.fillStyle = '#444444';
       ctx.textAlign = 'center';
       ctx.textBaseline = 'middle';
-      ctx.fillText(o.empty, (a.left + a.right) / 2, (a.top + a.bottom) / 2);
+      const cx = (a.left + a.right) / 2;
+      const cy = (a.top + a.bottom) / 2;
+      const w = ctx.measureText(o.empty).width + 24;
+      ctx.fillStyle = '#ffffff';
+      ctx.fillRect(cx - w / 2, cy - 14, w, 28);
+      ctx.fillStyle = '#444444';
+      ctx.fillText(o.empty, cx, cy);
       ctx.restore();
     },
   };
@@ -413,6 +418,7 @@ export async function encodePng(raw: Buffer, width: number, height: number): Pro
 // Rendering.
 
 export const MAX_SIDE = 4000;
+const MAX_CACHED_SIZES = 8;
 export const MIN_SIDE = 50;
 
 function sizeOf(config: ChartConfiguration | undefined, size?: ChartSize): ChartSize {
@@ -442,6 +448,8 @@ function canvasFor(size: ChartSize): ChartJSNodeCanvasType {
         C.defaults.devicePixelRatio = 1;
       },
     });
+    // a few sizes at most in practice; keep the cache bounded anyway (oldest out first)
+    if (canvases.size >= MAX_CACHED_SIZES) canvases.delete(canvases.keys().next().value as string);
     canvases.set(key, c);
   }
   return c;
