@@ -340,6 +340,14 @@ export function fmtPct(v: number): string {
   return `${fmtNumber(p, d)}%`;
 }
 
+/** A chance as a percentage to 0.1%, never rounded to a certainty it is not: "< 0.1%", "> 99.9%". */
+export function fmtChance(p: number): string {
+  if (!isNum(p)) return '–';
+  if (p > 0 && p < 0.0005) return '< 0.1%';
+  if (p < 1 && p >= 0.9995) return '> 99.9%';
+  return fmtPct(Math.round(Math.min(1, Math.max(0, p)) * 1000) / 1000);
+}
+
 /** "drift 9%, vol 26%, jumps 0.5/yr mean −5% sd 10%" */
 export function describeView(view: ChartInput['view']): string {
   let s = `drift ${fmtPct(view.drift)}, vol ${fmtPct(view.vol)}`;
@@ -569,11 +577,16 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
   }
 
   const unit = cur ? ` (${cur})` : '';
-  const title = [input.position || input.title || 'position', `horizon ${input.horizon || '–'}`, `view: ${describeView(input.view ?? { drift: NaN, vol: NaN })}`]
-    .filter(Boolean)
-    .join('  ·  ');
+  // One title line when it fits the width (bold 15 px DejaVu Sans: about 9 px a character),
+  // else the position on the first line and horizon and view on the second.
+  const maxChars = Math.max(30, Math.floor((isNum(size?.width) ? size.width : DEFAULT_SIZE.width) / 9));
+  const clip = (t: string) => (t.length > maxChars ? `${t.slice(0, maxChars - 1)}…` : t);
+  const posWords = (input.position || input.title || 'position').replace(/\s+/g, ' ').trim();
+  const when = `horizon ${input.horizon || '–'}  ·  view: ${describeView(input.view ?? { drift: NaN, vol: NaN })}`;
+  const oneLine = `${posWords}  ·  ${when}`;
+  const title: string | string[] = oneLine.length <= maxChars ? oneLine : [clip(posWords), clip(when)];
   const subtitle =
-    `chance of profit ${isNum(input.probProfit) ? fmtPct(Math.round(input.probProfit * 1000) / 1000) : '–'}` +
+    `chance of profit ${fmtChance(input.probProfit)}` +
     `  ·  expected P&L ${fmtMoney(input.expectedPnl, cur)} under your view` +
     (allZero ? '  ·  P&L is zero at every spot' : '');
 

@@ -8,6 +8,7 @@ import fc from 'fast-check';
 import {
   checkChartConfig,
   compareChartConfig,
+  fmtChance,
   niceRange,
   sampledQuantiles,
   trapezoid,
@@ -153,6 +154,31 @@ describe('checkChartConfig: x range, densities, P&L', () => {
     expect(sub).toContain('+123 USD');
     const withJumps = checkChartConfig(inputFor(callSpread, G, { view: { drift: 0.09, vol: 0.26, jumps: { intensity: 0.5, mean: -0.05, sd: 0.1 } } }));
     expect((withJumps.options!.plugins!.title as { text: string }).text).toContain('jumps 0.5/yr mean −5% sd 10%');
+  });
+
+  it('splits a long title into position and horizon/view lines, each fitting the width', () => {
+    const long = '+1/−2/+1 call butterfly 90/100/110 and −1/+1 put spread 80/85 on FERNWK';
+    const c = checkChartConfig(inputFor(callSpread, G, { position: long, view: { drift: 0.09, vol: 0.26, jumps: { intensity: 0.5, mean: -0.05, sd: 0.1 } } }));
+    const t = (c.options!.plugins!.title as { text: string | string[] }).text;
+    expect(Array.isArray(t)).toBe(true);
+    expect(t[0]).toBe(long);
+    expect(t[1]).toContain('horizon 2027-02-15');
+    expect(t[1]).toContain('jumps');
+    for (const line of t) expect(line.length).toBeLessThanOrEqual(100);
+    // a narrow chart clips an over-long position with an ellipsis
+    const narrow = checkChartConfig(inputFor(callSpread, G, { position: long }), { width: 450, height: 300 });
+    const tn = (narrow.options!.plugins!.title as { text: string[] }).text;
+    expect(tn[0].endsWith('…')).toBe(true);
+    expect(tn[0].length).toBeLessThanOrEqual(50);
+  });
+
+  it('never rounds a chance of profit to a certainty it is not', () => {
+    expect(fmtChance(0.99996)).toBe('> 99.9%');
+    expect(fmtChance(1)).toBe('100%');
+    expect(fmtChance(0.00002)).toBe('< 0.1%');
+    expect(fmtChance(0)).toBe('0%');
+    expect(fmtChance(0.3734)).toBe('37.3%');
+    expect(fmtChance(NaN)).toBe('–');
   });
 
   it('is plain JSON: survives a JSON round trip unchanged and holds only finite numbers', () => {
