@@ -37,6 +37,11 @@ export interface Answer {
   logNumber?: number;
   /** notes for the asker about the answer's delivery (e.g. "not logged: disk full") */
   warnings: string[];
+  /**
+   * links a workspace shell renders as links next to the monospace text (e.g. `log`: the thread
+   * of each check); absent when there are none. Outside a workspace they are already in `text`.
+   */
+  links?: { label: string; url: string }[];
 }
 
 export type Reply = Rejection | Answer;

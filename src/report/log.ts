@@ -1,0 +1,137 @@
+/**
+ * The channel's log (`log [N]`) and marks (`mark`) as monospace listings. Layout and labels are
+ * Kolmo's own (DESIGN.md §1).
+ */
+import type { LogEntry, Mark } from '../store/store.js';
+import { level, money, pct, rate, table } from './format.js';
+import { cut } from './compare.js';
+
+const DAY_MS = 86_400_000;
+
+/** "2027-01-04 14:02" (UTC) from an ISO time; the text itself when it does not read as a time. */
+export function whenUtc(iso: string): string {
+  const t = Date.parse(iso);
+  if (!Number.isFinite(t)) return iso;
+  return new Date(t).toISOString().slice(0, 16).replace('T', ' ');
+}
+
+/** Age in a few words: "just now", "12 min", "3 h 05 min", "2 days 4 h". Negative ages (clock skew) read as "just now". */
+export function ageWords(ms: number): string {
+  if (!Number.isFinite(ms) || ms < 60_000) return 'just now';
+  const min = Math.floor(ms / 60_000);
+  if (min < 60) return `${min} min`;
+  const h = Math.floor(min / 60);
+  if (h < 48) return `${h} h ${String(min % 60).padStart(2, '0')} min`;
+  const days = Math.floor(h / 24);
+  return `${days} days ${h % 24} h`;
+}
+
+/** True when a mark recorded at `at` is older than a day at `now`. */
+export function isStale(at: string, now: Date): boolean {
+  const t = Date.parse(at);
+  return !Number.isFinite(t) || now.getTime() - t > DAY_MS;
+}
+
+const num = (v: unknown): number | undefined => (typeof v === 'number' && Number.isFinite(v) ? v : undefined);
+
+interface PartFigures {
+  probProfit?: number;
+  expectedPnl?: number;
+}
+
+/** The figures of a logged entry as the log shows them: chance of profit and expected P&L (ranges for a comparison). */
+export function entryFigures(e: LogEntry): { chance: string; pnl: string } {
+  const s = e.summary;
+  const parts = Array.isArray(s.parts) ? (s.parts as PartFigures[]) : null;
+  if (parts && parts.length) {
+    const ps = parts.map((p) => num(p.probProfit)).filter((x): x is number => x !== undefined);
+    const es = parts.map((p) => num(p.expectedPnl)).filter((x): x is number => x !== undefined);
+    const span = (xs: number[], f: (x: number) => string) => {
+      if (!xs.length) return '';
+      const lo = f(Math.min(...xs));
+      const hi = f(Math.max(...xs));
+      return lo === hi ? lo : `${lo}..${hi}`;
+    };
+    return { chance: span(ps, (x) => pct(x, 0)), pnl: span(es, (x) => money(x, { sign: true, decimals: 0 })) };
+  }
+  const p = num(s.probProfit);
+  const x = num(s.expectedPnl);
+  return { chance: p === undefined ? '' : pct(p), pnl: x === undefined ? '' : money(x, { sign: true }) };
+}
+
+/** The words of a logged entry: the position, or what an iv / touch request asked, and its result. */
+export function entryWords(e: LogEntry): string {
+  const s = e.summary;
+  let w = typeof s.position === 'string' && s.position !== '' ? s.position : e.text;
+  if (e.verb === 'iv' && num(s.iv) !== undefined) w += ` → iv ${pct(num(s.iv)!, 2)}`;
+  if (e.verb === 'touch' && num(s.probTouch) !== undefined) w += ` → ${pct(num(s.probTouch)!)} (view)`;
+  if (num(s.againOf) !== undefined) w = `again #${num(s.againOf)}: ${w}`;
+  if (e.delivered === 'undelivered') w += ' (not posted)';
+  return w;
+}
+
+export interface LogListing {
+  text: string;
+  /** entries with a thread link, newest first */
+  links: { label: string; url: string }[];
+}
+
+/** A permalink fit to put in a link: http(s), no spaces or link-syntax characters. */
+export function safeUrl(u: string | null): string | null {
+  if (!u || !/^https?:\/\/[^\s<>|]+$/.test(u) || u.length > 2048) return null;
+  return u;
+}
+
+/**
+ * The log listing, newest first. `linksInline`: write each thread link as a line of the text
+ * (outside a workspace, where links cannot be rendered); otherwise they are returned apart.
+ */
+export function logText(entries: LogEntry[], asked: number, linksInline: boolean): LogListing {
+  if (entries.length === 0) return { text: 'No checks in this channel\'s log yet.', links: [] };
+  const rows: string[][] = [['#', 'who', 'when (UTC)', 'what', 'chance', 'exp. P&L']];
+  const links: { label: string; url: string }[] = [];
+  for (const e of entries) {
+    const f = entryFigures(e);
+    rows.push([`#${e.number}`, cut(e.user, 12), whenUtc(e.at), cut(entryWords(e), 44), f.chance, f.pnl]);
+    const url = safeUrl(e.permalink);
+    if (url) links.push({ label: `#${e.number}`, url });
+  }
+  const lines = [
+    `Last ${entries.length} check${entries.length === 1 ? '' : 's'} in this channel, newest first${entries.length < asked ? ` (all there are)` : ''}:`,
+    ...table(rows, [0, 1, 2, 3]),
+    '',
+    'chance = chance of profit, exp. P&L = expected P&L under the view, both at the time of the check.',
+    '`again N` reruns check #N; `again N spot 102 asof today` reruns it with changes.',
+  ];
+  if (linksInline && links.length) {
+    lines.push('Threads:');
+    for (const l of links) lines.push(`  ${l.label} ${l.url}`);
+  }
+  return { text: lines.join('\n'), links: linksInline ? [] : links };
+}
+
+/** The channel's marks, with their age and a stale flag. */
+export function marksText(marks: Mark[], now: Date): string {
+  if (marks.length === 0) return 'No marks in this channel yet. Record one with `mark FERNWK spot 84.20 iv 31% yield 1.2%`.';
+  const rows: string[][] = [['symbol', 'spot', 'iv', 'yield', 'rate', 'recorded (UTC)', 'by', 'age']];
+  for (const m of marks) {
+    const age = now.getTime() - Date.parse(m.at);
+    rows.push([
+      m.symbol,
+      m.spot === undefined ? '–' : level(m.spot),
+      m.iv === undefined ? '–' : rate(m.iv),
+      m.yield === undefined ? '–' : rate(m.yield),
+      m.rate === undefined ? '–' : rate(m.rate),
+      whenUtc(m.at),
+      cut(m.user, 12),
+      ageWords(age) + (isStale(m.at, now) ? ' STALE' : ''),
+    ]);
+  }
+  return [
+    `Marks in this channel (${marks.length}):`,
+    ...table(rows, [0, 5, 6, 7]),
+    '',
+    'Checks that say `on SYMBOL` take spot, iv, yield and rate from the mark; terms written in the request override it.',
+    ...(marks.some((m) => isStale(m.at, now)) ? ['STALE: recorded more than a day ago.'] : []),
+  ].join('\n');
+}
