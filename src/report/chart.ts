@@ -424,7 +424,7 @@ export function profitBands(
 }
 
 const AXIS_TITLE_FONT = { size: 13 };
-const TICK_FONT = { size: 12 };
+const TICK_FONT = { size: 13 };
 
 function baseOptions() {
   return {
@@ -525,13 +525,13 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
     markers,
     bands,
     hlines: [{ axis: 'yPnl', y: 0, color: '#7a7a7a', dash: [], width: 1.2 }],
-    labelStrip: 52,
+    labelStrip: 56,
     ...(empty ? { empty } : {}),
   };
 
   const datasets: ChartDataset<'line', { x: number; y: number }[]>[] = [
     {
-      label: 'spot density under your view',
+      label: 'your view: spot density',
       data: pts(sv),
       yAxisID: 'yDensity',
       borderColor: VIEW_LINE,
@@ -541,7 +541,7 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
       order: 3,
     },
     {
-      label: 'risk-neutral density (prices the options)',
+      label: 'risk-neutral: prices the options',
       data: pts(sr),
       yAxisID: 'yDensity',
       borderColor: RN_LINE,
@@ -552,7 +552,7 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
       order: 2,
     },
     {
-      label: 'P&L at horizon (right axis)',
+      label: 'P&L (right axis)',
       data: pts(sp),
       yAxisID: 'yPnl',
       borderColor: PNL_LINE,
@@ -577,9 +577,9 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
   }
 
   const unit = cur ? ` (${cur})` : '';
-  // One title line when it fits the width (bold 15 px DejaVu Sans: about 9 px a character),
+  // One title line when it fits the width (bold 16 px DejaVu Sans: about 9.5 px a character),
   // else the position on the first line and horizon and view on the second.
-  const maxChars = Math.max(30, Math.floor((isNum(size?.width) ? size.width : DEFAULT_SIZE.width) / 9));
+  const maxChars = Math.max(30, Math.floor((isNum(size?.width) ? size.width : DEFAULT_SIZE.width) / 9.5));
   const clip = (t: string) => (t.length > maxChars ? `${t.slice(0, maxChars - 1)}…` : t);
   const posWords = (input.position || input.title || 'position').replace(/\s+/g, ' ').trim();
   const when = `horizon ${input.horizon || '–'}  ·  view: ${describeView(input.view ?? { drift: NaN, vol: NaN })}`;
@@ -625,12 +625,12 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
         },
       },
       plugins: {
-        title: { display: true, text: title, font: { size: 15, weight: 'bold' }, color: INK, padding: { top: 4, bottom: 2 } },
-        subtitle: { display: true, text: subtitle, font: { size: 13 }, color: MUTED, padding: { top: 0, bottom: plugin.labelStrip } },
+        title: { display: true, text: title, font: { size: 16, weight: 'bold' }, color: INK, padding: { top: 4, bottom: 2 } },
+        subtitle: { display: true, text: subtitle, font: { size: 14 }, color: MUTED, padding: { top: 0, bottom: plugin.labelStrip } },
         legend: {
           display: true,
           position: 'bottom',
-          labels: { font: { size: 12 }, color: INK, boxWidth: 30, boxHeight: 10, padding: 14 },
+          labels: { font: { size: 13 }, color: INK, boxWidth: 28, boxHeight: 11, padding: 14 },
         },
         tooltip: { enabled: false },
         kolmo: plugin,
@@ -794,12 +794,12 @@ export function compareChartConfig(
         },
       },
       plugins: {
-        title: { display: true, text: opts.title || "P&L at horizon under each check's view", font: { size: 15, weight: 'bold' }, color: INK, padding: { top: 4, bottom: 2 } },
+        title: { display: true, text: opts.title || "P&L at horizon under each check's view", font: { size: 16, weight: 'bold' }, color: INK, padding: { top: 4, bottom: 2 } },
         subtitle: { display: true, text: subtitle, font: { size: 12 }, color: MUTED, padding: { top: 0, bottom: plugin.labelStrip } },
         legend: {
           display: true,
           position: 'bottom',
-          labels: { font: { size: 12 }, color: INK, boxWidth: 30, boxHeight: 10, padding: 14 },
+          labels: { font: { size: 13 }, color: INK, boxWidth: 28, boxHeight: 11, padding: 14 },
         },
         tooltip: { enabled: false },
         kolmo: plugin,

@@ -195,7 +195,7 @@ function makePlugin(family: string): Plugin {
       ctx.save();
       // Stems of point masses. Stems of several checks at (nearly) one value stand side by side
       // and their labels stack above the tallest, each in its check's colour.
-      ctx.font = `11px "${family}"`;
+      ctx.font = `12px "${family}"`;
       ctx.textAlign = 'center';
       ctx.textBaseline = 'bottom';
       const placed = (o.stems ?? [])
@@ -237,10 +237,10 @@ function makePlugin(family: string): Plugin {
       }
       // Marker lines, and their labels in the strip above the plot area.
       const strip = Math.max(0, o.labelStrip ?? 0);
-      const rowH = 15;
+      const rowH = 16;
       const rows = Math.max(0, Math.floor((strip - 4) / rowH));
       const taken: [number, number][][] = Array.from({ length: rows }, () => []);
-      ctx.font = `12px "${family}"`;
+      ctx.font = `13px "${family}"`;
       ctx.textBaseline = 'alphabetic';
       const markers = [...(o.markers ?? [])]
         .filter((m) => finite(m.x))
@@ -289,7 +289,7 @@ function makePlugin(family: string): Plugin {
       ctx.textAlign = 'center';
       for (const lb of labels) {
         ctx.fillStyle = '#ffffff';
-        ctx.fillRect(lb.cx - lb.w / 2, lb.baseline - 12, lb.w, 15);
+        ctx.fillRect(lb.cx - lb.w / 2, lb.baseline - 13, lb.w, 16);
         ctx.fillStyle = lb.color;
         ctx.fillText(lb.text, lb.cx, lb.baseline);
       }
