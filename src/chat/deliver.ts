@@ -15,9 +15,30 @@
 import type { webApi } from '@slack/bolt';
 import type { Reply, Answer } from '../reply.js';
 import type { Store } from '../store/store.js';
-import { answerMessages, monoNotice, plainNotice, rootMessage, type Message } from './blocks.js';
+import { answerMessages, escapeMrkdwn, monoNotice, plainNotice, rootMessage, SECTION_TEXT_MAX, type Block, type Message } from './blocks.js';
 
 type WebClient = webApi.WebClient;
+
+/**
+ * An answer's links (e.g. `log`: the thread of each check) as mrkdwn links in plain sections after
+ * the monospace text, where the platform renders them (inside a code block it would not).
+ * Only http(s) addresses without spaces or link syntax are kept; labels are escaped.
+ */
+export function linkMessages(links: Answer['links']): Message[] {
+  const ok = (links ?? []).filter((l) => l && typeof l.url === 'string' && /^https?:\/\/[^\s<>|]+$/.test(l.url) && l.url.length <= 2048);
+  if (ok.length === 0) return [];
+  const items = ok.map((l) => `<${l.url}|${escapeMrkdwn(String(l.label)).replace(/\|/g, '¦')}>`);
+  const blocks: Block[] = [];
+  let cur = 'Threads:';
+  for (const it of items) {
+    if (cur.length + 3 + it.length > SECTION_TEXT_MAX) {
+      blocks.push({ type: 'section', text: { type: 'mrkdwn', text: cur } });
+      cur = it;
+    } else cur += (cur === 'Threads:' ? ' ' : ' · ') + it;
+  }
+  blocks.push({ type: 'section', text: { type: 'mrkdwn', text: cur } });
+  return [{ text: `Threads: ${ok.map((l) => l.label).join(', ')}`, blocks }];
+}
 
 /** Sends an ephemeral reply through the slash command's response URL. */
 export type Respond = (msg: { response_type: 'ephemeral'; replace_original: false; text: string; blocks: unknown[] }) => Promise<unknown>;
@@ -179,7 +200,7 @@ export async function deliver(
   const a: Answer = reply;
   const notes = [...a.warnings];
   if (a.ephemeral) {
-    await tellAsker(deps, origin, monoNotice(a.text, [a.verb === 'help' ? '' : a.caution, ...notes].filter(Boolean).join(' · ')));
+    await tellAsker(deps, origin, [...monoNotice(a.text, [a.verb === 'help' ? '' : a.caution, ...notes].filter(Boolean).join(' · ')), ...linkMessages(a.links)]);
     return { outcome: 'ephemeral', failures };
   }
 
@@ -191,12 +212,12 @@ export async function deliver(
   try {
     if (a.headline.trim() === '') {
       // nothing for the channel root: the answer itself goes where it was asked
-      const ts = await postAll(client, channel, origin.threadTs, answerMessages(a));
+      const ts = await postAll(client, channel, origin.threadTs, [...answerMessages(a), ...linkMessages(a.links)]);
       anchorTs = ts[0];
       threadTs = origin.threadTs ?? anchorTs;
     } else if (origin.threadTs) {
       threadTs = origin.threadTs;
-      const ts = await postAll(client, channel, threadTs, answerMessages(a, rootMessage(origin.user, a.headline)));
+      const ts = await postAll(client, channel, threadTs, [...answerMessages(a, rootMessage(origin.user, a.headline)), ...linkMessages(a.links)]);
       anchorTs = ts[0];
     } else {
       const rm = rootMessage(origin.user, a.headline);
@@ -204,7 +225,7 @@ export async function deliver(
       threadTs = String(root.ts ?? '');
       anchorTs = threadTs;
       try {
-        await postAll(client, channel, threadTs, answerMessages(a));
+        await postAll(client, channel, threadTs, [...answerMessages(a), ...linkMessages(a.links)]);
       } catch (err) {
         // the root line is in the channel but the answer is not: say so in the thread if possible
         failures.push(explainFailure(err, 'the answer in the thread'));
