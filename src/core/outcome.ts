@@ -300,7 +300,7 @@ interface PnlEngine {
   /** sup and inf of P&L over S_h ∈ (0, ∞); null when unbounded */
   extremes(): { max: number | null; min: number | null };
   /** levels of P&L atoms under the view with their probabilities */
-  atoms(): { x: number; prob: number }[];
+  atoms(): Atom[];
   /** P&L values bracketing everything except a negligible tail of the view */
   yRange(): [number, number];
 }
@@ -568,6 +568,30 @@ function smoothEngine(
   }
   sx.push(X1);
   sfv.push(fx(X1));
+  // local extrema between samples: locate each (Brent's minimiser) and add it as a sample, so
+  // that between neighbouring samples the P&L is monotone and every level set is bracketed
+  {
+    const noise = 1e-13 * pf.scale;
+    const ins: [number, number][] = [];
+    for (let j = 1; j + 1 < sx.length; j++) {
+      const d1 = sfv[j] - sfv[j - 1];
+      const d2 = sfv[j + 1] - sfv[j];
+      if (Math.max(Math.abs(d1), Math.abs(d2)) <= noise) continue;
+      const sign = d1 > 0 && d2 <= 0 ? -1 : d1 < 0 && d2 >= 0 ? 1 : 0;
+      if (sign === 0) continue;
+      const r = brentMin((x) => sign * fx(x), sx[j - 1], sx[j + 1], 1e-10);
+      if (sign * r.fx < sign * sfv[j] && r.x !== sx[j] && r.x > sx[j - 1] && r.x < sx[j + 1]) ins.push([r.x, sign * r.fx]);
+    }
+    if (ins.length) {
+      const all = sx.map((x, i) => [x, sfv[i]] as [number, number]).concat(ins).sort((a, b) => a[0] - b[0]);
+      sx.length = 0;
+      sfv.length = 0;
+      for (const [x, v] of all) {
+        sx.push(x);
+        sfv.push(v);
+      }
+    }
+  }
   const ns = sx.length;
 
   const panelOf = (x: number): number => {
@@ -679,24 +703,34 @@ function smoothEngine(
     expectRiskNeutral: () => prefR[np] + pointsAll(rn),
     breakevens() {
       const out: number[] = [];
-      const sgn = (v: number): number => (v > 0 ? 1 : v < 0 ? -1 : 0);
+      // |P&L| within 1e-13 of the scale counts as zero; a flat zero stretch reports its ends
+      const zt = 1e-13 * pf.scale;
+      const sgn = (v: number): number => (v > zt ? 1 : v < -zt ? -1 : 0);
       // left tail (0, e^{X0}]
       const f0 = f(0);
       if (sgn(f0) * sgn(sfv[0]) < 0) {
         out.push(brentRoot(f, 0, Math.exp(X0), f0, sfv[0], 1e-15 * Math.exp(X0)));
       }
-      let prev = -1;
-      for (let j = 0; j < ns; j++) {
-        const s = sgn(sfv[j]);
-        if (s === 0) {
-          out.push(Math.exp(sx[j]));
-          prev = -1;
+      for (let j = 0; j < ns; ) {
+        const sj = sgn(sfv[j]);
+        if (sj !== 0) {
+          if (j > 0 && sgn(sfv[j - 1]) * sj < 0) {
+            out.push(Math.exp(brentRoot(fx, sx[j - 1], sx[j], sfv[j - 1], sfv[j], tolX)));
+          }
+          j++;
           continue;
         }
-        if (prev >= 0 && sgn(sfv[prev]) * s < 0) {
-          out.push(Math.exp(brentRoot(fx, sx[prev], sx[j], sfv[prev], sfv[j], tolX)));
+        let k = j;
+        while (k + 1 < ns && sgn(sfv[k + 1]) === 0) k++;
+        if (k === j) {
+          const sl = j > 0 ? sgn(sfv[j - 1]) : 0;
+          const sr = j + 1 < ns ? sgn(sfv[j + 1]) : 0;
+          out.push(sl * sr < 0 ? Math.exp(brentRoot(fx, sx[j - 1], sx[j + 1], sfv[j - 1], sfv[j + 1], tolX)) : Math.exp(sx[j]));
+        } else {
+          if (j > 0) out.push(Math.exp(sx[j]));
+          if (k < ns - 1) out.push(Math.exp(sx[k]));
         }
-        prev = j;
+        j = k + 1;
       }
       // right tail beyond e^{X1}: P&L ≈ A + B·S
       const sInf = pf.B > pf.tolB ? 1 : pf.B < -pf.tolB ? -1 : sgn(pf.A);
@@ -721,15 +755,9 @@ function smoothEngine(
         if (sfv[j] > sfv[hiI]) hiI = j;
         if (sfv[j] < sfv[loI]) loI = j;
       }
-      const refineAt = (j: number, sign: number): number => {
-        const a = sx[Math.max(0, j - 1)];
-        const b = sx[Math.min(ns - 1, j + 1)];
-        if (!(b > a)) return sfv[j];
-        const r = brentMin((x) => sign * fx(x), a, b, 1e-10);
-        return sign * Math.min(sign * sfv[j], r.fx);
-      };
-      let max = refineAt(hiI, -1);
-      let min = refineAt(loI, 1);
+      // the samples include the located local extrema
+      let max = sfv[hiI];
+      let min = sfv[loI];
       const f0 = f(0);
       max = Math.max(max, f0);
       min = Math.min(min, f0);
@@ -744,7 +772,29 @@ function smoothEngine(
       return { max: rmax, min: rmin };
     },
     atoms() {
-      return mergeAtoms(view.points.map((a) => ({ x: f(a.S), prob: a.w })));
+      // point masses of the spot, and flat stretches of P&L (e.g. where every live leg is
+      // worthless to the last digit): runs of ≥ 3 samples equal within 1e-13 of the scale, taken
+      // out to 0 or ∞ when they reach the end of the samples
+      const out: Atom[] = view.points.map((a) => ({ x: f(a.S), prob: a.w }));
+      const flat = 1e-13 * pf.scale;
+      let i = 0;
+      while (i < ns - 1) {
+        let j = i;
+        let lo = sfv[i];
+        let hi = sfv[i];
+        while (j + 1 < ns && Math.max(hi, sfv[j + 1]) - Math.min(lo, sfv[j + 1]) <= flat) {
+          j++;
+          lo = Math.min(lo, sfv[j]);
+          hi = Math.max(hi, sfv[j]);
+        }
+        if (j - i >= 2) {
+          const a = i === 0 ? 0 : Math.exp(sx[i]);
+          const b = j === ns - 1 ? Infinity : Math.exp(sx[j]);
+          out.push({ x: hi, prob: spotProb(view.cont, a, b), lo });
+          i = j;
+        } else i++;
+      }
+      return mergeAtoms(out);
     },
     yRange() {
       let lo = Infinity;
@@ -773,13 +823,22 @@ function dedupe(xs: number[]): number[] {
   return out;
 }
 
-function mergeAtoms(atoms: { x: number; prob: number }[]): { x: number; prob: number }[] {
-  const out: { x: number; prob: number }[] = [];
+/** A P&L atom: level x (every P&L value of the atom is ≤ x and ≥ lo) and its probability. */
+interface Atom {
+  x: number;
+  prob: number;
+  lo?: number;
+}
+
+function mergeAtoms(atoms: Atom[]): Atom[] {
+  const out: Atom[] = [];
   for (const a of [...atoms].sort((p, q) => p.x - q.x)) {
     if (!(a.prob > 0)) continue;
     const last = out[out.length - 1];
-    if (last && last.x === a.x) last.prob += a.prob;
-    else out.push({ ...a });
+    if (last && last.x === a.x) {
+      last.prob += a.prob;
+      last.lo = Math.min(last.lo ?? last.x, a.lo ?? a.x);
+    } else out.push({ ...a });
   }
   return out;
 }
@@ -962,7 +1021,7 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   };
 
   // --- curves for the chart
-  const curves = buildCurves(dView, dRn, pnl, strikesAll, breakevens, spot, eng, Q, atoms);
+  const curves = buildCurves(dView, dRn, pnl, strikesAll, breakevens, spot, eng, Q, atoms, cache, tolY);
 
   const result: CheckCore = { legs, position: pos, outcome, curves, notes };
   if (sanitize(result)) notes.push('some figures could not be computed and are shown as 0');
@@ -978,7 +1037,9 @@ function buildCurves(
   spot: number,
   eng: PnlEngine,
   Q: (p: number) => number,
-  atoms: { x: number; prob: number }[],
+  atoms: Atom[],
+  cache: CdfCache,
+  tolY: number,
 ): Curves {
   const qlo = Math.min(spotQuantile(dView, 0.005), spotQuantile(dRn, 0.005), spot);
   const qhi = Math.max(spotQuantile(dView, 0.995), spotQuantile(dRn, 0.995), spot);
@@ -1007,17 +1068,26 @@ function buildCurves(
     yb += w;
   }
   const width = (yb - ya) / PNL_BINS;
-  const Gc = (y: number): number => {
-    let g = eng.probBelow(y, false, false);
-    for (const a of listed) if (a.x <= y) g -= a.prob;
+  // interior edges use chart-grade crossings; the two outer ones are exact so that the bins carry
+  // exactly the probability between the 0.5% and 99.5% quantiles
+  const Gc = (y: number, precise = false): number => {
+    let g = eng.probBelow(y, false, precise);
+    for (const a of listed) if ((a.lo ?? a.x) <= y) g -= a.prob;
     return g;
   };
   const x: number[] = [];
   const dens: number[] = [];
-  let gPrev = Gc(ya);
+  // the 0.5% quantile is known to a bracket (lo, ya]: start from P&L ≤ lo so that a near-atom
+  // squeezed inside the bracket lands in the first bin
+  let gPrev = Gc(ya, true);
+  const below = cache.ys.findLastIndex((y) => y < ya);
+  if (below >= 0 && ya - cache.ys[below] <= tolY) {
+    gPrev = cache.gs[below];
+    for (const a of listed) if ((a.lo ?? a.x) <= cache.ys[below]) gPrev -= a.prob;
+  }
   for (let i = 0; i < PNL_BINS; i++) {
-    const e = ya + width * (i + 1);
-    const g = Gc(e);
+    const e = i === PNL_BINS - 1 ? yb : ya + width * (i + 1);
+    const g = Gc(e, i === PNL_BINS - 1);
     x.push(ya + width * (i + 0.5));
     dens.push(Math.max(0, g - gPrev) / width);
     gPrev = g;
