@@ -998,7 +998,8 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const expectedPnl = eng.expectView();
   const expectedPnlRiskNeutral = eng.expectRiskNeutral();
   const viewEdge = expectedPnl - expectedPnlRiskNeutral;
-  const probProfit = Math.min(1, Math.max(0, 1 - cache.at(0)));
+  // profit: P&L above rounding (1e-14 of the scale), so that a P&L flat at zero is not counted
+  const probProfit = Math.min(1, Math.max(0, 1 - cache.at(1e-14 * scale)));
   const qs = [0.05, 0.25, 0.5, 0.75, 0.95].map(Q);
   const alpha = 0.05;
   const q05 = qs[0];

@@ -277,6 +277,46 @@ describe('before expiry: quantiles, breakevens and extremes against independent 
   });
 });
 
+describe('flat regions before expiry', () => {
+  it('a flat valley of P&L: the quantiles still invert the brute-force cdf, and the worst-5% average lies above the minimum', () => {
+    const m = { spot: 16.3, rate: 0.1176, yield: 0.0353 };
+    const input: CheckInput = {
+      market: m, mult: 100, style: 'european', horizonYears: 0.914, view: { drift: 0.1736, vol: 0.2218 },
+      legs: [put(4, 23.66, 1.0614, 1.058), call(3, 15.29, 0.914, 0.5677, 0.926), shares(141, 20.9), shares(-194)],
+    };
+    const r = runCheck(input);
+    const pnl = pnlFn(input);
+    const h = input.horizonYears;
+    const ls = 0.2218 * Math.sqrt(h);
+    const lmu = Math.log(m.spot) + (0.1736 - m.yield - 0.5 * 0.2218 ** 2) * h;
+    const qs = r.outcome.pnlQuantiles;
+    for (const [p, y] of [[0.05, qs.p05], [0.25, qs.p25], [0.5, qs.p50]] as const) {
+      expect(Math.abs(bruteCdf(pnl, lmu, ls, y) - p)).toBeLessThan(1e-7);
+    }
+    let worst = Infinity;
+    for (let s = 5; s < 40; s += 0.001) worst = Math.min(worst, pnl(s));
+    expect(r.outcome.maxLoss!).toBeCloseTo(worst, 4);
+    expect(r.outcome.tailMean05).toBeGreaterThanOrEqual(r.outcome.maxLoss!);
+    expect(r.outcome.tailMean05).toBeLessThanOrEqual(qs.p05);
+  });
+  it('a live call at zero iv is worth max(S e^{−qτ} − K e^{−rτ}, 0): P&L is flat at 0 below K e^{−(r−q)τ}, an atom with the lognormal probability there (jstat)', () => {
+    const K = 110, T = 0.9, h = 0.4, tau = T - h, mu = 0.05, sv = 0.2;
+    const r = runCheck(check([call(2, K, T, 0, 0)], h, { drift: mu, vol: sv }));
+    const edge = K * Math.exp(-(market.rate - market.yield) * tau);
+    expect(r.outcome.breakevens).toHaveLength(1);
+    expect(Math.abs(r.outcome.breakevens[0] / edge - 1)).toBeLessThan(1e-12);
+    const lmu = Math.log(100) + (mu - market.yield - 0.5 * sv * sv) * h;
+    const pFlat = jStat.lognormal.cdf(edge, lmu, sv * Math.sqrt(h));
+    const atom = r.curves.pnlDensity.atoms;
+    expect(atom).toHaveLength(1);
+    expect(Math.abs(atom[0].x)).toBeLessThan(1e-9);
+    expect(Math.abs(atom[0].prob - pFlat)).toBeLessThan(1e-9);
+    expect(Math.abs(r.outcome.probProfit - (1 - pFlat))).toBeLessThan(1e-9);
+    expect(r.outcome.pnlQuantiles.p05).toBe(atom[0].x);
+    expect(r.outcome.maxLoss).toBeCloseTo(0, 9);
+  });
+});
+
 describe('payoff bounds of common positions (common practice)', () => {
   it('short put at expiry: gain capped at the premium, loss at strike − premium', () => {
     const r = runCheck(check([put(-1, 95, 0.2, 0.3, 2.5)], 0.2, { drift: 0.08, vol: 0.3 }));
@@ -335,7 +375,6 @@ describe('edge cases never give NaN or Infinity', () => {
         fc.double({ min: 0.02, max: 1.0, noNaN: true }),
         fc.boolean(),
         (ls, h, drift, vol, atExpiry) => {
-          if (process.env.DBG) console.log(JSON.stringify({ ls, h, drift, vol, atExpiry }));
           const legs: LegInput[] = ls.map((l, i) =>
             l.kind === 'shares'
               ? shares(l.qty * 50, l.entry)
