@@ -304,7 +304,7 @@ function doCompare(text: string, req: CompareRequest, env: Env): Computed {
       message: `a comparison takes at most ${COMPARE_MAX} checks and this one has ${req.parts.length}: drop the parts from here on, or split it into two comparisons`,
       at: extra.at,
       length: Math.max(1, extra.text.length),
-      example: EXAMPLES.compare,
+      example: text.slice(0, extra.at).replace(/\s*;\s*$/, '').trim() || EXAMPLES.compare,
     });
   }
   const checks = req.checks ?? [];
@@ -780,7 +780,14 @@ export function askSync(text: string, ctx: AskContext): Reply {
         return logEntry(env, req.verb, text, req, evaluate(text, req, env));
     }
   } catch (err) {
-    if (err instanceof Refused) return err.reply;
+    if (err instanceof Refused) {
+      try {
+        ctx.store?.countRejected(ctx.channel);
+      } catch {
+        /* as above: the counter is not worth a lost reply */
+      }
+      return err.reply;
+    }
     return {
       kind: 'rejected',
       message: `Kolmo could not answer this request: ${why(err)}\nNothing was logged. Try \`help\` for the grammar.`,

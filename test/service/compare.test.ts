@@ -79,6 +79,8 @@ describe('compare', () => {
     expect(r.message).toContain('at most 6 checks');
     expect(r.message).toContain('has 7');
     expect(r.at).toBe(seven.indexOf('drift 6%'));
+    // the example is the asker's own comparison without the parts beyond six
+    expect(r.message.split('\n').at(-1)).toBe(`Example: compare ${SPREAD} ; drift 1% ; drift 2% ; drift 3% ; drift 4% ; drift 5%`);
     expect(d.store.recent('C0DESKA', 10)).toEqual([]);
   });
 

@@ -39,6 +39,10 @@ describe('numbering and what is logged', () => {
     expect(s.recent('C0DESKA', 100).map((e) => e.number)).toEqual([5, 4, 3, 2, 1]);
     expect(s.recent('C0DESKA', 100).map((e) => e.verb)).toEqual(['check', 'touch', 'iv', 'compare', 'check']);
     expect(s.rejectedCount('C0DESKA')).toBe(1);
+    // a request refused after reading (no such check) counts as rejected too, and takes no number
+    rejected(ask(s, 'again 99'));
+    expect(s.rejectedCount('C0DESKA')).toBe(2);
+    expect(answered(ask(s, TOUCH)).logNumber).toBe(6);
   });
 
   it('stores who, when, the request as typed, the parsed request and the figures of the answer', () => {
