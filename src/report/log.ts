@@ -88,17 +88,22 @@ export function safeUrl(u: string | null): string | null {
  */
 export function logText(entries: LogEntry[], asked: number, linksInline: boolean): LogListing {
   if (entries.length === 0) return { text: 'No checks in this channel\'s log yet.', links: [] };
-  const rows: string[][] = [['#', 'who', 'when (UTC)', 'what', 'chance', 'exp. P&L']];
+  // two lines per entry (number, who, when, figures; then the position in words) to stay narrow
+  const rows: string[][] = [['#', 'who', 'when (UTC)', 'chance', 'exp. P&L']];
+  const words: string[] = [];
   const links: { label: string; url: string }[] = [];
   for (const e of entries) {
     const f = entryFigures(e);
-    rows.push([`#${e.number}`, cut(e.user, 12), whenUtc(e.at), cut(entryWords(e), 44), f.chance, f.pnl]);
+    rows.push([`#${e.number}`, cut(e.user, 14), whenUtc(e.at), f.chance, f.pnl]);
+    words.push(`    ${cut(entryWords(e), 66)}`);
     const url = safeUrl(e.permalink);
     if (url) links.push({ label: `#${e.number}`, url });
   }
+  const t = table(rows, [0, 1, 2]);
+  const body = [t[0], ...entries.flatMap((_, i) => [t[i + 1], words[i]])];
   const lines = [
     `Last ${entries.length} check${entries.length === 1 ? '' : 's'} in this channel, newest first${entries.length < asked ? ` (all there are)` : ''}:`,
-    ...table(rows, [0, 1, 2, 3]),
+    ...body,
     '',
     'chance = chance of profit, exp. P&L = expected P&L under the view, both at the time of the check.',
     '`again N` reruns check #N; `again N spot 102 asof today` reruns it with changes.',
@@ -113,7 +118,7 @@ export function logText(entries: LogEntry[], asked: number, linksInline: boolean
 /** The channel's marks, with their age and a stale flag. */
 export function marksText(marks: Mark[], now: Date): string {
   if (marks.length === 0) return 'No marks in this channel yet. Record one with `mark FERNWK spot 84.20 iv 31% yield 1.2%`.';
-  const rows: string[][] = [['symbol', 'spot', 'iv', 'yield', 'rate', 'recorded (UTC)', 'by', 'age']];
+  const rows: string[][] = [['symbol', 'spot', 'iv', 'yield', 'rate', 'by', 'age']];
   for (const m of marks) {
     const age = now.getTime() - Date.parse(m.at);
     rows.push([
@@ -122,14 +127,13 @@ export function marksText(marks: Mark[], now: Date): string {
       m.iv === undefined ? '–' : rate(m.iv),
       m.yield === undefined ? '–' : rate(m.yield),
       m.rate === undefined ? '–' : rate(m.rate),
-      whenUtc(m.at),
       cut(m.user, 12),
       ageWords(age) + (isStale(m.at, now) ? ' STALE' : ''),
     ]);
   }
   return [
-    `Marks in this channel (${marks.length}):`,
-    ...table(rows, [0, 5, 6, 7]),
+    `Marks in this channel (${marks.length}; age at ${whenUtc(now.toISOString())} UTC):`,
+    ...table(rows, [0, 5, 6]),
     '',
     'Checks that say `on SYMBOL` take spot, iv, yield and rate from the mark; terms written in the request override it.',
     ...(marks.some((m) => isStale(m.at, now)) ? ['STALE: recorded more than a day ago.'] : []),

@@ -81,7 +81,10 @@ describe('log [N]', () => {
       expect(row(n)).toContain(when);
       expect(row(n)).toContain(pct((a.json as { outcome: { probProfit: number } }).outcome.probProfit));
     }
-    expect(row(2)).toContain('short 1 put 95');
+    // the position in words on the line under each entry
+    expect(lines[lines.indexOf(row(2)) + 1]).toContain('short 1 put 95');
+    expect(lines[lines.indexOf(row(1)) + 1]).toContain('call spread 105/115');
+    expect(Math.max(...lines.slice(0, 8).map((l) => [...l].length))).toBeLessThanOrEqual(72);
     const two = answered(ask(s, 'log 2'));
     expect((two.json.entries as { number: number }[]).map((e) => e.number)).toEqual([3, 2]);
     expect(numbersIn(all.json).every(Number.isFinite)).toBe(true);
