@@ -121,6 +121,17 @@ describe('again of every verb', () => {
     expect(b.text).toContain('vol 25% → 35%');
   });
 
+  it('iv, touch and a `check`-prefixed request logged without asof keep their day too', () => {
+    answered(ask(d.store, 'iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5%'));
+    answered(ask(d.store, 'touch 120 by 2027-03-19 spot 100 drift 8% vol 25% asof today'));
+    answered(ask(d.store, 'check +1 call 105 2027-03-19 iv 28% spot 100'));
+    for (const n of [1, 2, 3]) {
+      const r = answered(ask(d.store, `again ${n}`, { now: at(48) }));
+      expect(r.json.asof, `again ${n}`).toBe('2027-01-04');
+      expect(answered(ask(d.store, `again ${n} asof today`, { now: at(48) })).json.asof).toBe('2027-01-06');
+    }
+  });
+
   it('again of an again entry reruns the request that entry ran', () => {
     answered(ask(d.store, SPREAD));
     const b = answered(ask(d.store, 'again 1 spot 103'));
