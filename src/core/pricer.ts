@@ -4,7 +4,12 @@
  * three functions, so other models (early exercise, jumps) plug in here.
  *
  * Today: European Black-Scholes-Merton (bsm.ts). American exercise and Merton jumps throw a clear
- * error until their solvers are wired in.
+ * error until their solvers are wired in. Wiring notes:
+ * - jumps (European): legGreeks → mertonGreeks, legValuer → mertonValue with τ; the S → 0 value
+ *   and legAsymptote are unchanged (the compensated forward is the same);
+ * - American: legValuer should do one backward solve per leg and return an interpolant; its S → 0
+ *   value is K for a put (immediate exercise), and legAsymptote for a call is slope 1, intercept
+ *   −K when q > 0 (exercised), as today when q = 0.
  */
 import { bsmGreeks, bsmValue } from './bsm.js';
 import type { ExerciseStyle, Greeks, Jumps, LegInput, Market } from './types.js';
