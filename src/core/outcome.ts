@@ -12,9 +12,12 @@
  *   probabilities come from the spot cdf and expectations from partial expectations, exactly;
  * - otherwise: P&L is smooth between the strikes of expiring legs; expectations are integrated in
  *   log-spot with composite Gauss-Legendre on a mesh whose panels follow the local scale (each
- *   mixture component's s, each live leg's iv√τ near its strike), split at the kinks; the sets
- *   {P&L ≤ y} are found by bracketing on the quadrature nodes and refining with Brent's method,
- *   and their probabilities come from the spot cdf (exact given the crossing points).
+ *   mixture component's s, each live leg's iv√τ near its strike), split at the kinks. The
+ *   quadrature nodes double as samples of the P&L; local extrema between them are located
+ *   (Brent's minimiser) and added, so that the P&L is monotone from sample to sample. The sets
+ *   {P&L ≤ y} are then found by bisection on the monotone runs of samples and Brent's root finder,
+ *   and their probabilities come from the spot cdf (exact given the crossing points). Flat
+ *   stretches of P&L (equal to 1e-13 of the scale over ≥ 3 samples) are atoms.
  * Quantiles are lower quantiles inf{y : P(P&L ≤ y) ≥ p}, found by a bracketing (Illinois) solve on
  * the exact P&L cdf and snapped onto atoms (flat P&L regions, point masses of the spot).
  */
