@@ -874,6 +874,7 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
     const entry = leg.entry ?? g.value;
     coefs.push(coef);
     entries.push(entry);
+    // shares have no strike: their in-the-money probabilities are shown as 1 (never NaN)
     let pRn = 1;
     let pView = 1;
     if (leg.kind === 'shares') {
