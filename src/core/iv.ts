@@ -25,7 +25,7 @@
  *    far below the rounding noise of the inputs).
  */
 import type { OptionKind } from './types.js';
-import { normInv, normMills } from './normal.js';
+import { normCdfMinusHalf, normInv, normMills } from './normal.js';
 
 export type IvResult =
   | { ok: true; iv: number; vega: number }
@@ -34,6 +34,7 @@ export type IvResult =
 const LN_SQRT_2PI = 0.918938533204672741780329736406;
 const MILLS_0 = 1.2533141373155002512078826424055; // M(0) = √(π/2)
 const MAX_ITER = 60;
+const SQRT_2PI = 2.506628274631000502415765284811;
 
 function fmt(v: number): string {
   if (v === 0) return '0';
@@ -128,12 +129,17 @@ function solveNormalised(x: number, tv: number, hr: number): Solved {
     lnBc = 0.5 * x - LN_SQRT_2PI + Math.log(MILLS_0 - normMills(sc));
     lower = lnTv < lnBc;
   }
+  const e = Math.exp(0.5 * x);
+  // Above s_c with b* small against e^{x/2} (near the money, σ√T small) g* = e^{x/2} − b* has
+  // lost the digits that b* carries: there iterate on ln b instead, with
+  // b = sinh(x/2) + e^{x/2}(Φ(d1) − ½) − e^{−x/2}(Φ(d2) − ½), free of cancellation when |x| ≪ s.
+  const central = !lower && tv < 0.25 * e;
   // The at-the-money guess: g ≈ (e^{x/2} + e^{−x/2}) Φ(−s/2), exact at x = 0 and good while
   // |x| ≪ s.
-  const e = Math.exp(0.5 * x);
   let sAtm = -2 * normInv(hr / (e + 1 / e));
   if (!(sAtm < Infinity)) sAtm = Math.max(2 * sc, 1);
   const x2 = x * x;
+  const sh = Math.sinh(0.5 * x);
   let s: number;
   let lo: number;
   let hi: number;
@@ -147,37 +153,44 @@ function solveNormalised(x: number, tv: number, hr: number): Solved {
   } else {
     lo = sc;
     hi = Infinity;
-    s = Math.max(sAtm, sc);
+    // near the money b ≈ e^{x/2} s/√(2π) for small s
+    s = Math.max(central ? Math.max(sAtm, (SQRT_2PI * tv) / e) : sAtm, sc);
   }
-  const lnTarget = lower ? lnTv : Math.log(hr);
-  let d1 = 0;
+  if (!(s > 0)) s = Math.max(SQRT_2PI * tv, 1e-300);
+  // f is increasing in s when it is ln b (lower, central) and decreasing when it is ln g
+  const inc = lower || central;
+  const lnTarget = inc ? lnTv : Math.log(hr);
   for (let i = 0; i < MAX_ITER; i++) {
     const h = x / s;
-    d1 = h + 0.5 * s;
+    const d1 = h + 0.5 * s;
     const d2 = h - 0.5 * s;
-    // w = b/b' (lower) or g/b' (upper); f' = ±1/w
-    const w = lower ? normMills(-d1) - normMills(-d2) : normMills(d1) + normMills(-d2);
-    const f = lnDbds(x, d1) + Math.log(w) - lnTarget;
-    // f increasing in s on the lower branch, decreasing on the upper one
-    if ((f < 0) === lower) lo = Math.max(lo, s);
+    // w = b/b' (lower, central) or g/b' (upper); f' = ±1/w
+    const lnB1 = lnDbds(x, d1);
+    const w = lower
+      ? normMills(-d1) - normMills(-d2)
+      : central
+        ? (sh + e * normCdfMinusHalf(d1) - normCdfMinusHalf(d2) / e) / Math.exp(lnB1)
+        : normMills(d1) + normMills(-d2);
+    const f = lnB1 + Math.log(w) - lnTarget;
+    if ((f < 0) === inc) lo = Math.max(lo, s);
     else hi = Math.min(hi, s);
     const inv = 1 / w;
-    const fp = lower ? inv : -inv;
+    const fp = inc ? inv : -inv;
     const fpp = fp * (x2 / (s * s * s) - 0.25 * s) - inv * inv;
     const newton = -f / fp;
     const den = 1 + (0.5 * newton * fpp) / fp; // 1 − f f''/(2 f'²)
     const step = den > 0.5 ? newton / den : newton;
-    if (!(w > 0) || f === 0) break;
+    if (!(w > 0 && w < Infinity) || f === 0) break;
     // Halley is cubic (Newton quadratic): after a step this small the next would be far below
     // the rounding of the inputs.
     if (Math.abs(step) <= 1e-11 * s) {
-      s += step;
+      if (s + step > 0) s += step;
       break;
     }
     const next = s + step;
     // a step leaving the bracket falls back to bisection (geometric when both ends are finite)
     s = next > lo && next < hi ? next : hi < Infinity ? (lo > 0 ? Math.sqrt(lo * hi) : 0.5 * hi) : 2 * s;
   }
-  d1 = x / s + 0.5 * s;
-  return { s, dbds: Math.exp(lnDbds(x, d1)) };
+  const dbds = Math.exp(lnDbds(x, x / s + 0.5 * s));
+  return { s, dbds: dbds < Infinity ? dbds : 0 };
 }

@@ -139,6 +139,17 @@ export function normCdfWithPdf(z: number, pdf: number): number {
 }
 
 /**
+ * Φ(z) − ½ with full relative precision near z = 0 (where Φ(z) − 0.5 would lose digits); for
+ * |z| beyond Cody's central range it is ±(½ − Φ(−|z|)), which has no cancellation either.
+ */
+export function normCdfMinusHalf(z: number): number {
+  const y = Math.abs(z);
+  if (y <= CENTRAL) return centralHalf(z);
+  const h = 0.5 - normPdf(y) * millsTail(y);
+  return z < 0 ? -h : h;
+}
+
+/**
  * Mills ratio Φ(−u)/φ(u) for u ≥ 0 (also fine for moderately negative u, down to about −37).
  * For u > 0.6745 no exponential is evaluated, so it stays exact where Φ(−u) and φ(u) underflow;
  * used to work with logarithms of tiny option prices.

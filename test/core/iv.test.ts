@@ -128,6 +128,47 @@ describe('round trips over the accuracy grid', () => {
   });
 });
 
+describe('robustness', () => {
+  it('at the money forward with tiny prices (σ√T far below the grid): call ≈ S·σ√T/√(2π)', () => {
+    for (const price of [1e-3, 1e-8, 1e-20, 1e-300]) {
+      const res = impliedVol('call', price, 100, 100, 1, 0.02, 0.02);
+      expect(res.ok).toBe(true);
+      // for small σ the at-the-money-forward call is S e^{−qT}(2Φ(σ√T/2) − 1) ≈ S e^{−qT} σ√T/√(2π)
+      if (res.ok) expect(Math.abs((res.iv * 100 * Math.exp(-0.02)) / Math.sqrt(2 * Math.PI) / price - 1)).toBeLessThan(1e-6);
+    }
+  });
+
+  it('any price strictly inside the bounds, for any sensible market, gives a finite vol that reprices it', () => {
+    fc.assert(
+      fc.property(
+        fc.constantFrom<OptionKind>('call', 'put'),
+        fc.double({ min: 1e-2, max: 1e5, noNaN: true }),
+        fc.double({ min: Math.log(0.2), max: Math.log(5), noNaN: true }),
+        fc.double({ min: 1e-5, max: 30, noNaN: true }),
+        fc.double({ min: -0.05, max: 0.3, noNaN: true }),
+        fc.double({ min: 0, max: 0.2, noNaN: true }),
+        fc.double({ min: 0.001, max: 0.999, noNaN: true }),
+        (kind, S, lm, T, r, q, u) => {
+          const K = S * Math.exp(lm);
+          const fS = S * Math.exp(-q * T);
+          const fK = K * Math.exp(-r * T);
+          const lower = Math.max(kind === 'call' ? fS - fK : fK - fS, 0);
+          const upper = kind === 'call' ? fS : fK;
+          const price = lower + u * (upper - lower);
+          if (!(price > lower && price < upper)) return;
+          const res = impliedVol(kind, price, S, K, T, r, q);
+          expect(res.ok).toBe(true);
+          if (!res.ok) return;
+          expect(Number.isFinite(res.iv) && res.iv > 0).toBe(true);
+          expect(Number.isFinite(res.vega) && res.vega >= 0).toBe(true);
+          expect(Math.abs(bsmValue(kind, S, K, T, r, q, res.iv) - price)).toBeLessThan(1e-9 * (fS + fK));
+        },
+      ),
+      { numRuns: 2000 },
+    );
+  });
+});
+
 describe('worked example', () => {
   it('Hull, Options, Futures, and Other Derivatives, implied volatility: call 1.875 with S=21, K=20, r=10%, T=0.25 → 23.5% (from memory)', () => {
     const res = impliedVol('call', 1.875, 21, 20, 0.25, 0.1, 0);
