@@ -17,9 +17,13 @@
  *    and ln b' = x/2 − d1²/2 − ln√(2π). So ln b and ln g are exact even for prices far below the
  *    smallest double's square and the iteration works on logarithms, which are close to linear
  *    in s on each branch.
+ *    Above s_c but with b* < e^{x/2}/4 (near the money with a small σ√T), g* has lost the digits
+ *    b* carries, so there the iteration uses ln b with
+ *      b = sinh(x/2) + e^{x/2}(Φ(d1) − ½) − e^{−x/2}(Φ(d2) − ½),
+ *    where Φ − ½ comes straight from Cody's central rational function (normCdfMinusHalf).
  * 3. Initial guess: on the lower branch the leading asymptotic ln b ≈ −x²/(2s²), which lies to
  *    the left of the root; on the upper branch g ≈ (e^{x/2} + e^{−x/2}) Φ(−s/2), exact at x = 0.
- * 4. Halley's iteration on f = ln b − ln b* (lower) or ln g − ln g* (upper), with analytic
+ * 4. Halley's iteration on f = ln b − ln b* or ln g − ln g*, with analytic
  *    second derivative b''/b' = x²/s³ − s/4, kept inside a bracket (bisection if a step
  *    leaves it), until the step is below 1e−11·s (then taken: the error left is
  *    far below the rounding noise of the inputs).

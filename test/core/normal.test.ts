@@ -8,6 +8,7 @@ import fc from 'fast-check';
 import {
   normCdf,
   normCdfUpper,
+  normCdfMinusHalf,
   normCdfWithPdf,
   normInv,
   normMills,
@@ -89,6 +90,22 @@ describe('normCdf: independent series', () => {
     for (let z = -5; z <= 5; z += 0.0625) {
       const ref = seriesCdf(z);
       expect(Math.abs(normCdf(z) - ref)).toBeLessThan(Math.max(1e-14 * ref, 5e-16));
+    }
+  });
+
+  it('Φ(z) − ½ keeps full relative precision near 0 (A&S 26.2.11 without the ½)', () => {
+    for (const z of [1e-300, 1e-12, -1e-6, 0.001, -0.3, 0.6, -0.674, 0.7, -2, 5]) {
+      // the series' own sum: φ(z) Σ z^{2n+1}/(2n+1)!!, no cancellation
+      const ref = seriesCdf(z) - 0.5;
+      let term = z;
+      let sum = z;
+      for (let n = 1; n < 300; n++) {
+        term *= (z * z) / (2 * n + 1);
+        sum += term;
+      }
+      const exact = (Math.exp(-0.5 * z * z) / Math.sqrt(2 * Math.PI)) * sum;
+      expect(relErr(normCdfMinusHalf(z), exact)).toBeLessThan(1e-14);
+      expect(Math.abs(ref - exact)).toBeLessThan(1e-16); // the naive subtraction only absolutely
     }
   });
 
