@@ -16,6 +16,7 @@
 import { execFileSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
 import { promisify } from 'node:util';
+import * as zlibNs from 'node:zlib';
 import { deflate as deflateCb } from 'node:zlib';
 import { createRequire } from 'node:module';
 import type { Chart, ChartConfiguration, Plugin } from 'chart.js';
@@ -328,7 +329,15 @@ const CRC_TABLE = (() => {
   return t;
 })();
 
+const nativeCrc32 = (zlibNs as { crc32?: (data: Uint8Array, value?: number) => number }).crc32;
+
 function crc32(buf: Buffer, start: number, end: number): number {
+  if (nativeCrc32) return nativeCrc32(buf.subarray(start, end)) >>> 0;
+  return crc32js(buf, start, end);
+}
+
+/** CRC-32 (IEEE 802.3, reflected, as PNG uses) in plain JS, for Node versions without zlib.crc32. */
+export function crc32js(buf: Uint8Array, start = 0, end = buf.length): number {
   let c = 0xffffffff;
   for (let i = start; i < end; i++) c = CRC_TABLE[(c ^ buf[i]) & 0xff] ^ (c >>> 8);
   return (c ^ 0xffffffff) >>> 0;

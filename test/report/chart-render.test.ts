@@ -6,7 +6,7 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import { createCanvas, loadImage } from 'canvas';
 import { checkChartConfig, compareChartConfig, type ChartInput } from '../../src/report/chart.js';
-import { configureRenderer, encodePng, renderPng, tryRenderPng } from '../../src/report/render.js';
+import { configureRenderer, crc32js, encodePng, renderPng, tryRenderPng } from '../../src/report/render.js';
 import { callSpread, closedFormCurves, type Gbm } from './chart-closed-forms.js';
 
 const G: Gbm = { s0: 100, mu: 0.09, r: 0.045, q: 0.01, sigma: 0.26, t: 42 / 365 };
@@ -97,6 +97,11 @@ describe('renderPng', () => {
 });
 
 describe('encodePng', () => {
+  it('CRC-32 fallback gives the catalogued check value 0xCBF43926 for "123456789" (Williams, A Painless Guide to CRC Error Detection Algorithms)', () => {
+    expect(crc32js(Buffer.from('123456789', 'latin1'))).toBe(0xcbf43926);
+    expect(crc32js(Buffer.from('xx123456789yy', 'latin1'), 2, 11)).toBe(0xcbf43926);
+  });
+
   it('writes opaque pixels (the charts: white background) exactly, last pixel included', async () => {
     // 5×3 opaque pixels of distinct colours, native little-endian ARGB32 = bytes B, G, R, A
     const w = 5;
