@@ -1,0 +1,64 @@
+/**
+ * American options: time per value at about 1e-4 accuracy (americanValue, 'normal') against a
+ * plain CRR binomial tree and the Broadie-Detemple BBSR tree of equal accuracy, found in the same
+ * run on the same option (goal: ≤ 2 ms per value). Also the convergence table of the
+ * finite-difference solver, the full Greeks, the value curve and the implied vol.
+ */
+import { americanFdValue, americanGreeks, americanImpliedVol, americanValue, americanValueCurve } from '../../src/core/american.js';
+import { bbsrValue, crrValue } from '../../src/core/binomial.js';
+import type { OptionKind } from '../../src/core/types.js';
+import { measure, report } from './harness.js';
+
+type Case = [OptionKind, number, number, number, number, number, number];
+
+const CASES: { name: string; c: Case }[] = [
+  { name: 'put S=K=50 r=10% σ=40% T=5m (Hull)', c: ['put', 50, 50, 5 / 12, 0.1, 0, 0.4] },
+  { name: 'call S=105 K=100 r=4% q=7% σ=30% T=1', c: ['call', 105, 100, 1, 0.04, 0.07, 0.3] },
+];
+
+/** Smallest step count (from a doubling sequence) whose tree stays within tol over 4 consecutive counts. */
+function stepsFor(tree: (n: number) => number, ref: number, tol: number): number {
+  for (let n = 250; n <= 64000; n *= 2) {
+    let ok = true;
+    for (let k = 0; k < 4 && ok; k++) ok = Math.abs(tree(n + 2 * k) - ref) <= tol;
+    if (ok) return n;
+  }
+  return 64000;
+}
+
+export function run(): void {
+  for (const { name, c } of CASES) {
+    console.log(`\n-- ${name}`);
+    const ref = bbsrValue(c[0], true, c[1], c[2], c[3], c[4], c[5], c[6], 32000);
+    const fine = americanValue(...c, { accuracy: 'fine' });
+    console.log(`reference BBSR(32000) ${ref.toFixed(7)}; FD 'fine' ${fine.toFixed(7)} (difference ${(fine - ref).toExponential(2)})`);
+    console.log('  FD convergence (Richardson over nx and 2nx):\n     nx    nt  value       error');
+    for (const [nx, nt] of [[40, 40], [80, 80], [160, 160], [320, 320], [640, 640]]) {
+      const v = americanFdValue(...c, { nx, nt });
+      console.log(`  ${String(nx).padStart(5)} ${String(nt).padStart(5)}  ${v.toFixed(7)}  ${(v - ref).toExponential(2)}`);
+    }
+    const v = americanValue(...c);
+    console.log(`  americanValue('normal') error ${(v - ref).toExponential(2)}`);
+    const crrN = stepsFor((n) => crrValue(c[0], true, c[1], c[2], c[3], c[4], c[5], c[6], n), ref, 1e-4);
+    const bbsrN = stepsFor((n) => bbsrValue(c[0], true, c[1], c[2], c[3], c[4], c[5], c[6], n), ref, 1e-4);
+    console.log(`  trees within 1e-4: CRR ${crrN} steps, BBSR ${bbsrN} steps`);
+    const crr = measure(`CRR tree, ${crrN} steps`, () => crrValue(c[0], true, c[1], c[2], c[3], c[4], c[5], c[6], crrN), 1, 2);
+    const bbsr = measure(`BBSR tree, ${bbsrN} steps`, () => bbsrValue(c[0], true, c[1], c[2], c[3], c[4], c[5], c[6], bbsrN), 1, 1);
+    const fd = measure('americanValue (FD, normal)', () => americanValue(...c), 1, 2);
+    report(crr);
+    report(bbsr, crr);
+    report(fd, crr, '≤ 2 ms per value');
+    report(fd, bbsr);
+    report(measure('americanGreeks (5 Richardson solves)', () => americanGreeks(...c), 1, 1), fd);
+    report(measure("americanValue (FD, 'fine')", () => americanValue(...c, { accuracy: 'fine' }), 1, 1), fd);
+    report(measure('americanValueCurve (one build)', () => americanValueCurve(c[0], c[2], c[3], c[4], c[5], c[6], c[2] * 0.3, c[2] * 3), 1, 1), fd);
+    const curve = americanValueCurve(c[0], c[2], c[3], c[4], c[5], c[6], c[2] * 0.3, c[2] * 3);
+    const spots = Array.from({ length: 1000 }, (_, i) => c[2] * (0.4 + (2 * i) / 1000));
+    report(measure('  curve evaluation (per spot)', () => {
+      let s = 0;
+      for (const x of spots) s += curve(x);
+      return s;
+    }, spots.length, 0.5));
+    report(measure('americanImpliedVol', () => americanImpliedVol(c[0], v, c[1], c[2], c[3], c[4], c[5]), 1, 1), fd);
+  }
+}
