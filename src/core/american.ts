@@ -44,17 +44,34 @@ export interface FdSize {
 
 /**
  * Nodes in x: ln K + c·sinh(ξ), ξ uniform with spacing chosen from `n` intervals over the
- * requested span, extended outwards so that ξ = 0 (the strike) is exactly a node.
+ * requested span, extended outwards so that ξ = 0 (the strike) is exactly a node. With `xOn`
+ * given, the spacing is adjusted (by less than half a step) so that xOn is a node too, unless it
+ * lies within half a step of the strike. `refine` divides the spacing so chosen (and keeps both
+ * nodes).
  */
-function sinhGrid(xK: number, xLo: number, xHi: number, n: number, c: number): Float64Array {
+function sinhGrid(xK: number, xLo: number, xHi: number, n: number, c: number, xOn?: number, refine = 1): Float64Array {
   const lo = Math.asinh((xLo - xK) / c);
   const hi = Math.asinh((xHi - xK) / c);
-  const d = (hi - lo) / n;
+  let d = (hi - lo) / n;
+  let kOn = 0;
+  let xiOn = 0;
+  if (xOn !== undefined) {
+    xiOn = Math.asinh((xOn - xK) / c);
+    const k = Math.round(Math.abs(xiOn) / d);
+    if (k >= 1) {
+      d = Math.abs(xiOn) / k;
+      kOn = xiOn > 0 ? k : -k;
+    }
+  }
+  // a refined grid divides exactly the spacing of the base one, as Richardson needs
+  d /= refine;
+  kOn *= refine;
   const nLo = Math.max(1, Math.ceil(-lo / d - 1e-9));
   const nHi = Math.max(1, Math.ceil(hi / d - 1e-9));
   const x = new Float64Array(nLo + nHi + 1);
   for (let i = -nLo; i <= nHi; i++) x[i + nLo] = xK + c * Math.sinh(i * d);
   x[nLo] = xK;
+  if (kOn !== 0 && xOn !== undefined) x[nLo + kOn] = xOn;
   return x;
 }
 
@@ -391,16 +408,30 @@ interface AtSpot {
   ft: number;
 }
 
-function solveAtSpot(p: Problem, S: number, nx: number, nt: number, withTheta: boolean, layout: Problem): AtSpot {
-  const x = gridFor(layout, S, nx);
+function solveAtSpot(p: Problem, S: number, nx: number, refine: number, nt: number, withTheta: boolean, layout: Problem): AtSpot {
+  const x = gridFor(layout, S, nx, refine);
   const xs = Math.log(S);
   const sol = solveBackward(p.kind, p.K, p.T, p.r, p.q, p.sigma, x, nt);
-  const j = stencil4(x, xs);
-  const [f, fx, fxx] = lagrange4(x, sol.v, j, xs);
+  // the spot is a node unless it lies within half a step of the strike: then interpolate
+  const i = x.indexOf(xs);
+  let at: (v: Float64Array) => [number, number, number];
+  if (i > 0 && i < x.length - 1) {
+    const hm = x[i] - x[i - 1];
+    const hp = x[i + 1] - x[i];
+    at = (v) => [
+      v[i],
+      (-hp / (hm * (hm + hp))) * v[i - 1] + ((hp - hm) / (hm * hp)) * v[i] + (hm / (hp * (hm + hp))) * v[i + 1],
+      2 * (v[i - 1] / (hm * (hm + hp)) - v[i] / (hm * hp) + v[i + 1] / (hp * (hm + hp))),
+    ];
+  } else {
+    const j = stencil4(x, xs);
+    at = (v) => lagrange4(x, v, j, xs);
+  }
+  const [f, fx, fxx] = at(sol.v);
   let ft = 0;
   if (withTheta) {
-    const f1 = lagrange4(x, sol.v1, j, xs)[0];
-    const f2 = lagrange4(x, sol.v2, j, xs)[0];
+    const f1 = at(sol.v1)[0];
+    const f2 = at(sol.v2)[0];
     const h1 = sol.t0 - sol.t1;
     const h2 = sol.t1 - sol.t2;
     ft = ((2 * h1 + h2) / (h1 * (h1 + h2))) * f - ((h1 + h2) / (h1 * h2)) * f1 + (h1 / (h2 * (h1 + h2))) * f2;
@@ -411,8 +442,8 @@ function solveAtSpot(p: Problem, S: number, nx: number, nt: number, withTheta: b
 
 /** Richardson combination of a coarse (n) and a fine (2n) solve. */
 function richardson(p: Problem, S: number, size: FdSize, withTheta: boolean, layout: Problem = p): AtSpot {
-  const c = solveAtSpot(p, S, size.nx, size.nt, withTheta, layout);
-  const f = solveAtSpot(p, S, 2 * size.nx, size.nt, withTheta, layout);
+  const c = solveAtSpot(p, S, size.nx, 1, size.nt, withTheta, layout);
+  const f = solveAtSpot(p, S, size.nx, 2, size.nt, withTheta, layout);
   const ex = (a: number, b: number): number => b + (b - a) / 3;
   return { f: ex(c.f, f.f), fx: ex(c.fx, f.fx), fxx: ex(c.fxx, f.fxx), ft: ex(c.ft, f.ft) };
 }
@@ -450,7 +481,7 @@ export function americanValue(
 }
 
 /** Grid for a problem seen from spot S: spans ln K ± w and S ± w/2 at least. */
-function gridFor(p: Problem, S: number, nx: number): Float64Array {
+function gridFor(p: Problem, S: number, nx: number, refine = 1): Float64Array {
   const xK = Math.log(p.K);
   const xs = Math.log(S);
   const w = halfWidth(p, 5);
@@ -460,7 +491,7 @@ function gridFor(p: Problem, S: number, nx: number): Float64Array {
   const conc = Math.max(0.5 * sd, 0.01);
   // keep the density of nodes near the strike when the span is widened for a far spot
   const n = Math.round(nx * Math.max(1, (Math.asinh((xHi - xK) / conc) - Math.asinh((xLo - xK) / conc)) / (2 * Math.asinh(w / conc))));
-  return sinhGrid(xK, xLo, xHi, n, conc);
+  return sinhGrid(xK, xLo, xHi, n, conc, xs, refine);
 }
 
 /**
