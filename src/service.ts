@@ -59,11 +59,8 @@ function answer(partial: Omit<Answer, 'kind' | 'caution' | 'warnings' | 'ephemer
 export function computeCheck(rc: ResolvedCheck): CheckAssembly {
   const input: CheckInput = rc.input;
   const core = runCheck(input);
-  const rnInput: CheckInput = {
-    ...input,
-    view: { drift: input.market.rate, vol: input.view.vol, ...(input.view.jumps ? { jumps: input.view.jumps } : {}) },
-  };
-  const rn = runCheck(rnInput).outcome;
+  // the risk-neutral column comes from the same run (same P&L function, the twin's distribution)
+  const rn = core.outcomeRiskNeutral!; // computed by default (RunOptions.riskNeutralFigures)
   const legs: LegJson[] = input.legs.map((l, i) => {
     const g = core.legs[i];
     const isOpt = l.kind !== 'shares';

@@ -41,6 +41,8 @@ export interface RunOptions {
    * compares against 10 to measure the integration error.
    */
   refine?: number;
+  /** also compute chance of profit, quantiles and worst-5% average under the risk-neutral twin (default true) */
+  riskNeutralFigures?: boolean;
 }
 
 /** z-range kept on each side of a mixture component (Φ(−9.5) ≈ 1e-21). */
@@ -943,7 +945,8 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   // exact distinct strikes: the at-expiry segments must put every strike on the right side
   const kinks = [...new Set(optionGroups.filter((g) => expiresBy(g.leg, h) && g.leg.strike > 0).map((g) => g.leg.strike))].sort((a, b) => a - b);
 
-  let eng: PnlEngine;
+  let linearSegs: Segment[] | null = null;
+  let liveInfo: { live: LiveInfo[]; ext: [number, number] } | null = null;
   if (liveGroups.length === 0) {
     const ends = [0, ...kinks, Infinity];
     const segs: Segment[] = [];
@@ -966,7 +969,7 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
       if (Math.abs(beta) <= pf.tolB) beta = 0;
       segs.push({ a, b, alpha, beta });
     }
-    eng = linearEngine(segs, sView, sRn, pf);
+    linearSegs = segs;
     notes.push('outcome: exact closed forms (every option leg expires at the horizon)');
   } else {
     const live: LiveInfo[] = liveGroups.map((g) => {
@@ -978,39 +981,60 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
       ext[0] = Math.min(ext[0], Math.log(k) - 0.1);
       ext[1] = Math.max(ext[1], Math.log(k) + 0.1);
     }
-    eng = smoothEngine(sView, sRn, pf, kinks, live, ext, refine);
+    liveInfo = { live, ext };
     notes.push('outcome: Gauss-Legendre integration between kinks; live legs revalued at the horizon with their own iv (sticky strike)');
   }
+  const engineFor = (primary: typeof sView, twin: typeof sRn): PnlEngine =>
+    linearSegs ? linearEngine(linearSegs, primary, twin, pf) : smoothEngine(primary, twin, pf, kinks, liveInfo!.live, liveInfo!.ext, refine);
+  const eng = engineFor(sView, sRn);
   notes.unshift(`values: Black-Scholes-Merton (${input.style})${jumpsOn ? ' with Merton jumps' : ''}`);
   if (hasShares) notes.push('shares legs: probability in the money shown as 1; P&L is the price change (dividends left out)');
 
   // --- outcome figures
-  const atoms = eng.atoms();
-  const atomLevels = atoms.map((a) => a.x);
-  const [y0, y1] = eng.yRange();
   const tolY = 1e-9 * scale;
-  const pad = Math.max(1e-7 * scale, 1e-12 * Math.max(Math.abs(y0), Math.abs(y1)));
-  const yLo = y0 - pad;
-  const yHi = y1 + pad;
-  const cache = new CdfCache((y) => eng.probBelow(y, false));
-  cache.at(yLo);
-  cache.at(yHi);
-  // seeds: atom levels and the P&L at the kinks, where the cdf may jump or bend
-  for (const y of dedupe([...atomLevels, ...kinks.map(pnl)])) if (y > yLo && y < yHi) cache.at(y);
-  const Q = (p: number): number => lowerQuantile(cache, p, tolY, atomLevels);
+  const alpha = 0.05;
+  /** chance of profit, lower quantiles and worst-5% average under an engine's primary walk */
+  const figuresOf = (e: PnlEngine) => {
+    const atoms = e.atoms();
+    const atomLevels = atoms.map((a) => a.x);
+    const [y0, y1] = e.yRange();
+    const pad = Math.max(1e-7 * scale, 1e-12 * Math.max(Math.abs(y0), Math.abs(y1)));
+    const yLo = y0 - pad;
+    const yHi = y1 + pad;
+    const cache = new CdfCache((y) => e.probBelow(y, false));
+    cache.at(yLo);
+    cache.at(yHi);
+    // seeds: atom levels and the P&L at the kinks, where the cdf may jump or bend
+    for (const y of dedupe([...atomLevels, ...kinks.map(pnl)])) if (y > yLo && y < yHi) cache.at(y);
+    const Q = (p: number): number => lowerQuantile(cache, p, tolY, atomLevels);
+    // profit: P&L above rounding (1e-14 of the scale), so that a P&L flat at zero is not counted
+    const probProfit = Math.min(1, Math.max(0, 1 - cache.at(1e-14 * scale)));
+    const qs = [0.05, 0.25, 0.5, 0.75, 0.95].map(Q);
+    const q05 = qs[0];
+    const tailMean05 = (e.expectBelow(q05, true) + q05 * (alpha - e.probBelow(q05, true))) / alpha;
+    return { atoms, cache, Q, probProfit, qs, tailMean05 };
+  };
+  const fv = figuresOf(eng);
+  const { atoms, cache, Q, probProfit, qs, tailMean05 } = fv;
 
   const expectedPnl = eng.expectView();
   const expectedPnlRiskNeutral = eng.expectRiskNeutral();
   const viewEdge = expectedPnl - expectedPnlRiskNeutral;
-  // profit: P&L above rounding (1e-14 of the scale), so that a P&L flat at zero is not counted
-  const probProfit = Math.min(1, Math.max(0, 1 - cache.at(1e-14 * scale)));
-  const qs = [0.05, 0.25, 0.5, 0.75, 0.95].map(Q);
-  const alpha = 0.05;
-  const q05 = qs[0];
-  const tailMean05 = (eng.expectBelow(q05, true) + q05 * (alpha - eng.probBelow(q05, true))) / alpha;
   // a crossing below a billionth of the spot is rounding in a P&L that is flat near zero there
   const breakevens = eng.breakevens().filter((b) => b > 1e-9 * spot);
   const ext = eng.extremes();
+
+  // the same figures under the risk-neutral twin (same P&L function, no second revaluation)
+  let outcomeRiskNeutral: CheckCore['outcomeRiskNeutral'];
+  if (options.riskNeutralFigures !== false) {
+    const fr = figuresOf(engineFor(sRn, sRn));
+    outcomeRiskNeutral = {
+      probProfit: fr.probProfit,
+      expectedPnl: expectedPnlRiskNeutral,
+      pnlQuantiles: { p05: fr.qs[0], p25: fr.qs[1], p50: fr.qs[2], p75: fr.qs[3], p95: fr.qs[4] },
+      tailMean05: fr.tailMean05,
+    };
+  }
 
   const outcome: Outcome = {
     probProfit,
@@ -1028,7 +1052,7 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   // --- curves for the chart
   const curves = buildCurves(dView, dRn, pnl, strikesAll, breakevens, spot, eng, Q, atoms, cache, tolY);
 
-  const result: CheckCore = { legs, position: pos, outcome, curves, notes };
+  const result: CheckCore = { legs, position: pos, outcome, curves, notes, ...(outcomeRiskNeutral ? { outcomeRiskNeutral } : {}) };
   if (sanitize(result)) notes.push('some figures could not be computed and are shown as 0');
   return result;
 }

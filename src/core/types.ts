@@ -133,4 +133,11 @@ export interface CheckCore {
   curves: Curves;
   /** which model produced which figure, and other assumptions worth stating */
   notes: string[];
+  /** the outcome under the risk-neutral twin (drift = rate, the view's vol and jumps) */
+  outcomeRiskNeutral?: {
+    probProfit: number;
+    expectedPnl: number;
+    pnlQuantiles: Outcome['pnlQuantiles'];
+    tailMean05: number;
+  };
 }
