@@ -77,14 +77,24 @@ function forTerms(kind: OptionKind, S: number, K: number, T: number, r: number, 
   const mean = kind === 'call' ? lp : lam;
   const bound = kind === 'call' ? S * Math.exp(-q * T) : K * Math.exp(-r * T);
   const tol = TAIL * (S + K);
+  const logMean = Math.log(mean);
+  // weights by recursion (wₙ₊₁ = wₙ·λ'T/(n+1)) while e^{−λ'T} is representable, else in logs
+  const recurse = lp < 600 && mean < 600;
+  let w = Math.exp(-lp);
+  let pn = Math.exp(-mean); // Poisson(mean) weight of n, for the stopping rule
+  const rBase = r - j.intensity * kappa;
   for (let n = 0; n < MAX_TERMS; n++) {
-    const lf = logFactorial(n);
-    const w = Math.exp(-lp + n * logLp - lf);
-    visit({ n, w, rn: r - j.intensity * kappa + (n * lnJ) / T, sn: Math.sqrt(s2 + n * d2T) });
-    if (n + 2 > mean) {
-      const pNext = Math.exp(-mean + (n + 1) * Math.log(mean) - logFactorial(n + 1));
-      const rest = pNext / (1 - mean / (n + 2));
-      if (rest * bound < tol) break;
+    if (!recurse) {
+      const lf = logFactorial(n);
+      w = Math.exp(-lp + n * logLp - lf);
+      pn = Math.exp(-mean + n * logMean - lf);
+    }
+    visit({ n, w, rn: rBase + (n * lnJ) / T, sn: Math.sqrt(s2 + n * d2T) });
+    const pNext = pn * (mean / (n + 1));
+    if (n + 2 > mean && (pNext / (1 - mean / (n + 2))) * bound < tol) break;
+    if (recurse) {
+      w *= lp / (n + 1);
+      pn = pNext;
     }
   }
 }

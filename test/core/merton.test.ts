@@ -114,6 +114,8 @@ describe('mertonValue', () => {
       [100, 100, 0.5, 0.05, 0.02, 0.2, J],
       [100, 140, 3, 0.02, 0.04, 0.1, { intensity: 5, mean: -0.2, sd: 0.2 }],
       [30, 25, 0.05, 0.1, 0, 0.4, { intensity: 200, mean: 0.01, sd: 0.02 }],
+      // λT = 900: the weights are computed in logs (e^{−λ'T} would underflow)
+      [100, 105, 1, 0.03, 0.01, 0.1, { intensity: 900, mean: 0, sd: 0.01 }],
     ] as [number, number, number, number, number, number, Jumps][]) {
       const c = mertonValue('call', S, K, T, r, q, s, j);
       const p = mertonValue('put', S, K, T, r, q, s, j);
