@@ -13,7 +13,12 @@
  */
 import { runCheck } from './core/outcome.js';
 import { impliedVol } from './core/iv.js';
+import { americanImpliedVol } from './core/american.js';
+import { mertonImpliedVol } from './core/merton.js';
 import { probBeyondAtEnd, touchProb } from './core/touch.js';
+import { touchProbJumps } from './core/touch-jumps.js';
+import { cdf as spotCdf, sf as spotSf, walkDistribution } from './core/dist.js';
+
 import type { CheckInput } from './core/types.js';
 import { formatError, parse } from './request/parse.js';
 import { resolveCheck, resolveIv, resolveTouch, type MarkTerms, type ResolvedCheck } from './request/resolve.js';
@@ -28,6 +33,9 @@ import { compareChartInput, compareHeadline, compareText, cut, type ComparePart 
 import { ageWords, isStale, logText, marksText, whenUtc } from './report/log.js';
 import { level, money, num, pct, rate, shortDate } from './report/format.js';
 import { StoreError, type CheckSummary, type LogEntry, type Mark, type Store } from './store/store.js';
+
+/** Monte Carlo paths for touch under jumps (standard error ≤ 0.25 percentage points). */
+const TOUCH_MC_PATHS = 40_000;
 
 export interface AskContext {
   /** the channel (workspace channel id, `cli`, `console`): the log and the marks are per channel */
@@ -348,7 +356,16 @@ function doIv(text: string, req: Extract<Request, { verb: 'iv' }>, env: Env): Co
   const r = resolveIv(req, { today: env.today, now: env.nowIso, text, ...(mark ? { mark: termsOfMark(mark) } : {}) });
   if (!r.ok) throw refuse(text, r.error);
   const v = r.iv;
-  const s = impliedVol(v.kind, v.price, v.S, v.K, v.T, v.r, v.q);
+  const s = v.style === 'american'
+    ? americanImpliedVol(v.kind, v.price, v.S, v.K, v.T, v.r, v.q)
+    : v.jumps
+      ? mertonImpliedVol(v.kind, v.price, v.S, v.K, v.T, v.r, v.q, v.jumps)
+      : impliedVol(v.kind, v.price, v.S, v.K, v.T, v.r, v.q);
+  const ivModel = v.style === 'american'
+    ? 'American exercise (Crank-Nicolson on the backward equation)'
+    : v.jumps
+      ? 'Merton jump diffusion (European); the iv is the diffusion vol'
+      : 'Black-Scholes-Merton (European)';
   if (!s.ok) {
     throw refuse(text, {
       message: s.message,
@@ -368,14 +385,15 @@ function doIv(text: string, req: Extract<Request, { verb: 'iv' }>, env: Env): Co
     price: v.price,
     asof: v.asof,
     market: { spot: v.S, rate: v.r, yield: v.q },
-    model: 'Black-Scholes-Merton (European)',
+    model: ivModel,
+    ...(v.jumps ? { jumps: v.jumps } : {}),
     notes: r.notes,
     ...(mark ? { mark: markJson(mark, env.now) } : {}),
   };
   const txt = [
     `Implied vol of ${v.kind} ${level(v.K)} ${shortDate(v.expiry)} at ${num(v.price)}: ${rate(Number(s.iv.toFixed(6)))}`,
     `vega ${num(s.vega, 4)} per vol point · spot ${level(v.S)} · rate ${rate(v.r)} · yield ${rate(v.q)} · asof ${v.asof}`,
-    'Assumptions: Black-Scholes-Merton, European exercise, continuous rate and yield.',
+    `Assumptions: ${ivModel}, continuous rate and yield.`,
     ...r.notes.map((n) => `Note: ${n}`),
     ...(mark ? [markLine(mark, env.now)] : []),
   ].join('\n');
@@ -392,11 +410,32 @@ function doTouch(text: string, req: Extract<Request, { verb: 'touch' }>, env: En
   const r = resolveTouch(req, { today: env.today, now: env.nowIso, text, ...(mark ? { mark: termsOfMark(mark) } : {}) });
   if (!r.ok) throw refuse(text, r.error);
   const t = r.touch;
-  const pv = touchProb(t.S, t.level, t.T, t.view.drift, t.q, t.view.vol);
-  const prn = touchProb(t.S, t.level, t.T, t.rate, t.q, t.view.vol);
-  const bv = probBeyondAtEnd(t.S, t.level, t.T, t.view.drift, t.q, t.view.vol);
-  const brn = probBeyondAtEnd(t.S, t.level, t.T, t.rate, t.q, t.view.vol);
+  const jumps = t.view.jumps && t.view.jumps.intensity > 0 ? t.view.jumps : undefined;
   const dir = t.level >= t.S ? 'above' : 'below';
+  let pv: number, prn: number, bv: number, brn: number;
+  let mc: { view: number; riskNeutral: number; paths: number } | undefined;
+  if (jumps) {
+    // first passage with jumps has no closed form: a seeded Monte Carlo with its standard error;
+    // the chance of ending beyond is exact from the Poisson mixture of lognormals
+    const opts = { paths: TOUCH_MC_PATHS, seed: 1 };
+    const v = touchProbJumps(t.S, t.level, t.T, t.view.drift, t.q, t.view.vol, jumps, opts);
+    const n = touchProbJumps(t.S, t.level, t.T, t.rate, t.q, t.view.vol, jumps, opts);
+    pv = v.prob;
+    prn = n.prob;
+    mc = { view: v.stderr, riskNeutral: n.stderr, paths: v.paths };
+    const beyond = (drift: number) => {
+      const d = walkDistribution(t.S, t.T, t.q, { drift, vol: t.view.vol, jumps });
+      return dir === 'above' ? spotSf(d, t.level) : spotCdf(d, t.level);
+    };
+    bv = beyond(t.view.drift);
+    brn = beyond(t.rate);
+  } else {
+    pv = touchProb(t.S, t.level, t.T, t.view.drift, t.q, t.view.vol);
+    prn = touchProb(t.S, t.level, t.T, t.rate, t.q, t.view.vol);
+    bv = probBeyondAtEnd(t.S, t.level, t.T, t.view.drift, t.q, t.view.vol);
+    brn = probBeyondAtEnd(t.S, t.level, t.T, t.rate, t.q, t.view.vol);
+  }
+  const model = jumps ? 'merton-jumps' : 'lognormal';
   const json = {
     kind: 'touch',
     level: t.level,
@@ -404,21 +443,24 @@ function doTouch(text: string, req: Extract<Request, { verb: 'touch' }>, env: En
     years: t.T,
     asof: t.asof,
     market: { spot: t.S, rate: t.rate, yield: t.q },
-    view: { drift: t.view.drift, vol: t.view.vol, model: 'lognormal' },
+    view: { drift: t.view.drift, vol: t.view.vol, model, ...(jumps ? { jumps } : {}) },
     probTouchView: pv,
     probTouchRiskNeutral: prn,
     probBeyondAtEndView: bv,
     probBeyondAtEndRiskNeutral: brn,
+    ...(mc ? { monteCarlo: { paths: mc.paths, seed: 1, stderrView: mc.view, stderrRiskNeutral: mc.riskNeutral } } : {}),
     notes: r.notes,
     ...(mark ? { mark: markJson(mark, env.now) } : {}),
   };
+  const pm = (p: number, se?: number) => (se === undefined ? pct(p) : `${pct(p)} ±${pct(se, 2)}`);
   const rows = [
     `Touching ${level(t.level)} (${dir} spot ${level(t.S)}) by ${t.by}`,
     `                       view   risk-neutral`,
-    `chance of touching  ${pct(pv).padStart(7)}  ${pct(prn).padStart(13)}`,
+    `chance of touching  ${pm(pv, mc?.view).padStart(7)}  ${pm(prn, mc?.riskNeutral).padStart(13)}`,
     `chance ending ${dir === 'above' ? 'above' : 'below'} ${pct(bv).padStart(7)}  ${pct(brn).padStart(13)}`,
     '',
-    `Assumptions: asof ${t.asof} · view drift ${rate(t.view.drift)}, vol ${rate(t.view.vol)} · rate ${rate(t.rate)} · yield ${rate(t.q)} · lognormal walk, continuous monitoring.`,
+    `Assumptions: asof ${t.asof} · view drift ${rate(t.view.drift)}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''} · rate ${rate(t.rate)} · yield ${rate(t.q)} · ${jumps ? 'Merton jump diffusion' : 'lognormal walk'}, continuous monitoring.`,
+    ...(mc ? [`Note: touching under jumps by Monte Carlo (${mc.paths.toLocaleString('en-US')} paths, seed 1; ± is one standard error); ending beyond is exact.`] : []),
     ...r.notes.map((n) => `Note: ${n}`),
     ...(mark ? [markLine(mark, env.now)] : []),
   ];

@@ -987,7 +987,13 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const engineFor = (primary: typeof sView, twin: typeof sRn): PnlEngine =>
     linearSegs ? linearEngine(linearSegs, primary, twin, pf) : smoothEngine(primary, twin, pf, kinks, liveInfo!.live, liveInfo!.ext, refine);
   const eng = engineFor(sView, sRn);
-  notes.unshift(`values: Black-Scholes-Merton (${input.style})${jumpsOn ? ' with Merton jumps' : ''}`);
+  notes.unshift(
+    input.style === 'american'
+      ? 'values: American exercise by Crank-Nicolson on the backward equation (one solve per leg revalues it across the horizon)'
+      : jumpsOn
+        ? 'values: Merton jump diffusion (European), Poisson-weighted Black-Scholes-Merton series'
+        : 'values: Black-Scholes-Merton (European)',
+  );
   if (hasShares) notes.push('shares legs: probability in the money shown as 1; P&L is the price change (dividends left out)');
 
   // --- outcome figures

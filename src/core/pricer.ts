@@ -1,17 +1,16 @@
 /**
  * The leg valuation seam: today's per-share value and Greeks of a leg, and its per-share value at
  * the horizon as a function of the spot then. The outcome engine (outcome.ts) only talks to these
- * three functions, so other models (early exercise, jumps) plug in here.
- *
- * Today: European Black-Scholes-Merton (bsm.ts). American exercise and Merton jumps throw a clear
- * error until their solvers are wired in. Wiring notes:
- * - jumps (European): legGreeks → mertonGreeks, legValuer → mertonValue with τ; the S → 0 value
- *   and legAsymptote are unchanged (the compensated forward is the same);
- * - American: legValuer should do one backward solve per leg and return an interpolant; its S → 0
- *   value is K for a put (immediate exercise), and legAsymptote for a call is slope 1, intercept
- *   −K when q > 0 (exercised), as today when q = 0.
+ * functions, so every model plugs in here:
+ * - European, no jumps: Black-Scholes-Merton closed forms (bsm.ts);
+ * - European with jumps: Merton's Poisson-weighted series (merton.ts);
+ * - American: Crank-Nicolson on the backward equation (american.ts); the horizon valuer is ONE
+ *   backward solve per leg, interpolated across spots;
+ * - American with jumps: not offered (a clear error at the edge; see DEVELOPERS.md).
  */
+import { americanGreeks, americanValueCurve } from './american.js';
 import { bsmGreeks, bsmValue } from './bsm.js';
+import { mertonGreeks, mertonValue } from './merton.js';
 import type { ExerciseStyle, Greeks, Jumps, LegInput, Market } from './types.js';
 
 export interface LegModel {
@@ -23,13 +22,15 @@ export interface LegModel {
 /** Remaining life (years) below which a leg counts as expiring at the horizon. */
 export const EXPIRY_EPS = 1e-9;
 
+function jumpsOf(m: LegModel): Jumps | undefined {
+  return m.jumps && m.jumps.intensity > 0 ? m.jumps : undefined;
+}
+
+/** The one combination the pricer does not offer; the request layer rejects it first. */
 function assertAvailable(leg: LegInput, m: LegModel): void {
   if (leg.kind === 'shares') return;
-  if (m.style === 'american') {
-    throw new Error('American exercise is not available yet in the pricer (european only for now)');
-  }
-  if (m.jumps && m.jumps.intensity > 0) {
-    throw new Error('Merton jumps are not available yet in the pricer (no-jump Black-Scholes-Merton only for now)');
+  if (m.style === 'american' && jumpsOf(m)) {
+    throw new Error('American exercise with jumps is not available: use style european with jumps, or american without');
   }
 }
 
@@ -38,6 +39,9 @@ export function legGreeks(leg: LegInput, m: LegModel): Greeks {
   const { spot, rate, yield: q } = m.market;
   if (leg.kind === 'shares') return { value: spot, delta: 1, gamma: 0, vega: 0, theta: 0, rho: 0 };
   assertAvailable(leg, m);
+  const j = jumpsOf(m);
+  if (m.style === 'american') return americanGreeks(leg.kind, spot, leg.strike, leg.years, rate, q, leg.iv);
+  if (j) return mertonGreeks(leg.kind, spot, leg.strike, leg.years, rate, q, leg.iv, j);
   return bsmGreeks(leg.kind, spot, leg.strike, leg.years, rate, q, leg.iv);
 }
 
@@ -63,7 +67,15 @@ export function legValuer(leg: LegInput, m: LegModel, horizonYears: number): (sp
   const { rate, yield: q } = m.market;
   const kind = leg.kind;
   const iv = leg.iv;
+  if (m.style === 'american') {
+    // one backward solve over a wide band of spots; outside it the curve's own asymptotes
+    const w = 1 + 10 * Math.max(iv, 0.2) * Math.sqrt(horizonYears + tau);
+    const spot = m.market.spot;
+    return americanValueCurve(kind, K, tau, rate, q, iv, Math.min(spot, K) * Math.exp(-w), Math.max(spot, K) * Math.exp(w));
+  }
   const atZero = kind === 'call' ? 0 : K * Math.exp(-rate * tau);
+  const j = jumpsOf(m);
+  if (j) return (s) => (s > 0 ? mertonValue(kind, s, K, tau, rate, q, iv, j) : atZero);
   return (s) => (s > 0 ? bsmValue(kind, s, K, tau, rate, q, iv) : atZero);
 }
 
@@ -77,5 +89,7 @@ export function legAsymptote(leg: LegInput, m: LegModel, horizonYears: number): 
   if (expiresBy(leg, horizonYears)) return { slope: 1, intercept: -leg.strike };
   assertAvailable(leg, m);
   const tau = leg.years - horizonYears;
+  // an American call deep in the money is exercised when the stock pays a yield: S − K
+  if (m.style === 'american' && m.market.yield > 0) return { slope: 1, intercept: -leg.strike };
   return { slope: Math.exp(-m.market.yield * tau), intercept: -leg.strike * Math.exp(-m.market.rate * tau) };
 }

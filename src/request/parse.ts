@@ -179,7 +179,7 @@ const ALL_TERMS: readonly TermName[] = [
 
 const ALLOWED: Record<'check' | 'iv' | 'touch' | 'mark' | 'again', readonly AnyTerm[]> = {
   check: ALL_TERMS,
-  iv: ['price', 'spot', 'rate', 'yield', 'asof', 'on', 'style'],
+  iv: ['price', 'spot', 'rate', 'yield', 'asof', 'on', 'style', 'jumps'],
   touch: ['by', 'spot', 'rate', 'yield', 'drift', 'vol', 'iv', 'asof', 'on', 'jumps'],
   mark: ['spot', 'iv', 'yield', 'rate'],
   again: [...ALL_TERMS, 'price', 'by'],

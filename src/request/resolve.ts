@@ -72,6 +72,8 @@ export interface ResolvedIv {
   expiry: string;
   asof: string;
   style: ExerciseStyle;
+  /** Merton jumps: the implied vol is then the diffusion's vol */
+  jumps?: Jumps;
 }
 
 export interface ResolvedTouch {
@@ -394,6 +396,12 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     notes.push('drift not given: the view uses the rate, so the outcome is the risk-neutral one');
   }
 
+  if ((terms.style ?? 'european') === 'american' && terms.jumps && terms.jumps.intensity > 0) {
+    throw R.term(
+      req.termsAt.style,
+      'style american with jumps is not offered: early exercise is solved without jumps, and jumps are priced European (Merton); drop one of the two',
+    );
+  }
   const input: CheckInput = {
     market: { spot, rate: base.rate, yield: base.yield },
     legs,
@@ -488,7 +496,13 @@ export function resolveIv(
         R.replace(valueAt, num(lo + (hi - lo) / 4)),
       );
     }
-    const iv: ResolvedIv = { kind: req.kind, price: req.price, S, K, T, r: base.rate, q: base.yield, expiry: date, asof: base.asof, style };
+    if (style === 'american' && req.terms.jumps && req.terms.jumps.intensity > 0) {
+      throw R.term(req.termsAt.style, 'style american with jumps is not offered: drop one of the two');
+    }
+    const iv: ResolvedIv = {
+      kind: req.kind, price: req.price, S, K, T, r: base.rate, q: base.yield, expiry: date, asof: base.asof, style,
+      ...(req.terms.jumps && req.terms.jumps.intensity > 0 ? { jumps: { ...req.terms.jumps } } : {}),
+    };
     return { iv, notes: base.notes };
   });
   return 'ok' in out ? out : { ok: true, ...out };
