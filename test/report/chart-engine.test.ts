@@ -198,3 +198,44 @@ describe('degenerate engine results', () => {
     expect(await tryRenderPng(cfg)).toEqual({ ok: false, note: expect.stringMatching(/no spread/) });
   });
 });
+
+describe('jumps and early exercise change only the numbers', () => {
+  const jumps = { intensity: 0.8, mean: -0.06, sd: 0.12 };
+  const putSpread = (style: 'european' | 'american', withJumps: boolean): CheckInput => ({
+    market,
+    legs: [
+      { qty: 1, kind: 'put', strike: 100, years: T2, iv: 0.24, entry: 4.1 },
+      { qty: -1, kind: 'put', strike: 90, years: T2, iv: 0.27, entry: 1.2 },
+    ],
+    mult: 100,
+    style,
+    horizonYears: T1,
+    view: withJumps ? { ...view, jumps } : view,
+  });
+
+  it.each([
+    ['European with Merton jumps', putSpread('european', true)],
+    ['American without jumps', putSpread('american', false)],
+  ])('%s: same chart shape, P&L as defined, densities of area about 1, renders', async (_name, inp) => {
+    const core = runCheck(inp);
+    const cfg = checkChartConfig(chartInputFromCheck(inp, core, { position: 'FERNWK put spread 100/90', horizon: '2027-02-03', currency: 'USD' }));
+    const title = [(cfg.options!.plugins!.title as { text: string | string[] }).text].flat().join(' ');
+    if (inp.view.jumps) expect(title).toContain('jumps 0.8/yr mean −6% sd 12%');
+    else expect(title).not.toContain('jumps');
+    const f = pnlByDefinition(inp);
+    const pts = cfg.data.datasets[2].data as { x: number; y: number }[];
+    const scale = Math.max(...pts.map((p) => Math.abs(p.y)), 1);
+    for (const p of pts) expect(Math.abs(p.y - f(p.x))).toBeLessThan(1e-9 * scale);
+    for (const i of [0, 1]) {
+      const d = cfg.data.datasets[i].data as { x: number; y: number }[];
+      const area = trapezoid(d.map((p) => p.x), d.map((p) => p.y));
+      // a jump mixture has heavier tails than the lognormal: most, not all, of its mass is in view
+      expect(area).toBeGreaterThan(0.97);
+      expect(area).toBeLessThan(1.01);
+    }
+    expect((cfg.options!.plugins as { kolmo: KolmoPluginOptions }).kolmo.markers.filter((m) => m.kind === 'strike').map((m) => m.x)).toEqual([90, 100]);
+    expect(allNumbers(cfg).every(Number.isFinite)).toBe(true);
+    const img = await loadImage(await renderPng(cfg));
+    expect([img.width, img.height]).toEqual([900, 500]);
+  });
+});
