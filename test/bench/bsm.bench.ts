@@ -2,14 +2,30 @@
  * Black-Scholes-Merton per leg: bsmGreeks and bsmValue on one core, against a floor loop that
  * does, per leg, the least any closed-form pricer must: one exp, one log, one sqrt and one normCdf
  * (goal: bsmGreeks ≥ 10 million legs/s and ≤ 2× the floor). Also normCdf and normInv alone,
- * against a loop of bare Math.exp calls. All on the same random legs, in the same process.
+ * against a loop of bare Math.exp calls. All on the same random legs (calls and puts mixed,
+ * K/S 0.74–1.35, T 1 day–2 years, σ 8%–88%), in the same process.
  */
 import { bsmGreeks, bsmValue } from '../../src/core/bsm.js';
 import { normCdf, normInv } from '../../src/core/normal.js';
 import type { OptionKind } from '../../src/core/types.js';
-import { measure, report } from './harness.js';
+import { measure, report, type Measure } from './harness.js';
 
 const N = 4096;
+
+/**
+ * The machine is shared: measure the candidates in alternating rounds and keep each one's best
+ * round, so a burst of load during the baseline's turn does not skew the ratio.
+ */
+function bestOf(rounds: number, cases: [string, () => unknown][], ops: number): Measure[] {
+  const best: Measure[] = [];
+  for (let k = 0; k < rounds; k++) {
+    cases.forEach(([name, f], i) => {
+      const m = measure(name, f, ops, 0.4);
+      if (!best[i] || m.perOp < best[i].perOp) best[i] = m;
+    });
+  }
+  return best;
+}
 
 function makeLegs(seed: number) {
   let a = seed >>> 0;
@@ -37,41 +53,43 @@ function makeLegs(seed: number) {
 }
 
 export function run(): void {
-  const L = makeLegs(20261201);
-  const { kind, S, K, T, r, q, v } = L;
+  const { kind, S, K, T, r, q, v } = makeLegs(20261201);
 
-  const floor = measure(
-    'floor: exp+log+sqrt+normCdf per leg',
-    () => {
-      let acc = 0;
-      for (let i = 0; i < N; i++) {
-        const sd = v[i] * Math.sqrt(T[i]);
-        const d = Math.log(S[i] / K[i]) / sd;
-        acc += Math.exp(-r[i] * T[i]) * normCdf(d);
-      }
-      return acc;
-    },
-    N,
-  );
-  const greeks = measure(
-    'bsmGreeks per leg',
-    () => {
-      let acc = 0;
-      for (let i = 0; i < N; i++) {
-        const g = bsmGreeks(kind[i], S[i], K[i], T[i], r[i], q[i], v[i]);
-        acc += g.value + g.delta + g.gamma + g.vega + g.theta + g.rho;
-      }
-      return acc;
-    },
-    N,
-  );
-  const value = measure(
-    'bsmValue per leg',
-    () => {
-      let acc = 0;
-      for (let i = 0; i < N; i++) acc += bsmValue(kind[i], S[i], K[i], T[i], r[i], q[i], v[i]);
-      return acc;
-    },
+  const [floor, greeks, value] = bestOf(
+    3,
+    [
+      [
+        'floor: exp+log+sqrt+normCdf per leg',
+        () => {
+          let acc = 0;
+          for (let i = 0; i < N; i++) {
+            const sd = v[i] * Math.sqrt(T[i]);
+            const d = Math.log(S[i] / K[i]) / sd;
+            acc += Math.exp(-r[i] * T[i]) * normCdf(d);
+          }
+          return acc;
+        },
+      ],
+      [
+        'bsmGreeks per leg',
+        () => {
+          let acc = 0;
+          for (let i = 0; i < N; i++) {
+            const g = bsmGreeks(kind[i], S[i], K[i], T[i], r[i], q[i], v[i]);
+            acc += g.value + g.delta + g.gamma + g.vega + g.theta + g.rho;
+          }
+          return acc;
+        },
+      ],
+      [
+        'bsmValue per leg',
+        () => {
+          let acc = 0;
+          for (let i = 0; i < N; i++) acc += bsmValue(kind[i], S[i], K[i], T[i], r[i], q[i], v[i]);
+          return acc;
+        },
+      ],
+    ],
     N,
   );
   report(floor);
@@ -84,31 +102,34 @@ export function run(): void {
     z[i] = -8 + (16 * i) / N;
     p[i] = (i + 0.5) / N;
   }
-  const expLoop = measure(
-    'Math.exp alone',
-    () => {
-      let acc = 0;
-      for (let i = 0; i < N; i++) acc += Math.exp(-0.5 * z[i] * z[i]);
-      return acc;
-    },
-    N,
-  );
-  const cdf = measure(
-    'normCdf, z in [−8, 8]',
-    () => {
-      let acc = 0;
-      for (let i = 0; i < N; i++) acc += normCdf(z[i]);
-      return acc;
-    },
-    N,
-  );
-  const inv = measure(
-    'normInv, p in (0, 1)',
-    () => {
-      let acc = 0;
-      for (let i = 0; i < N; i++) acc += normInv(p[i]);
-      return acc;
-    },
+  const [expLoop, cdf, inv] = bestOf(
+    3,
+    [
+      [
+        'Math.exp alone',
+        () => {
+          let acc = 0;
+          for (let i = 0; i < N; i++) acc += Math.exp(-0.5 * z[i] * z[i]);
+          return acc;
+        },
+      ],
+      [
+        'normCdf, z in [−8, 8]',
+        () => {
+          let acc = 0;
+          for (let i = 0; i < N; i++) acc += normCdf(z[i]);
+          return acc;
+        },
+      ],
+      [
+        'normInv, p in (0, 1)',
+        () => {
+          let acc = 0;
+          for (let i = 0; i < N; i++) acc += normInv(p[i]);
+          return acc;
+        },
+      ],
+    ],
     N,
   );
   report(expLoop);

@@ -8,7 +8,7 @@ import { bsmGreeks, bsmValue } from '../../src/core/bsm.js';
 import { normCdf } from '../../src/core/normal.js';
 import { impliedVol } from '../../src/core/iv.js';
 import type { OptionKind } from '../../src/core/types.js';
-import { measure, report } from './harness.js';
+import { measure, report, type Measure } from './harness.js';
 
 export function run(): void {
   const kind: OptionKind[] = [];
@@ -50,27 +50,37 @@ export function run(): void {
     const res = impliedVol(kind[i], price[i], S[i], K[i], T[i], r[i], q[i]);
     worst = Math.max(worst, res.ok ? Math.abs(res.iv / sig[i] - 1) : Infinity);
   }
-  const value = measure(
-    'bsmValue on the same inputs',
-    () => {
-      let acc = 0;
-      for (let i = 0; i < n; i++) acc += bsmValue(kind[i], S[i], K[i], T[i], r[i], q[i], sig[i]);
-      return acc;
-    },
-    n,
-  );
-  const solve = measure(
-    `impliedVol over the grid (${n} points)`,
-    () => {
-      let acc = 0;
-      for (let i = 0; i < n; i++) {
-        const res = impliedVol(kind[i], price[i], S[i], K[i], T[i], r[i], q[i]);
-        if (res.ok) acc += res.iv;
-      }
-      return acc;
-    },
-    n,
-  );
+  // alternating rounds, best of each (the machine is shared; see bsm.bench.ts)
+  let value: Measure | undefined;
+  let solve: Measure | undefined;
+  for (let k = 0; k < 3; k++) {
+    const mv = measure(
+      'bsmValue on the same inputs',
+      () => {
+        let acc = 0;
+        for (let i = 0; i < n; i++) acc += bsmValue(kind[i], S[i], K[i], T[i], r[i], q[i], sig[i]);
+        return acc;
+      },
+      n,
+      0.4,
+    );
+    const ms = measure(
+      `impliedVol over the grid (${n} points)`,
+      () => {
+        let acc = 0;
+        for (let i = 0; i < n; i++) {
+          const res = impliedVol(kind[i], price[i], S[i], K[i], T[i], r[i], q[i]);
+          if (res.ok) acc += res.iv;
+        }
+        return acc;
+      },
+      n,
+      0.4,
+    );
+    if (!value || mv.perOp < value.perOp) value = mv;
+    if (!solve || ms.perOp < solve.perOp) solve = ms;
+  }
+  if (!value || !solve) return;
   report(value);
   report(solve, value, '≥ 1 M/s');
   console.log(
