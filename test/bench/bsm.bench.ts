@@ -96,6 +96,38 @@ export function run(): void {
   report(greeks, floor, '≥ 10 M/s and ≤ 2× floor');
   report(value, floor);
 
+  // The outcome distribution's inner loop: one leg (same K, T, r, q, σ) across a grid of spots.
+  const grid = new Float64Array(N);
+  for (let i = 0; i < N; i++) grid[i] = 50 + (100 * i) / N;
+  const [floorGrid, greeksGrid] = bestOf(
+    3,
+    [
+      [
+        'floor over a spot grid (one leg)',
+        () => {
+          let acc = 0;
+          const sd = 0.3 * Math.sqrt(0.4);
+          for (let i = 0; i < N; i++) acc += Math.exp(-0.045 * 0.4) * normCdf(Math.log(grid[i] / 100) / sd);
+          return acc;
+        },
+      ],
+      [
+        'bsmGreeks over a spot grid (one leg)',
+        () => {
+          let acc = 0;
+          for (let i = 0; i < N; i++) {
+            const g = bsmGreeks('put', grid[i], 100, 0.4, 0.045, 0.01, 0.3);
+            acc += g.value + g.delta + g.gamma + g.vega + g.theta + g.rho;
+          }
+          return acc;
+        },
+      ],
+    ],
+    N,
+  );
+  report(floorGrid);
+  report(greeksGrid, floorGrid);
+
   const z = new Float64Array(N);
   const p = new Float64Array(N);
   for (let i = 0; i < N; i++) {
