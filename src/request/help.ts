@@ -51,7 +51,7 @@ const SECTIONS: Record<HelpTopic, Section> = {
   compare: {
     title: 'compare — several checks side by side',
     lines: [
-      'compare CHECK ; PART ; PART …   (2 to 8 parts)',
+      'compare CHECK ; PART ; PART …   (2 to 6 checks)',
       'Each part inherits from the one before: terms written in a part override,',
       'legs written in a part replace the legs. A leg\'s own iv is kept unless the leg is restated.',
     ],
