@@ -26,11 +26,18 @@
  * rho per 1% of rate).
  */
 import type { IvResult } from './iv.js';
-import type { Greeks, OptionKind } from './types.js';
+import { normCdf, normPdf } from './normal.js';
+import type { Greeks, Jumps, OptionKind } from './types.js';
 
 export interface AmericanOptions {
   /** 'normal': about 1e-4 absolute on typical cases; 'fine': about 1e-5, several times slower. */
   accuracy?: 'normal' | 'fine';
+  /**
+   * Merton jumps (intensity per year, mean and s.d. of the log jump); σ is then the diffusion's
+   * volatility and the drift is compensated. The backward equation gains the jump integral
+   * (a PIDE), treated explicitly.
+   */
+  jumps?: Jumps;
 }
 
 /** Grid sizes: space intervals and time steps. */
@@ -82,13 +89,140 @@ interface Problem {
   r: number;
   q: number;
   sigma: number;
+  jumps?: Jumps;
+}
+
+/** Jumps that matter (intensity > 0), else undefined. */
+function activeJumps(j: Jumps | undefined): Jumps | undefined {
+  return j && j.intensity > 0 ? j : undefined;
+}
+
+/** Standard deviation of ln S_T: diffusion and jumps together. */
+function totalSd(p: Problem): number {
+  const j = p.jumps;
+  const v = p.sigma * p.sigma + (j ? j.intensity * (j.mean * j.mean + j.sd * j.sd) : 0);
+  return Math.sqrt(v * p.T);
 }
 
 /** Half-width of the grid in x (from ln K), enough that the boundaries do not matter. */
 function halfWidth(p: Problem, sds: number): number {
-  const s = p.sigma * Math.sqrt(p.T);
-  const nu = Math.abs(p.r - p.q - 0.5 * p.sigma * p.sigma) * p.T;
+  const s = totalSd(p);
+  const j = p.jumps;
+  const comp = j ? j.intensity * Math.expm1(j.mean + 0.5 * j.sd * j.sd) : 0;
+  const nu = Math.abs(p.r - p.q - 0.5 * p.sigma * p.sigma - comp) * p.T;
   return sds * s + nu + 0.02;
+}
+
+// ---------------------------------------------------------------------------------------------
+// the jump integral (Merton jumps): ∫ V(x + y) f(y) dy with y ~ N(m, δ²)
+
+/**
+ * The jump integral as weights on the node values (V piecewise linear between nodes, integrated
+ * exactly against the normal density: Φ and φ at the nodes) plus the parts beyond the grid, where
+ * V follows its asymptote A − B·e^x below (put) or B·e^x − A above (call): those are kept as the
+ * mass and the e^x-moment of the density beyond each end.
+ */
+interface JumpOp {
+  lam: number;
+  kappa: number;
+  /** for interior node i: weights w[off[i] .. off[i] + len[i]) on nodes from[i] … */
+  from: Int32Array;
+  len: Int32Array;
+  off: Int32Array;
+  w: Float64Array;
+  /** beyond the low end: P(x + y < x₀) and E[e^{x+y}; x + y < x₀]; likewise beyond the high end */
+  lo0: Float64Array;
+  lo1: Float64Array;
+  hi0: Float64Array;
+  hi1: Float64Array;
+}
+
+const jumpCache = new WeakMap<Float64Array, { m: number; d: number; lam: number; op: JumpOp }>();
+
+function jumpOperator(x: Float64Array, j: Jumps): JumpOp {
+  const hit = jumpCache.get(x);
+  if (hit && hit.m === j.mean && hit.d === j.sd && hit.lam === j.intensity) return hit.op;
+  const n = x.length;
+  const last = n - 1;
+  const m = j.mean;
+  const d = j.sd;
+  const from = new Int32Array(n);
+  const len = new Int32Array(n);
+  const off = new Int32Array(n);
+  const lo0 = new Float64Array(n);
+  const lo1 = new Float64Array(n);
+  const hi0 = new Float64Array(n);
+  const hi1 = new Float64Array(n);
+  const rows: Float64Array[] = [];
+  let total = 0;
+  const Phi = new Float64Array(n);
+  const phi = new Float64Array(n);
+  const growth = Math.exp(m + 0.5 * d * d);
+  for (let i = 1; i < last; i++) {
+    const c = x[i] + m; // centre of x + y
+    const row = new Float64Array(n);
+    let kLo = last;
+    let kHi = 0;
+    if (d > 1e-10) {
+      const zLo = (x[0] - c) / d;
+      const zHi = (x[last] - c) / d;
+      lo0[i] = normCdf(zLo);
+      lo1[i] = Math.exp(x[i]) * growth * normCdf(zLo - d);
+      hi0[i] = normCdf(-zHi);
+      hi1[i] = Math.exp(x[i]) * growth * normCdf(d - zHi);
+      for (let k = 0; k < n; k++) {
+        const u = (x[k] - c) / d;
+        Phi[k] = normCdf(u);
+        phi[k] = normPdf(u);
+      }
+      for (let k = 0; k < last; k++) {
+        const P = Phi[k + 1] - Phi[k];
+        if (P < 1e-300 && phi[k] === 0 && phi[k + 1] === 0) continue;
+        const h = x[k + 1] - x[k];
+        const Q = d * (phi[k] - phi[k + 1]);
+        const wk1 = ((c - x[k]) * P + Q) / h; // ∫ t over the cell, t = (x − x_k)/h
+        row[k] += P - wk1;
+        row[k + 1] += wk1;
+        if (k < kLo) kLo = k;
+        if (k + 1 > kHi) kHi = k + 1;
+      }
+    } else {
+      // a fixed jump size: V(x_i + m), linear between nodes
+      if (c < x[0]) {
+        lo0[i] = 1;
+        lo1[i] = Math.exp(c);
+      } else if (c > x[last]) {
+        hi0[i] = 1;
+        hi1[i] = Math.exp(c);
+      } else {
+        let k = 0;
+        while (k < last - 1 && x[k + 1] < c) k++;
+        const t = (c - x[k]) / (x[k + 1] - x[k]);
+        row[k] = 1 - t;
+        row[k + 1] = t;
+        kLo = k;
+        kHi = k + 1;
+      }
+    }
+    if (kHi >= kLo) {
+      from[i] = kLo;
+      len[i] = kHi - kLo + 1;
+      rows[i] = row.subarray(kLo, kHi + 1);
+      total += len[i];
+    }
+  }
+  const w = new Float64Array(total);
+  let o = 0;
+  for (let i = 1; i < last; i++) {
+    off[i] = o;
+    if (len[i] > 0) {
+      w.set(rows[i], o);
+      o += len[i];
+    }
+  }
+  const op: JumpOp = { lam: j.intensity, kappa: Math.expm1(m + 0.5 * d * d), from, len, off, w, lo0, lo1, hi0, hi1 };
+  jumpCache.set(x, { m, d: j.sd, lam: j.intensity, op });
+  return op;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -140,6 +274,7 @@ export function solveBackward(
   beta = 1,
   rannacher = 4,
   smoothKink = true,
+  jumps?: Jumps,
 ): Solution {
   const p: Problem = { kind, K, T, r, q, sigma };
   const n = x.length;
@@ -153,7 +288,10 @@ export function solveBackward(
   const b = new Float64Array(n);
   const c = new Float64Array(n);
   const hs = 0.5 * sigma * sigma;
-  const mu = r - q - hs;
+  const jop = jumps && jumps.intensity > 0 ? jumpOperator(x, jumps) : null;
+  const lam = jop ? jop.lam : 0;
+  // with jumps: compensated drift, and the −λV of the jump term kept implicit with the rest
+  const mu = r - q - hs - (jop ? lam * jop.kappa : 0);
   for (let i = 1; i < last; i++) {
     const hm = x[i] - x[i - 1];
     const hp = x[i + 1] - x[i];
@@ -175,7 +313,7 @@ export function solveBackward(
       }
     }
     a[i] = am + ac;
-    b[i] = -am - cp + bc - r;
+    b[i] = -am - cp + bc - r - lam;
     c[i] = cp + cc;
   }
 
@@ -228,6 +366,28 @@ export function solveBackward(
     tau = tNext;
   }
 
+  // the jump integral at the current and the previous level, and its value beyond the grid
+  let jNow = new Float64Array(n);
+  let jPrev = new Float64Array(n);
+  let dtPrev = 0;
+  const jumpIntegral = (op: JumpOp, vv: Float64Array, tau: number, out: Float64Array): void => {
+    // asymptote beyond the in-the-money end: A − B·e^x (put, below) or B·e^x − A (call, above)
+    const xEnd = kind === 'put' ? S0 : Sn;
+    const fwdA = K * Math.exp(-r * tau);
+    const fwdB = Math.exp(-q * tau);
+    const useIntrinsic = american && payoff(kind, xEnd, K) >= Math.max(kind === 'put' ? fwdA - fwdB * xEnd : fwdB * xEnd - fwdA, 0);
+    const A = useIntrinsic ? K : fwdA;
+    const B = useIntrinsic ? 1 : fwdB;
+    for (let i = 1; i < last; i++) {
+      let sum = kind === 'put' ? A * op.lo0[i] - B * op.lo1[i] : B * op.hi1[i] - A * op.hi0[i];
+      const o = op.off[i];
+      const f = op.from[i];
+      const L = op.len[i];
+      for (let k = 0; k < L; k++) sum += op.w[o + k] * vv[f + k];
+      out[i] = sum;
+    }
+  };
+
   for (let s = 0; s < steps.length; s += 3) {
     const tau0 = steps[s];
     const tau1 = steps[s + 1];
@@ -243,6 +403,17 @@ export function solveBackward(
       for (let i = 1; i < last; i++) rhs[i] = v[i] + ex * (a[i] * v[i - 1] + b[i] * v[i] + c[i] * v[i + 1]);
     } else {
       for (let i = 1; i < last; i++) rhs[i] = v[i];
+    }
+    if (jop) {
+      // the jump integral explicitly: at τ0 for the implicit start-up steps, extrapolated to the
+      // middle of the step (second order) for the Crank-Nicolson steps
+      jumpIntegral(jop, v, tau0, jNow);
+      const extra = theta === 0.5 && dtPrev > 0 ? (0.5 * dt) / dtPrev : 0;
+      for (let i = 1; i < last; i++) rhs[i] += dt * lam * (jNow[i] + extra * (jNow[i] - jPrev[i]));
+      const swap = jPrev;
+      jPrev = jNow;
+      jNow = swap;
+      dtPrev = dt;
     }
     if (method === 1) {
       // Brennan-Schwartz for the put: eliminate from the top, back-substitute upwards starting
@@ -363,7 +534,10 @@ function lagrange4(x: Float64Array, v: Float64Array, j: number, xs: number): [nu
 // ---------------------------------------------------------------------------------------------
 // public functions
 
-function checkInputs(S: number | null, K: number, T: number, r: number, q: number, sigma: number): void {
+function checkInputs(S: number | null, K: number, T: number, r: number, q: number, sigma: number, jumps?: Jumps): void {
+  if (jumps && !(Number.isFinite(jumps.intensity) && jumps.intensity >= 0 && Number.isFinite(jumps.mean) && Number.isFinite(jumps.sd) && jumps.sd >= 0)) {
+    throw new RangeError(`american: jumps need a finite intensity ≥ 0, a finite mean and an s.d. ≥ 0 (got ${jumps.intensity}, ${jumps.mean}, ${jumps.sd})`);
+  }
   const bad = (what: string, v: number): never => {
     throw new RangeError(`american: ${what} must be ${what === 'T' ? 'finite and ≥ 0' : 'finite and > 0'} (got ${v})`);
   };
@@ -411,7 +585,7 @@ interface AtSpot {
 function solveAtSpot(p: Problem, S: number, nx: number, refine: number, nt: number, withTheta: boolean, layout: Problem): AtSpot {
   const x = gridFor(layout, S, nx, refine);
   const xs = Math.log(S);
-  const sol = solveBackward(p.kind, p.K, p.T, p.r, p.q, p.sigma, x, nt);
+  const sol = solveBackward(p.kind, p.K, p.T, p.r, p.q, p.sigma, x, nt, true, 1, 4, true, p.jumps);
   // the spot is a node unless it lies within half a step of the strike: then interpolate
   const i = x.indexOf(xs);
   let at: (v: Float64Array) => [number, number, number];
@@ -458,11 +632,13 @@ export function americanFdValue(
   q: number,
   sigma: number,
   size: FdSize,
+  jumps?: Jumps,
 ): number {
-  checkInputs(S, K, T, r, q, sigma);
+  checkInputs(S, K, T, r, q, sigma, jumps);
+  const j = activeJumps(jumps);
   if (T === 0) return payoff(kind, S, K);
-  if (sigma * Math.sqrt(T) < 1e-4) return deterministicValue(kind, S, K, T, r, q);
-  const v = richardson({ kind, K, T, r, q, sigma }, S, size, false).f;
+  if (!j && sigma * Math.sqrt(T) < 1e-4) return deterministicValue(kind, S, K, T, r, q);
+  const v = richardson({ kind, K, T, r, q, sigma, jumps: j }, S, size, false).f;
   return Math.max(v, payoff(kind, S, K));
 }
 
@@ -477,18 +653,31 @@ export function americanValue(
   sigma: number,
   opts: AmericanOptions = {},
 ): number {
-  return americanFdValue(kind, S, K, T, r, q, sigma, sizeFor(opts.accuracy ?? 'normal'));
+  return americanFdValue(kind, S, K, T, r, q, sigma, sizeFor(opts.accuracy ?? 'normal'), opts.jumps);
 }
 
 /** Grid for a problem seen from spot S: spans ln K ± w and S ± w/2 at least. */
+/** Recent grids, so that re-solves on the same layout (bumps) reuse the grid and its jump weights. */
+const gridCache = new Map<string, Float64Array>();
+
 function gridFor(p: Problem, S: number, nx: number, refine = 1): Float64Array {
+  const j = p.jumps;
+  const key = `${p.kind}|${p.K}|${p.T}|${p.r}|${p.q}|${p.sigma}|${j ? `${j.intensity}|${j.mean}|${j.sd}` : ''}|${S}|${nx}|${refine}`;
+  const hit = gridCache.get(key);
+  if (hit) return hit;
+  if (gridCache.size > 32) gridCache.clear();
+  const x = makeGrid(p, S, nx, refine);
+  gridCache.set(key, x);
+  return x;
+}
+
+function makeGrid(p: Problem, S: number, nx: number, refine: number): Float64Array {
   const xK = Math.log(p.K);
   const xs = Math.log(S);
   const w = halfWidth(p, 5);
   const xLo = Math.min(xK - w, xs - 0.6 * w);
   const xHi = Math.max(xK + w, xs + 0.6 * w);
-  const sd = p.sigma * Math.sqrt(p.T);
-  const conc = Math.max(0.5 * sd, 0.01);
+  const conc = Math.max(0.5 * p.sigma * Math.sqrt(p.T), 0.25 * totalSd(p), 0.01);
   // keep the density of nodes near the strike when the span is widened for a far spot
   const n = Math.round(nx * Math.max(1, (Math.asinh((xHi - xK) / conc) - Math.asinh((xLo - xK) / conc)) / (2 * Math.asinh(w / conc))));
   return sinhGrid(xK, xLo, xHi, n, conc, xs, refine);
@@ -511,15 +700,16 @@ export function americanGreeks(
   sigma: number,
   opts: AmericanOptions = {},
 ): Greeks {
-  checkInputs(S, K, T, r, q, sigma);
+  checkInputs(S, K, T, r, q, sigma, opts.jumps);
+  const j = activeJumps(opts.jumps);
   const size = sizeFor(opts.accuracy ?? 'normal');
   const intrinsic = payoff(kind, S, K);
   if (T === 0) {
     const itm = kind === 'call' ? S > K : S < K;
     return { value: intrinsic, delta: itm ? (kind === 'call' ? 1 : -1) : 0, gamma: 0, vega: 0, theta: 0, rho: 0 };
   }
-  const p: Problem = { kind, K, T, r, q, sigma };
-  if (sigma * Math.sqrt(T) < 1e-4) return deterministicGreeks(kind, S, K, T, r, q, sigma);
+  const p: Problem = { kind, K, T, r, q, sigma, jumps: j };
+  if (!j && sigma * Math.sqrt(T) < 1e-4) return deterministicGreeks(kind, S, K, T, r, q);
   const base = richardson(p, S, size, true);
   const value = Math.max(base.f, intrinsic);
   let delta = base.fx / S;
@@ -532,20 +722,21 @@ export function americanGreeks(
     theta = 0;
   } else {
     // no-arbitrage bounds of the American value (V ≥ payoff and convex in S): |delta| ≤ 1 with the
-    // option's sign, gamma ≥ 0. Only the interpolation across the exercise boundary (a jump in
-    // V_SS) can step outside them, by a little.
+    // option's sign, gamma ≥ 0. Only differences across the exercise boundary (where V_SS jumps)
+    // can step outside them, and only by a little.
     delta = kind === 'call' ? Math.min(Math.max(delta, 0), 1) : Math.min(Math.max(delta, -1), 0);
     if (gamma < 0) gamma = 0;
   }
   const at = (sig: number, rate: number): number => richardson({ ...p, sigma: sig, r: rate }, S, size, false, p).f;
-  const hv = Math.min(0.005, 0.5 * sigma);
-  const vega = ((at(sigma + hv, r) - at(sigma - hv, r)) / (2 * hv)) * 0.01;
+  const hv = 0.005;
+  // central ±0.5 vol point; forward from σ when σ is below the bump
+  const vega = sigma >= hv ? (at(sigma + hv, r) - at(sigma - hv, r)) / (2 * hv) * 0.01 : ((at(sigma + hv, r) - at(sigma, r)) / hv) * 0.01;
   const hr = 0.005;
   const rho = ((at(sigma, r + hr) - at(sigma, r - hr)) / (2 * hr)) * 0.01;
   return { value, delta, gamma, vega, theta, rho };
 }
 
-function deterministicGreeks(kind: OptionKind, S: number, K: number, T: number, r: number, q: number, sigma: number): Greeks {
+function deterministicGreeks(kind: OptionKind, S: number, K: number, T: number, r: number, q: number): Greeks {
   const v = (s: number, t: number, rate: number): number => deterministicValue(kind, s, K, t, rate, q);
   const value = v(S, T, r);
   const hS = 1e-4 * S;
@@ -553,7 +744,6 @@ function deterministicGreeks(kind: OptionKind, S: number, K: number, T: number, 
   const ht = Math.min(1e-4, T / 2);
   const theta = -((v(S, T, r) - v(S, T - ht, r)) / ht) / 365;
   const rho = ((v(S, T, r + 1e-4) - v(S, T, r - 1e-4)) / 2e-4) * 0.01;
-  void sigma;
   return { value, delta, gamma: 0, vega: 0, theta, rho };
 }
 
@@ -561,9 +751,10 @@ function deterministicGreeks(kind: OptionKind, S: number, K: number, T: number, 
 // value curve
 
 /**
- * One backward solve giving the American value at every spot, for revaluing a live leg across a
- * distribution of spots. Inside the grid: a natural cubic spline in ln S through the node values
- * (floored at intrinsic); outside it the asymptotes (deep in the money max(intrinsic, forward
+ * One backward solve (in fact a pair, n and 2n space steps, combined by Richardson) giving the
+ * American value at every spot, for revaluing a live leg across a distribution of spots; with
+ * `jumps`, under Merton jumps (the PIDE). Inside the grid: a natural cubic spline in ln S through
+ * the node values (floored at intrinsic); outside it the asymptotes (deep in the money max(intrinsic, forward
  * intrinsic), far out of the money 0). The grid spans [sLo, sHi] as far as it matters: beyond
  * about 8 standard deviations from the strike the asymptotes are exact to far below 1e-8·K.
  */
@@ -576,28 +767,29 @@ export function americanValueCurve(
   sigma: number,
   sLo: number,
   sHi: number,
+  jumps?: Jumps,
 ): (S: number) => number {
-  checkInputs(null, K, T, r, q, sigma);
+  checkInputs(null, K, T, r, q, sigma, jumps);
+  const j = activeJumps(jumps);
   if (!(Number.isFinite(sLo) && Number.isFinite(sHi) && sLo > 0 && sHi > sLo)) {
     throw new RangeError(`americanValueCurve: need 0 < sLo < sHi, finite (got ${sLo}, ${sHi})`);
   }
   if (T === 0) return (S: number) => payoff(kind, Math.max(S, 0), K);
-  if (sigma * Math.sqrt(T) < 1e-4) {
+  if (!j && sigma * Math.sqrt(T) < 1e-4) {
     return (S: number) => (S > 0 ? deterministicValue(kind, S, K, T, r, q) : payoff(kind, 0, K));
   }
-  const p: Problem = { kind, K, T, r, q, sigma };
+  const p: Problem = { kind, K, T, r, q, sigma, jumps: j };
   const xK = Math.log(K);
   const wMax = halfWidth(p, 8);
   const xLo = Math.max(Math.min(Math.log(sLo), xK - halfWidth(p, 6)), xK - wMax);
   const xHi = Math.min(Math.max(Math.log(sHi), xK + halfWidth(p, 6)), xK + wMax);
-  const sd = sigma * Math.sqrt(T);
-  const conc = Math.max(0.8 * sd, 0.01);
+  const conc = Math.max(0.8 * sigma * Math.sqrt(T), 0.4 * totalSd(p), 0.01);
   // Richardson over two solves (n and 2n intervals): the fine node values corrected by the
   // difference to the coarse solution (interpolated by its spline) over 3
   const xc = sinhGrid(xK, xLo, xHi, CURVE_NX, conc);
   const x = sinhGrid(xK, xLo, xHi, 2 * CURVE_NX, conc);
-  const coarse = naturalSpline(xc, solveBackward(kind, K, T, r, q, sigma, xc, CURVE_NT).v);
-  const fine = solveBackward(kind, K, T, r, q, sigma, x, CURVE_NT).v;
+  const coarse = naturalSpline(xc, solveBackward(kind, K, T, r, q, sigma, xc, CURVE_NT, true, 1, 4, true, j).v);
+  const fine = solveBackward(kind, K, T, r, q, sigma, x, CURVE_NT, true, 1, 4, true, j).v;
   const vx = new Float64Array(x.length);
   for (let i = 0; i < x.length; i++) {
     const g = payoff(kind, Math.exp(x[i]), K);
@@ -661,7 +853,8 @@ function naturalSpline(x: Float64Array, y: Float64Array): (t: number) => number 
 /**
  * The volatility at which the American value equals `price`. Fails (with the bound) when the
  * price is at or below intrinsic value (the American lower bound) or at or above the upper bound
- * (S for a call, K for a put). Brent's method on σ ∈ [0.0005, 5].
+ * (S for a call, K for a put). Brent's method on σ ∈ [0.0005, 5]. With `jumps`, the diffusion's
+ * volatility under Merton jumps.
  */
 export function americanImpliedVol(
   kind: OptionKind,
@@ -671,8 +864,10 @@ export function americanImpliedVol(
   T: number,
   r: number,
   q: number,
+  jumps?: Jumps,
 ): IvResult {
-  if (!(S > 0 && K > 0 && T >= 0) || ![price, S, K, T, r, q].every(Number.isFinite)) {
+  const badJumps = !!jumps && !(Number.isFinite(jumps.intensity) && jumps.intensity >= 0 && Number.isFinite(jumps.mean) && Number.isFinite(jumps.sd) && jumps.sd >= 0);
+  if (!(S > 0 && K > 0 && T >= 0) || ![price, S, K, T, r, q].every(Number.isFinite) || badJumps) {
     return {
       ok: false,
       bound: 'lower',
@@ -697,7 +892,7 @@ export function americanImpliedVol(
   }
   const sMin = 0.0005;
   const sMax = 5;
-  const f = (s: number): number => americanFdValue(kind, S, K, T, r, q, s, size) - price;
+  const f = (s: number): number => americanFdValue(kind, S, K, T, r, q, s, size, jumps) - price;
   let a = sMin;
   let b = sMax;
   let fa = f(a);

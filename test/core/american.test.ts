@@ -9,7 +9,8 @@ import {
 } from '../../src/core/american.js';
 import { bbsrValue, crrValue } from '../../src/core/binomial.js';
 import { bsmValue } from '../../src/core/bsm.js';
-import type { OptionKind } from '../../src/core/types.js';
+import { mertonGreeks, mertonValue } from '../../src/core/merton.js';
+import type { Jumps, OptionKind } from '../../src/core/types.js';
 
 type Case = [OptionKind, number, number, number, number, number, number]; // kind S K T r q sigma
 
@@ -292,5 +293,82 @@ describe('americanImpliedVol', () => {
     if (!high.ok) expect(high.bound).toBe('upper');
     const bad = americanImpliedVol('put', Number.NaN, 95, 100, 0.75, 0.05, 0.01);
     expect(bad.ok).toBe(false);
+    // with jumps: the diffusion volatility of a price made with σ = 22%
+    const j: Jumps = { intensity: 1, mean: -0.1, sd: 0.15 };
+    const pj = americanValue('put', 95, 100, 0.75, 0.05, 0.01, 0.22, { jumps: j });
+    const rj = americanImpliedVol('put', pj, 95, 100, 0.75, 0.05, 0.01, j);
+    expect(rj.ok).toBe(true);
+    if (rj.ok) expect(Math.abs(rj.iv - 0.22)).toBeLessThan(1e-6);
+  });
+});
+
+describe('American options with Merton jumps (the PIDE)', () => {
+  const DHFV: Jumps = { intensity: 0.1, mean: -0.9, sd: 0.45 };
+
+  it('European mode of the PIDE solver converges to the Merton series', () => {
+    const K = 100;
+    for (const [kind, T, r, q, sigma, j] of [
+      ['put', 0.25, 0.05, 0, 0.15, DHFV],
+      ['call', 1, 0.05, 0.02, 0.2, { intensity: 1, mean: -0.1, sd: 0.15 }],
+    ] as [OptionKind, number, number, number, number, Jumps][]) {
+      const worst = (n: number, nt: number): number => {
+        const x = new Float64Array(n);
+        const sdTot = Math.sqrt((sigma * sigma + j.intensity * (j.mean * j.mean + j.sd * j.sd)) * T);
+        const h = (12 * sdTot) / (n - 1);
+        for (let i = 0; i < n; i++) x[i] = Math.log(K) + (i - (n - 1) / 2) * h;
+        const sol = solveBackward(kind, K, T, r, q, sigma, x, nt, false, 1, 4, true, j);
+        let e = 0;
+        for (const S of [80, 95, 100, 110, 125]) {
+          const i = Math.round((Math.log(S) - x[0]) / h);
+          e = Math.max(e, Math.abs(sol.v[i] - mertonValue(kind, Math.exp(x[i]), K, T, r, q, sigma, j)));
+        }
+        return e;
+      };
+      const coarse = worst(201, 50);
+      const fine = worst(801, 200);
+      expect(fine).toBeLessThan(4e-4);
+      expect(fine).toBeLessThan(coarse / 8); // second order: 16× in theory
+    }
+  });
+
+  it("reproduces the published American put under Merton jumps (d'Halluin, Forsyth and Vetzal)", () => {
+    // d'Halluin, Forsyth and Vetzal, "Robust numerical methods for contingent claims under jump
+    // diffusion processes", IMA J. Numer. Anal. 25 (2005): S = K = 100, T = 0.25, σ = 0.15,
+    // r = 0.05, λ = 0.1, log jump N(−0.9, 0.45²): European put 3.149026, American put 3.241251
+    // (both from memory).
+    expect(Math.abs(mertonValue('put', 100, 100, 0.25, 0.05, 0, 0.15, DHFV) - 3.149026)).toBeLessThan(2e-6);
+    expect(Math.abs(americanValue('put', 100, 100, 0.25, 0.05, 0, 0.15, { jumps: DHFV }) - 3.241251)).toBeLessThan(1e-4);
+  });
+
+  it("Merton's theorem with jumps: an American call without dividends is the European Merton call", () => {
+    const j: Jumps = { intensity: 1, mean: -0.1, sd: 0.15 };
+    const g = americanGreeks('call', 100, 100, 1, 0.05, 0, 0.2, { jumps: j });
+    const m = mertonGreeks('call', 100, 100, 1, 0.05, 0, 0.2, j);
+    expect(Math.abs(g.value - m.value)).toBeLessThan(1.5e-4);
+    expect(Math.abs(g.delta - m.delta)).toBeLessThan(1e-4);
+    expect(Math.abs(g.gamma - m.gamma)).toBeLessThan(1e-5);
+    expect(Math.abs(g.vega - m.vega)).toBeLessThan(1e-4);
+    expect(Math.abs(g.theta - m.theta)).toBeLessThan(1e-5);
+    expect(Math.abs(g.rho - m.rho)).toBeLessThan(1e-4);
+  });
+
+  it('jumps with zero intensity change nothing; with jumps the put is worth at least the European and intrinsic', () => {
+    const none = americanValue('put', 95, 100, 0.5, 0.05, 0, 0.25, { jumps: { intensity: 0, mean: -0.2, sd: 0.1 } });
+    expect(none).toBe(americanValue('put', 95, 100, 0.5, 0.05, 0, 0.25));
+    const j: Jumps = { intensity: 2, mean: -0.1, sd: 0.1 };
+    for (const S of [70, 90, 100, 115]) {
+      const v = americanValue('put', S, 100, 0.5, 0.05, 0, 0.25, { jumps: j });
+      expect(v).toBeGreaterThanOrEqual(mertonValue('put', S, 100, 0.5, 0.05, 0, 0.25, j) - 1e-4);
+      expect(v).toBeGreaterThanOrEqual(Math.max(100 - S, 0));
+      expect(v).toBeGreaterThan(americanValue('put', S, 100, 0.5, 0.05, 0, 0.25) - 1e-9); // jumps add value here
+    }
+  });
+
+  it('the value curve with jumps agrees with the pointwise values', () => {
+    const j: Jumps = { intensity: 1, mean: -0.1, sd: 0.15 };
+    const f = americanValueCurve('put', 100, 0.5, 0.05, 0, 0.25, 20, 400, j);
+    for (const S of [60, 85, 100, 120, 160]) {
+      expect(Math.abs(f(S) - americanValue('put', S, 100, 0.5, 0.05, 0, 0.25, { jumps: j }))).toBeLessThan(1e-4);
+    }
   });
 });
