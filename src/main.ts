@@ -10,6 +10,7 @@ import { fileURLToPath } from 'node:url';
 import { loadConfig } from './config.js';
 import { createLog } from './log.js';
 import { startChatApp, type ChatApp } from './chat/app.js';
+import { chatSettings } from './chat/settings.js';
 
 /** Exit code for a configuration problem (EX_CONFIG). */
 export const EXIT_CONFIG = 78;
@@ -22,6 +23,12 @@ export async function main(env: Record<string, string | undefined> = process.env
     return EXIT_CONFIG;
   }
   const config = r.config;
+  const cs = config.mode === 'console' ? null : chatSettings(env);
+  if (cs && !cs.ok) {
+    process.stderr.write('kolmo: cannot start; fix these settings:\n');
+    for (const e of cs.errors) process.stderr.write(`  - ${e}\n`);
+    return EXIT_CONFIG;
+  }
   if (config.mode === 'console') {
     const { runConsole } = await import('./cli.js');
     await runConsole();
@@ -34,16 +41,23 @@ export async function main(env: Record<string, string | undefined> = process.env
   });
   let app: ChatApp;
   try {
-    app = await startChatApp(config, log);
+    app = await startChatApp(config, log, cs?.ok ? { settings: cs.settings } : {});
   } catch (err) {
     log.fatal({ err: err instanceof Error ? err.message : String(err) }, 'could not start');
     process.stderr.write(`kolmo: could not start: ${err instanceof Error ? err.message : String(err)}\n`);
     return 1;
   }
+  // SIGTERM/SIGINT: stop listening, let answers in progress finish within the grace period, hand
+  // back the rest (the inbox keeps them for the next start), flush and close the log. A second
+  // signal, or the grace period and 10 s more, ends the process at once.
+  const grace = cs?.ok ? cs.settings.shutdownGraceMs : 10000;
   const shutdown = (signal: string) => {
     log.info({ signal }, 'stopping');
-    const force = setTimeout(() => process.exit(1), 15000);
+    const force = setTimeout(() => process.exit(1), grace + 10000);
     force.unref();
+    const again = () => process.exit(1);
+    process.once('SIGINT', again);
+    process.once('SIGTERM', again);
     app.stop().then(
       () => process.exit(0),
       () => process.exit(1),

@@ -15,6 +15,7 @@
 import type { webApi } from '@slack/bolt';
 import type { Reply, Answer } from '../reply.js';
 import type { Store } from '../store/store.js';
+import { scrub } from '../log.js';
 import { answerMessages, escapeMrkdwn, monoNotice, plainNotice, rootMessage, SECTION_TEXT_MAX, type Block, type Message } from './blocks.js';
 
 type WebClient = webApi.WebClient;
@@ -111,7 +112,8 @@ export function explainFailure(err: unknown, what: string): string {
   if (code === 'slack_webapi_request_error') {
     return `Kolmo could not post ${what}: the workspace could not be reached. Try again shortly.`;
   }
-  return `Kolmo could not post ${what}: ${e.message ?? String(err)}.`;
+  // never a token in front of the asker, whatever the library put in its message
+  return `Kolmo could not post ${what}: ${scrub(e.message ?? String(err)).slice(0, 300)}.`;
 }
 
 export interface DeliverDeps {

@@ -2,9 +2,11 @@
  * Heavy work (the engine and chart rendering) kept off the event loop that acknowledges requests.
  *
  * WorkerPool: a fixed set of worker processes (default: one per core), each running worker.js
- * from the compiled tree, one job at a time, fed from a FIFO queue. A job has a deadline from the
- * moment it is submitted; a job past it is abandoned (its worker, if it is running it, is killed
- * and replaced). A worker that dies takes only its own job with it and is replaced, with a
+ * from the compiled tree, one job at a time, fed from a FIFO queue. A job has two deadlines: its
+ * compute budget in time (`taskTimeoutMs`, from the moment a worker takes it; past it the worker is
+ * killed and replaced) and a bound on its wait for a worker (`waitTimeoutMs`, from submission; past
+ * it the job is dropped from the queue unstarted), so neither a pathological request nor a long
+ * line can hold an answer back without end. A worker that dies takes only its own job with it and is replaced, with a
  * growing pause when workers keep dying, so a broken build cannot spin.
  *
  * Why processes and not worker_threads: tearing down a worker thread that has drawn a chart
@@ -13,12 +15,15 @@
  * process exits with the thread alive. With threads, replacing a stuck worker or shutting down
  * would crash the app; a child process can be killed safely. Messages use the 'advanced'
  * (structured clone) serialization, so the PNG bytes travel as bytes. The workers get the
- * environment without the workspace secrets.
+ * environment without the workspace secrets, and run at a lower scheduling priority (nice
+ * WORKER_NICE) than the app: on a machine with as many busy workers as cores, the app's event loop
+ * — acknowledging requests within the platform's 3 seconds — must not wait for CPU behind them.
  *
  * InlineEngine: the same work on the main thread (KOLMO_WORKERS=0), for comparison and small
  * installations.
  */
 import { fork, type ChildProcess } from 'node:child_process';
+import { setPriority } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import type { Store } from '../store/store.js';
 import { work, type Job, type WorkResult } from './work.js';
@@ -35,7 +40,7 @@ const SECRET_ENV = ['SLACK_BOT_TOKEN', 'SLACK_APP_TOKEN', 'SLACK_SIGNING_SECRET'
 export class EngineError extends Error {
   constructor(
     message: string,
-    readonly reason: 'timeout' | 'crashed' | 'closed' | 'failed',
+    readonly reason: 'timeout' | 'overloaded' | 'crashed' | 'closed' | 'failed',
   ) {
     super(message);
     this.name = 'EngineError';
@@ -62,13 +67,18 @@ export interface PoolOptions {
   size: number;
   /** database file each worker opens, or null for none */
   dbPath: string | null;
-  /** deadline per job from submission */
+  /** compute deadline per job, from the moment a worker takes it */
   taskTimeoutMs: number;
+  /** how long a job may wait for a worker (default 5 × taskTimeoutMs) */
+  waitTimeoutMs?: number;
   /** the worker script (default: worker.js beside this module) */
   script?: URL;
   /** told about worker deaths and restarts */
   onEvent?: (e: { event: 'worker-exit' | 'worker-error'; detail: string }) => void;
 }
+
+/** niceness of the worker processes (0 = the app's own, 19 = the lowest priority) */
+export const WORKER_NICE = 10;
 
 export class WorkerPool implements Engine {
   private readonly slots = new Set<Slot>();
@@ -102,7 +112,7 @@ export class WorkerPool implements Engine {
         resolve,
         reject,
         done: false,
-        timer: setTimeout(() => this.expire(task), this.opts.taskTimeoutMs),
+        timer: setTimeout(() => this.expire(task, 'overloaded'), this.opts.waitTimeoutMs ?? 5 * this.opts.taskTimeoutMs),
       };
       task.timer.unref?.();
       this.queue.push(task);
@@ -120,6 +130,11 @@ export class WorkerPool implements Engine {
       // the worker's stdout is not the app's log; its stderr (a crash report) is kept
       stdio: ['ignore', 'ignore', 'inherit', 'ipc'],
     });
+    try {
+      if (worker.pid !== undefined) setPriority(worker.pid, WORKER_NICE);
+    } catch {
+      /* not permitted here: the workers run at the app's priority */
+    }
     const slot: Slot = { worker, ready: true };
     this.slots.add(slot);
     worker.on('message', (m: { id: number; ok: boolean; result?: WorkResult; error?: string }) => {
@@ -163,6 +178,9 @@ export class WorkerPool implements Engine {
       const task = this.queue.shift()!;
       slot.task = task;
       task.slot = slot;
+      clearTimeout(task.timer);
+      task.timer = setTimeout(() => this.expire(task, 'timeout'), this.opts.taskTimeoutMs);
+      task.timer.unref?.();
       slot.worker.send({ id: task.id, job: task.job }, (err) => {
         // the worker is gone: its exit handler fails the task and replaces it
         if (err) slot.worker.kill('SIGKILL');
@@ -170,12 +188,16 @@ export class WorkerPool implements Engine {
     }
   }
 
-  private expire(task: Task): void {
+  private expire(task: Task, why: 'timeout' | 'overloaded'): void {
     if (task.done) return;
     const i = this.queue.indexOf(task);
     if (i >= 0) this.queue.splice(i, 1);
     const slot = task.slot;
-    this.finish(task, { ok: false, error: new EngineError(`no answer within ${Math.round(this.opts.taskTimeoutMs / 1000)} s`, 'timeout') });
+    const error =
+      why === 'timeout'
+        ? new EngineError(`no answer within ${Math.round(this.opts.taskTimeoutMs / 1000)} s of computing`, 'timeout')
+        : new EngineError(`no worker free within ${Math.round((this.opts.waitTimeoutMs ?? 5 * this.opts.taskTimeoutMs) / 1000)} s`, 'overloaded');
+    this.finish(task, { ok: false, error });
     if (slot && slot.task === task) {
       // the worker is stuck on it: replace the worker
       slot.task = undefined;

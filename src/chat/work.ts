@@ -1,11 +1,17 @@
 /**
  * One unit of heavy work for the chat app: the engine's answer and its chart as PNG bytes.
  * Runs inside a worker process (worker.ts) or, with KOLMO_WORKERS=0, on the main thread.
+ *
+ * Before the engine runs, the request's estimated cost is held against the compute budget
+ * (budget.ts). A request resumed after a restart (`resumed`) may already be in the log — the
+ * previous process can have logged it and died before posting — so its log entry is found again
+ * instead of being appended twice (see `onceOnly`).
  */
 import { ask } from '../service.js';
 import type { Reply } from '../reply.js';
 import { renderAnswerChart } from '../report/answer-chart.js';
-import type { Store } from '../store/store.js';
+import type { LogEntry, LogEntryInput, Store } from '../store/store.js';
+import { COMPUTE_BUDGET_DEFAULT, overBudget } from './budget.js';
 
 export interface Job {
   text: string;
@@ -13,6 +19,10 @@ export interface Job {
   user: string;
   /** ISO time the request arrived */
   now: string;
+  /** compute units this request may use (default COMPUTE_BUDGET_DEFAULT) */
+  budget?: number;
+  /** answered once before by a process that stopped before finishing: log it at most once */
+  resumed?: boolean;
 }
 
 export interface WorkResult {
@@ -26,9 +36,38 @@ export interface WorkResult {
   ms: number;
 }
 
+/** how far back a resumed request looks for its own entry */
+const RESUME_LOOKBACK = 500;
+
+/**
+ * A store whose appendCheck returns the channel's existing entry for the same request (same
+ * user, same arrival time to the millisecond, same parsed request) instead of appending another.
+ */
+export function onceOnly(store: Store): Store {
+  const find = (e: LogEntryInput): LogEntry | undefined =>
+    store.recent(e.channel, RESUME_LOOKBACK).find((x) => x.user === e.user && x.at === e.at && x.normalized === e.normalized);
+  return new Proxy(store, {
+    get(target, prop, receiver) {
+      if (prop === 'appendCheck') return (e: LogEntryInput) => find(e) ?? target.appendCheck(e);
+      const v = Reflect.get(target, prop, receiver) as unknown;
+      return typeof v === 'function' ? (v as (...a: unknown[]) => unknown).bind(target) : v;
+    },
+  });
+}
+
 export async function work(job: Job, store: Store | null): Promise<WorkResult> {
   const t0 = performance.now();
-  const reply = await ask(job.text, { channel: job.channel, user: job.user, now: new Date(job.now), store, inWorkspace: true });
+  const refused = overBudget(job.text, job.budget ?? COMPUTE_BUDGET_DEFAULT);
+  if (refused) {
+    try {
+      store?.countRejected(job.channel);
+    } catch {
+      /* a counter that cannot be written loses nothing the asker needs */
+    }
+    return { reply: refused, ms: performance.now() - t0 };
+  }
+  const s = store && job.resumed ? onceOnly(store) : store;
+  const reply = await ask(job.text, { channel: job.channel, user: job.user, now: new Date(job.now), store: s, inWorkspace: true });
   if (reply.kind !== 'answer' || reply.chart === undefined || reply.chart === null) {
     return { reply, ms: performance.now() - t0 };
   }
