@@ -1,29 +1,42 @@
 /**
  * American options by finite differences on the Kolmogorov backward (Black-Scholes-Merton)
- * equation.
+ * equation, optionally with Merton jumps (then a partial integro-differential equation).
  *
  * In x = ln S and τ = time to expiry the value V(x, τ) solves
  *
- *     V_τ = ½σ² V_xx + (r − q − ½σ²) V_x − r V,      V(x, 0) = payoff,
+ *     V_τ = ½σ² V_xx + (r − q − λκ − ½σ²) V_x − (r + λ) V + λ ∫ V(x + y) f(y) dy,
+ *     V(x, 0) = payoff,   V ≥ payoff (early exercise),
  *
- * subject to V ≥ payoff (early exercise). Method:
+ * with λ = 0 without jumps (f: the normal density of the log jump, κ = e^{m+δ²/2} − 1). Method:
  *
  * - grid in x stretched by sinh around ln K (x = ln K + c·sinh ξ, ξ uniform), with the strike
- *   exactly on a node; three-point non-uniform differences (upwinded convection only at a node
- *   where the central form would lose the M-matrix signs);
- * - time steps graded towards expiry (τ_k = T·((1−β)u + βu²), u = k/M), Crank-Nicolson with the
- *   first two steps replaced by four fully implicit half steps (Rannacher smoothing);
+ *   exactly on a node and the spacing adjusted so that the spot is a node too (no interpolation
+ *   at the spot); three-point non-uniform differences (upwinded convection only at a node where the
+ *   central form would lose the M-matrix signs); the payoff at the strike node averaged over its
+ *   cell (smoothing of the initial data);
+ * - time steps graded towards expiry (τ_k = T·(k/M)²), Crank-Nicolson with the first four steps
+ *   replaced by pairs of fully implicit half steps (Rannacher smoothing);
  * - the early-exercise constraint by the Brennan-Schwartz algorithm (Thomas elimination in the
  *   direction that ends in the exercise region, projecting during back substitution) whenever the
  *   exercise region is a single interval at one end of the grid (a put with r > 0, a call with
- *   q > 0); otherwise by projected SOR, which handles any shape of the exercise region (negative
- *   rates or yields);
+ *   q > 0); by projected SOR otherwise (negative rates with q < r for a put, r < q for a call, where
+ *   the continuation region can be an interval between two boundaries); no projection where early
+ *   exercise is never optimal;
  * - Dirichlet boundaries at both ends from the asymptotes: far out of the money 0, deep in the
  *   money max(intrinsic, S e^{−qτ} − K e^{−rτ}) for a call, max(intrinsic, K e^{−rτ} − S e^{−qτ})
- *   for a put.
+ *   for a put;
+ * - jumps: the integral of the piecewise-linear node values against the normal density in closed
+ *   form (Φ and φ at the nodes: weights computed once per grid), plus the parts beyond the grid
+ *   where V follows its asymptote (closed form too); treated explicitly, at the old level in the
+ *   implicit start-up steps and extrapolated to mid-step in the Crank-Nicolson steps;
+ * - the figure at the spot: Richardson extrapolation (4·V(h/2) − V(h))/3 over two solves whose
+ *   space steps differ by exactly 2 (the spatial error is a clean O(h²); with quadratic time
+ *   grading the time error is smaller).
  *
- * Units of the Greeks follow DESIGN.md §3 (per share; vega per vol point; theta per calendar day;
- * rho per 1% of rate).
+ * Accuracy ('normal', 160/320 space intervals, 160 time steps): about 1e-5 on typical cases and
+ * within 1e-4 of a Broadie-Detemple tree on random cases; spots within a few percent of the
+ * exercise boundary are the hardest (a few 1e-5 to 1e-4). Units of the Greeks follow DESIGN.md §3
+ * (per share; vega per vol point of the diffusion σ; theta per calendar day; rho per 1% of rate).
  */
 import type { IvResult } from './iv.js';
 import { normCdf, normPdf } from './normal.js';
@@ -52,8 +65,8 @@ export interface FdSize {
 /**
  * Nodes in x: ln K + c·sinh(ξ), ξ uniform with spacing chosen from `n` intervals over the
  * requested span, extended outwards so that ξ = 0 (the strike) is exactly a node. With `xOn`
- * given, the spacing is adjusted (by less than half a step) so that xOn is a node too, unless it
- * lies within half a step of the strike. `refine` divides the spacing so chosen (and keeps both
+ * given, the spacing is shrunk (never widened) so that xOn is a node too, unless it lies within
+ * half a step of the strike (then the caller interpolates). `refine` divides the spacing so chosen (and keeps both
  * nodes).
  */
 function sinhGrid(xK: number, xLo: number, xHi: number, n: number, c: number, xOn?: number, refine = 1): Float64Array {
@@ -64,8 +77,9 @@ function sinhGrid(xK: number, xLo: number, xHi: number, n: number, c: number, xO
   let xiOn = 0;
   if (xOn !== undefined) {
     xiOn = Math.asinh((xOn - xK) / c);
-    const k = Math.round(Math.abs(xiOn) / d);
-    if (k >= 1) {
+    const ratio = Math.abs(xiOn) / d;
+    const k = Math.ceil(ratio - 1e-9);
+    if (ratio >= 0.5) {
       d = Math.abs(xiOn) / k;
       kOn = xiOn > 0 ? k : -k;
     }
@@ -378,12 +392,13 @@ export function solveBackward(
     const useIntrinsic = american && payoff(kind, xEnd, K) >= Math.max(kind === 'put' ? fwdA - fwdB * xEnd : fwdB * xEnd - fwdA, 0);
     const A = useIntrinsic ? K : fwdA;
     const B = useIntrinsic ? 1 : fwdB;
+    const { w, off, from, len, lo0, lo1, hi0, hi1 } = op;
+    const put = kind === 'put';
     for (let i = 1; i < last; i++) {
-      let sum = kind === 'put' ? A * op.lo0[i] - B * op.lo1[i] : B * op.hi1[i] - A * op.hi0[i];
-      const o = op.off[i];
-      const f = op.from[i];
-      const L = op.len[i];
-      for (let k = 0; k < L; k++) sum += op.w[o + k] * vv[f + k];
+      let sum = put ? A * lo0[i] - B * lo1[i] : B * hi1[i] - A * hi0[i];
+      const o = off[i] - from[i];
+      const end = from[i] + len[i];
+      for (let k = from[i]; k < end; k++) sum += w[o + k] * vv[k];
       out[i] = sum;
     }
   };

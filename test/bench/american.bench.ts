@@ -2,11 +2,13 @@
  * American options: time per value at about 1e-4 accuracy (americanValue, 'normal') against a
  * plain CRR binomial tree and the Broadie-Detemple BBSR tree of equal accuracy, found in the same
  * run on the same option (goal: ≤ 2 ms per value). Also the convergence table of the
- * finite-difference solver, the full Greeks, the value curve and the implied vol.
+ * finite-difference solver, the full Greeks, the value curve and the implied vol; and the same
+ * with Merton jumps (the PIDE) against the European Merton series.
  */
 import { americanFdValue, americanGreeks, americanImpliedVol, americanValue, americanValueCurve } from '../../src/core/american.js';
 import { bbsrValue, crrValue } from '../../src/core/binomial.js';
-import type { OptionKind } from '../../src/core/types.js';
+import { mertonValue } from '../../src/core/merton.js';
+import type { Jumps, OptionKind } from '../../src/core/types.js';
 import { measure, report } from './harness.js';
 
 type Case = [OptionKind, number, number, number, number, number, number];
@@ -69,4 +71,15 @@ export function run(): void {
     }, spots.length, 0.5));
     report(measure('americanImpliedVol', () => americanImpliedVol(c[0], v, c[1], c[2], c[3], c[4], c[5]), 1, 1), fd);
   }
+
+  console.log("\n-- with Merton jumps: put S=K=100 r=5% σ=15% T=0.25, λ=0.1 m=−0.9 δ=0.45 (d'Halluin-Forsyth-Vetzal)");
+  const j: Jumps = { intensity: 0.1, mean: -0.9, sd: 0.45 };
+  const jv = americanValue('put', 100, 100, 0.25, 0.05, 0, 0.15, { jumps: j });
+  console.log(`  americanValue with jumps ${jv.toFixed(6)} (published 3.241251, from memory)`);
+  const eu = measure('mertonValue (European series)', () => mertonValue('put', 100, 100, 0.25, 0.05, 0, 0.15, j), 1, 0.5);
+  const am = measure('americanValue with jumps (PIDE, normal)', () => americanValue('put', 100, 100, 0.25, 0.05, 0, 0.15, { jumps: j }), 1, 2);
+  report(eu);
+  report(am, eu);
+  report(measure('americanGreeks with jumps', () => americanGreeks('put', 100, 100, 0.25, 0.05, 0, 0.15, { jumps: j }), 1, 2), am);
+  report(measure('americanValueCurve with jumps', () => americanValueCurve('put', 100, 0.25, 0.05, 0, 0.15, 30, 300, j), 1, 1), am);
 }
