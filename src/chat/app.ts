@@ -211,6 +211,8 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
     ...(botId && botUserId ? { botId, botUserId } : {}),
     logger,
     clientOptions,
+    // Kolmo keeps no conversation state: Bolt's per-request conversation store is only overhead
+    convoStore: false as const,
   };
   const app =
     config.mode === 'http'

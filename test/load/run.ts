@@ -3,9 +3,9 @@
  * against the recording fake Web API, all on 127.0.0.1. Bounded in count and in time.
  *
  * The burst: N signed `/kolmo` requests (default 500) spread round-robin over C channels (default
- * 50) and U users (default 100), sent by K clients (default 50) that each send their next request
- * as soon as the previous one is acknowledged — K requests in flight at every moment, the whole
- * burst in a few seconds. Most are checks (one to four legs, different strikes, so each answer is
+ * 50) and U users (default 100), offered at R per second (default 125: the 500 in four seconds)
+ * with at most K (default 50) unacknowledged at any moment; R = 0 offers them as fast as the K
+ * bound allows (a closed loop: K requests in flight at every moment, a saturation test). Most are checks (one to four legs, different strikes, so each answer is
  * its own work); one in ten is `help` (ephemeral) and one in twenty is a malformed request
  * (rejected, ephemeral).
  *
@@ -17,7 +17,7 @@
  * anything undelivered) so a CI job can run it.
  *
  * Settings (environment): KOLMO_LOAD_N, KOLMO_LOAD_CHANNELS, KOLMO_LOAD_USERS,
- * KOLMO_LOAD_CONCURRENCY, KOLMO_LOAD_TIMEOUT_S (default 300: the answers must all arrive within it),
+ * KOLMO_LOAD_CONCURRENCY, KOLMO_LOAD_RATE, KOLMO_LOAD_TIMEOUT_S (default 300: the answers must all arrive within it),
  * KOLMO_LOAD_WORKERS (default: cores).
  */
 import { availableParallelism } from 'node:os';
@@ -37,6 +37,8 @@ const N = envInt('KOLMO_LOAD_N', 500, 1, 20000);
 const CHANNELS = envInt('KOLMO_LOAD_CHANNELS', 50, 1, 5000);
 const USERS = envInt('KOLMO_LOAD_USERS', 100, 1, 100000);
 const CONCURRENCY = envInt('KOLMO_LOAD_CONCURRENCY', 50, 1, 1000);
+/** requests per second offered; 0 = a closed loop (the next request as soon as one is acknowledged) */
+const RATE = envInt('KOLMO_LOAD_RATE', 125, 0, 100000);
 const TIMEOUT_S = envInt('KOLMO_LOAD_TIMEOUT_S', 300, 10, 3600);
 const WORKERS = envInt('KOLMO_LOAD_WORKERS', Math.max(1, availableParallelism()), 0, 64);
 
@@ -151,7 +153,7 @@ export async function main(): Promise<number> {
   const checks = reqs.filter((r) => r.kind === 'check').length;
   console.log(
     `load: ${N} requests (${checks} checks, ${reqs.filter((r) => r.kind === 'help').length} help, ${reqs.filter((r) => r.kind === 'bad').length} malformed) ` +
-      `over ${CHANNELS} channels and ${Math.min(USERS, N)} users, ${CONCURRENCY} in flight; app with ${WORKERS} worker processes on ${availableParallelism()} cores; loopback only`,
+      `over ${CHANNELS} channels and ${Math.min(USERS, N)} users, ${RATE > 0 ? `${RATE}/s offered, ` : 'closed loop, '}at most ${CONCURRENCY} in flight; app with ${WORKERS} worker processes on ${availableParallelism()} cores; loopback only`,
   );
   const fake = await FakeWebApi.start();
   const app = await startApp(
@@ -196,23 +198,39 @@ export async function main(): Promise<number> {
       }
     };
 
-    // client k sends the requests of channels k, k+K, k+2K, ... in order, each after the previous
-    // one was acknowledged: so within a channel, send order is arrival order (what Kolmo keeps)
+    // Requests leave at RATE per second (0: as fast as the in-flight bound allows), at most
+    // CONCURRENCY unacknowledged at a time; a channel's next request leaves only after its previous
+    // one was acknowledged, so within a channel send order is arrival order (what Kolmo keeps).
     const t0 = performance.now();
-    const client = async (k: number) => {
-      const mine = reqs.filter((r) => (r.i % CHANNELS) % CONCURRENCY === k);
-      for (const r of mine) {
-        try {
-          const sent = await sendSlash(app.port, { text: r.text, channel: r.channel, user: r.user, responseUrl: fake.responseUrl(r.responseId) }, { timeoutMs: 10000 });
-          r.sentAt = sent.sentAt;
-          r.ackAt = sent.at;
-          r.status = sent.status;
-        } catch {
-          r.status = -1;
-        }
+    const send = async (r: Req): Promise<void> => {
+      try {
+        const sent = await sendSlash(app.port, { text: r.text, channel: r.channel, user: r.user, responseUrl: fake.responseUrl(r.responseId) }, { timeoutMs: 10000 });
+        r.sentAt = sent.sentAt;
+        r.ackAt = sent.at;
+        r.status = sent.status;
+      } catch {
+        r.status = -1;
       }
     };
-    await Promise.all(Array.from({ length: CONCURRENCY }, (_, k) => client(k)));
+    let inFlight = 0;
+    let wake: (() => void) | undefined;
+    const tails = new Map<string, Promise<void>>();
+    for (const r of reqs) {
+      if (RATE > 0) {
+        const due = t0 + (r.i * 1000) / RATE - performance.now();
+        if (due > 0) await new Promise((res) => setTimeout(res, due));
+      }
+      while (inFlight >= CONCURRENCY) await new Promise<void>((res) => (wake = res));
+      inFlight++;
+      const tail = (tails.get(r.channel) ?? Promise.resolve()).then(() => send(r)).finally(() => {
+        inFlight--;
+        const w = wake;
+        wake = undefined;
+        w?.();
+      });
+      tails.set(r.channel, tail);
+    }
+    await Promise.all(tails.values());
     const burstS = (performance.now() - t0) / 1000;
     console.log(`burst sent in ${burstS.toFixed(2)} s (${(N / burstS).toFixed(0)} requests/s)`);
 
@@ -271,6 +289,10 @@ export async function main(): Promise<number> {
     clearInterval(sampler);
     const exit = await app.stop();
     await fake.close();
+    const st = app.lines.find((l) => l.msg === 'stopped') as { loopDelayMs?: { p50: number; p99: number; max: number } } | undefined;
+    if (st?.loopDelayMs) {
+      console.log(`the app's event loop delay over the run: p50 ${st.loopDelayMs.p50} ms · p99 ${st.loopDelayMs.p99} ms · max ${st.loopDelayMs.max} ms`);
+    }
     if (exit !== 0) {
       console.log(`the app exited with ${exit} on SIGTERM`);
       code = 1;
