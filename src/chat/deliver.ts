@@ -238,7 +238,9 @@ export async function deliver(
     const why = failures[0] ?? explainFailure(err, 'the answer');
     if (failures.length === 0) failures.push(why);
     if (logNumber !== undefined) record(deps, (s) => s.setDelivery(channel, logNumber, 'undelivered'), failures);
-    await tellAsker(deps, origin, [plainNotice(`${why}${logNumber !== undefined ? ` (The check is in the log as #${logNumber}.)` : ''}`), ...monoNotice(a.text, a.caution)]);
+    // told once: the reason and the answer itself in one ephemeral message (more only if the
+    // answer is longer than one message holds)
+    await tellAsker(deps, origin, answerMessages(a, plainNotice(`${why}${logNumber !== undefined ? ` (The check is in the log as #${logNumber}.)` : ''}`)));
     return { outcome: 'undelivered', threadTs, failures };
   }
 
