@@ -18,7 +18,7 @@
  * debug level; never a secret (error texts are scrubbed of token shapes and the secrets' values).
  */
 import { createHash } from 'node:crypto';
-import type { Server } from 'node:http';
+import type { IncomingMessage, Server, ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { monitorEventLoopDelay } from 'node:perf_hooks';
 import bolt from '@slack/bolt';
@@ -138,6 +138,31 @@ export function responder(url: string | undefined): Respond | undefined {
       await sleep(200 * 2 ** attempt);
     }
   };
+}
+
+/**
+ * A body over `limit` is refused with 413 and its connection closed. Bolt refuses it too, but
+ * leaves the connection open with the unread body still on it, so the next request on that
+ * keep-alive connection hangs; a declared Content-Length over the limit is refused here before
+ * Bolt sees it, and any 413 (a chunked body that grew too large) closes its connection.
+ */
+export function guardBodySize(server: Server, limit: number, log: Log): void {
+  const handlers = server.listeners('request') as Array<(req: IncomingMessage, res: ServerResponse) => void>;
+  server.removeAllListeners('request');
+  server.on('request', (req: IncomingMessage, res: ServerResponse) => {
+    res.once('finish', () => {
+      if (res.statusCode === 413) req.socket.end();
+    });
+    const declared = Number(req.headers['content-length']);
+    if (Number.isFinite(declared) && declared > limit) {
+      log.warn({ bytes: declared, limit }, 'request body over the limit refused');
+      res.writeHead(413, { connection: 'close', 'content-type': 'text/plain' });
+      res.end('request body too large\n');
+      req.resume();
+      return;
+    }
+    for (const h of handlers) h.call(server, req, res);
+  });
 }
 
 export interface StartOptions {
@@ -406,6 +431,7 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
     )) as unknown as Server;
     server.headersTimeout = HEADERS_TIMEOUT_MS;
     server.requestTimeout = REQUEST_TIMEOUT_MS;
+    guardBodySize(server, settings.bodyLimit, log);
     port = (server.address() as AddressInfo).port;
     log.info({ mode: 'http', port, path: EVENTS_PATH, workers: engine.size }, 'listening');
   } else {
