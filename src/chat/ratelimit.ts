@@ -16,7 +16,7 @@ export interface UserRateOptions {
   maxUsers: number;
 }
 
-export const USER_RATE_DEFAULTS: UserRateOptions = { burst: 10, perMinute: 20, noticeEverySeconds: 30, maxUsers: 20_000 };
+export const USER_RATE_DEFAULTS: UserRateOptions = { burst: 20, perMinute: 30, noticeEverySeconds: 30, maxUsers: 20_000 };
 
 export type RateDecision = { ok: true } | { ok: false; retryInSeconds: number; notify: boolean };
 

@@ -20,7 +20,7 @@
  * KOLMO_LOAD_CONCURRENCY, KOLMO_LOAD_RATE, KOLMO_LOAD_TIMEOUT_S (default 300: the answers must all arrive within it),
  * KOLMO_LOAD_WORKERS (default: cores).
  */
-import { availableParallelism } from 'node:os';
+import { availableParallelism, loadavg } from 'node:os';
 import { readFileSync } from 'node:fs';
 import { FakeWebApi, type Call } from '../chat/fake-web-api.js';
 import { httpEnv, sendSlash, startApp } from '../chat/harness.js';
@@ -136,6 +136,17 @@ function rssMiB(pid: number): number {
   }
 }
 
+/** CPU seconds (user + system) a process has used, from /proc/<pid>/stat; NaN without /proc */
+function cpuSeconds(pid: number): number {
+  try {
+    const f = readFileSync(`/proc/${pid}/stat`, 'utf8');
+    const rest = f.slice(f.lastIndexOf(')') + 2).split(' ');
+    return (Number(rest[11]) + Number(rest[12])) / 100; // utime, stime in clock ticks (USER_HZ = 100)
+  } catch {
+    return NaN;
+  }
+}
+
 function childrenOf(pid: number): number[] {
   try {
     return readFileSync(`/proc/${pid}/task/${pid}/children`, 'utf8')
@@ -202,6 +213,8 @@ export async function main(): Promise<number> {
     // CONCURRENCY unacknowledged at a time; a channel's next request leaves only after its previous
     // one was acknowledged, so within a channel send order is arrival order (what Kolmo keeps).
     const t0 = performance.now();
+    const appCpu0 = cpuSeconds(pid);
+    const selfCpu0 = process.cpuUsage();
     const send = async (r: Req): Promise<void> => {
       try {
         const sent = await sendSlash(app.port, { text: r.text, channel: r.channel, user: r.user, responseUrl: fake.responseUrl(r.responseId) }, { timeoutMs: 10000 });
@@ -232,7 +245,13 @@ export async function main(): Promise<number> {
     }
     await Promise.all(tails.values());
     const burstS = (performance.now() - t0) / 1000;
-    console.log(`burst sent in ${burstS.toFixed(2)} s (${(N / burstS).toFixed(0)} requests/s)`);
+    const appBusy = (cpuSeconds(pid) - appCpu0) / burstS;
+    const selfCpu = process.cpuUsage(selfCpu0);
+    const selfBusy = (selfCpu.user + selfCpu.system) / 1e6 / burstS;
+    console.log(
+      `burst sent in ${burstS.toFixed(2)} s (${(N / burstS).toFixed(0)} requests/s); CPU during the burst: the app's main process ${(100 * appBusy).toFixed(0)}% of a core, ` +
+        `this load generator and fake Web API ${(100 * selfBusy).toFixed(0)}%; machine load average ${loadavg()[0].toFixed(2)}`,
+    );
 
     const deadline = performance.now() + TIMEOUT_S * 1000;
     const allDone = () => {
