@@ -13,7 +13,7 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { FakeWebApi, FAKE_BOT, type Call } from '../chat/fake-web-api.js';
-import { httpEnv, mentionBody, sendSlash, slashBody } from '../chat/harness.js';
+import { APP_TOKEN, BOT_TOKEN, httpEnv, mentionBody, sendSlash, slashBody } from '../chat/harness.js';
 import { openStore } from '../../src/store/store.js';
 import { FaultProxy, signedPost, startIn, until, type App } from './harness.js';
 
@@ -122,7 +122,37 @@ describe('re-sent deliveries are answered and logged once', () => {
   });
 });
 
+describe('re-sent Socket Mode envelopes are answered once', () => {
+  it('the same slash command in a second envelope (retry_attempt 1) is acknowledged but not answered again', async () => {
+    const dir = freshDir();
+    const sock = await startIn(dir, { SLACK_APP_TOKEN: APP_TOKEN, SLACK_BOT_TOKEN: BOT_TOKEN, KOLMO_API_URL: fake.apiUrl, KOLMO_WORKERS: '1' });
+    apps.push(sock);
+    const channel = 'CDUPSOCK01';
+    await until(() => fake.socketCount > 0, WAIT, 'the socket connection');
+    const payload = Object.fromEntries(new URLSearchParams(slashBody({ text: check(), channel, responseUrl: fake.responseUrl('dup-sock') })));
+    fake.sendEnvelope({ envelope_id: 'env-dup-1', type: 'slash_commands', accepts_response_payload: true, payload });
+    fake.sendEnvelope({ envelope_id: 'env-dup-2', type: 'slash_commands', accepts_response_payload: true, retry_attempt: 1, retry_reason: 'timeout', payload });
+    await until(() => ['env-dup-1', 'env-dup-2'].every((id) => fake.socketMessages.some((m) => m.data.envelope_id === id)), WAIT, 'both envelopes acknowledged');
+    const help = Object.fromEntries(new URLSearchParams(slashBody({ text: 'help', channel, responseUrl: fake.responseUrl('dup-sock-help') })));
+    fake.sendEnvelope({ envelope_id: 'env-dup-3', type: 'slash_commands', accepts_response_payload: true, payload: help });
+    await until(() => responses('dup-sock-help').length > 0, WAIT, 'the help after the re-sent envelope');
+    expect(completes(channel)).toHaveLength(1);
+    expect(entries(dir, channel)).toHaveLength(1);
+    expect(await sock.stop()).toBe(0);
+  });
+});
+
 describe('platform faults are retried within limits', () => {
+  it('a response URL answering 5xx once is retried; the rejection reaches the asker once', async () => {
+    const channel = 'CRESP50001';
+    fake.fail('response', { status: 502 });
+    await sendSlash(app.port, { text: 'check +2 call 105 2027-03-19 vol 0.25 spot 100', channel, responseUrl: fake.responseUrl('resp502') });
+    await until(() => responses('resp502').length > 0, WAIT, 'the rejection after a 502');
+    expect(fake.callsOf('response').filter((c) => c.body.response_id === 'resp502').map((c) => c.status)).toEqual([502, 200]);
+    expect(String(responses('resp502')[0].body.text)).toContain('^');
+    expect(inChannel('chat.postEphemeral', channel)).toHaveLength(0);
+  });
+
   let dir: string;
   let app: App;
   beforeAll(async () => {

@@ -20,7 +20,7 @@ export interface App {
   stop: (signal?: NodeJS.Signals, timeoutMs?: number) => Promise<number | null>;
 }
 
-/** Starts the app with its log at `dir`/kolmo.db; waits for "listening". */
+/** Starts the app with its log at `dir`/kolmo.db; waits for "listening" (HTTP) or "connected" (Socket Mode). */
 export async function startIn(dir: string, env: Record<string, string>, timeoutMs = 30000): Promise<App> {
   const child = spawn(process.execPath, [MAIN_JS], {
     cwd: dir,
@@ -51,9 +51,9 @@ export async function startIn(dir: string, env: Record<string, string>, timeoutM
   const deadline = performance.now() + timeoutMs;
   let port = -1;
   while (performance.now() < deadline) {
-    const ready = lines.find((l) => l.msg === 'listening');
+    const ready = lines.find((l) => l.msg === 'listening' || l.msg === 'connected');
     if (ready) {
-      port = Number(ready.port);
+      port = typeof ready.port === 'number' ? ready.port : 0;
       break;
     }
     if (child.exitCode !== null) throw new Error(`the app exited with ${child.exitCode}: ${out}`);
