@@ -4,9 +4,9 @@
  * functions, so every model plugs in here:
  * - European, no jumps: Black-Scholes-Merton closed forms (bsm.ts);
  * - European with jumps: Merton's Poisson-weighted series (merton.ts);
- * - American: Crank-Nicolson on the backward equation (american.ts); the horizon valuer is ONE
- *   backward solve per leg, interpolated across spots;
- * - American with jumps: not offered (a clear error at the edge; see DEVELOPERS.md).
+ * - American: Crank-Nicolson on the backward equation (american.ts), with jumps the backward
+ *   equation gains Merton's jump integral (a PIDE); the horizon valuer is ONE backward solve per
+ *   leg, interpolated across spots.
  */
 import { americanGreeks, americanValueCurve } from './american.js';
 import { bsmGreeks, bsmValue } from './bsm.js';
@@ -26,21 +26,12 @@ function jumpsOf(m: LegModel): Jumps | undefined {
   return m.jumps && m.jumps.intensity > 0 ? m.jumps : undefined;
 }
 
-/** The one combination the pricer does not offer; the request layer rejects it first. */
-function assertAvailable(leg: LegInput, m: LegModel): void {
-  if (leg.kind === 'shares') return;
-  if (m.style === 'american' && jumpsOf(m)) {
-    throw new Error('American exercise with jumps is not available: use style european with jumps, or american without');
-  }
-}
-
 /** Today's per-share value and Greeks (shares: value = spot, delta 1, the rest 0). */
 export function legGreeks(leg: LegInput, m: LegModel): Greeks {
   const { spot, rate, yield: q } = m.market;
   if (leg.kind === 'shares') return { value: spot, delta: 1, gamma: 0, vega: 0, theta: 0, rho: 0 };
-  assertAvailable(leg, m);
   const j = jumpsOf(m);
-  if (m.style === 'american') return americanGreeks(leg.kind, spot, leg.strike, leg.years, rate, q, leg.iv);
+  if (m.style === 'american') return americanGreeks(leg.kind, spot, leg.strike, leg.years, rate, q, leg.iv, j ? { jumps: j } : {});
   if (j) return mertonGreeks(leg.kind, spot, leg.strike, leg.years, rate, q, leg.iv, j);
   return bsmGreeks(leg.kind, spot, leg.strike, leg.years, rate, q, leg.iv);
 }
@@ -62,7 +53,6 @@ export function legValuer(leg: LegInput, m: LegModel, horizonYears: number): (sp
   if (expiresBy(leg, horizonYears)) {
     return leg.kind === 'call' ? (s) => (s > K ? s - K : 0) : (s) => (s < K ? K - s : 0);
   }
-  assertAvailable(leg, m);
   const tau = leg.years - horizonYears;
   const { rate, yield: q } = m.market;
   const kind = leg.kind;
@@ -71,7 +61,7 @@ export function legValuer(leg: LegInput, m: LegModel, horizonYears: number): (sp
     // one backward solve over a wide band of spots; outside it the curve's own asymptotes
     const w = 1 + 10 * Math.max(iv, 0.2) * Math.sqrt(horizonYears + tau);
     const spot = m.market.spot;
-    return americanValueCurve(kind, K, tau, rate, q, iv, Math.min(spot, K) * Math.exp(-w), Math.max(spot, K) * Math.exp(w));
+    return americanValueCurve(kind, K, tau, rate, q, iv, Math.min(spot, K) * Math.exp(-w), Math.max(spot, K) * Math.exp(w), jumpsOf(m));
   }
   const atZero = kind === 'call' ? 0 : K * Math.exp(-rate * tau);
   const j = jumpsOf(m);
@@ -87,7 +77,6 @@ export function legAsymptote(leg: LegInput, m: LegModel, horizonYears: number): 
   if (leg.kind === 'shares') return { slope: 1, intercept: 0 };
   if (leg.kind === 'put') return { slope: 0, intercept: 0 };
   if (expiresBy(leg, horizonYears)) return { slope: 1, intercept: -leg.strike };
-  assertAvailable(leg, m);
   const tau = leg.years - horizonYears;
   // an American call deep in the money is exercised when the stock pays a yield: S − K
   if (m.style === 'american' && m.market.yield > 0) return { slope: 1, intercept: -leg.strike };

@@ -396,12 +396,6 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     notes.push('drift not given: the view uses the rate, so the outcome is the risk-neutral one');
   }
 
-  if ((terms.style ?? 'european') === 'american' && terms.jumps && terms.jumps.intensity > 0) {
-    throw R.term(
-      req.termsAt.style,
-      'style american with jumps is not offered: early exercise is solved without jumps, and jumps are priced European (Merton); drop one of the two',
-    );
-  }
   const input: CheckInput = {
     market: { spot, rate: base.rate, yield: base.yield },
     legs,
@@ -495,9 +489,6 @@ export function resolveIv(
         `price ${num(req.price)} is at or above ${num(hi)}, the most this ${req.kind} can be worth: no vol gives it`,
         R.replace(valueAt, num(lo + (hi - lo) / 4)),
       );
-    }
-    if (style === 'american' && req.terms.jumps && req.terms.jumps.intensity > 0) {
-      throw R.term(req.termsAt.style, 'style american with jumps is not offered: drop one of the two');
     }
     const iv: ResolvedIv = {
       kind: req.kind, price: req.price, S, K, T, r: base.rate, q: base.yield, expiry: date, asof: base.asof, style,

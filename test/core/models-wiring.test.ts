@@ -111,4 +111,19 @@ describe('American exercise in a check', () => {
     const r = americanImpliedVol('put', v, 100, 105, 180 / 365, 0.05, 0);
     expect(r.ok && r.iv).toBeCloseTo(0.32, 4);
   });
+
+  it('with jumps too: an American call without yield is the European (Merton) call, and an American put is worth more', () => {
+    // no early exercise of a call on a stock paying nothing holds for any walk (Merton 1973)
+    const jumps = { intensity: 0.6, mean: -0.07, sd: 0.1 };
+    const calls: CheckInput = {
+      ...base,
+      view: { drift: 0.1, vol: 0.3, jumps },
+      legs: [{ qty: 1, kind: 'call', strike: 100, years: 120 / 365, iv: 0.3, entry: 6 }],
+    };
+    const eu = runCheck(calls);
+    const am = runCheck({ ...calls, style: 'american' });
+    close(eu, am, 1e-3 * 100, 1e-4);
+    const put: CheckInput = { ...calls, legs: [{ qty: 1, kind: 'put', strike: 105, years: 180 / 365, iv: 0.3, entry: null }] };
+    expect(runCheck({ ...put, style: 'american' }).legs[0].value).toBeGreaterThan(runCheck(put).legs[0].value);
+  });
 });

@@ -134,14 +134,10 @@ describe('defaults', () => {
     expect(a.input.style).toBe('american');
   });
 
-  it('american with jumps is refused at the style term (no solver for both at once)', () => {
-    const text = '-1 put 95 6w iv 27% spot 100 style american jumps 0.5/yr -8% 12% drift 6% rate 4% yield 0%';
-    const r = resolveCheck(req<CheckRequest>(text), { today: TODAY, text });
-    expect(r.ok).toBe(false);
-    if (!r.ok) {
-      expect(r.error.at).toBe(text.indexOf('style'));
-      expect(r.error.message).toMatch(/american with jumps/);
-    }
+  it('american with jumps passes through (early exercise under the jump diffusion)', () => {
+    const c = checkOk('-1 put 95 6w iv 27% spot 100 style american jumps 0.5/yr -8% 12% drift 6% rate 4% yield 0%');
+    expect(c.input.style).toBe('american');
+    expect(c.input.view.jumps).toEqual({ intensity: 0.5, mean: -0.08, sd: 0.12 });
   });
 });
 
