@@ -14,8 +14,13 @@
  *   at the spot); three-point non-uniform differences (upwinded convection only at a node where the
  *   central form would lose the M-matrix signs); the payoff at the strike node averaged over its
  *   cell (smoothing of the initial data);
- * - time steps graded towards expiry (τ_k = T·(k/M)²), Crank-Nicolson with the first four steps
- *   replaced by pairs of fully implicit half steps (Rannacher smoothing);
+ * - time steps graded towards expiry (τ_k = T·(k/M)²). Default: two fully implicit start-up steps
+ *   (they damp the payoff's kink) then variable-step BDF2, second order and L-stable. The
+ *   alternative kept in solveBackward, Crank-Nicolson with the first four steps replaced by pairs
+ *   of implicit half steps (Rannacher smoothing), prices as well but leaves undamped
+ *   high-frequency noise from the exercise boundary moving across nodes (Crank-Nicolson's
+ *   amplification factor tends to −1 for stiff modes), about ±0.2% in gamma at normal accuracy
+ *   and worse as the grid is refined at a fixed number of steps; BDF2 damps it;
  * - the early-exercise constraint by the Brennan-Schwartz algorithm (Thomas elimination in the
  *   direction that ends in the exercise region, projecting during back substitution) whenever the
  *   exercise region is a single interval at one end of the grid (a put with r > 0, a call with
@@ -28,14 +33,13 @@
  * - jumps: the integral of the piecewise-linear node values against the normal density in closed
  *   form (Φ and φ at the nodes: weights computed once per grid), plus the parts beyond the grid
  *   where V follows its asymptote (closed form too); treated explicitly, at the old level in the
- *   implicit start-up steps and extrapolated to mid-step in the Crank-Nicolson steps;
- * - the figure at the spot: Richardson extrapolation (4·V(h/2) − V(h))/3 over two solves whose
- *   space steps differ by exactly 2 (the spatial error is a clean O(h²); with quadratic time
- *   grading the time error is smaller).
+ *   implicit start-up steps and extrapolated linearly in the BDF2 steps;
+ * - the figure at the spot: Richardson extrapolation (4·V_fine − V_coarse)/3 over two solves whose
+ *   space steps differ by exactly 2 and time steps by 2 (both errors are O(h²) and O(Δt²)).
  *
- * Accuracy ('normal', 160/320 space intervals, 160 time steps): about 1e-5 on typical cases and
- * within 1e-4 of a Broadie-Detemple tree on random cases; spots within a few percent of the
- * exercise boundary are the hardest (a few 1e-5 to 1e-4). Units of the Greeks follow DESIGN.md §3
+ * Accuracy ('normal': 140/280 space intervals, 70/140 time steps): a few 1e-6 typically and
+ * within 1e-4 (worst seen 7e-5) of a Broadie-Detemple tree on random cases; spots within a few
+ * percent of the exercise boundary are the hardest. Units of the Greeks follow DESIGN.md §3
  * (per share; vega per vol point of the diffusion σ; theta per calendar day; rho per 1% of rate).
  */
 import type { IvResult } from './iv.js';
@@ -271,9 +275,12 @@ function boundaryValue(p: Problem, S: number, tau: number, american: boolean): n
 
 /**
  * One backward solve from expiry to τ = T on the nodes `x` with `nt` graded time steps
- * (τ_k = T·((1−β)u + βu²), u = k/nt; the first `rannacher` steps each as two implicit half
- * steps, the rest Crank-Nicolson). `american` false solves the European problem with the same
- * machinery (used to check the discretisation against BSM).
+ * (τ_k = T·((1−β)u + βu²), u = k/nt). Scheme 'bdf2' (default): the first max(2, rannacher/2)
+ * steps implicit Euler, then variable-step BDF2; 'cn': the first `rannacher` steps each as two
+ * implicit half steps, the rest Crank-Nicolson. `american` false solves the European problem with
+ * the same machinery (used to check the discretisation against BSM and the Merton series);
+ * `jumps` adds the Merton jump integral (explicit: extrapolated to the new level for BDF2, to
+ * mid-step for Crank-Nicolson).
  */
 export function solveBackward(
   kind: OptionKind,
@@ -289,6 +296,7 @@ export function solveBackward(
   rannacher = 4,
   smoothKink = true,
   jumps?: Jumps,
+  scheme: 'cn' | 'bdf2' = 'bdf2',
 ): Solution {
   const p: Problem = { kind, K, T, r, q, sigma };
   const n = x.length;
@@ -371,7 +379,10 @@ export function solveBackward(
   for (let k = 1; k <= nt; k++) {
     const u = k / nt;
     const tNext = k === nt ? T : T * ((1 - beta) * u + beta * u * u);
-    if (k <= rannacher) {
+    if (scheme === 'bdf2') {
+      // implicit Euler start (BDF2 needs two levels; whole steps keep the step ratio small)
+      steps.push(tau, tNext, k <= Math.max(2, rannacher >> 1) ? 1 : 2);
+    } else if (k <= rannacher) {
       const mid = 0.5 * (tau + tNext);
       steps.push(tau, mid, 1, mid, tNext, 1);
     } else {
@@ -408,23 +419,34 @@ export function solveBackward(
     const tau1 = steps[s + 1];
     const theta = steps[s + 2];
     const dt = tau1 - tau0;
-    const ex = (1 - theta) * dt;
-    const im = theta * dt;
+    const bdf = theta === 2;
+    // BDF2 with variable steps, divided through by its leading coefficient c0:
+    // (I − (Δt/c0) L) V¹ = (c1 V⁰ − c2 V⁻¹)/c0, ω = Δt/Δt_prev
+    const w = bdf ? dt / (tau0 - t1) : 0;
+    const c0 = bdf ? (1 + 2 * w) / (1 + w) : 1;
+    const ex = bdf ? 0 : (1 - theta) * dt;
+    const im = bdf ? dt / c0 : theta * dt;
     const v0 = boundaryValue(p, S0, tau1, american);
     const vn = boundaryValue(p, Sn, tau1, american);
     next[0] = v0;
     next[last] = vn;
-    if (ex !== 0) {
+    if (bdf) {
+      const c1 = (1 + w) / c0;
+      const c2 = (w * w) / (1 + w) / c0;
+      for (let i = 1; i < last; i++) rhs[i] = c1 * v[i] - c2 * v1[i];
+    } else if (ex !== 0) {
       for (let i = 1; i < last; i++) rhs[i] = v[i] + ex * (a[i] * v[i - 1] + b[i] * v[i] + c[i] * v[i + 1]);
     } else {
       for (let i = 1; i < last; i++) rhs[i] = v[i];
     }
     if (jop) {
-      // the jump integral explicitly: at τ0 for the implicit start-up steps, extrapolated to the
-      // middle of the step (second order) for the Crank-Nicolson steps
+      // the jump integral explicitly: at τ0 for the implicit start-up steps, extrapolated
+      // linearly (second order) to τ1 for BDF2 and to the middle of the step for Crank-Nicolson
       jumpIntegral(jop, v, tau0, jNow);
-      const extra = theta === 0.5 && dtPrev > 0 ? (0.5 * dt) / dtPrev : 0;
-      for (let i = 1; i < last; i++) rhs[i] += dt * lam * (jNow[i] + extra * (jNow[i] - jPrev[i]));
+      const extra = dtPrev > 0 ? (theta === 0.5 ? (0.5 * dt) / dtPrev : bdf ? dt / dtPrev : 0) : 0;
+      const jw = im * lam; // Δt·λ for θ-steps, (Δt/c0)·λ for BDF2 (the jump term at τ1)
+      const jscale = bdf ? jw : dt * lam;
+      for (let i = 1; i < last; i++) rhs[i] += jscale * (jNow[i] + extra * (jNow[i] - jPrev[i]));
       const swap = jPrev;
       jPrev = jNow;
       jNow = swap;
@@ -564,12 +586,21 @@ function checkInputs(S: number | null, K: number, T: number, r: number, q: numbe
 }
 
 /**
- * Grid sizes for an accuracy level: the value is the Richardson combination
- * (4·V(2n) − V(n))/3 of two solves with n and 2n space intervals (the spatial error is a clean
- * O(h²)); with quadratic grading of the time steps the time error is already far smaller.
+ * Grid sizes for an accuracy level: the value is the Richardson combination (4·V_fine − V_coarse)/3
+ * of a fine solve (2·nx space intervals, nt time steps) and a coarse one (nx, nt/2).
  */
+/**
+ * A spot within a few nodes of the exercise boundary: the error there depends erratically on where
+ * the boundary falls between nodes (space) and steps (time), and the two solves of the Richardson
+ * pair need not share it. Such spots (deep in the money, a small time value) are re-solved on
+ * grids twice as fine in both directions.
+ */
+function nearSize(size: FdSize): FdSize {
+  return { nx: 2 * size.nx, nt: 2 * size.nt };
+}
+
 function sizeFor(accuracy: 'normal' | 'fine'): FdSize {
-  return accuracy === 'fine' ? { nx: 400, nt: 400 } : { nx: 160, nt: 160 };
+  return accuracy === 'fine' ? { nx: 400, nt: 400 } : { nx: 140, nt: 140 };
 }
 
 /**
@@ -595,7 +626,12 @@ interface AtSpot {
   fxx: number;
   /** ∂V/∂τ at τ = T, one-sided through the last three levels */
   ft: number;
+  /** the spot is in the continuation region with an exercised node within NEAR nodes of it */
+  near: boolean;
 }
+
+/** Nodes from the spot within which an exercised node marks the spot as near the boundary. */
+const NEAR = 4;
 
 function solveAtSpot(p: Problem, S: number, nx: number, refine: number, nt: number, withTheta: boolean, layout: Problem): AtSpot {
   const x = gridFor(layout, S, nx, refine);
@@ -617,6 +653,11 @@ function solveAtSpot(p: Problem, S: number, nx: number, refine: number, nt: numb
     at = (v) => lagrange4(x, v, j, xs);
   }
   const [f, fx, fxx] = at(sol.v);
+  let near = false;
+  const ic = i > 0 ? i : stencil4(x, xs) + 1;
+  if (sol.v[ic] > sol.g[ic]) {
+    for (let k = Math.max(0, ic - NEAR); k <= Math.min(x.length - 1, ic + NEAR); k++) if (sol.v[k] <= sol.g[k]) near = true;
+  }
   let ft = 0;
   if (withTheta) {
     const f1 = at(sol.v1)[0];
@@ -625,16 +666,20 @@ function solveAtSpot(p: Problem, S: number, nx: number, refine: number, nt: numb
     const h2 = sol.t1 - sol.t2;
     ft = ((2 * h1 + h2) / (h1 * (h1 + h2))) * f - ((h1 + h2) / (h1 * h2)) * f1 + (h1 / (h2 * (h1 + h2))) * f2;
   }
-  return { f, fx, fxx, ft };
+  return { f, fx, fxx, ft, near };
 }
 
 
-/** Richardson combination of a coarse (n) and a fine (2n) solve. */
+/**
+ * Richardson combination of a coarse solve (space step 2h, nt/2 time steps) and a fine one (h, nt):
+ * both errors are O(h²) and O(Δt²), so both shrink 4× together and (4·fine − coarse)/3 cancels
+ * their leading terms.
+ */
 function richardson(p: Problem, S: number, size: FdSize, withTheta: boolean, layout: Problem = p): AtSpot {
-  const c = solveAtSpot(p, S, size.nx, 1, size.nt, withTheta, layout);
+  const c = solveAtSpot(p, S, size.nx, 1, Math.max(8, Math.round(size.nt / 2)), withTheta, layout);
   const f = solveAtSpot(p, S, size.nx, 2, size.nt, withTheta, layout);
   const ex = (a: number, b: number): number => b + (b - a) / 3;
-  return { f: ex(c.f, f.f), fx: ex(c.fx, f.fx), fxx: ex(c.fxx, f.fxx), ft: ex(c.ft, f.ft) };
+  return { f: ex(c.f, f.f), fx: ex(c.fx, f.fx), fxx: ex(c.fxx, f.fxx), ft: ex(c.ft, f.ft), near: f.near };
 }
 
 /** Value of the American option on grids of the given size (Richardson over n and 2n). */
@@ -653,8 +698,10 @@ export function americanFdValue(
   const j = activeJumps(jumps);
   if (T === 0) return payoff(kind, S, K);
   if (!j && sigma * Math.sqrt(T) < 1e-4) return deterministicValue(kind, S, K, T, r, q);
-  const v = richardson({ kind, K, T, r, q, sigma, jumps: j }, S, size, false).f;
-  return Math.max(v, payoff(kind, S, K));
+  const p: Problem = { kind, K, T, r, q, sigma, jumps: j };
+  let res = richardson(p, S, size, false);
+  if (res.near) res = richardson(p, S, nearSize(size), false);
+  return Math.max(res.f, payoff(kind, S, K));
 }
 
 /** Value of the American option, 'normal' or 'fine' accuracy. */
@@ -717,7 +764,7 @@ export function americanGreeks(
 ): Greeks {
   checkInputs(S, K, T, r, q, sigma, opts.jumps);
   const j = activeJumps(opts.jumps);
-  const size = sizeFor(opts.accuracy ?? 'normal');
+  let size = sizeFor(opts.accuracy ?? 'normal');
   const intrinsic = payoff(kind, S, K);
   if (T === 0) {
     const itm = kind === 'call' ? S > K : S < K;
@@ -725,7 +772,11 @@ export function americanGreeks(
   }
   const p: Problem = { kind, K, T, r, q, sigma, jumps: j };
   if (!j && sigma * Math.sqrt(T) < 1e-4) return deterministicGreeks(kind, S, K, T, r, q);
-  const base = richardson(p, S, size, true);
+  let base = richardson(p, S, size, true);
+  if (base.near) {
+    size = nearSize(size);
+    base = richardson(p, S, size, true);
+  }
   const value = Math.max(base.f, intrinsic);
   let delta = base.fx / S;
   let gamma = (base.fxx - base.fx) / (S * S);
@@ -799,11 +850,11 @@ export function americanValueCurve(
   const xLo = Math.max(Math.min(Math.log(sLo), xK - halfWidth(p, 6)), xK - wMax);
   const xHi = Math.min(Math.max(Math.log(sHi), xK + halfWidth(p, 6)), xK + wMax);
   const conc = Math.max(0.8 * sigma * Math.sqrt(T), 0.4 * totalSd(p), 0.01);
-  // Richardson over two solves (n and 2n intervals): the fine node values corrected by the
-  // difference to the coarse solution (interpolated by its spline) over 3
+  // Richardson over two solves (n intervals and nt/2 steps, 2n and nt): the fine node values
+  // corrected by the difference to the coarse solution (interpolated by its spline) over 3
   const xc = sinhGrid(xK, xLo, xHi, CURVE_NX, conc);
   const x = sinhGrid(xK, xLo, xHi, 2 * CURVE_NX, conc);
-  const coarse = naturalSpline(xc, solveBackward(kind, K, T, r, q, sigma, xc, CURVE_NT, true, 1, 4, true, j).v);
+  const coarse = naturalSpline(xc, solveBackward(kind, K, T, r, q, sigma, xc, CURVE_NT / 2, true, 1, 4, true, j).v);
   const fine = solveBackward(kind, K, T, r, q, sigma, x, CURVE_NT, true, 1, 4, true, j).v;
   const vx = new Float64Array(x.length);
   for (let i = 0; i < x.length; i++) {
