@@ -2,67 +2,120 @@
  * The compute budget of one request, checked before the engine runs.
  *
  * The request layer bounds each input on its own (LIMITS: 2000 characters, 50 legs, 8 comparison
- * parts, finite sane numbers), but their product can still be large once early exercise and
- * jumps are in play: every option leg of every part is valued twice (the view and its
- * risk-neutral twin) and, before its expiry, revalued across the horizon's spot range. The cost
- * is estimated in units of about one European option leg at the horizon; early exercise (a
- * Crank-Nicolson solve per leg and a value curve) costs about EARLY_EXERCISE_FACTOR units and
- * jumps (a Poisson mixture of Black-Scholes-Merton values) about JUMPS_FACTOR. A request above the
- * budget gets a clear rejection before any work is done; the per-request deadline of the worker
- * pool (KOLMO_TASK_TIMEOUT) stays as the hard stop behind it.
+ * parts, finite sane numbers), but their product can still be large: every option leg of every
+ * part is valued under the view and its risk-neutral twin and, before its expiry, revalued across
+ * the horizon's spot distribution; with Merton jumps each value is a Poisson series whose length
+ * grows with intensity × time, and a horizon before expiry multiplies the two series. The cost is
+ * estimated in units of about one millisecond of one core of this project's 2-core machine:
  *
- * Measured on this project's 2-core machine (unloaded): a European leg ≈ 1–3 ms within a 50-leg
- * check; American Greeks ≈ 20 ms and a value curve ≈ 10 ms per leg.
+ *   European option leg                      1
+ *   early exercise (Crank-Nicolson)          EARLY_EXERCISE_UNITS per leg
+ *   Merton jumps, leg of T years             JUMP_BASE + JUMP_PER_TERM·λT
+ *     and a horizon h before its expiry      + JUMP_HORIZON_BASE + JUMP_HORIZON_PAIR·(λh+1)(λ(T−h)+1)
+ *
+ * fitted to timings of askSync on 50-leg checks (European 45–66 ms; early exercise 0.5–0.7 s;
+ * jumps at 5/yr 1.4 s, at 50/yr with a horizon 4.1 s) and on one leg with jumps at 100/yr over
+ * 30 years (0.25 s at expiry; 51 s with a horizon 13 years out — the case this budget exists for).
+ * A request above the budget gets a clear rejection before any work is done; the worker pool's
+ * per-request deadline (KOLMO_TASK_TIMEOUT) stays as the hard stop behind it.
  */
+import { applyAgain } from '../request/again.js';
 import { formatError, parse } from '../request/parse.js';
-import type { CheckRequest } from '../request/types.js';
+import type { CheckRequest, ExpirySpec, Request } from '../request/types.js';
 import type { Rejection } from '../reply.js';
 
-export const COMPUTE_BUDGET_DEFAULT = 4000;
-export const EARLY_EXERCISE_FACTOR = 40;
-export const JUMPS_FACTOR = 4;
+export const COMPUTE_BUDGET_DEFAULT = 6000;
+export const EARLY_EXERCISE_UNITS = 14;
+export const JUMP_BASE = 30;
+export const JUMP_PER_TERM = 0.1;
+export const JUMP_HORIZON_BASE = 50;
+export const JUMP_HORIZON_PAIR = 0.03;
 
-/** Estimated units of one check: option legs × 2 (view and risk-neutral) × model factors. */
-export function checkCost(c: CheckRequest): number {
-  const options = c.legs.filter((l) => l.kind !== 'shares').length;
-  const american = c.terms.style === 'american' ? EARLY_EXERCISE_FACTOR : 1;
-  const jumps = c.terms.jumps && c.terms.jumps.intensity > 0 ? JUMPS_FACTOR : 1;
-  return Math.max(1, options * 2 * american * jumps);
+const DAY_MS = 86_400_000;
+
+/** Years from `asof` (ISO day) to an expiry as written; NaN when it cannot be read. */
+function yearsTo(spec: ExpirySpec | undefined, asofMs: number): number {
+  if (!spec) return NaN;
+  if ('date' in spec) return (Date.parse(`${spec.date}T00:00:00Z`) - asofMs) / DAY_MS / 365;
+  const per = { d: 1 / 365, w: 7 / 365, m: 1 / 12, y: 1 }[spec.unit];
+  return spec.span * per;
+}
+
+/** Estimated units of one check (see the table above). */
+export function checkCost(c: CheckRequest, now: Date = new Date()): number {
+  const asofIso = c.terms.asof && c.terms.asof !== 'today' ? c.terms.asof : now.toISOString().slice(0, 10);
+  const asofMs = Date.parse(`${asofIso}T00:00:00Z`);
+  const options = c.legs.filter((l) => l.kind !== 'shares');
+  const years = options.map((l) => {
+    const y = yearsTo(l.expiry ?? c.terms.exp, asofMs);
+    return Number.isFinite(y) && y > 0 ? Math.min(y, 100) : 1;
+  });
+  const earliest = years.length ? Math.min(...years) : 0;
+  const h0 = yearsTo(c.terms.horizon, asofMs);
+  const horizon = Number.isFinite(h0) && h0 > 0 ? Math.min(h0, earliest) : earliest;
+  const lambda = c.terms.jumps && c.terms.jumps.intensity > 0 ? c.terms.jumps.intensity : 0;
+  const american = c.terms.style === 'american';
+  let units = 0;
+  for (const T of years) {
+    let u = american ? EARLY_EXERCISE_UNITS : 1;
+    if (lambda > 0) {
+      u += JUMP_BASE + JUMP_PER_TERM * lambda * T;
+      if (horizon < T) u += JUMP_HORIZON_BASE + JUMP_HORIZON_PAIR * (lambda * horizon + 1) * (lambda * (T - horizon) + 1);
+    }
+    units += u;
+  }
+  return Math.max(1, Math.ceil(units));
+}
+
+export interface CostContext {
+  now?: Date;
+  /** the logged text of check N of the asker's channel (for `again N`), if it can be read */
+  logged?: (n: number) => string | undefined;
+}
+
+function costOf(r: Request, now: Date): number {
+  if (r.verb === 'check') return checkCost(r, now);
+  if (r.verb === 'compare' && r.checks) return r.checks.reduce((s, c) => s + checkCost(c, now), 0);
+  return 0;
 }
 
 /**
- * Units the request would need, where they can be known from its text alone (a check or a
- * comparison); 0 for verbs whose work is small or bounded elsewhere (help, log, mark, iv, touch,
- * `again`, which repeats a check that was within the budget when it was asked) and for text that
- * does not parse (the engine rejects it with its own message).
+ * Units the request would need, where they can be known from its text (a check, a comparison, or
+ * `again N` with its changes applied to the logged check); 0 for verbs whose work is small (help,
+ * log, mark, iv, touch) and for text that does not parse (the engine rejects it with its own
+ * message).
  */
-export function requestCost(text: string): { units: number; at: number; what: string } {
+export function requestCost(text: string, ctx: CostContext = {}): { units: number; at: number; what: string } {
+  const now = ctx.now ?? new Date();
   const p = parse(text);
   if (!p.ok) return { units: 0, at: 0, what: '' };
   const r = p.request;
-  if (r.verb === 'check') {
-    const at = r.termsAt.style ?? r.termsAt.jumps ?? 0;
-    return { units: checkCost(r), at, what: 'check' };
-  }
-  if (r.verb === 'compare' && r.checks) {
-    const units = r.checks.reduce((s, c) => s + checkCost(c), 0);
-    return { units, at: 0, what: 'comparison' };
+  if (r.verb === 'check') return { units: costOf(r, now), at: r.termsAt.jumps ?? r.termsAt.style ?? 0, what: 'check' };
+  if (r.verb === 'compare') return { units: costOf(r, now), at: 0, what: 'comparison' };
+  if (r.verb === 'again' && ctx.logged) {
+    const stored = ctx.logged(r.number);
+    if (stored === undefined) return { units: 0, at: 0, what: '' };
+    const merged = applyAgain(stored, r, text);
+    if (!merged.ok) return { units: 0, at: 0, what: '' };
+    const q = parse(merged.text);
+    if (!q.ok) return { units: 0, at: 0, what: '' };
+    return { units: costOf(q.request, now), at: r.restAt, what: 'rerun' };
   }
   return { units: 0, at: 0, what: '' };
 }
 
 /** A rejection when the request is over the budget, else null. */
-export function overBudget(text: string, budget: number): Rejection | null {
-  const c = requestCost(text);
+export function overBudget(text: string, budget: number, ctx: CostContext = {}): Rejection | null {
+  const c = requestCost(text, ctx);
   if (c.units <= budget) return null;
   const message = formatError(text, {
     message:
       `this ${c.what} needs about ${c.units.toLocaleString('en-US')} units of computing and Kolmo allows ${budget.toLocaleString('en-US')} per request ` +
-      `(a unit is about one European option leg; early exercise costs about ${EARLY_EXERCISE_FACTOR}, jumps about ${JUMPS_FACTOR}): ` +
-      'split it into smaller checks, compare fewer parts, or leave out `style american` or `jumps`',
+      `(a unit is about a millisecond: an option leg costs 1, with early exercise ${EARLY_EXERCISE_UNITS}; jumps cost more the higher their rate and the longer the time, ` +
+      'most of all with a horizon well before expiry): split it into smaller checks, compare fewer parts, lower the jump rate, or bring the horizon nearer the expiry',
     at: c.at,
     length: c.at > 0 ? 5 : Math.max(1, text.trimStart().split(/\s+/, 1)[0]?.length ?? 1),
-    example: 'check +1 put 95 2027-03-19 iv 30% spot 100 rate 4.5% drift 8% style american',
+    example: 'check +1 put 95 2027-03-19 iv 30% spot 100 rate 4.5% drift 8% jumps 2/yr -8% 12%',
   });
   return { kind: 'rejected', message, at: c.at };
 }

@@ -5,7 +5,7 @@
  *   KOLMO_USER_BURST        requests one user may send at once              (default 20)
  *   KOLMO_USER_PER_MINUTE   sustained requests per user per minute          (default 30)
  *   KOLMO_BODY_LIMIT        largest HTTP request body in bytes              (default 262144)
- *   KOLMO_COMPUTE_BUDGET    compute units one request may need (budget.ts)  (default 4000)
+ *   KOLMO_COMPUTE_BUDGET    compute units one request may need (budget.ts)  (default 6000)
  *   KOLMO_SHUTDOWN_GRACE    seconds SIGTERM waits for answers in progress   (default 10)
  */
 import { USER_RATE_DEFAULTS, type UserRateOptions } from './ratelimit.js';

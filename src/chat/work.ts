@@ -57,7 +57,14 @@ export function onceOnly(store: Store): Store {
 
 export async function work(job: Job, store: Store | null): Promise<WorkResult> {
   const t0 = performance.now();
-  const refused = overBudget(job.text, job.budget ?? COMPUTE_BUDGET_DEFAULT);
+  const logged = (n: number): string | undefined => {
+    try {
+      return store?.get(job.channel, n)?.text;
+    } catch {
+      return undefined;
+    }
+  };
+  const refused = overBudget(job.text, job.budget ?? COMPUTE_BUDGET_DEFAULT, { now: new Date(job.now), logged });
   if (refused) {
     try {
       store?.countRejected(job.channel);
