@@ -10,12 +10,14 @@
  *
  *   European option leg                      1
  *   early exercise (Crank-Nicolson)          EARLY_EXERCISE_UNITS per leg
- *   Merton jumps, leg of T years             JUMP_BASE + JUMP_PER_TERM·λT
- *     and a horizon h before its expiry      + JUMP_HORIZON_BASE + JUMP_HORIZON_PAIR·(λh+1)(λ(T−h)+1)
+ *   Merton jumps (rate λ, log-jump s.d. δ), leg of T years
+ *                                            JUMP_BASE + JUMP_PER_TERM·λT
+ *     and a horizon before its expiry        + (1 + JUMP_SD_WEIGHT·δ²)·(JUMP_HORIZON_BASE + JUMP_HORIZON_PER_TERM·λT)
  *
  * fitted to timings of askSync on 50-leg checks (European 45–66 ms; early exercise 0.5–0.7 s;
- * jumps at 5/yr 1.4 s, at 50/yr with a horizon 4.1 s) and on one leg with jumps at 100/yr over
- * 30 years (0.25 s at expiry; 51 s with a horizon 13 years out — the case this budget exists for).
+ * jumps at 5/yr 1.4 s, at 50/yr with a horizon 4.1 s) and on one leg with jumps of s.d. 200%:
+ * 20/yr over 4 years 2.0 s, 100/yr over 1 year 3.9 s, 100/yr over 30 years 0.25 s at expiry and
+ * 51 s with the horizon 13 years out — the case this budget exists for. The estimate errs high.
  * A request above the budget gets a clear rejection before any work is done; the worker pool's
  * per-request deadline (KOLMO_TASK_TIMEOUT) stays as the hard stop behind it.
  */
@@ -28,8 +30,9 @@ export const COMPUTE_BUDGET_DEFAULT = 6000;
 export const EARLY_EXERCISE_UNITS = 14;
 export const JUMP_BASE = 30;
 export const JUMP_PER_TERM = 0.1;
-export const JUMP_HORIZON_BASE = 50;
-export const JUMP_HORIZON_PAIR = 0.03;
+export const JUMP_HORIZON_BASE = 30;
+export const JUMP_HORIZON_PER_TERM = 0.2;
+export const JUMP_SD_WEIGHT = 20;
 
 const DAY_MS = 86_400_000;
 
@@ -54,13 +57,14 @@ export function checkCost(c: CheckRequest, now: Date = new Date()): number {
   const h0 = yearsTo(c.terms.horizon, asofMs);
   const horizon = Number.isFinite(h0) && h0 > 0 ? Math.min(h0, earliest) : earliest;
   const lambda = c.terms.jumps && c.terms.jumps.intensity > 0 ? c.terms.jumps.intensity : 0;
+  const sd = c.terms.jumps ? Math.abs(c.terms.jumps.sd) : 0;
   const american = c.terms.style === 'american';
   let units = 0;
   for (const T of years) {
     let u = american ? EARLY_EXERCISE_UNITS : 1;
     if (lambda > 0) {
       u += JUMP_BASE + JUMP_PER_TERM * lambda * T;
-      if (horizon < T) u += JUMP_HORIZON_BASE + JUMP_HORIZON_PAIR * (lambda * horizon + 1) * (lambda * (T - horizon) + 1);
+      if (horizon < T) u += (1 + JUMP_SD_WEIGHT * sd * sd) * (JUMP_HORIZON_BASE + JUMP_HORIZON_PER_TERM * lambda * T);
     }
     units += u;
   }
