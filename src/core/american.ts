@@ -787,10 +787,11 @@ export function americanGreeks(
     gamma = 0;
     theta = 0;
   } else {
-    // no-arbitrage bounds of the American value (V ≥ payoff and convex in S): |delta| ≤ 1 with the
-    // option's sign, gamma ≥ 0. Only differences across the exercise boundary (where V_SS jumps)
-    // can step outside them, and only by a little.
-    delta = kind === 'call' ? Math.min(Math.max(delta, 0), 1) : Math.min(Math.max(delta, -1), 0);
+    // bounds of the American value (convex in S, between the payoff and its asymptotes):
+    // |delta| ≤ max(1, e^{−qT}) with the option's sign, gamma ≥ 0. Only differences across the
+    // exercise boundary (where V_SS jumps) can step outside them, and only by a little.
+    const dMax = Math.max(1, Math.exp(-q * T));
+    delta = kind === 'call' ? Math.min(Math.max(delta, 0), dMax) : Math.min(Math.max(delta, -dMax), 0);
     if (gamma < 0) gamma = 0;
   }
   const at = (sig: number, rate: number): number => richardson({ ...p, sigma: sig, r: rate }, S, size, false, p).f;
@@ -806,7 +807,9 @@ function deterministicGreeks(kind: OptionKind, S: number, K: number, T: number, 
   const v = (s: number, t: number, rate: number): number => deterministicValue(kind, s, K, t, rate, q);
   const value = v(S, T, r);
   const hS = 1e-4 * S;
-  const delta = (v(S + hS, T, r) - v(S - hS, T, r)) / (2 * hS);
+  const dMax = Math.max(1, Math.exp(-q * T));
+  const raw = (v(S + hS, T, r) - v(S - hS, T, r)) / (2 * hS);
+  const delta = Math.min(Math.max(raw, -dMax), dMax);
   const ht = Math.min(1e-4, T / 2);
   const theta = -((v(S, T, r) - v(S, T - ht, r)) / ht) / 365;
   const rho = ((v(S, T, r + 1e-4) - v(S, T, r - 1e-4)) / 2e-4) * 0.01;

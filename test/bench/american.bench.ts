@@ -39,7 +39,7 @@ export function run(): void {
     const ref = bbsrValue(c[0], true, c[1], c[2], c[3], c[4], c[5], c[6], 32000);
     const fine = americanValue(...c, { accuracy: 'fine' });
     console.log(`reference BBSR(32000) ${ref.toFixed(7)}; FD 'fine' ${fine.toFixed(7)} (difference ${(fine - ref).toExponential(2)})`);
-    console.log('  FD convergence (Richardson over nx and 2nx):\n     nx    nt  value       error');
+    console.log('  FD convergence (Richardson over (nx, nt/2) and (2nx, nt)):\n     nx    nt  value       error');
     for (const [nx, nt] of [[40, 40], [80, 80], [160, 160], [320, 320], [640, 640]]) {
       const v = americanFdValue(...c, { nx, nt });
       console.log(`  ${String(nx).padStart(5)} ${String(nt).padStart(5)}  ${v.toFixed(7)}  ${(v - ref).toExponential(2)}`);

@@ -200,6 +200,28 @@ describe('American identities', () => {
     expect(g).toEqual({ value: 10, delta: -1, gamma: 0, vega: 0, theta: 0, rho: 0 });
   });
 
+  it('gives finite figures within the American bounds on extreme inputs', () => {
+    for (const kind of ['put', 'call'] as OptionKind[]) {
+      for (const S of [1, 100, 5000]) {
+        for (const T of [1e-6, 1 / 365, 30]) {
+          for (const sigma of [0, 0.01, 3]) {
+            for (const [r, q] of [
+              [0.05, 0],
+              [-0.02, -0.05],
+              [0.2, 0.1],
+            ]) {
+              const g = americanGreeks(kind, S, 100, T, r, q, sigma);
+              for (const v of Object.values(g)) expect(Number.isFinite(v), `${kind} ${S} ${T} ${sigma} ${r} ${q}`).toBe(true);
+              expect(g.value).toBeGreaterThanOrEqual(kind === 'put' ? Math.max(100 - S, 0) : Math.max(S - 100, 0));
+              expect(Math.abs(g.delta)).toBeLessThanOrEqual(Math.max(1, Math.exp(-q * T)) + 1e-12);
+              expect(g.gamma).toBeGreaterThanOrEqual(0);
+            }
+          }
+        }
+      }
+    }
+  });
+
   it('rejects bad input with a clear error', () => {
     expect(() => americanGreeks('put', -1, 100, 1, 0.05, 0, 0.2)).toThrow(/S must be/);
     expect(() => americanGreeks('put', 100, 100, Number.NaN, 0.05, 0, 0.2)).toThrow(/T must be/);

@@ -148,6 +148,25 @@ describe('mertonValue', () => {
     expect(deep).toBeLessThanOrEqual(100 * Math.exp(-0.05));
   });
 
+  it('gives finite figures on extreme inputs', () => {
+    for (const kind of ['call', 'put'] as OptionKind[]) {
+      for (const S of [1e-3, 100, 1e5]) {
+        for (const T of [1e-8, 1 / 365, 30]) {
+          for (const sigma of [0, 0.01, 3]) {
+            for (const j of [
+              { intensity: 0.01, mean: -2, sd: 1 },
+              { intensity: 50, mean: 0.1, sd: 0 },
+            ] as Jumps[]) {
+              const g = mertonGreeks(kind, S, 100, T, 0.05, 0.02, sigma, j);
+              for (const v of Object.values(g)) expect(Number.isFinite(v), `${kind} ${S} ${T} ${sigma} ${j.intensity}`).toBe(true);
+              expect(g.value).toBeGreaterThanOrEqual(0);
+            }
+          }
+        }
+      }
+    }
+  });
+
   it('rejects bad input with a clear error', () => {
     expect(() => mertonValue('call', 100, 100, 1, 0.05, 0, 0.2, { intensity: -1, mean: 0, sd: 0.1 })).toThrow(/intensity/);
     expect(() => mertonValue('call', 0, 100, 1, 0.05, 0, 0.2, J)).toThrow(/spot/);
