@@ -45,6 +45,7 @@
 import type { IvResult } from './iv.js';
 import { normCdf, normPdf } from './normal.js';
 import type { Greeks, Jumps, OptionKind } from './types.js';
+import { brentRoot } from './numeric.js';
 
 export interface AmericanOptions {
   /** 'normal': about 1e-4 absolute on typical cases; 'fine': about 1e-5, several times slower. */
@@ -962,71 +963,17 @@ export function americanImpliedVol(
   const sMin = 0.0005;
   const sMax = 5;
   const f = (s: number): number => americanFdValue(kind, S, K, T, r, q, s, size, jumps) - price;
-  let a = sMin;
-  let b = sMax;
-  let fa = f(a);
-  let fb = f(b);
+  const a = sMin;
+  const b = sMax;
+  const fa = f(a);
+  const fb = f(b);
   if (fa >= 0) {
     return { ok: false, message: `price ${price} is below the value at ${sMin * 100}% volatility (${round6(fa + price)})`, bound: 'lower', boundValue: fa + price };
   }
   if (fb <= 0) {
     return { ok: false, message: `price ${price} is above the value at ${sMax * 100}% volatility (${round6(fb + price)})`, bound: 'upper', boundValue: fb + price };
   }
-  // Brent's method
-  let c = a;
-  let fc = fa;
-  let d = b - a;
-  let e = d;
-  for (let it = 0; it < 100; it++) {
-    if (fb * fc > 0) {
-      c = a;
-      fc = fa;
-      d = b - a;
-      e = d;
-    }
-    if (Math.abs(fc) < Math.abs(fb)) {
-      a = b;
-      b = c;
-      c = a;
-      fa = fb;
-      fb = fc;
-      fc = fa;
-    }
-    const tol = 1e-9 + 1e-10 * Math.abs(b);
-    const m = 0.5 * (c - b);
-    if (Math.abs(m) <= tol || fb === 0) break;
-    if (Math.abs(e) >= tol && Math.abs(fa) > Math.abs(fb)) {
-      const s = fb / fa;
-      let pp: number;
-      let qq: number;
-      if (a === c) {
-        pp = 2 * m * s;
-        qq = 1 - s;
-      } else {
-        const q1 = fa / fc;
-        const r1 = fb / fc;
-        pp = s * (2 * m * q1 * (q1 - r1) - (b - a) * (r1 - 1));
-        qq = (q1 - 1) * (r1 - 1) * (s - 1);
-      }
-      if (pp > 0) qq = -qq;
-      else pp = -pp;
-      if (2 * pp < Math.min(3 * m * qq - Math.abs(tol * qq), Math.abs(e * qq))) {
-        e = d;
-        d = pp / qq;
-      } else {
-        d = m;
-        e = d;
-      }
-    } else {
-      d = m;
-      e = d;
-    }
-    a = b;
-    fa = fb;
-    b += Math.abs(d) > tol ? d : m > 0 ? tol : -tol;
-    fb = f(b);
-  }
-  const iv = b;
+  const iv = brentRoot(f, a, b, fa, fb, 2e-9);
   const h = Math.min(0.005, 0.5 * iv);
   const vega = ((f(iv + h) - f(iv - h)) / (2 * h)) * 0.01;
   return { ok: true, iv, vega };

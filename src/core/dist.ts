@@ -13,6 +13,7 @@
  */
 import { normCdf, normInv, normPdf } from './normal.js';
 import type { Walk } from './types.js';
+import { logFactorial } from './numeric.js';
 
 /** ln S_h ~ N(mu, s²) with probability `weight`. */
 export interface Component {
@@ -30,19 +31,6 @@ const MIN_WEIGHT = 1e-18;
 /** Hard cap on the number of jump components (reached only for λh in the thousands). */
 const MAX_COMPONENTS = 4000;
 
-function logFactorial(n: number): number {
-  // exact sum for small n, Stirling series beyond (error < 1e-15 relative for n ≥ 20)
-  if (n < 20) {
-    let s = 0;
-    for (let k = 2; k <= n; k++) s += Math.log(k);
-    return s;
-  }
-  const x = n + 1;
-  return (
-    (x - 0.5) * Math.log(x) - x + 0.5 * Math.log(2 * Math.PI) +
-    1 / (12 * x) - 1 / (360 * x * x * x) + 1 / (1260 * x ** 5) - 1 / (1680 * x ** 7)
-  );
-}
 
 /**
  * The distribution of the spot `years` ahead under `walk` (drift = expected total return, vol,

@@ -24,19 +24,11 @@
 import { bsmGreeks, bsmValue } from './bsm.js';
 import type { IvResult } from './iv.js';
 import type { Greeks, Jumps, OptionKind } from './types.js';
+import { logFactorial } from './numeric.js';
 
 const TAIL = 1e-15;
 const MAX_TERMS = 20000;
 
-function logFactorial(n: number): number {
-  if (n < 20) {
-    let s = 0;
-    for (let k = 2; k <= n; k++) s += Math.log(k);
-    return s;
-  }
-  const x = n + 1;
-  return (x - 0.5) * Math.log(x) - x + 0.5 * Math.log(2 * Math.PI) + 1 / (12 * x) - 1 / (360 * x * x * x) + 1 / (1260 * x ** 5);
-}
 
 function hasJumps(j: Jumps | undefined, T: number): j is Jumps {
   return !!j && j.intensity > 0 && T > 0;
