@@ -362,7 +362,7 @@ function doIv(text: string, req: Extract<Request, { verb: 'iv' }>, env: Env): Co
       ? mertonImpliedVol(v.kind, v.price, v.S, v.K, v.T, v.r, v.q, v.jumps)
       : impliedVol(v.kind, v.price, v.S, v.K, v.T, v.r, v.q);
   const ivModel = v.style === 'american'
-    ? `American exercise (Crank-Nicolson on the backward equation${v.jumps ? ' with Merton jumps; the iv is the diffusion vol' : ''})`
+    ? `American exercise (finite differences on the backward equation${v.jumps ? ' with Merton jumps; the iv is the diffusion vol' : ''})`
     : v.jumps
       ? 'Merton jump diffusion (European); the iv is the diffusion vol'
       : 'Black-Scholes-Merton (European)';

@@ -927,7 +927,7 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const eng = engineFor(sView, sRn);
   notes.unshift(
     input.style === 'american'
-      ? `values: American exercise by Crank-Nicolson on the backward equation${jumpsOn ? ' with Merton jumps (a PIDE)' : ''} (one solve per leg revalues it across the horizon)`
+      ? `values: American exercise by finite differences on the backward equation${jumpsOn ? ' with Merton jumps (a PIDE)' : ''} (one solve per leg revalues it across the horizon)`
       : jumpsOn
         ? 'values: Merton jump diffusion (European), Poisson-weighted Black-Scholes-Merton series'
         : 'values: Black-Scholes-Merton (European)',

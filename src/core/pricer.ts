@@ -4,7 +4,7 @@
  * functions, so every model plugs in here:
  * - European, no jumps: Black-Scholes-Merton closed forms (bsm.ts);
  * - European with jumps: Merton's Poisson-weighted series (merton.ts);
- * - American: Crank-Nicolson on the backward equation (american.ts), with jumps the backward
+ * - American: finite differences (BDF2) on the backward equation (american.ts), with jumps the backward
  *   equation gains Merton's jump integral (a PIDE); the horizon valuer is ONE backward solve per
  *   leg, interpolated across spots.
  */
