@@ -2,9 +2,9 @@
  * The workspace app (Bolt): `/kolmo <request>` and @-mentions, in HTTP mode or Socket Mode.
  *
  * A request's way through the app:
- *   1. the inbox (inbox.ts) records it under its delivery key — a key seen before is a re-sent
- *      delivery and is acknowledged but not answered again;
- *   2. it is acknowledged at once (the platform allows 3 seconds);
+ *   1. it is acknowledged at once (the platform allows 3 seconds);
+ *   2. the inbox (inbox.ts) records it under its delivery key — a key seen before is a re-sent
+ *      delivery, acknowledged but not answered again;
  *   3. the asker's rate limit (ratelimit.ts) and the bound on requests in line (queue.ts) may turn
  *      it away, with a polite ephemeral notice;
  *   4. per channel in arrival order, the engine and the chart run in a worker process (pool.ts)
@@ -397,11 +397,13 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
       user: command.user_id,
       ...(responder(command.response_url) ? { respond: responder(command.response_url) } : {}),
     };
+    // the ack first (nothing may delay it), then the inbox in the same turn of the event loop —
+    // as for events, which Bolt acknowledges before the listener runs
+    await ack();
     const fresh = admit(
       { key, source: 'command', channel: origin.channel, user: origin.user, ...(command.response_url ? { responseUrl: command.response_url } : {}), text, now },
       context as { retryNum?: number; retryReason?: string },
     );
-    await ack();
     if (fresh) submit(origin, text, t0, key, now);
   });
 
