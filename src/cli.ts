@@ -14,6 +14,7 @@ import { mkdirSync, writeFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { createInterface } from 'node:readline';
 import { askSync, type AskContext } from './service.js';
+import { COMPUTE_BUDGET_DEFAULT, overBudget } from './request/budget.js';
 import type { Reply } from './reply.js';
 import { renderAnswerChart } from './report/answer-chart.js';
 import { openStore, defaultDbPath, type Store } from './store/store.js';
@@ -62,6 +63,24 @@ function openStoreQuietly(enabled: boolean): { store: Store | null; warning?: st
   }
 }
 
+function budgetOf(env = process.env): number {
+  const v = Number(env.KOLMO_COMPUTE_BUDGET);
+  return Number.isFinite(v) && v > 0 ? v : COMPUTE_BUDGET_DEFAULT;
+}
+
+/**
+ * One request from the command line or the console: the same compute budget as the chat app
+ * (a request that would need too much work is refused before the engine runs), then the engine.
+ */
+export function answerLocal(text: string, ctx: AskContext): Reply {
+  const refused = overBudget(text, budgetOf(), {
+    now: ctx.now,
+    logged: (n) => ctx.store?.get(ctx.channel, n)?.text,
+  });
+  if (refused) return refused;
+  return askSync(text, ctx);
+}
+
 /** The text a terminal shows for a reply (answer, caution, warnings) — also used by the console. */
 export function replyText(r: Reply): string {
   if (r.kind === 'rejected') return r.message;
@@ -93,7 +112,7 @@ export async function runCli(argv: string[], out = process.stdout, err = process
   const { store, warning } = openStoreQuietly(o.log);
   try {
     const ctx: AskContext = { channel: o.channel ?? 'cli', user: process.env.USER || 'local', store };
-    const r = askSync(o.request, ctx);
+    const r = answerLocal(o.request, ctx);
     if (warning && r.kind === 'answer') r.warnings.push(warning);
     let chartNote: string | null = null;
     if (o.chart && r.kind === 'answer') chartNote = await writeChart(r, o.chart);
@@ -158,7 +177,7 @@ export async function runConsole(
           return;
         }
         if (text) {
-          const r = askSync(text, { channel, user: process.env.USER || 'local', store });
+          const r = answerLocal(text, { channel, user: process.env.USER || 'local', store });
           say(replyText(r));
           if (r.kind === 'answer' && r.chart) {
             n++;

@@ -829,7 +829,10 @@ export function askSync(text: string, ctx: AskContext): Reply {
     }
     return {
       kind: 'rejected',
-      message: `Kolmo could not answer this request: ${why(err)}\nNothing was logged. Try \`help\` for the grammar.`,
+      // the internal text stays out of the reply: it can name code paths and inputs of no use to the asker
+      message:
+        'Kolmo could not answer this request: the engine ran into a problem computing it (an internal error, not a reading of your request).\n' +
+        'Nothing was logged. Try nearer dates or milder jump terms, or `help` for the grammar.',
       at: 0,
     };
   }

@@ -11,7 +11,7 @@ import { ask } from '../service.js';
 import type { Reply } from '../reply.js';
 import { renderAnswerChart } from '../report/answer-chart.js';
 import type { LogEntry, LogEntryInput, Store } from '../store/store.js';
-import { COMPUTE_BUDGET_DEFAULT, overBudget } from './budget.js';
+import { COMPUTE_BUDGET_DEFAULT, overBudget } from '../request/budget.js';
 
 export interface Job {
   text: string;

@@ -8,6 +8,8 @@ export const LIMITS = {
   textLength: 2000,
   /** legs in one check */
   legs: 50,
+  /** total variance of ln S over a leg's life or the horizon (diffusion + jumps): s.d. ≤ 10 */
+  maxLogVariance: 100,
   /** parts of one comparison */
   compareParts: 8,
   /** |qty| of an option leg, in contracts */

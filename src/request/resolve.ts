@@ -404,7 +404,29 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     horizonYears: horizonDays / 365,
     view: terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol },
   };
+  checkSpread(R, input, req.termsAt);
   return { asof, horizon, input, legExpiries, notes, symbol: base.symbol };
+}
+
+/**
+ * The total variance of ln S over any leg's life (or the horizon, under the view) is capped at
+ * LIMITS.maxLogVariance: beyond it the spot's range spans more orders of magnitude than double
+ * precision holds for the integration and the jump series (a log-spot s.d. of 10 is already a
+ * factor e^10 ≈ 22,000 either way).
+ */
+function checkSpread(R: Resolver, input: CheckInput, termsAt: CheckRequest['termsAt']): void {
+  const j = input.view.jumps;
+  const jumpVar = j && j.intensity > 0 ? j.intensity * (j.mean * j.mean + j.sd * j.sd) : 0;
+  let worst = input.view.vol * input.view.vol * input.horizonYears + jumpVar * input.horizonYears;
+  for (const l of input.legs) if (l.kind !== 'shares') worst = Math.max(worst, (l.iv * l.iv + jumpVar) * l.years);
+  if (worst > LIMITS.maxLogVariance) {
+    const sd = Math.sqrt(worst);
+    throw R.term(
+      termsAt.jumps ?? termsAt.vol ?? termsAt.iv,
+      `the spot's spread is too wide to compute reliably: a log-spot standard deviation of ${sd.toFixed(1)} over the position's life ` +
+        `(at most ${Math.sqrt(LIMITS.maxLogVariance).toFixed(0)}): lower the jump rate or size, the vol, or bring the dates nearer`,
+    );
+  }
 }
 
 /** Every number in a value is finite (the last guard before the core). */

@@ -40,7 +40,7 @@ interface RunFigures {
 
 async function load(label: string, workers: number): Promise<RunFigures> {
   const fake = await FakeWebApi.start();
-  const app = await startApp(httpEnv(fake.apiUrl, { KOLMO_WORKERS: String(workers), LOG_LEVEL: 'info', KOLMO_QUEUE_LIMIT: '1000' }));
+  const app = await startApp(httpEnv(fake.apiUrl, { KOLMO_WORKERS: String(workers), LOG_LEVEL: 'info', KOLMO_QUEUE_LIMIT: '1000', KOLMO_USER_BURST: '100000', KOLMO_USER_PER_MINUTE: '1000000' }));
   const acks: number[] = [];
   const answers: number[] = [];
   let failed = 0;

@@ -134,6 +134,19 @@ describe('defaults', () => {
     expect(a.input.style).toBe('american');
   });
 
+  it('a spread of the spot too wide for double precision is refused at the jumps term', () => {
+    // log-spot variance λT(m² + δ²) = 100 × 4 × (1 + 4) = 2000 ≫ 100: e^{±10·sd} overflows
+    const text = '+1 call 70 2031-01-04 iv 20% spot 100 rate 4% drift 8% asof 2027-01-04 jumps 100/yr -100% 200%';
+    const r = resolveCheck(req<CheckRequest>(text), { today: TODAY, text });
+    expect(r.ok).toBe(false);
+    if (!r.ok) {
+      expect(r.error.at).toBe(text.indexOf('jumps'));
+      expect(r.error.message).toMatch(/too wide/);
+    }
+    // a milder one is fine
+    checkOk('+1 call 70 2031-01-04 iv 20% spot 100 rate 4% drift 8% asof 2027-01-04 jumps 1/yr -10% 20%');
+  });
+
   it('american with jumps passes through (early exercise under the jump diffusion)', () => {
     const c = checkOk('-1 put 95 6w iv 27% spot 100 style american jumps 0.5/yr -8% 12% drift 6% rate 4% yield 0%');
     expect(c.input.style).toBe('american');

@@ -22,7 +22,7 @@ import fc from 'fast-check';
 import { askSync } from '../../src/service.js';
 import { renderAnswerChart } from '../../src/report/answer-chart.js';
 import { openStore, type Store } from '../../src/store/store.js';
-import { COMPUTE_BUDGET_DEFAULT, overBudget } from '../../src/chat/budget.js';
+import { COMPUTE_BUDGET_DEFAULT, overBudget } from '../../src/request/budget.js';
 
 const RUNS = Number(process.env.KOLMO_FUZZ_RUNS ?? 100_000);
 const SEED = 20261202;

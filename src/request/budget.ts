@@ -21,9 +21,9 @@
  * A request above the budget gets a clear rejection before any work is done; the worker pool's
  * per-request deadline (KOLMO_TASK_TIMEOUT) stays as the hard stop behind it.
  */
-import { applyAgain } from '../request/again.js';
-import { formatError, parse } from '../request/parse.js';
-import type { CheckRequest, ExpirySpec, Request } from '../request/types.js';
+import { applyAgain } from './again.js';
+import { formatError, parse } from './parse.js';
+import type { CheckRequest, ExpirySpec, Request } from './types.js';
 import type { Rejection } from '../reply.js';
 
 export const COMPUTE_BUDGET_DEFAULT = 6000;
