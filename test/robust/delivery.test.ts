@@ -218,6 +218,8 @@ describe('shutdown and restart', () => {
     app = await start(dir, { KOLMO_SHUTDOWN_GRACE: '0' });
     await until(() => completes(channel).length >= 6, WAIT * 2, 'all six answered across the restart');
     expect(threadSpots(channel)).toEqual([101, 102, 103, 104, 105, 106]);
+    // the delivery state is written just after the last upload completes at the fake
+    await until(() => entries(dir, channel).every((x) => x.delivered === 'delivered'), WAIT, 'every entry marked delivered');
     const e = entries(dir, channel);
     expect(e.map((x) => x.number).sort((a, b) => a - b)).toEqual([1, 2, 3, 4, 5, 6]);
     expect(e.every((x) => x.delivered === 'delivered')).toBe(true);
