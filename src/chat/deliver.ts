@@ -202,7 +202,7 @@ export async function deliver(
   const a: Answer = reply;
   const notes = [...a.warnings];
   if (a.ephemeral) {
-    await tellAsker(deps, origin, [...monoNotice(a.text, [a.verb === 'help' ? '' : a.caution, ...notes].filter(Boolean).join(' · ')), ...linkMessages(a.links)]);
+    await tellAsker(deps, origin, [...monoNotice(a.text, [a.caution, ...notes].filter(Boolean).join(' · ')), ...linkMessages(a.links)]);
     return { outcome: 'ephemeral', failures };
   }
 
