@@ -17,6 +17,7 @@ import {
   walkDistribution,
   type SpotDist,
 } from '../../src/core/dist.js';
+import { integrate as glIntegrate } from '../support/quadrature.js';
 
 // jstat ships no types: load it through require and type the few functions used here
 const require = createRequire(import.meta.url);
@@ -27,42 +28,9 @@ const { jStat } = require('jstat') as {
   };
 };
 
-// 20-point Gauss-Legendre nodes/weights on [-1, 1] computed here by Newton on Legendre polynomials
-function gaussLegendre(n: number): { x: number[]; w: number[] } {
-  const x: number[] = [];
-  const w: number[] = [];
-  for (let i = 1; i <= n; i++) {
-    let z = Math.cos((Math.PI * (i - 0.25)) / (n + 0.5));
-    let dp = 0;
-    for (let it = 0; it < 100; it++) {
-      let p0 = 1;
-      let p1 = z;
-      for (let k = 2; k <= n; k++) {
-        const p2 = ((2 * k - 1) * z * p1 - (k - 1) * p0) / k;
-        p0 = p1;
-        p1 = p2;
-      }
-      dp = (n * (z * p1 - p0)) / (z * z - 1);
-      const dz = p1 / dp;
-      z -= dz;
-      if (Math.abs(dz) < 1e-16) break;
-    }
-    x.push(z);
-    w.push(2 / ((1 - z * z) * dp * dp));
-  }
-  return { x, w };
-}
-const GL = gaussLegendre(20);
-
 /** ∫ g(y) dy over [a, b] in n panels of 20-point Gauss-Legendre. */
 function integrate(g: (y: number) => number, a: number, b: number, n = 400): number {
-  let total = 0;
-  const hw = (b - a) / n / 2;
-  for (let i = 0; i < n; i++) {
-    const c = a + (2 * i + 1) * hw;
-    for (let k = 0; k < GL.x.length; k++) total += GL.w[k] * g(c + hw * GL.x[k]);
-  }
-  return total * hw;
+  return glIntegrate(g, a, b, n);
 }
 
 /** ∫ g(S) f(S) dS over S in (e^ya, e^yb], integrating in y = ln S. */

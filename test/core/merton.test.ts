@@ -2,6 +2,7 @@ import { describe, it, expect } from 'vitest';
 import { mertonGreeks, mertonImpliedVol, mertonValue } from '../../src/core/merton.js';
 import { bsmGreeks, bsmValue } from '../../src/core/bsm.js';
 import type { Jumps, OptionKind } from '../../src/core/types.js';
+import { integrate } from '../support/quadrature.js';
 
 /** Poisson(μ) weight of n, in logs (no overflow for large μ). */
 function poisson(mu: number, n: number): number {
@@ -10,43 +11,6 @@ function poisson(mu: number, n: number): number {
   return Math.exp(-mu + n * Math.log(mu) - lf);
 }
 
-/** 20-point Gauss-Legendre nodes and weights on [−1, 1] (computed here by Newton on P₂₀). */
-function gaussLegendre(n: number): { x: number[]; w: number[] } {
-  const x: number[] = [];
-  const w: number[] = [];
-  for (let i = 1; i <= n; i++) {
-    let z = Math.cos((Math.PI * (i - 0.25)) / (n + 0.5));
-    let dp = 0;
-    for (let it = 0; it < 100; it++) {
-      let p0 = 1;
-      let p1 = z;
-      for (let k = 2; k <= n; k++) {
-        const p2 = ((2 * k - 1) * z * p1 - (k - 1) * p0) / k;
-        p0 = p1;
-        p1 = p2;
-      }
-      dp = (n * (z * p1 - p0)) / (z * z - 1);
-      const dz = p1 / dp;
-      z -= dz;
-      if (Math.abs(dz) < 1e-15) break;
-    }
-    x.push(z);
-    w.push(2 / ((1 - z * z) * dp * dp));
-  }
-  return { x, w };
-}
-const GL = gaussLegendre(20);
-
-/** ∫_a^b f by Gauss-Legendre on `pieces` equal panels. */
-function integrate(f: (z: number) => number, a: number, b: number, pieces: number): number {
-  let s = 0;
-  const h = (b - a) / pieces;
-  for (let p = 0; p < pieces; p++) {
-    const c = a + (p + 0.5) * h;
-    for (let i = 0; i < GL.x.length; i++) s += GL.w[i] * f(c + 0.5 * h * GL.x[i]);
-  }
-  return 0.5 * h * s;
-}
 
 /**
  * Direct numerical integration of the discounted payoff over the law of S_T: a Poisson(λT)

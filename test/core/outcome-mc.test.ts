@@ -7,49 +7,11 @@
  * estimator, [Var(X | X ≤ q) + (1 − α)(q − ES)²]/(Nα) (common practice).
  */
 import { describe, expect, it } from 'vitest';
-import { bsmValue } from '../../src/core/bsm.js';
 import { runCheck } from '../../src/core/outcome.js';
 import type { CheckInput, Jumps, LegInput } from '../../src/core/types.js';
+import { mulberry32, normals } from '../support/rng.js';
+import { pnlFn } from '../support/positions.js';
 
-function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
-
-function normals(seed: number, n: number): Float64Array {
-  const u = mulberry32(seed);
-  const z = new Float64Array(n);
-  for (let i = 0; i < n; i += 2) {
-    const r = Math.sqrt(-2 * Math.log(1 - u()));
-    const th = 2 * Math.PI * u();
-    z[i] = r * Math.cos(th);
-    if (i + 1 < n) z[i + 1] = r * Math.sin(th);
-  }
-  return z;
-}
-
-function pnlFn(input: CheckInput): (S: number) => number {
-  const { spot, rate, yield: q } = input.market;
-  const h = input.horizonYears;
-  const parts = input.legs.map((l) => {
-    const m = l.kind === 'shares' ? 1 : input.mult;
-    const fair = l.kind === 'shares' ? spot : bsmValue(l.kind, spot, l.strike, l.years, rate, q, l.iv);
-    const entry = l.entry ?? fair;
-    const value = (S: number): number => {
-      if (l.kind === 'shares') return S;
-      if (l.years - h <= 1e-9) return l.kind === 'call' ? Math.max(S - l.strike, 0) : Math.max(l.strike - S, 0);
-      return bsmValue(l.kind, S, l.strike, l.years - h, rate, q, l.iv);
-    };
-    return { c: l.qty * m, entry, value };
-  });
-  return (S) => parts.reduce((t, p) => t + p.c * (p.value(S) - p.entry), 0);
-}
 
 /** Spot at the horizon: lognormal, plus compensated Merton jumps when given. */
 function simulateSpots(spot: number, h: number, q: number, drift: number, vol: number, seed: number, n: number, jumps?: Jumps): Float64Array {

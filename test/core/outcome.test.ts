@@ -13,6 +13,7 @@ import { describe, expect, it } from 'vitest';
 import { bsmValue } from '../../src/core/bsm.js';
 import { runCheck } from '../../src/core/outcome.js';
 import type { CheckCore, CheckInput, LegInput } from '../../src/core/types.js';
+import { pnlFn } from '../support/positions.js';
 
 const require = createRequire(import.meta.url);
 const { jStat } = require('jstat') as {
@@ -23,23 +24,6 @@ const { jStat } = require('jstat') as {
 };
 const N = (x: number): number => jStat.normal.cdf(x, 0, 1);
 
-/** P&L at the horizon written independently of the engine: intrinsic at expiry, BSM before. */
-function pnlFn(input: CheckInput): (S: number) => number {
-  const { spot, rate, yield: q } = input.market;
-  const h = input.horizonYears;
-  const parts = input.legs.map((l) => {
-    const m = l.kind === 'shares' ? 1 : input.mult;
-    const fair = l.kind === 'shares' ? spot : bsmValue(l.kind, spot, l.strike, l.years, rate, q, l.iv);
-    const entry = l.entry ?? fair;
-    const value = (S: number): number => {
-      if (l.kind === 'shares') return S;
-      if (l.years - h <= 1e-9) return l.kind === 'call' ? Math.max(S - l.strike, 0) : Math.max(l.strike - S, 0);
-      return bsmValue(l.kind, S, l.strike, l.years - h, rate, q, l.iv);
-    };
-    return { c: l.qty * m, entry, value };
-  });
-  return (S) => parts.reduce((t, p) => t + p.c * (p.value(S) - p.entry), 0);
-}
 
 function scaleOf(input: CheckInput): number {
   return input.legs.reduce((t, l) => t + Math.abs(l.qty) * (l.kind === 'shares' ? 1 : input.mult), 0) * input.market.spot;

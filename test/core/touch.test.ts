@@ -6,23 +6,13 @@ import { createRequire } from 'node:module';
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { probBeyondAtEnd, touchProb } from '../../src/core/touch.js';
+import { mulberry32 as rng } from '../support/rng.js';
 
 const require = createRequire(import.meta.url);
 const { jStat } = require('jstat') as {
   jStat: { lognormal: { cdf(x: number, mu: number, s: number): number } };
 };
 
-/** mulberry32: small seeded uniform generator (public-domain algorithm, common practice). */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /**
  * Monte Carlo of P(touch) for the log-spot X (drift ν, vol σ) with `steps` steps per path.

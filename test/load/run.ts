@@ -24,6 +24,7 @@ import { availableParallelism, loadavg } from 'node:os';
 import { readFileSync } from 'node:fs';
 import { FakeWebApi, type Call } from '../chat/fake-web-api.js';
 import { httpEnv, sendSlash, startApp } from '../chat/harness.js';
+import { mulberry32 as rng } from '../support/rng.js';
 
 const envInt = (name: string, def: number, lo: number, hi: number): number => {
   const v = process.env[name];
@@ -60,17 +61,6 @@ interface Req {
   doneAt?: number;
 }
 
-/** a small deterministic generator (mulberry32), so every run sends the same requests */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 function requests(): Req[] {
   const r = rng(20261201);
