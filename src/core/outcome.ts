@@ -304,6 +304,19 @@ interface Segment {
   beta: number;
 }
 
+/**
+ * The point masses of a split distribution whose P&L is below y (≤ y unless strict): their
+ * probability, or with `weighted` their P&L-weighted sum.
+ */
+function pointsBelow(f: (s: number) => number, d: SplitDist, y: number, strict: boolean, weighted: boolean): number {
+  let t = 0;
+  for (const a of d.points) {
+    const v = f(a.S);
+    if (strict ? v < y : v <= y) t += weighted ? a.w * v : a.w;
+  }
+  return t;
+}
+
 function linearEngine(segs: Segment[], view: SplitDist, rn: SplitDist, pf: PnlFn): PnlEngine {
   const f = pf.f;
   const [vlo, vhi] = logRange(view);
@@ -313,14 +326,6 @@ function linearEngine(segs: Segment[], view: SplitDist, rn: SplitDist, pf: PnlFn
     const r = (y - s.alpha) / s.beta;
     if (s.beta > 0) return r > s.a ? [s.a, Math.min(s.b, r)] : null;
     return r < s.b ? [Math.max(s.a, r), s.b] : null;
-  };
-  const pointsBelow = (d: SplitDist, y: number, strict: boolean, weighted: boolean): number => {
-    let t = 0;
-    for (const a of d.points) {
-      const v = f(a.S);
-      if (strict ? v < y : v <= y) t += weighted ? a.w * v : a.w;
-    }
-    return t;
   };
   const expectOn = (d: SplitDist, s: Segment, a: number, b: number): number =>
     s.alpha * spotProb(d.cont, a, b) + (s.beta !== 0 ? s.beta * partialExpectation(d.cont, a, b) : 0);
@@ -348,7 +353,7 @@ function linearEngine(segs: Segment[], view: SplitDist, rn: SplitDist, pf: PnlFn
         } else if (r <= s.a) t += cdfEnd[i + 1] - cdfEnd[i];
         else if (r < s.b) t += cdfEnd[i + 1] - spotCdf(view.cont, r);
       }
-      return Math.min(1, Math.max(0, t + pointsBelow(view, y, strict, false)));
+      return Math.min(1, Math.max(0, t + pointsBelow(f, view, y, strict, false)));
     },
     expectBelow(y, strict) {
       let t = 0;
@@ -356,7 +361,7 @@ function linearEngine(segs: Segment[], view: SplitDist, rn: SplitDist, pf: PnlFn
         const iv = interval(s, y, strict);
         if (iv) t += expectOn(view, s, iv[0], iv[1]);
       }
-      return t + pointsBelow(view, y, strict, true);
+      return t + pointsBelow(f, view, y, strict, true);
     },
     expectView: () => expectAll(view),
     expectRiskNeutral: () => expectAll(rn),
@@ -620,14 +625,6 @@ function smoothEngine(
     if (inside) out.push([start, Infinity]);
     return out;
   };
-  const pointsBelow = (d: SplitDist, y: number, strict: boolean, weighted: boolean): number => {
-    let t = 0;
-    for (const a of d.points) {
-      const v = f(a.S);
-      if (strict ? v < y : v <= y) t += weighted ? a.w * v : a.w;
-    }
-    return t;
-  };
   const pointsAll = (d: SplitDist): number => d.points.reduce((t, a) => t + a.w * f(a.S), 0);
 
   return {
@@ -635,12 +632,12 @@ function smoothEngine(
     probBelow(y, strict, precise = true) {
       let t = 0;
       for (const [a, b] of below(y, strict, precise)) t += spotProb(view.cont, Math.exp(a), Math.exp(b));
-      return Math.min(1, t + pointsBelow(view, y, strict, false));
+      return Math.min(1, t + pointsBelow(f, view, y, strict, false));
     },
     expectBelow(y, strict) {
       let t = 0;
       for (const [a, b] of below(y, strict, true)) t += integView(a, b);
-      return t + pointsBelow(view, y, strict, true);
+      return t + pointsBelow(f, view, y, strict, true);
     },
     expectView: () => prefV[np] + pointsAll(view),
     expectRiskNeutral: () => prefR[np] + pointsAll(rn),
