@@ -142,12 +142,24 @@ export interface RunningApp {
   dir: string;
 }
 
+export interface Launched {
+  child: ChildProcess;
+  port: number;
+  /** parsed JSON log lines */
+  lines: Array<Record<string, unknown>>;
+  stdout: () => string;
+  stderr: () => string;
+  /** everything the app printed, stdout and stderr, in arrival order */
+  output: () => string;
+  exited: Promise<number | null>;
+}
+
 /**
- * Starts `node dist/src/main.js` with the given environment (nothing inherited but PATH and HOME)
- * and waits for its "listening" (HTTP) or "connected" (Socket Mode) log line.
+ * Starts `node dist/src/main.js` in `dir` (its log database there) with the given environment
+ * (nothing inherited but PATH and HOME) and waits for its "listening" (HTTP) or "connected"
+ * (Socket Mode) log line.
  */
-export async function startApp(env: Record<string, string>, timeoutMs = 30000): Promise<RunningApp> {
-  const dir = mkdtempSync(join(tmpdir(), 'kolmo-chat-'));
+export async function launch(dir: string, env: Record<string, string>, timeoutMs = 30000): Promise<Launched> {
   const child = spawn(process.execPath, [MAIN_JS], {
     cwd: dir,
     env: { PATH: process.env.PATH ?? '', HOME: dir, KOLMO_DB: join(dir, 'kolmo.db'), ...env },
@@ -155,11 +167,13 @@ export async function startApp(env: Record<string, string>, timeoutMs = 30000): 
   });
   let out = '';
   let err = '';
+  let all = '';
   const lines: Array<Record<string, unknown>> = [];
   let partial = '';
   child.stdout!.on('data', (c: Buffer) => {
     const s = c.toString('utf8');
     out += s;
+    all += s;
     partial += s;
     let i: number;
     while ((i = partial.indexOf('\n')) >= 0) {
@@ -173,7 +187,9 @@ export async function startApp(env: Record<string, string>, timeoutMs = 30000): 
     }
   });
   child.stderr!.on('data', (c: Buffer) => {
-    err += c.toString('utf8');
+    const s = c.toString('utf8');
+    err += s;
+    all += s;
   });
   const exited = new Promise<number | null>((r) => child.once('exit', (code) => r(code)));
   const deadline = performance.now() + timeoutMs;
@@ -191,13 +207,20 @@ export async function startApp(env: Record<string, string>, timeoutMs = 30000): 
     child.kill('SIGKILL');
     throw new Error(`the app did not start within ${timeoutMs} ms: ${err}${out}`);
   }
+  return { child, port, lines, stdout: () => out, stderr: () => err, output: () => all, exited };
+}
+
+/** `launch` in a fresh folder that stop() removes. */
+export async function startApp(env: Record<string, string>, timeoutMs = 30000): Promise<RunningApp> {
+  const dir = mkdtempSync(join(tmpdir(), 'kolmo-chat-'));
+  const { child, port, lines, stdout, stderr, exited } = await launch(dir, env, timeoutMs);
   return {
     child,
     port,
     lines,
     dir,
-    stdout: () => out,
-    stderr: () => err,
+    stdout,
+    stderr,
     stop: async () => {
       if (child.exitCode === null) {
         child.kill('SIGTERM');

@@ -4,11 +4,10 @@
  * the app and the fake Web API that drops or stalls chosen calls — connection faults the fake
  * itself does not make. Loopback only; every wait bounded.
  */
-import { spawn, type ChildProcess } from 'node:child_process';
+import type { ChildProcess } from 'node:child_process';
 import { createServer, request, type IncomingMessage, type Server, type ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
-import { join } from 'node:path';
-import { MAIN_JS, SECRET, sign } from '../chat/harness.js';
+import { SECRET, launch, sign } from '../chat/harness.js';
 
 export interface App {
   child: ChildProcess;
@@ -22,52 +21,12 @@ export interface App {
 
 /** Starts the app with its log at `dir`/kolmo.db; waits for "listening" (HTTP) or "connected" (Socket Mode). */
 export async function startIn(dir: string, env: Record<string, string>, timeoutMs = 30000): Promise<App> {
-  const child = spawn(process.execPath, [MAIN_JS], {
-    cwd: dir,
-    env: { PATH: process.env.PATH ?? '', HOME: dir, KOLMO_DB: join(dir, 'kolmo.db'), ...env },
-    stdio: ['ignore', 'pipe', 'pipe'],
-  });
-  let out = '';
-  let partial = '';
-  const lines: Array<Record<string, unknown>> = [];
-  const eat = (c: Buffer) => {
-    const s = c.toString('utf8');
-    out += s;
-    partial += s;
-    let i: number;
-    while ((i = partial.indexOf('\n')) >= 0) {
-      const line = partial.slice(0, i);
-      partial = partial.slice(i + 1);
-      try {
-        lines.push(JSON.parse(line) as Record<string, unknown>);
-      } catch {
-        /* not a log line */
-      }
-    }
-  };
-  child.stdout!.on('data', eat);
-  child.stderr!.on('data', (c: Buffer) => (out += c.toString('utf8')));
-  const exited = new Promise<number | null>((r) => child.once('exit', (code) => r(code)));
-  const deadline = performance.now() + timeoutMs;
-  let port = -1;
-  while (performance.now() < deadline) {
-    const ready = lines.find((l) => l.msg === 'listening' || l.msg === 'connected');
-    if (ready) {
-      port = typeof ready.port === 'number' ? ready.port : 0;
-      break;
-    }
-    if (child.exitCode !== null) throw new Error(`the app exited with ${child.exitCode}: ${out}`);
-    await new Promise((r) => setTimeout(r, 50));
-  }
-  if (port < 0) {
-    child.kill('SIGKILL');
-    throw new Error(`the app did not start within ${timeoutMs} ms: ${out}`);
-  }
+  const { child, port, lines, output, exited } = await launch(dir, env, timeoutMs);
   return {
     child,
     port,
     lines,
-    output: () => out,
+    output,
     exited,
     stop: async (signal = 'SIGTERM', ms = 30000) => {
       if (child.exitCode !== null || child.signalCode !== null) return child.exitCode;
