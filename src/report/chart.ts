@@ -441,6 +441,20 @@ function emptyPluginOptions(size: ChartSize): KolmoPluginOptions {
   return { markers: [], bands: [], bandColor: PROFIT_BAND, hlines: [], stems: [], labelStrip: 0, size: { width: size.width, height: size.height } };
 }
 
+/** The left axis of a density: unlabelled ticks (only shapes and areas matter), headroom above the peak. */
+function densityAxis(dMax: number, title: string) {
+  return {
+    type: 'linear' as const,
+    position: 'left' as const,
+    min: 0,
+    max: dMax > 0 ? dMax * 1.12 : 1,
+    ticks: { display: false },
+    grid: { display: false },
+    border: { display: true, color: '#bbbbbb' },
+    title: { display: true, text: title, font: AXIS_TITLE_FONT, color: MUTED },
+  };
+}
+
 /**
  * The density chart of one check: the view's and the risk-neutral density of the spot at the
  * horizon (left axis), the P&L at the horizon (right axis, money) with its zero line, the profit
@@ -604,16 +618,7 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
           grid: { color: GRID },
           title: { display: true, text: `spot at horizon${unit}`, font: AXIS_TITLE_FONT, color: INK },
         },
-        yDensity: {
-          type: 'linear',
-          position: 'left',
-          min: 0,
-          max: dMax > 0 ? dMax * 1.12 : 1,
-          ticks: { display: false },
-          grid: { display: false },
-          border: { display: true, color: '#bbbbbb' },
-          title: { display: true, text: 'likelihood (each density has area 1)', font: AXIS_TITLE_FONT, color: MUTED },
-        },
+        yDensity: densityAxis(dMax, 'likelihood (each density has area 1)'),
         yPnl: {
           type: 'linear',
           position: 'right',
@@ -772,16 +777,7 @@ export function compareChartConfig(
           grid: { color: GRID },
           title: { display: true, text: `P&L at horizon${unit}`, font: AXIS_TITLE_FONT, color: INK },
         },
-        yDensity: {
-          type: 'linear',
-          position: 'left',
-          min: 0,
-          max: dMax > 0 ? dMax * 1.12 : 1,
-          ticks: { display: false },
-          grid: { display: false },
-          border: { display: true, color: '#bbbbbb' },
-          title: { display: true, text: 'likelihood of P&L', font: AXIS_TITLE_FONT, color: MUTED },
-        },
+        yDensity: densityAxis(dMax, 'likelihood of P&L'),
         yAtom: {
           type: 'linear',
           position: 'right',
