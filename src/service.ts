@@ -67,8 +67,8 @@ function answer(partial: Omit<Answer, 'kind' | 'caution' | 'warnings' | 'ephemer
 export function computeCheck(rc: ResolvedCheck): CheckAssembly {
   const input: CheckInput = rc.input;
   const core = runCheck(input);
-  // the risk-neutral column comes from the same run (same P&L function, the twin's distribution)
-  const rn = core.outcomeRiskNeutral!; // computed by default (RunOptions.riskNeutralFigures)
+  // the market column comes from the same run (same P&L function, the market walk's distribution)
+  const mk = core.outcomeMarket!; // computed by default (RunOptions.marketFigures)
   const legs: LegJson[] = input.legs.map((l, i) => {
     const g = core.legs[i];
     const isOpt = l.kind !== 'shares';
@@ -106,12 +106,13 @@ export function computeCheck(rc: ResolvedCheck): CheckAssembly {
     legs,
     position: core.position,
     outcome: core.outcome,
-    outcomeRiskNeutral: {
-      probProfit: rn.probProfit,
-      expectedPnl: rn.expectedPnl,
-      pnlQuantiles: rn.pnlQuantiles,
-      tailMean05: rn.tailMean05,
+    outcomeMarket: {
+      probProfit: mk.probProfit,
+      expectedPnl: mk.expectedPnl,
+      pnlQuantiles: mk.pnlQuantiles,
+      tailMean05: mk.tailMean05,
     },
+    marketVol: core.marketVol,
   };
   return { json, curves: core.curves };
 }
@@ -128,6 +129,7 @@ export function chartInputOf(a: CheckAssembly) {
     breakevens: c.outcome.breakevens,
     probProfit: c.outcome.probProfit,
     expectedPnl: c.outcome.expectedPnl,
+    marketVol: c.marketVol,
     curves: a.curves,
   };
 }

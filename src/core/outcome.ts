@@ -34,7 +34,7 @@ import {
 } from './dist.js';
 import { brentRoot } from './numeric.js';
 import { expiresBy, legAsymptote, legGreeks, legValuer, type LegModel } from './pricer.js';
-import type { CheckCore, CheckInput, Curves, LegResult, Outcome, PositionTotals, Walk } from './types.js';
+import type { CheckCore, CheckInput, Curves, LegInput, LegResult, Outcome, PositionTotals, Walk } from './types.js';
 
 export interface RunOptions {
   /**
@@ -42,8 +42,8 @@ export interface RunOptions {
    * compares against 10 to measure the integration error.
    */
   refine?: number;
-  /** also compute chance of profit, quantiles and worst-5% average under the risk-neutral twin (default true) */
-  riskNeutralFigures?: boolean;
+  /** also compute chance of profit, quantiles and worst-5% average under the market walk (default true) */
+  marketFigures?: boolean;
 }
 
 /** z-range kept on each side of a mixture component (Φ(−9.5) ≈ 1e-21). */
@@ -795,7 +795,10 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const h = Math.max(0, input.horizonYears);
   const model: LegModel = { market, style: input.style, jumps: view.jumps };
   const notes: string[] = [];
-  const rnWalk: Walk = { drift: rate, vol: view.vol, jumps: view.jumps };
+  const atRateWalk: Walk = { drift: rate, vol: view.vol, jumps: view.jumps };
+  const marketVol = input.marketVol ?? nearestMoneyIv(input.legs, spot) ?? view.vol;
+  const sameVol = marketVol === view.vol;
+  const marketWalk: Walk = { drift: rate, vol: marketVol, jumps: view.jumps };
   const jumpsOn = !!(view.jumps && view.jumps.intensity > 0);
 
   // --- legs today
@@ -803,7 +806,9 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const pos: PositionTotals = { cost: 0, value: 0, delta: 0, gamma: 0, vega: 0, theta: 0, rho: 0 };
   const coefs: number[] = [];
   const entries: number[] = [];
-  let price = 0;
+  const fairs: number[] = [];
+  let entryVsFair = 0;
+  let carry = 0;
   let hasShares = false;
   for (const leg of input.legs) {
     const g = legGreeks(leg, model);
@@ -812,12 +817,14 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
     const entry = leg.entry ?? g.value;
     coefs.push(coef);
     entries.push(entry);
+    fairs.push(g.value);
+    entryVsFair += coef * (g.value - entry);
     // shares have no strike: their in-the-money probabilities are shown as 1 (never NaN)
     let pRn = 1;
     let pView = 1;
     if (leg.kind === 'shares') {
       hasShares = true;
-      price += coef * (spot * Math.exp((rate - q) * h) - entry);
+      carry += coef * spot * Math.expm1((rate - q) * h);
     } else {
       const T = Math.max(0, leg.years);
       const dR = walkDistribution(spot, T, q, { drift: rate, vol: leg.iv, jumps: view.jumps });
@@ -829,7 +836,7 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
         pRn = spotCdf(dR, leg.strike);
         pView = spotCdf(dV, leg.strike);
       }
-      price += coef * (g.value * Math.exp(rate * h) - entry);
+      carry += coef * g.value * Math.expm1(rate * h);
     }
     legs.push({ ...g, probItmRiskNeutral: pRn, probItmView: pView });
     pos.cost += coef * entry;
@@ -842,7 +849,7 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   }
 
   // --- P&L at the horizon: grouped terms (identical legs merged so that exact offsets vanish)
-  const groups = new Map<string, { leg: (typeof input.legs)[number]; coef: number }>();
+  const groups = new Map<string, { leg: (typeof input.legs)[number]; coef: number; fair: number }>();
   let c0 = 0;
   let absCoef = 0;
   input.legs.forEach((leg, i) => {
@@ -851,7 +858,7 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
     const key = leg.kind === 'shares' ? 'shares' : `${leg.kind}|${leg.strike}|${leg.years}|${leg.iv}`;
     const g0 = groups.get(key);
     if (g0) g0.coef += coefs[i];
-    else groups.set(key, { leg, coef: coefs[i] });
+    else groups.set(key, { leg, coef: coefs[i], fair: fairs[i] });
   });
   const active = [...groups.values()].filter((g) => g.coef !== 0);
   const terms: Term[] = active.map((g) => ({ coef: g.coef, v: legValuer(g.leg, model, h) }));
@@ -870,10 +877,13 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const scale = absCoef > 0 ? absCoef * spot : Math.max(1, Math.abs(c0));
   const pf: PnlFn = { f: pnl, A, B, tolB: 1e-12 * Math.max(absCoef, 1e-300), scale };
 
+  // three walks on the one P&L function: the view, the view's vol at the rate, and the market
   const dView = walkDistribution(spot, h, q, view);
-  const dRn = walkDistribution(spot, h, q, rnWalk);
+  const dAtRate = walkDistribution(spot, h, q, atRateWalk);
+  const dMkt = sameVol ? dAtRate : walkDistribution(spot, h, q, marketWalk);
   const sView = splitDist(dView);
-  const sRn = splitDist(dRn);
+  const sAtRate = splitDist(dAtRate);
+  const sMkt = sameVol ? sAtRate : splitDist(dMkt);
 
   const optionGroups = active.filter((g) => g.leg.kind !== 'shares');
   const liveGroups = optionGroups.filter((g) => !expiresBy(g.leg, h));
@@ -920,9 +930,9 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
     liveInfo = { live, ext };
     notes.push('outcome: Gauss-Legendre integration between kinks; live legs revalued at the horizon with their own iv (sticky strike)');
   }
-  const engineFor = (primary: typeof sView, twin: typeof sRn): PnlEngine =>
+  const engineFor = (primary: SplitDist, twin: SplitDist): PnlEngine =>
     linearSegs ? linearEngine(linearSegs, primary, twin, pf) : smoothEngine(primary, twin, pf, kinks, liveInfo!.live, liveInfo!.ext, refine);
-  const eng = engineFor(sView, sRn);
+  const eng = engineFor(sView, sAtRate);
   notes.unshift(
     input.style === 'american'
       ? `values: American exercise by finite differences on the backward equation${jumpsOn ? ' with Merton jumps (a PIDE)' : ''} (one solve per leg revalues it across the horizon)`
@@ -960,30 +970,51 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const { atoms, cache, Q, probProfit, qs, tailMean05 } = fv;
 
   const expectedPnl = eng.expectView();
-  const expectedPnlRiskNeutral = eng.expectRiskNeutral();
-  const viewEdge = expectedPnl - expectedPnlRiskNeutral;
+  const expectedPnlAtRate = eng.expectRiskNeutral();
+  const viewEdge = expectedPnl - expectedPnlAtRate;
   // a crossing below a billionth of the spot is rounding in a P&L that is flat near zero there
   const breakevens = eng.breakevens().filter((b) => b > 1e-9 * spot);
   const ext = eng.extremes();
 
-  // the same figures under the risk-neutral twin (same P&L function, no second revaluation)
-  let outcomeRiskNeutral: CheckCore['outcomeRiskNeutral'];
-  if (options.riskNeutralFigures !== false) {
-    const fr = figuresOf(engineFor(sRn, sRn));
-    outcomeRiskNeutral = {
-      probProfit: fr.probProfit,
-      expectedPnl: expectedPnlRiskNeutral,
-      pnlQuantiles: { p05: fr.qs[0], p25: fr.qs[1], p50: fr.qs[2], p75: fr.qs[3], p95: fr.qs[4] },
-      tailMean05: fr.tailMean05,
-    };
+  // the same figures under the market walk (same P&L function, no second revaluation); with no
+  // vol view the market walk is the at-rate one, and its expectation is taken from the same sum
+  let outcomeMarket: CheckCore['outcomeMarket'];
+  let expectedMarket = expectedPnlAtRate;
+  const wantFigures = options.marketFigures !== false;
+  if (wantFigures || !sameVol) {
+    const engM = engineFor(sMkt, sMkt);
+    if (!sameVol) expectedMarket = engM.expectView();
+    if (wantFigures) {
+      const fr = figuresOf(engM);
+      outcomeMarket = {
+        probProfit: fr.probProfit,
+        expectedPnl: expectedMarket,
+        pnlQuantiles: { p05: fr.qs[0], p25: fr.qs[1], p50: fr.qs[2], p75: fr.qs[3], p95: fr.qs[4] },
+        tailMean05: fr.tailMean05,
+      };
+    }
   }
+
+  // early exercise given up: each American leg's expected value at the horizon at the rate with
+  // its own iv, against its fair value grown at the rate (a European leg's is the same, exactly)
+  let earlyExercise = 0;
+  if (input.style === 'american') {
+    for (let k = 0; k < active.length; k++) {
+      const g = active[k];
+      if (g.leg.kind === 'shares') continue;
+      const d = splitDist(walkDistribution(spot, h, q, { drift: rate, vol: g.leg.iv, jumps: view.jumps }));
+      const e = expectLegAtHorizon(g.leg, terms[k].v, model, h, d, refine);
+      earlyExercise += g.coef * (e - g.fair * Math.exp(rate * h));
+    }
+  }
+  const legIv = expectedMarket - (entryVsFair + carry + earlyExercise);
 
   const outcome: Outcome = {
     probProfit,
     expectedPnl,
-    expectedPnlRiskNeutral,
+    expectedPnlAtRate,
     viewEdge,
-    attribution: { price, vol: expectedPnlRiskNeutral - price, drift: viewEdge },
+    attribution: { entryVsFair, carry, earlyExercise, legIv, vol: expectedPnlAtRate - expectedMarket, drift: viewEdge },
     pnlQuantiles: { p05: qs[0], p25: qs[1], p50: qs[2], p75: qs[3], p95: qs[4] },
     tailMean05,
     breakevens,
@@ -992,11 +1023,43 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   };
 
   // --- curves for the chart
-  const curves = buildCurves(dView, dRn, pnl, strikesAll, breakevens, spot, eng, Q, atoms, cache, tolY);
+  const curves = buildCurves(dView, dMkt, pnl, strikesAll, breakevens, spot, eng, Q, atoms, cache, tolY);
 
-  const result: CheckCore = { legs, position: pos, outcome, curves, notes, ...(outcomeRiskNeutral ? { outcomeRiskNeutral } : {}) };
+  const result: CheckCore = { legs, position: pos, outcome, curves, notes, ...(outcomeMarket ? { outcomeMarket } : {}), marketVol };
   if (sanitize(result)) notes.push('some figures could not be computed and are shown as 0');
   return result;
+}
+
+/** The iv of the option leg nearest the money (smallest |ln K/S|, the first on ties); none for shares alone. */
+export function nearestMoneyIv(legs: readonly LegInput[], spot: number): number | undefined {
+  let best: LegInput | undefined;
+  for (const l of legs) {
+    if (l.kind === 'shares' || !(l.strike > 0)) continue;
+    if (!best || Math.abs(Math.log(l.strike / spot)) < Math.abs(Math.log(best.strike / spot))) best = l;
+  }
+  return best?.iv;
+}
+
+/**
+ * E[V(S_h)] of one leg's horizon value under a spot distribution: exact on the payoff when the
+ * leg expires at the horizon, otherwise the integrating engine on the leg alone.
+ */
+function expectLegAtHorizon(leg: LegInput, v: (s: number) => number, model: LegModel, h: number, d: SplitDist, refine: number): number {
+  const K = leg.strike;
+  const as = legAsymptote(leg, model, h);
+  const pf: PnlFn = { f: v, A: as.intercept, B: as.slope, tolB: 1e-12, scale: Math.max(K, model.market.spot) };
+  if (expiresBy(leg, h)) {
+    const segs: Segment[] =
+      leg.kind === 'call'
+        ? [{ a: 0, b: K, alpha: 0, beta: 0 }, { a: K, b: Infinity, alpha: -K, beta: 1 }]
+        : [{ a: 0, b: K, alpha: K, beta: -1 }, { a: K, b: Infinity, alpha: 0, beta: 0 }];
+    return linearEngine(segs, d, d, pf).expectView();
+  }
+  const { rate, yield: q, spot } = model.market;
+  const tau = leg.years - h;
+  const live: LiveInfo[] = [{ centre: Math.log(K) - (rate - q) * tau, width: leg.iv * Math.sqrt(tau) }];
+  const ext: [number, number] = [Math.min(Math.log(spot), Math.log(K)) - 0.1, Math.max(Math.log(spot), Math.log(K)) + 0.1];
+  return smoothEngine(d, d, pf, [], live, ext, refine).expectView();
 }
 
 function buildCurves(
@@ -1026,7 +1089,7 @@ function buildCurves(
   for (let i = 0; i < n; i++) xs.push(lo + ((hi - lo) * i) / (n - 1));
   const spotPts = dedupe([...xs, ...marks.filter((x) => x > lo && x < hi)]);
   const densityView = spotPts.map((s) => spotDensity(dView, s));
-  const densityRiskNeutral = spotPts.map((s) => spotDensity(dRn, s));
+  const densityMarket = spotPts.map((s) => spotDensity(dRn, s));
   const pnlPts = spotPts.map(pnl);
 
   // P&L density under the view: histogram of the continuous part, atoms listed apart
@@ -1066,7 +1129,7 @@ function buildCurves(
   return {
     spot: spotPts,
     densityView,
-    densityRiskNeutral,
+    densityMarket,
     pnl: pnlPts,
     pnlDensity: { x, density: dens, atoms: listed.map((a) => ({ x: a.x, prob: a.prob })) },
   };
@@ -1101,8 +1164,9 @@ function sanitize(r: CheckCore): boolean {
   for (const l of r.legs) rec(l as unknown as Record<string, unknown>);
   rec(r.position as unknown as Record<string, unknown>);
   rec(r.outcome as unknown as Record<string, unknown>);
+  if (r.outcomeMarket) rec(r.outcomeMarket as unknown as Record<string, unknown>);
   const c = r.curves;
-  for (const a of [c.spot, c.densityView, c.densityRiskNeutral, c.pnl, c.pnlDensity.x, c.pnlDensity.density]) arr(a);
+  for (const a of [c.spot, c.densityView, c.densityMarket, c.pnl, c.pnlDensity.x, c.pnlDensity.density]) arr(a);
   for (const a of c.pnlDensity.atoms) rec(a as unknown as Record<string, unknown>);
   return hit;
 }

@@ -7,7 +7,7 @@
  *  - colours from the Okabe–Ito palette, which stays distinguishable for the common forms of
  *    colour blindness, and a line style as a second cue:
  *      view density          blue #0072B2, solid, filled;
- *      risk-neutral density  vermillion #D55E00, dashed, unfilled;
+ *      market walk's density vermillion #D55E00, dashed, unfilled;
  *      P&L at the horizon    near-black, solid, thick, on the right-hand axis, with its zero line;
  *      profit region         pale bluish green #009E73 band over the spots where P&L > 0;
  *      markers               spot (solid grey), strikes (dotted grey), breakevens (dashed green),
@@ -96,6 +96,13 @@ export interface ChartInput {
   curves: Curves;
   /** the underlying's currency, e.g. "USD" (optional; used in axis titles and money) */
   currency?: string;
+  /** σ_m of the market walk drawn as the second density (DESIGN.md §4) */
+  marketVol?: number;
+}
+
+/** The legend of the second density: the walk that prices the options, with its vol. */
+function marketLabel(input: ChartInput): string {
+  return isNum(input.marketVol) ? `market walk (drift = rate, vol ${fmtPct(input.marketVol)}): prices the options` : 'market walk (drift = rate): prices the options';
 }
 
 /** One check of a comparison. */
@@ -371,12 +378,12 @@ interface CleanCurves {
 function cleanCurves(c: Curves | undefined): CleanCurves {
   const out: CleanCurves = { spot: [], dv: [], drn: [], pnl: [] };
   if (!c || !Array.isArray(c.spot)) return out;
-  const n = Math.min(c.spot.length, c.densityView?.length ?? 0, c.densityRiskNeutral?.length ?? 0, c.pnl?.length ?? 0);
+  const n = Math.min(c.spot.length, c.densityView?.length ?? 0, c.densityMarket?.length ?? 0, c.pnl?.length ?? 0);
   let last = -Infinity;
   for (let i = 0; i < n; i++) {
     const s = c.spot[i];
     const a = c.densityView[i];
-    const b = c.densityRiskNeutral[i];
+    const b = c.densityMarket[i];
     const p = c.pnl[i];
     if (!isNum(s) || !isNum(a) || !isNum(b) || !isNum(p) || s <= last) continue;
     last = s;
@@ -456,7 +463,7 @@ function densityAxis(dMax: number, title: string) {
 }
 
 /**
- * The density chart of one check: the view's and the risk-neutral density of the spot at the
+ * The density chart of one check: the view's and the market walk's density of the spot at the
  * horizon (left axis), the P&L at the horizon (right axis, money) with its zero line, the profit
  * region shaded, markers at spot, strikes and breakevens. Pure; JSON-serialisable result.
  */
@@ -555,7 +562,7 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
       order: 3,
     },
     {
-      label: 'risk-neutral: prices the options',
+      label: marketLabel(input),
       data: pts(sr),
       yAxisID: 'yDensity',
       borderColor: RN_LINE,

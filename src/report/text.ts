@@ -40,6 +40,23 @@ export function assumptionsLine(c: CheckJson): string {
   return `Assumptions: ${parts.join(' · ')}.`;
 }
 
+/**
+ * American legs whose value equals intrinsic value: exercising now is worth as much as holding
+ * (to a millionth of the strike; the backward solve returns the exercise value itself there).
+ */
+export function exerciseNotes(c: CheckJson): string[] {
+  if (c.style !== 'american') return [];
+  const out: string[] = [];
+  c.legs.forEach((l, i) => {
+    if (l.type === 'shares' || l.strike === null) return;
+    const intrinsic = l.type === 'call' ? c.market.spot - l.strike : l.strike - c.market.spot;
+    if (intrinsic > 0 && Math.abs(l.value - intrinsic) <= 1e-6 * l.strike) {
+      out.push(`leg ${i + 1} (${l.type} ${level(l.strike)}): exercise now is worth as much as holding (value = intrinsic ${num(intrinsic)})`);
+    }
+  });
+  return out;
+}
+
 export function checkText(c: CheckJson): string {
   const lines: string[] = [];
   const days = daysBetween(c.asof, c.horizon);
@@ -66,6 +83,7 @@ export function checkText(c: CheckJson): string {
   }
   lines.push(...table(legRows));
   if (c.legs.some((l) => !l.entryGiven)) lines.push('* no @entry written: entered at fair value');
+  for (const n of exerciseNotes(c)) lines.push(n);
   const p = c.position;
   lines.push(
     `position: cost ${money(p.cost)} · value ${money(p.value)} · Δ ${num(p.delta, 1)} · Γ ${num(p.gamma, 2)} · vega ${num(p.vega, 1)} · θ/day ${num(p.theta, 2)}`,
@@ -73,19 +91,29 @@ export function checkText(c: CheckJson): string {
   lines.push('');
 
   const o = c.outcome;
-  const rn = c.outcomeRiskNeutral;
+  const mk = c.outcomeMarket;
   const s = (x: number) => money(x, { sign: true });
+  const a = o.attribution;
+  // each part of the expected P&L is shown only when it is not zero at display precision
+  const parts: [string, number][] = [
+    ['  entry vs fair', a.entryVsFair],
+    ['  carry at the rate', a.carry],
+    ['  early exercise given up', a.earlyExercise],
+    ["  legs' iv vs market vol", a.legIv],
+    ['  vol view', a.vol],
+    ['  drift view (view edge)', a.drift],
+  ];
   const rows: string[][] = [
-    [`outcome at ${shortDate(c.horizon)}`, 'view', 'risk-neutral'],
-    ['chance of profit', pct(o.probProfit), pct(rn.probProfit)],
-    ['expected P&L', s(o.expectedPnl), s(rn.expectedPnl)],
-    ['  from entry prices', s(o.attribution.price), ''],
-    ['  from vol view', s(o.attribution.vol), ''],
-    ['  from drift view (view edge)', s(o.attribution.drift), ''],
-    ['P&L p05', s(o.pnlQuantiles.p05), s(rn.pnlQuantiles.p05)],
-    ['P&L p50', s(o.pnlQuantiles.p50), s(rn.pnlQuantiles.p50)],
-    ['P&L p95', s(o.pnlQuantiles.p95), s(rn.pnlQuantiles.p95)],
-    ['worst-5% average', s(o.tailMean05), s(rn.tailMean05)],
+    [`outcome at ${shortDate(c.horizon)}`, 'your view', `market (vol ${rate(c.marketVol)})`],
+    ['chance of profit', pct(o.probProfit), pct(mk.probProfit)],
+    ['expected P&L', s(o.expectedPnl), s(mk.expectedPnl)],
+    ...parts.filter(([, v]) => Number(Math.abs(v).toFixed(2)) !== 0).map(([label, v]) => [label, s(v), '']),
+    ['P&L p05', s(o.pnlQuantiles.p05), s(mk.pnlQuantiles.p05)],
+    ['P&L p25', s(o.pnlQuantiles.p25), s(mk.pnlQuantiles.p25)],
+    ['P&L p50', s(o.pnlQuantiles.p50), s(mk.pnlQuantiles.p50)],
+    ['P&L p75', s(o.pnlQuantiles.p75), s(mk.pnlQuantiles.p75)],
+    ['P&L p95', s(o.pnlQuantiles.p95), s(mk.pnlQuantiles.p95)],
+    ['worst-5% average', s(o.tailMean05), s(mk.tailMean05)],
   ];
   lines.push(...table(rows));
   const be = o.breakevens.length ? o.breakevens.map((b) => level(Number(b.toFixed(2)))).join(', ') : 'none';

@@ -15,7 +15,7 @@
  * - iv: the leg's own, else the position's `iv`, else the mark's iv; required for every option leg.
  * - vol (view): `vol`, else the position's `iv` (or the mark's), else the iv of the option leg
  *   nearest the money (smallest |ln K/S|, first such leg on ties); a note says which.
- * - drift: default the rate, with the note that the outcome is then the risk-neutral one.
+ * - drift: default the rate, with the note that the view edge is then 0.
  * - horizon: default the earliest option expiry; must be after asof and on or before the
  *   earliest option expiry. A shares-only check has no expiry to default to, so it must name a
  *   horizon.
@@ -362,38 +362,45 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     throw R.missing('a check of shares alone has no expiry to measure at: give a horizon, e.g. horizon 3m', 'horizon 3m');
   }
 
-  // view vol
+  // the market vol (the walk that prices the options) and the view's vol, which defaults to it:
+  // the position's iv, else the mark's, else the iv of the option leg nearest the money
+  let marketVol: number | undefined;
+  let marketVolFrom = '';
+  if (terms.iv !== undefined) {
+    marketVol = terms.iv;
+    marketVolFrom = "the position's iv";
+  } else if (base.markIv !== undefined) {
+    marketVol = base.markIv;
+    marketVolFrom = "the mark's iv";
+  } else {
+    let best = -1;
+    let bestD = Infinity;
+    legs.forEach((l, i) => {
+      if (l.kind === 'shares') return;
+      const d = Math.abs(Math.log(l.strike / spot));
+      if (d < bestD) {
+        bestD = d;
+        best = i;
+      }
+    });
+    if (best >= 0) {
+      marketVol = legs[best].iv;
+      marketVolFrom = `the iv of ${legLabel(req.legs[best], best)}, the leg nearest the money`;
+    }
+  }
   let vol = terms.vol;
   if (vol === undefined) {
-    if (terms.iv !== undefined) {
-      vol = terms.iv;
-      notes.push(`vol not given: the view uses the position's iv, ${pct(vol)}`);
-    } else if (base.markIv !== undefined) {
-      vol = base.markIv;
-      notes.push(`vol not given: the view uses the mark's iv, ${pct(vol)}`);
-    } else {
-      let best = -1;
-      let bestD = Infinity;
-      legs.forEach((l, i) => {
-        if (l.kind === 'shares') return;
-        const d = Math.abs(Math.log(l.strike / spot));
-        if (d < bestD) {
-          bestD = d;
-          best = i;
-        }
-      });
-      if (best < 0) {
-        throw R.missing('vol missing: a check of shares alone needs the view\'s vol, e.g. vol 25%', `vol ${SAMPLE.vol}`);
-      }
-      vol = legs[best].iv;
-      notes.push(`vol not given: the view uses the iv of ${legLabel(req.legs[best], best)}, the leg nearest the money, ${pct(vol)}`);
+    if (marketVol === undefined) {
+      throw R.missing('vol missing: a check of shares alone needs the view\'s vol, e.g. vol 25%', `vol ${SAMPLE.vol}`);
     }
+    vol = marketVol;
+    notes.push(`vol not given: the view uses ${marketVolFrom}, ${pct(vol)}`);
   }
 
   let drift = terms.drift;
   if (drift === undefined) {
     drift = base.rate;
-    notes.push('drift not given: the view uses the rate, so the outcome is the risk-neutral one');
+    notes.push('drift not given: the view uses the rate, so its view edge is 0');
   }
 
   const input: CheckInput = {
@@ -403,6 +410,8 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     style: terms.style ?? 'european',
     horizonYears: horizonDays / 365,
     view: terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol },
+    // shares alone: no option prices a market vol; the view's vol stands in (no option to price)
+    marketVol: marketVol ?? vol,
   };
   checkSpread(R, input, req.termsAt);
   return { asof, horizon, input, legExpiries, notes, symbol: base.symbol };

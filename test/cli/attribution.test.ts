@@ -77,9 +77,7 @@ describe('the attribution adds up (identity: DESIGN.md §4 defines the parts as 
 
 describe('identities of the attribution', () => {
   it('a European single-iv position with no @ and no vol: only carry and drift', () => {
-    const c = json(
-      '+1 call 105 2027-03-19 -1 call 115 2027-03-19 iv 25% spot 100 rate 4.5% yield 1% drift 9% horizon 2027-02-15 asof 2027-01-04',
-    );
+    const c = json('+1 call 105 2027-03-19 -1 call 115 2027-03-19 spot 100 iv 25% rate 4.5% yield 1% drift 9% horizon 2027-02-15 asof 2027-01-04');
     const a = c.outcome.attribution;
     expect(c.marketVol).toBe(0.25);
     expect(a.entryVsFair).toBe(0);
@@ -89,9 +87,7 @@ describe('identities of the attribution', () => {
     expect(shownZero(a.carry)).toBe(false);
     expect(shownZero(a.drift)).toBe(false);
     // the rows shown are the non-zero ones
-    const t = text(
-      '+1 call 105 2027-03-19 -1 call 115 2027-03-19 iv 25% spot 100 rate 4.5% yield 1% drift 9% horizon 2027-02-15 asof 2027-01-04',
-    );
+    const t = text('+1 call 105 2027-03-19 -1 call 115 2027-03-19 spot 100 iv 25% rate 4.5% yield 1% drift 9% horizon 2027-02-15 asof 2027-01-04');
     expect(t).toMatch(/carry at the rate/);
     expect(t).toMatch(/drift view \(view edge\)/);
     expect(t).not.toMatch(/entry vs fair|early exercise given up|legs' iv vs market vol|vol view/);
@@ -161,25 +157,26 @@ function reference(opts: {
   jumps?: JumpTerms;
 }) {
   const { S, r, q, h, mult, legs, view } = opts;
-  // American values at the horizon: CRR trees on a log grid of spots, interpolated linearly
-  // (the value is convex and smooth away from the boundary; spacing 0.005 in ln S)
+  // American values at the horizon: CRR trees on a log grid of spots (spacing 0.01 in ln S),
+  // interpolated by three-point Lagrange (the value is smooth away from the exercise boundary)
   const grids = new Map<RefLeg, { x0: number; dx: number; v: number[] }>();
   const americanAt = (l: RefLeg, s: number, T: number): number => {
     let g = grids.get(l);
     if (!g) {
       const w = 8 * Math.max(l.iv, view.vol) * Math.sqrt(h);
       const x0 = Math.log(S) - w;
-      const dx = 0.005;
+      const dx = 0.01;
       const v: number[] = [];
-      for (let x = x0; x <= Math.log(S) + w + dx; x += dx) v.push(americanTree(l.kind, Math.exp(x), l.K, T, r, q, l.iv, 800));
+      for (let x = x0; x <= Math.log(S) + w + dx; x += dx) v.push(americanTree(l.kind, Math.exp(x), l.K, T, r, q, l.iv, 500));
       g = { x0, dx, v };
       grids.set(l, g);
     }
     const u = (Math.log(s) - g.x0) / g.dx;
     if (u <= 0) return l.kind === 'put' ? Math.max(l.K - s, g.v[0]) : g.v[0];
     if (u >= g.v.length - 1) return l.kind === 'call' ? Math.max(s - l.K, g.v[g.v.length - 1]) : g.v[g.v.length - 1];
-    const i = Math.floor(u);
-    return g.v[i] + (u - i) * (g.v[i + 1] - g.v[i]);
+    const i = Math.min(Math.max(1, Math.round(u)), g.v.length - 2);
+    const t = u - i;
+    return 0.5 * t * (t - 1) * g.v[i - 1] + (1 - t * t) * g.v[i] + 0.5 * t * (t + 1) * g.v[i + 1];
   };
   const value = (l: RefLeg, s: number, T: number): number =>
     T <= 1e-12
@@ -306,7 +303,7 @@ describe('independent recomputation of the market column and every part', () => 
       view: { drift: 0.09, vol: 0.28 },
       legs: [{ qty: -1, kind: 'put', K: 100, T: c.legs[0].years, iv: 0.32, entry: 6.2 }],
     });
-    // trees of 2000 steps at every node: a few cents of money in total
+    // trees of 500 steps on a grid: a few cents of money in total
     compare(c, ref, 0.5, 2e-3);
   }, 120_000);
 

@@ -46,10 +46,14 @@ describe('kolmo --json check', () => {
     // cost = Σ qty × mult × entry (DESIGN.md §3)
     expect(c.position.cost).toBeCloseTo(2 * 100 * 3.1 - 2 * 100 * 1.05, 9);
     const o = c.outcome;
-    for (const k of ['probProfit', 'expectedPnl', 'expectedPnlRiskNeutral', 'viewEdge', 'tailMean05']) expect(Number.isFinite(o[k])).toBe(true);
+    for (const k of ['probProfit', 'expectedPnl', 'expectedPnlAtRate', 'viewEdge', 'tailMean05']) expect(Number.isFinite(o[k])).toBe(true);
     // the attribution adds up to the expected P&L, and its drift part is the view edge (DESIGN.md §4)
-    expect(o.attribution.price + o.attribution.vol + o.attribution.drift).toBeCloseTo(o.expectedPnl, 6);
-    expect(o.viewEdge).toBeCloseTo(o.expectedPnl - o.expectedPnlRiskNeutral, 9);
+    const a = o.attribution;
+    expect(a.entryVsFair + a.carry + a.earlyExercise + a.legIv + a.vol + a.drift).toBeCloseTo(o.expectedPnl, 6);
+    expect(o.viewEdge).toBeCloseTo(o.expectedPnl - o.expectedPnlAtRate, 9);
+    for (const k of ['probProfit', 'expectedPnl', 'tailMean05']) expect(Number.isFinite(c.outcomeMarket[k])).toBe(true);
+    // the market vol: the iv of the leg nearest the money (105 of 105/115 at spot 100)
+    expect(c.marketVol).toBe(0.28);
     expect(o.attribution.drift).toBeCloseTo(o.viewEdge, 9);
     // a debit call spread: bounded both ways
     expect(o.maxGain).not.toBeNull();

@@ -236,7 +236,7 @@ describe('checkChartConfig: thinning, degenerate input', () => {
 
   it('empty curves: a valid config with finite axes and a note saying why there is no chart', () => {
     const inp = inputFor(callSpread);
-    inp.curves = { spot: [], densityView: [], densityRiskNeutral: [], pnl: [], pnlDensity: { x: [], density: [], atoms: [] } };
+    inp.curves = { spot: [], densityView: [], densityMarket: [], pnl: [], pnlDensity: { x: [], density: [], atoms: [] } };
     const cfg = checkChartConfig(inp);
     expect(kolmo(cfg).empty).toMatch(/no chart/);
     expect(allNumbers(cfg).every(Number.isFinite)).toBe(true);
@@ -280,7 +280,7 @@ describe('checkChartConfig: thinning, degenerate input', () => {
 
   it('a zero-width range (a single spot value) gives a valid config, not a NaN axis', () => {
     const inp = inputFor({ strikes: [], breakevens: [], pnl: () => 0 });
-    inp.curves = { spot: [100, 100], densityView: [1, 1], densityRiskNeutral: [1, 1], pnl: [0, 0], pnlDensity: { x: [], density: [], atoms: [] } };
+    inp.curves = { spot: [100, 100], densityView: [1, 1], densityMarket: [1, 1], pnl: [0, 0], pnlDensity: { x: [], density: [], atoms: [] } };
     const cfg = checkChartConfig(inp);
     expect(allNumbers(cfg).every(Number.isFinite)).toBe(true);
     expect(xScale(cfg).max).toBeGreaterThan(xScale(cfg).min);

@@ -60,6 +60,8 @@ describe('the DESIGN.md §2 check', () => {
       style: 'european',
       horizonYears: 42 / 365, // 27 + 15
       view: { drift: 0.09, vol: 0.26 },
+      // the market vol: the iv of the leg nearest the money (105 of 105/115 at spot 100)
+      marketVol: 0.28,
     });
     expect(c.notes).toEqual([]);
   });
@@ -79,7 +81,7 @@ describe('defaults', () => {
   it('drift missing: the view drift is the rate, with the note', () => {
     const c = checkOk('+1 call 100 3m iv 30% spot 100 rate 4.5% yield 1%');
     expect(c.input.view.drift).toBe(0.045);
-    expect(c.notes).toContain('drift not given: the view uses the rate, so the outcome is the risk-neutral one');
+    expect(c.notes).toContain('drift not given: the view uses the rate, so its view edge is 0');
   });
 
   it('rate and yield missing: 0 with notes', () => {
