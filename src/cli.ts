@@ -112,6 +112,7 @@ export async function runCli(argv: string[], out = process.stdout, err = process
   const { store, warning } = openStoreQuietly(o.log);
   try {
     const ctx: AskContext = { channel: o.channel ?? 'cli', user: process.env.USER || 'local', store };
+    if (store) seedDemoMarks(store, ctx.channel);
     const r = answerLocal(o.request, ctx);
     if (warning && r.kind === 'answer') r.warnings.push(warning);
     let chartNote: string | null = null;
@@ -137,6 +138,23 @@ export const DEMO_MARKS = [
   { symbol: 'BRISAND', spot: 23.75, iv: 0.24, yield: 0.031, rate: 0.045, about: 'Brisand Utilities, a water company' },
 ];
 
+/**
+ * Records the demo marks a channel does not have yet (the console and the command line start on
+ * them, so that `on FERNWK` in help's examples answers from a fresh database). A mark the channel
+ * recorded itself is never replaced; a store that cannot be written loses only the demo marks.
+ */
+export function seedDemoMarks(store: Store, channel: string, now = new Date()): void {
+  try {
+    for (const m of DEMO_MARKS) {
+      if (!store.getMark(channel, m.symbol)) {
+        store.putMark({ channel, symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, user: 'demo', at: now.toISOString() });
+      }
+    }
+  } catch {
+    /* answering matters more than the demo marks */
+  }
+}
+
 export const CONSOLE_EXAMPLES = [
   'check +2 call 90 2027-03-19 @3.10 -2 call 100 2027-03-19 @1.05 on FERNWK drift 9% vol 28% asof 2027-01-04',
   'touch 160 by 2027-06-18 on QUORVEL drift 12% asof 2027-01-04',
@@ -152,13 +170,7 @@ export async function runConsole(
   const channel = opts.channel ?? 'console';
   const { store, warning } = openStoreQuietly(true);
   const say = (s: string) => output.write(s + '\n');
-  if (store) {
-    for (const m of DEMO_MARKS) {
-      if (!store.getMark(channel, m.symbol)) {
-        store.putMark({ channel, symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, user: 'demo', at: new Date().toISOString() });
-      }
-    }
-  }
+  if (store) seedDemoMarks(store, channel);
   say('Kolmo local console — the same engine as the chat app. Type a request, `help`, or `quit`.');
   if (warning) say(`! ${warning}`);
   say(`Demo marks (invented): ${DEMO_MARKS.map((m) => `${m.symbol} ${m.spot} (${m.about})`).join('; ')}`);

@@ -30,9 +30,11 @@ const SECTIONS: Record<HelpTopic, Section> = {
     lines: [
       '[check] LEG [LEG …] [TERMS]   (check is implied when the request starts with a leg)',
       'LEG:   QTY TYPE [STRIKE] [EXPIRY] [@ENTRY] [iv PCT]',
-      '       QTY signed (+2 long, -2 short, 3 = long); TYPE call|put|shares (c, p, sh);',
-      '       EXPIRY yyyy-mm-dd or 30d / 6w / 3m / 1y from asof; ENTRY price per share;',
-      '       terms right after a leg (strike, expiry, @entry, iv) belong to that leg.',
+      '       QTY signed (+2 long, -2 short, 3 = long; also buy 2, sell 2, 2x); TYPE call|put|shares',
+      '       (c, p, sh); EXPIRY yyyy-mm-dd, 19Mar27, Mar27 (the third Friday of the month) or',
+      '       30d / 6w / 3m / 1y from asof; ENTRY price per share; terms right after a leg',
+      '       (strike, expiry, @entry, iv) belong to that leg; an iv after the last leg applies to',
+      '       every leg without one when no other iv is written.',
       'TERMS (any order, each once): spot P · rate PCT · yield PCT · iv PCT (legs without one) ·',
       '       exp DATE|SPAN (legs without one) · drift PCT · vol PCT (the view) ·',
       '       horizon DATE|SPAN · asof DATE|today · mult N · style american|european ·',
@@ -68,7 +70,7 @@ const SECTIONS: Record<HelpTopic, Section> = {
     ],
     examples: [
       'iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5% yield 1%',
-      'iv put 38 6w price 1.12 on QUILLOP',
+      'iv put 22 6w price 0.85 on BRISAND',
     ],
   },
   touch: {
@@ -84,9 +86,10 @@ const SECTIONS: Record<HelpTopic, Section> = {
     lines: [
       'mark SYMBOL [spot P] [iv PCT] [yield PCT] [rate PCT]   ·   mark   (lists the channel\'s marks)',
       'Later requests say on SYMBOL; terms written in the request override the mark.',
+      'A mark keeps what a new mark does not name: mark FERNWK spot 86 changes only the spot.',
       'A mark older than a day is flagged as stale in the answer.',
     ],
-    examples: ['mark FERNWK spot 84.20 iv 31% yield 1.2%', 'mark QUILLOP spot 41.05 iv 36% rate 4.25%', 'mark'],
+    examples: ['mark FERNWK spot 84.20 iv 31% yield 1.2%', 'mark QUORVEL spot 145.10', 'mark'],
   },
   log: {
     title: 'log — the channel\'s past checks',
@@ -97,8 +100,10 @@ const SECTIONS: Record<HelpTopic, Section> = {
     title: 'again — rerun a logged check, optionally with changes',
     lines: [
       'again N [TERMS or LEGS]   (terms override; legs replace the logged legs)',
+      'By default #N reruns exactly as logged: its day and the mark it used. again N now reruns',
+      'it as of today on the channel\'s mark as it is now; asof today moves only the day.',
     ],
-    examples: ['again 17', 'again 17 spot 102 drift 5%', 'again 4 asof today'],
+    examples: ['again 1', 'again 2 spot 102 drift 5%', 'again 1 now'],
   },
   jumps: {
     title: 'jumps — Merton jump diffusion',

@@ -728,7 +728,16 @@ interface Body extends Collected {
 type BodyVerb = 'check' | 'iv' | 'touch' | 'mark' | 'again';
 
 /** Something that is neither a leg nor an allowed term: say what it is and what was expected. */
+/** `buy -2 call`: the word gives the sign, so a signed quantity after it is refused. */
+function signedAfterBuySell(t: Tok, next: Tok | undefined, fallback: ExampleKey): Reject | undefined {
+  if ((t.low !== 'buy' && t.low !== 'sell') || !next || !/^[+-]\d+x?$/i.test(next.text)) return undefined;
+  const n = next.text.replace(/^[+-]/, '').replace(/x$/i, '');
+  return new Reject(`${t.low} gives the sign: write ${t.low} ${n} (or ${t.low === 'buy' ? '+' : '-'}${n} without ${t.low})`, next.at, next.len, { at: next.at, length: next.len, text: n }, fallback);
+}
+
 function stray(c: Cursor, t: Tok, verb: BodyVerb, allowed: readonly AnyTerm[], legs: LegSpec[]): Reject {
+  const bs = signedAfterBuySell(t, c.peek(1), c.fallback);
+  if (bs) return bs;
   const list = allowed.join(', ');
   const legsOk = verb === 'check' || verb === 'again';
   if (t.text === ';') {
@@ -1105,6 +1114,8 @@ function parseRequest(src: string): Request {
   }
   const c = new Cursor(src, toks, 0, toks.length, 'check');
   if (isLegStart(c)) return parseCheck(src, toks, 0, toks.length).check;
+  const bs = signedAfterBuySell(first, toks[1], 'check');
+  if (bs) throw bs;
   // not a verb, not a leg
   const plain = plainNumber(first);
   if (plain !== undefined) throw plainReject(c, first, plain);

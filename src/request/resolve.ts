@@ -307,6 +307,21 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
   const legExpiries: (string | null)[] = [];
   let earliest: { date: string; days: number; leg: number } | undefined;
 
+  // a trailing iv: written as the last term of the last leg while other option legs have none
+  // and no position-level iv is written, it is the iv of every leg without one (the natural way
+  // to type a condor: `+1 put 85 … +1 call 115 2027-03-19 iv 25% spot 100`)
+  let posIv = terms.iv;
+  const last = req.legs[req.legs.length - 1];
+  if (posIv === undefined && last && last.kind !== 'shares' && last.iv !== undefined && last.termsAt.iv !== undefined) {
+    const ivAt = last.termsAt.iv;
+    const lastTerm = Math.max(...Object.values(last.termsAt).filter((v): v is number => v !== undefined));
+    const without = req.legs.filter((l) => l.kind !== 'shares' && l.iv === undefined);
+    if (ivAt === lastTerm && without.length > 0) {
+      posIv = last.iv;
+      notes.push(`iv ${pct(posIv)} written after the last leg applies to every leg without its own iv (${without.length === 1 ? 'one leg' : `${without.length} legs`})`);
+    }
+  }
+
   req.legs.forEach((leg, i) => {
     const label = legLabel(leg, i);
     if (leg.kind === 'shares') {
@@ -325,7 +340,7 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     }
     const expAt = leg.expiry ? leg.termsAt.expiry : termsAt.exp;
     const { date, days } = dateAfterAsof(R, spec, asof, expAt, `the expiry of ${label},`, !leg.expiry);
-    const iv = leg.iv ?? terms.iv ?? base.markIv;
+    const iv = leg.iv ?? posIv ?? base.markIv;
     if (iv === undefined) {
       const at = leg.termsAt.entry ?? leg.termsAt.expiry ?? leg.termsAt.strike;
       throw R.at(
@@ -366,8 +381,8 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
   // the position's iv, else the mark's, else the iv of the option leg nearest the money
   let marketVol: number | undefined;
   let marketVolFrom = '';
-  if (terms.iv !== undefined) {
-    marketVol = terms.iv;
+  if (posIv !== undefined) {
+    marketVol = posIv;
     marketVolFrom = "the position's iv";
   } else if (base.markIv !== undefined) {
     marketVol = base.markIv;
