@@ -43,6 +43,8 @@ export interface ChartStem {
   axis: string;
   color: string;
   label: string;
+  /** several checks' stems at one P&L (equal atoms): drawn at one place, not side by side */
+  together?: boolean;
 }
 
 export interface KolmoPluginOptions {
@@ -713,6 +715,8 @@ export function compareChartConfig(
   const xr = niceRange(lo, hi, 10);
 
   const styles = COMPARE_STYLES;
+  // the density axis reads as "chance per one x step of P&L": densities scaled by the step
+  const per = xr.step;
   let dMax = 0;
   let aMax = 0;
   const datasets: ChartDataset<'line', { x: number; y: number }[]>[] = cleaned.map((c, k) => {
@@ -723,13 +727,13 @@ export function compareChartConfig(
     const sx = c.x.slice(i0, i1 + 1);
     const sd = c.d.slice(i0, i1 + 1);
     const keep = sx.length ? thinIndices(sx, [sd], MAX_POINTS, [0]) : [];
-    for (const i of keep) if (sx[i] >= xr.min && sx[i] <= xr.max) dMax = Math.max(dMax, sd[i]);
+    for (const i of keep) if (sx[i] >= xr.min && sx[i] <= xr.max) dMax = Math.max(dMax, sd[i] * per);
     for (const a of c.atoms) aMax = Math.max(aMax, a.prob);
     const st = styles[k];
     const it = list[k];
     return {
       label: `${it?.label || `check ${k + 1}`} · expected ${fmtMoney(it?.expectedPnl, cur)}`,
-      data: keep.map((i) => ({ x: sx[i], y: sd[i] })),
+      data: keep.map((i) => ({ x: sx[i], y: sd[i] * per })),
       yAxisID: 'yDensity',
       borderColor: st.color,
       backgroundColor: 'rgba(255,255,255,0)',
@@ -751,11 +755,27 @@ export function compareChartConfig(
       stems.push({ x: a.x, y: a.prob, axis: 'yAtom', color: styles[k].color, label: `${fmtPct(Math.round(a.prob * 1000) / 1000)}` });
     }
   });
+  // equal atoms of several checks (the same max loss under three views) share one place: values
+  // within a billionth of the axis span are one P&L
+  const same = 1e-9 * (xr.max - xr.min);
+  const order = stems.map((_, i) => i).sort((i, j) => stems[i].x - stems[j].x);
+  for (let a = 0; a < order.length; ) {
+    let b = a + 1;
+    while (b < order.length && stems[order[b]].x - stems[order[a]].x <= same) b++;
+    if (b - a > 1) {
+      for (let k = a; k < b; k++) {
+        stems[order[k]].x = stems[order[a]].x;
+        stems[order[k]].together = true;
+      }
+    }
+    a = b;
+  }
   const markers: ChartMarker[] = [{ x: 0, label: 'P&L 0', kind: 'zero' }];
   list.forEach((it, k) => {
     if (isNum(it?.expectedPnl)) markers.push({ x: it.expectedPnl, label: '', kind: 'mean', color: styles[k].color });
   });
   const ar = niceRange(0, aMax > 0 ? Math.min(1, aMax * 1.15) : 1, 5);
+  const dr = niceRange(0, dMax > 0 ? dMax * 1.12 : 1, 5);
 
   const plugin: KolmoPluginOptions = {
     ...emptyPluginOptions(size),
@@ -766,8 +786,8 @@ export function compareChartConfig(
   };
   const unit = cur ? ` (${cur})` : '';
   const subtitle =
-    'density of P&L under each view (area = chance of a continuous outcome); ▲ expected P&L' +
-    (stems.length ? '; stems: chance of one exact P&L (right axis)' : '') +
+    "How likely each P&L is at the horizon under each check's view; ▲ marks the expected P&L" +
+    (stems.length ? '; a stem is the chance of one exact P&L, such as the most a position can lose (right axis)' : '') +
     (dropped ? `; first ${MAX_COMPARE} of ${list.length + dropped} shown` : '');
 
   return {
@@ -784,7 +804,18 @@ export function compareChartConfig(
           grid: { color: GRID },
           title: { display: true, text: `P&L at horizon${unit}`, font: AXIS_TITLE_FONT, color: INK },
         },
-        yDensity: densityAxis(dMax, 'likelihood of P&L'),
+        yDensity: {
+          ...densityAxis(dMax, `chance per ${fmtNumber(per, decimalsOf(per))} of P&L`),
+          min: 0,
+          max: dr.max,
+          ticks: {
+            display: true,
+            stepSize: dr.step,
+            font: TICK_FONT,
+            color: MUTED,
+            format: { style: 'percent', minimumFractionDigits: Math.max(0, decimalsOf(dr.step) - 2), maximumFractionDigits: Math.max(0, decimalsOf(dr.step) - 2) },
+          },
+        },
         yAtom: {
           type: 'linear',
           position: 'right',

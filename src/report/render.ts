@@ -195,7 +195,8 @@ function makePlugin(family: string): Plugin {
       const { ctx, chartArea: a } = chart;
       ctx.save();
       // Stems of point masses. Stems of several checks at (nearly) one value stand side by side
-      // and their labels stack above the tallest, each in its check's colour.
+      // and their labels stack above the tallest, each in its check's colour; stems marked
+      // `together` (equal atoms: one P&L) are drawn at one place, the tallest behind.
       ctx.font = `12px "${family}"`;
       ctx.textAlign = 'center';
       ctx.textBaseline = 'bottom';
@@ -214,8 +215,10 @@ function makePlugin(family: string): Plugin {
       for (const g of groups) {
         const centre = g.reduce((t, p) => t + p.px, 0) / g.length;
         const gap = 9;
+        const oneValue = g.length > 1 && g.every((p) => p.s.together && p.s.x === g[0].s.x);
+        if (oneValue) g.sort((p1, p2) => p1.top - p2.top);
         g.forEach((p, i) => {
-          const px = g.length > 1 ? centre + (i - (g.length - 1) / 2) * gap : p.px;
+          const px = oneValue ? p.px : g.length > 1 ? centre + (i - (g.length - 1) / 2) * gap : p.px;
           ctx.strokeStyle = p.s.color;
           ctx.fillStyle = p.s.color;
           ctx.setLineDash([]);

@@ -360,9 +360,11 @@ describe('compareChartConfig', () => {
   });
 
   it('each continuous part integrates to one minus its atoms; atoms become stems of their probability', () => {
+    // the density axis reads "chance per one x step of P&L": the curves are densities × the step
+    const per = xScale(cfg as Cfg).ticks.stepSize;
     const area = (i: number) => {
       const pts = series(cfg as Cfg, i);
-      return trapezoid(pts.map((p) => p.x), pts.map((p) => p.y));
+      return trapezoid(pts.map((p) => p.x), pts.map((p) => p.y)) / per;
     };
     expect(area(0)).toBeCloseTo(1, 2);
     expect(area(1)).toBeCloseTo(1, 2);
