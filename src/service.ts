@@ -594,7 +594,7 @@ const isNum = (v: unknown): v is number => typeof v === 'number' && Number.isFin
 
 function pts(d: number): string {
   const v = Math.abs(d * 100).toFixed(1);
-  return `${d < 0 && v !== '0.0' ? '−' : '+'}${v} pts`;
+  return `${d < 0 && v !== '0.0' ? '-' : '+'}${v} pts`;
 }
 
 /** Chance and expected P&L then and now ("chance of profit 48.1% → 52.3% (+4.2 pts) · …"). */

@@ -1,8 +1,12 @@
-/** Number formatting shared by the text answer, the headline and the chart titles. */
+/**
+ * Number formatting shared by the text answer, the headline and the chart titles. Negative numbers
+ * carry the ASCII hyphen-minus, so that figures copied from a chat answer into a spreadsheet stay
+ * numbers (the JSON carries plain numbers anyway).
+ */
 
-const MINUS = '−';
+const MINUS = '-';
 
-/** Money with thousands separators and two decimals: 1234.5 → "1,234.50", −3 → "−3.00". */
+/** Money with thousands separators and two decimals: 1234.5 → "1,234.50", −3 → "-3.00". */
 export function money(x: number, opts: { sign?: boolean; decimals?: number } = {}): string {
   if (!Number.isFinite(x)) return 'n/a';
   const d = opts.decimals ?? 2;
@@ -46,7 +50,7 @@ export function level(x: number): string {
   return s;
 }
 
-/** A signed quantity: 2 → "+2", −2 → "−2". */
+/** A signed quantity: 2 → "+2", −2 → "-2". */
 export function qty(q: number): string {
   return q < 0 ? `${MINUS}${Math.abs(q)}` : `+${q}`;
 }

@@ -4,7 +4,7 @@
  */
 import type { CheckJson } from '../result.js';
 import { describePosition } from './describe.js';
-import { level, money, num, pct, rate, shortDate, table } from './format.js';
+import { level, money, num, pct, qty as fmtQty, rate, shortDate, table } from './format.js';
 
 function daysBetween(a: string, b: string): number {
   return Math.round((Date.parse(b + 'T00:00:00Z') - Date.parse(a + 'T00:00:00Z')) / 86_400_000);
@@ -24,6 +24,24 @@ export function viewWords(c: Pick<CheckJson, 'view'>): string {
   return `drift ${rate(v.drift)}, vol ${rate(v.vol)}${j}`;
 }
 
+/** Longest line of the assumptions (a chat window shows about this many characters). */
+export const ASSUMPTIONS_WIDTH = 96;
+
+/** Words joined by ' · ', wrapped before a part that would pass `width` (continuations indented). */
+export function wrapParts(head: string, parts: string[], width = ASSUMPTIONS_WIDTH): string {
+  const lines: string[] = [];
+  let cur = head;
+  parts.forEach((p, i) => {
+    const piece = (i === 0 ? '' : ' · ') + p + (i === parts.length - 1 ? '.' : '');
+    if (i > 0 && cur.length + piece.length > width) {
+      lines.push(cur + ' ·');
+      cur = '  ' + p + (i === parts.length - 1 ? '.' : '');
+    } else cur += (i === 0 ? ' ' : '') + piece;
+  });
+  lines.push(cur);
+  return lines.join('\n');
+}
+
 export function assumptionsLine(c: CheckJson): string {
   const parts = [
     `asof ${c.asof}`,
@@ -31,13 +49,18 @@ export function assumptionsLine(c: CheckJson): string {
     `rate ${rate(c.market.rate)}`,
     `yield ${rate(c.market.yield)}`,
     `view ${viewWords(c)}`,
-    c.style === 'american' ? 'American exercise (finite differences)' : 'European exercise',
-    c.view.model === 'merton-jumps' ? 'Merton jump diffusion' : 'Black-Scholes-Merton',
+    c.style === 'american' ? 'American exercise' : 'European exercise',
+    ...(c.view.model === 'merton-jumps' ? ['Merton jumps'] : []),
     `mult ${c.mult}`,
-    'P&L at the horizon, undiscounted, no financing',
+    'P&L at the horizon, undiscounted, unfinanced',
   ];
-  if (c.legs.some((l) => l.type === 'shares')) parts.push('dividends on shares left out of P&L');
-  return `Assumptions: ${parts.join(' · ')}.`;
+  if (c.legs.some((l) => l.type === 'shares')) parts.push('no dividends in P&L');
+  return wrapParts('Assumptions:', parts);
+}
+
+/** Notes on the method (how figures were computed): in the JSON always, in the text with `verbose`. */
+export function isMethodNote(n: string): boolean {
+  return /^(values|outcome|shares legs):/.test(n);
 }
 
 /**
@@ -57,13 +80,15 @@ export function exerciseNotes(c: CheckJson): string[] {
   return out;
 }
 
-export function checkText(c: CheckJson): string {
+export function checkText(c: CheckJson, opts: { verbose?: boolean } = {}): string {
   const lines: string[] = [];
   const days = daysBetween(c.asof, c.horizon);
   lines.push(`${positionWords(c)} — horizon ${c.horizon} (${days} day${days === 1 ? '' : 's'})`);
   lines.push('');
 
-  const legRows: string[][] = [['leg', 'qty', 'entry', 'fair', 'Δ', 'Γ', 'vega', 'θ/day']];
+  // rho matters when the rate is high or a leg lives a year or more (the issue's rule)
+  const showRho = c.market.rate >= 0.05 || c.legs.some((l) => (l.years ?? 0) >= 1);
+  const legRows: string[][] = [['leg (per share)', 'qty', 'days', 'entry', 'fair', 'Δ', 'Γ', 'vega', 'θ/day', ...(showRho ? ['rho'] : [])]];
   for (const l of c.legs) {
     const name =
       l.type === 'shares'
@@ -72,21 +97,25 @@ export function checkText(c: CheckJson): string {
     const opt = l.type !== 'shares';
     legRows.push([
       name,
-      l.qty > 0 ? `+${l.qty}` : `−${Math.abs(l.qty)}`,
+      fmtQty(l.qty),
+      opt && l.expiry ? `${daysBetween(c.asof, l.expiry)}d` : '',
       num(l.entry) + (l.entryGiven ? '' : '*'),
       num(l.value),
       num(l.delta, 3),
       opt ? num(l.gamma, 4) : '',
       opt ? num(l.vega, 3) : '',
       opt ? num(l.theta, 3) : '',
+      ...(showRho ? [opt ? num(l.rho, 3) : ''] : []),
     ]);
   }
   lines.push(...table(legRows));
   if (c.legs.some((l) => !l.entryGiven)) lines.push('* no @entry written: entered at fair value');
   for (const n of exerciseNotes(c)) lines.push(n);
   const p = c.position;
+  // a net credit reads as a credit, not as a negative cost
+  const paid = p.cost < 0 && money(p.cost) !== money(0) ? `credit ${money(-p.cost)}` : `cost ${money(p.cost)}`;
   lines.push(
-    `position: cost ${money(p.cost)} · value ${money(p.value)} · Δ ${num(p.delta, 1)} · Γ ${num(p.gamma, 2)} · vega ${num(p.vega, 1)} · θ/day ${num(p.theta, 2)}`,
+    `position (money; Δ and Γ per 1.00 of spot): ${paid} · value ${money(p.value)} · Δ ${num(p.delta, 1)} · Γ ${num(p.gamma, 2)} · vega ${num(p.vega, 1)} · θ/day ${num(p.theta, 2)}${showRho ? ` · rho ${num(p.rho, 1)}` : ''}`,
   );
   lines.push('');
 
@@ -123,7 +152,7 @@ export function checkText(c: CheckJson): string {
   );
   lines.push('');
   lines.push(assumptionsLine(c));
-  for (const n of c.notes) lines.push(`Note: ${n}`);
+  for (const n of c.notes) if (opts.verbose || !isMethodNote(n)) lines.push(`Note: ${n}`);
   return lines.join('\n');
 }
 
