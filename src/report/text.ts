@@ -58,6 +58,25 @@ export function assumptionsLine(c: CheckJson): string {
   return wrapParts('Assumptions:', parts);
 }
 
+/**
+ * Very unlikely inputs, said rather than passed over: an entry price far from the leg's fair
+ * value (outside half to twice it, by more than 0.10 a share) usually means a mistyped iv (250%
+ * for 25%) or entry.
+ */
+export function warningLines(c: CheckJson): string[] {
+  const out: string[] = [];
+  c.legs.forEach((l, i) => {
+    if (!l.entryGiven || l.type === 'shares') return;
+    const far = (l.entry < l.value / 2 || l.entry > 2 * l.value) && Math.abs(l.entry - l.value) > 0.1;
+    if (far) {
+      out.push(
+        `Warning: leg ${i + 1} (${l.type} ${level(l.strike ?? 0)}) entry ${num(l.entry)} is far from its fair value ${num(l.value)} at iv ${rate(l.iv ?? 0)}: is the iv or the entry mistyped?`,
+      );
+    }
+  });
+  return out;
+}
+
 /** Notes on the method (how figures were computed): in the JSON always, in the text with `verbose`. */
 export function isMethodNote(n: string): boolean {
   return /^(values|outcome|shares legs):/.test(n);
@@ -151,6 +170,8 @@ export function checkText(c: CheckJson, opts: { verbose?: boolean } = {}): strin
     `max gain: ${o.maxGain === null ? 'unbounded' : s(o.maxGain)} · max loss: ${o.maxLoss === null ? 'unbounded' : s(o.maxLoss)}`,
   );
   lines.push('');
+  const warnings = warningLines(c);
+  if (warnings.length) lines.push(...warnings, '');
   lines.push(assumptionsLine(c));
   for (const n of c.notes) if (opts.verbose || !isMethodNote(n)) lines.push(`Note: ${n}`);
   return lines.join('\n');
