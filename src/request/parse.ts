@@ -1048,11 +1048,17 @@ function parseAgain(src: string, toks: Tok[]): AgainRequest {
   const nTok = c.peek();
   if (!nTok) throw c.missing(toks[0], 'again needs the number of a check in the log, e.g. again 17', '17');
   const number = readWholeNumber(c, nTok, 'again', 1, LIMITS.againMax, '17');
+  // `again N now`: on today's date and the channel's mark as it is now (default: as logged)
+  let now = false;
+  if (c.peek()?.low === 'now') {
+    c.next();
+    now = true;
+  }
   const restTok = c.peek();
-  if (!restTok) return { verb: 'again', number, rest: '', restAt: src.length };
+  if (!restTok) return { verb: 'again', number, rest: '', restAt: src.length, ...(now ? { now } : {}) };
   // validate the overrides now, so a typo is caught before the log is read
   readBody(c, 'again', true);
-  return { verb: 'again', number, rest: src.slice(restTok.at, c.end()), restAt: restTok.at };
+  return { verb: 'again', number, rest: src.slice(restTok.at, c.end()), restAt: restTok.at, ...(now ? { now } : {}) };
 }
 
 function parseHelp(src: string, toks: Tok[]): HelpRequest {

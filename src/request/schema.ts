@@ -108,6 +108,7 @@ export const requestSchema = z.discriminatedUnion('verb', [
     number: z.number().int().min(1).max(LIMITS.againMax),
     rest: z.string(),
     restAt: pos,
+    now: z.boolean().optional(),
   }),
   z.strictObject({ verb: z.literal('help'), topic: z.string().optional() }),
 ]);

@@ -96,6 +96,8 @@ export interface AgainRequest {
   /** the override text after the number, parsed as terms (and possibly legs) by the caller */
   rest: string;
   restAt: number;
+  /** `again N now`: rerun as of today on the channel's current mark (default: exactly as logged) */
+  now?: boolean;
 }
 
 export interface CompareRequest {

@@ -216,8 +216,10 @@ describe('errors', () => {
 
   it('an option leg without expiry or iv: caret at the leg', () => {
     checkBad('+1 call 100 iv 30% spot 100', '+1', /leg 1 \(\+1 call 100\) has no expiry/);
-    const e = checkBad('+1 call 100 3m -1 call 110 3m iv 20% spot 100', '+1', /leg 1 \(\+1 call 100\) has no iv/);
-    expect(e.example).toBe('+1 call 100 3m iv 28% -1 call 110 3m iv 20% spot 100');
+    // (an iv written last after the last leg applies to every leg without one; here the last
+    // leg's entry follows its iv, so the iv is that leg's own)
+    const e = checkBad('+1 call 100 3m -1 call 110 3m iv 20% @1.20 spot 100', '+1', /leg 1 \(\+1 call 100\) has no iv/);
+    expect(e.example).toBe('+1 call 100 3m iv 28% -1 call 110 3m iv 20% @1.20 spot 100');
   });
 
   it('a strike absurdly far from spot', () => {
