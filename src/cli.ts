@@ -84,7 +84,7 @@ export function answerLocal(text: string, ctx: AskContext): Reply {
 /** The text a terminal shows for a reply (answer, caution, warnings) — also used by the console. */
 export function replyText(r: Reply): string {
   if (r.kind === 'rejected') return r.message;
-  const out = [r.text, '', r.caution];
+  const out = r.caution ? [r.text, '', r.caution] : [r.text];
   if (r.logNumber !== undefined) out.push(`(logged as #${r.logNumber})`);
   for (const w of r.warnings) out.push(`! ${w}`);
   return out.join('\n');

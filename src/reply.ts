@@ -46,4 +46,4 @@ export interface Answer {
 
 export type Reply = Rejection | Answer;
 
-export const CAUTION = "Model output, not advice; the view is your assumption. Follow the desk's risk limits and local rules.";
+export const CAUTION = "Model output, not advice; the view is your assumption. Follow your desk's risk limits and rules.";

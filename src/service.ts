@@ -31,7 +31,7 @@ import type { CheckAssembly, CheckJson, LegJson } from './result.js';
 import { checkHeadline, checkText, positionWords } from './report/text.js';
 import { compareChartInput, compareHeadline, compareText, cut, type ComparePart } from './report/compare.js';
 import { ageWords, isStale, logText, marksText, whenUtc } from './report/log.js';
-import { level, money, num, pct, rate, shortDate } from './report/format.js';
+import { level, money, num, pct, rate, shortDate, table } from './report/format.js';
 import { StoreError, type CheckSummary, type LogEntry, type Mark, type Store } from './store/store.js';
 
 /** Monte Carlo paths for touch under jumps (standard error ≤ 0.25 percentage points). */
@@ -143,6 +143,12 @@ interface Env {
   now: Date;
   today: string;
   nowIso: string;
+  /** the request ended with `verbose`: method notes in the text too */
+  verbose?: boolean;
+  /** `again N` as logged: the marks the logged check used, by symbol, instead of today's */
+  marks?: Map<string, Mark>;
+  /** the marks this request used (for the log, so that `again N` can rerun it as logged) */
+  used?: Map<string, Mark>;
 }
 
 function envOf(ctx: AskContext): Env {
@@ -218,6 +224,11 @@ function markFor(text: string, env: Env, symbol: string | undefined, at: number 
   const sym = symbol.toUpperCase();
   const where = at ?? 0;
   const example = `mark ${sym} spot 84.20 iv 31% yield 1.2%`;
+  const logged = env.marks?.get(sym);
+  if (logged) {
+    env.used?.set(sym, logged);
+    return logged;
+  }
   const store = env.ctx.store;
   if (!store) {
     throw refuseFact(text, {
@@ -236,6 +247,7 @@ function markFor(text: string, env: Env, symbol: string | undefined, at: number 
       example,
     });
   }
+  env.used?.set(sym, m);
   return m;
 }
 
@@ -246,8 +258,10 @@ function markAge(m: Mark, now: Date): string {
 
 /** The line every answer that used a mark carries: who recorded it, when, its age, stale or not. */
 function markLine(m: Mark, now: Date): string {
-  const stale = isStale(m.at, now);
-  return `Mark ${m.symbol}: recorded ${whenUtc(m.at)} UTC by ${m.user}, ${markAge(m, now)}${stale ? ' — STALE: older than a day; record a fresh one with `mark ' + m.symbol + ' spot …`' : ''}.`;
+  if (isStale(m.at, now)) {
+    return `Warning: mark ${m.symbol} is older than a day (recorded ${whenUtc(m.at)} UTC by ${m.user}, ${markAge(m, now)}): record a fresh one with \`mark ${m.symbol} spot …\`.`;
+  }
+  return `Mark ${m.symbol}: recorded ${whenUtc(m.at)} UTC by ${m.user}, ${markAge(m, now)}.`;
 }
 
 function markJson(m: Mark, now: Date) {
@@ -297,7 +311,7 @@ function doCheck(text: string, req: CheckRequest, env: Env): Computed {
   const a = answer({
     verb: 'check',
     headline: checkHeadline(asm.json) + (stale ? ` · mark ${mark!.symbol} stale` : ''),
-    text: checkText(asm.json) + (mark ? `\n${markLine(mark, env.now)}` : ''),
+    text: checkText(asm.json, { verbose: env.verbose }) + (mark ? `\n${markLine(mark, env.now)}` : ''),
     json: { ...asm.json, ...(mark ? { mark: markJson(mark, env.now) } : {}) } as unknown as Record<string, unknown>,
     chart: chartInputOf(asm),
   });
@@ -421,21 +435,21 @@ function doTouch(text: string, req: Extract<Request, { verb: 'touch' }>, env: En
     // the chance of ending beyond is exact from the Poisson mixture of lognormals
     const opts = { paths: TOUCH_MC_PATHS, seed: 1 };
     const v = touchProbJumps(t.S, t.level, t.T, t.view.drift, t.q, t.view.vol, jumps, opts);
-    const n = touchProbJumps(t.S, t.level, t.T, t.rate, t.q, t.view.vol, jumps, opts);
+    const n = touchProbJumps(t.S, t.level, t.T, t.rate, t.q, t.marketVol, jumps, opts);
     pv = v.prob;
     prn = n.prob;
     mc = { view: v.stderr, riskNeutral: n.stderr, paths: v.paths };
-    const beyond = (drift: number) => {
-      const d = walkDistribution(t.S, t.T, t.q, { drift, vol: t.view.vol, jumps });
+    const beyond = (drift: number, vol: number) => {
+      const d = walkDistribution(t.S, t.T, t.q, { drift, vol, jumps });
       return dir === 'above' ? spotSf(d, t.level) : spotCdf(d, t.level);
     };
-    bv = beyond(t.view.drift);
-    brn = beyond(t.rate);
+    bv = beyond(t.view.drift, t.view.vol);
+    brn = beyond(t.rate, t.marketVol);
   } else {
     pv = touchProb(t.S, t.level, t.T, t.view.drift, t.q, t.view.vol);
-    prn = touchProb(t.S, t.level, t.T, t.rate, t.q, t.view.vol);
+    prn = touchProb(t.S, t.level, t.T, t.rate, t.q, t.marketVol);
     bv = probBeyondAtEnd(t.S, t.level, t.T, t.view.drift, t.q, t.view.vol);
-    brn = probBeyondAtEnd(t.S, t.level, t.T, t.rate, t.q, t.view.vol);
+    brn = probBeyondAtEnd(t.S, t.level, t.T, t.rate, t.q, t.marketVol);
   }
   const model = jumps ? 'merton-jumps' : 'lognormal';
   const json = {
@@ -447,19 +461,22 @@ function doTouch(text: string, req: Extract<Request, { verb: 'touch' }>, env: En
     market: { spot: t.S, rate: t.rate, yield: t.q },
     view: { drift: t.view.drift, vol: t.view.vol, model, ...(jumps ? { jumps } : {}) },
     probTouchView: pv,
-    probTouchRiskNeutral: prn,
+    probTouchMarket: prn,
     probBeyondAtEndView: bv,
-    probBeyondAtEndRiskNeutral: brn,
-    ...(mc ? { monteCarlo: { paths: mc.paths, seed: 1, stderrView: mc.view, stderrRiskNeutral: mc.riskNeutral } } : {}),
+    probBeyondAtEndMarket: brn,
+    marketVol: t.marketVol,
+    ...(mc ? { monteCarlo: { paths: mc.paths, seed: 1, stderrView: mc.view, stderrMarket: mc.riskNeutral } } : {}),
     notes: r.notes,
     ...(mark ? { mark: markJson(mark, env.now) } : {}),
   };
   const pm = (p: number, se?: number) => (se === undefined ? pct(p) : `${pct(p)} ±${pct(se, 2)}`);
   const rows = [
     `Touching ${level(t.level)} (${dir} spot ${level(t.S)}) by ${t.by}`,
-    `                       view   risk-neutral`,
-    `chance of touching  ${pm(pv, mc?.view).padStart(7)}  ${pm(prn, mc?.riskNeutral).padStart(13)}`,
-    `chance ending ${dir === 'above' ? 'above' : 'below'} ${pct(bv).padStart(7)}  ${pct(brn).padStart(13)}`,
+    ...table([
+      ['', 'your view', `market (vol ${rate(t.marketVol)})`],
+      ['chance of touching', pm(pv, mc?.view), pm(prn, mc?.riskNeutral)],
+      [`chance ending ${dir === 'above' ? 'above' : 'below'}`, pct(bv), pct(brn)],
+    ]),
     '',
     `Assumptions: asof ${t.asof} · view drift ${rate(t.view.drift)}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''} · rate ${rate(t.rate)} · yield ${rate(t.q)} · ${jumps ? 'Merton jump diffusion' : 'lognormal walk'}, continuous monitoring.`,
     ...(mc ? [`Note: touching under jumps by Monte Carlo (${mc.paths.toLocaleString('en-US')} paths, seed 1; ± is one standard error); ending beyond is exact.`] : []),
@@ -511,6 +528,8 @@ function evaluate(text: string, req: Rerunnable, env: Env): Computed {
 function logEntry(env: Env, verb: string, text: string, req: Request, c: Computed): Answer {
   const { ctx } = env;
   if (!ctx.store) return c.answer;
+  // the marks the check used go into the log with it, so that `again N` reruns it as logged
+  const used = env.used && env.used.size ? [...env.used.values()].map(markRecord) : [];
   try {
     const e = ctx.store.appendCheck({
       channel: ctx.channel,
@@ -519,7 +538,7 @@ function logEntry(env: Env, verb: string, text: string, req: Request, c: Compute
       verb,
       text,
       normalized: JSON.stringify(req),
-      summary: c.summary,
+      summary: used.length ? { ...c.summary, marks: used } : c.summary,
     });
     return { ...c.answer, logNumber: e.number };
   } catch (err) {
@@ -624,7 +643,13 @@ function doAgain(text: string, req: AgainRequest, env: Env): Answer {
     // the same words whether #n belongs to another channel or to none
     throw refuseFact(text, { message: `no check #${n} in this channel; \`log\` lists this channel's checks and their numbers`, at, length: String(n).length, example: 'log 20' });
   }
-  const pinned = pinAsof(entry);
+  // by default as logged: its day and the marks it used; `again N now`: today on today's marks
+  const loggedMarks = Array.isArray(entry.summary.marks) ? (entry.summary.marks as Record<string, unknown>[]).map((m) => markOfRecord(m, env.ctx.channel)).filter((m): m is Mark => !!m) : [];
+  let pinned: { text: string; day?: string };
+  if (req.now) {
+    const moved = applyAgain(entry.text, { verb: 'again', number: entry.number, rest: 'asof today', restAt: 0 });
+    pinned = { text: moved.ok ? moved.text : entry.text };
+  } else pinned = pinAsof(entry);
   const re = applyAgain(pinned.text, req, text);
   if (!re.ok) throw refuse(text, re.error);
   const eff = re.text;
@@ -632,9 +657,10 @@ function doAgain(text: string, req: AgainRequest, env: Env): Answer {
   if (!p.ok || !isRerunnable(p.request)) {
     throw refuseFact(text, { message: `check #${n} could not be rerun from the log; write the request out in full`, at, length: String(n).length, example: EXAMPLES.check });
   }
+  const runEnv: Env = { ...env, used: new Map(), ...(req.now ? {} : { marks: new Map(loggedMarks.map((m) => [m.symbol, m])) }) };
   let c: Computed;
   try {
-    c = evaluate(eff, p.request, env);
+    c = evaluate(eff, p.request, runEnv);
   } catch (err) {
     if (!(err instanceof Refused)) throw err;
     throw new Refused({
@@ -647,7 +673,10 @@ function doAgain(text: string, req: AgainRequest, env: Env): Answer {
   const before = entry.summary;
   const after = c.summary;
   const lines: string[] = [];
-  lines.push(`Again #${n} (${entry.verb} by ${entry.user}, ${whenUtc(entry.at)} UTC)${req.rest.trim() ? ` with: ${req.rest.trim()}` : ', as logged'}`);
+  const how = req.now
+    ? `on today's mark${runEnv.used!.size ? ` (${[...runEnv.used!.values()].map((m) => `${m.symbol} of ${whenUtc(m.at)} UTC`).join(', ')})` : ''} and as of today`
+    : `as logged${loggedMarks.length ? ` (mark ${loggedMarks.map((m) => `${m.symbol} of ${whenUtc(m.at)} UTC: ${markTermsWords(m)}`).join('; ')})` : ''}; \`again ${n} now\` reruns it on today's mark`;
+  lines.push(`Again #${n} (${entry.verb} by ${entry.user}, ${whenUtc(entry.at)} UTC), ${how}${req.rest.trim() ? ` with: ${req.rest.trim()}` : ''}`);
   const changed: string[] = [];
   const partsB = Array.isArray(before.parts) ? (before.parts as CheckSummary[]) : null;
   const partsA = Array.isArray(after.parts) ? (after.parts as CheckSummary[]) : null;
@@ -679,7 +708,7 @@ function doAgain(text: string, req: AgainRequest, env: Env): Answer {
     text: `${lines.join('\n')}\n\n${c.answer.text}`,
     json: { ...c.answer.json, again: { of: n, request: eff, changes: req.rest.trim(), changed, before: entry.summary } },
   };
-  return logEntry(env, verb, eff, p.request, { answer: a, summary: { ...after, againOf: n } });
+  return logEntry(runEnv, verb, eff, p.request, { answer: a, summary: { ...after, againOf: n } });
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -715,6 +744,18 @@ function markRecord(m: Mark) {
   return { symbol: m.symbol, spot: m.spot ?? null, iv: m.iv ?? null, yield: m.yield ?? null, rate: m.rate ?? null, user: m.user, at: m.at };
 }
 
+/** A mark as the log keeps it (markRecord) back into a Mark; undefined when it does not read. */
+function markOfRecord(r: Record<string, unknown>, channel: string): Mark | undefined {
+  if (typeof r.symbol !== 'string' || typeof r.at !== 'string') return undefined;
+  const n = (v: unknown) => (typeof v === 'number' && Number.isFinite(v) ? v : undefined);
+  const m: Mark = { channel, symbol: r.symbol, user: typeof r.user === 'string' ? r.user : 'unknown', at: r.at };
+  for (const k of ['spot', 'iv', 'yield', 'rate'] as const) {
+    const v = n(r[k]);
+    if (v !== undefined) m[k] = v;
+  }
+  return m;
+}
+
 function doMark(text: string, req: MarkRequest, env: Env): Answer {
   const store = needStore(text, env, 'mark');
   const channel = env.ctx.channel;
@@ -745,29 +786,25 @@ function doMark(text: string, req: MarkRequest, env: Env): Answer {
       ephemeral: true,
     });
   }
-  const m: Mark = {
-    channel,
-    symbol: sym,
-    ...(t.spot !== undefined ? { spot: t.spot } : {}),
-    ...(t.iv !== undefined ? { iv: t.iv } : {}),
-    ...(t.yield !== undefined ? { yield: t.yield } : {}),
-    ...(t.rate !== undefined ? { rate: t.rate } : {}),
-    user: env.ctx.user,
-    at: env.nowIso,
-  };
-  storeCall(text, `the mark for ${sym} was not recorded`, symAt, () => store.putMark(m));
-  const lines = [
-    `Mark ${sym} recorded for this channel by ${m.user} at ${whenUtc(m.at)} UTC: ${markTermsWords(m)}.`,
-    `Requests that say \`on ${sym}\` take these terms; terms written in a request override them.`,
-  ];
-  const unset = (['spot', 'iv', 'yield', 'rate'] as const).filter((k) => m[k] === undefined);
-  if (prev) {
-    const dropped = unset.filter((k) => prev[k] !== undefined);
-    lines.push(
-      `It replaces the mark of ${whenUtc(prev.at)} UTC by ${prev.user} (${markTermsWords(prev) || 'no terms'})` +
-        (dropped.length ? `; its ${dropped.join(', ')} ${dropped.length === 1 ? 'is' : 'are'} not carried over (a mark is one snapshot): write ${dropped.length === 1 ? 'it' : 'them'} again to keep ${dropped.length === 1 ? 'it' : 'them'}.` : '.'),
-    );
+  // a mark updates only what it names and keeps the rest of the channel's mark for the symbol
+  const keys = ['spot', 'iv', 'yield', 'rate'] as const;
+  const m: Mark = { channel, symbol: sym, user: env.ctx.user, at: env.nowIso };
+  for (const k of keys) {
+    const v = t[k] !== undefined ? t[k] : prev?.[k];
+    if (v !== undefined) m[k] = v;
   }
+  storeCall(text, `the mark for ${sym} was not recorded`, symAt, () => store.putMark(m));
+  const lines: string[] = [];
+  if (prev) {
+    const fmt = (k: (typeof keys)[number], v: number | undefined) => (v === undefined ? 'none' : k === 'spot' ? level(v) : rate(v));
+    const changed = keys.filter((k) => t[k] !== undefined).map((k) => `${k} ${fmt(k, prev[k])} → ${fmt(k, m[k])}`);
+    const kept = keys.filter((k) => t[k] === undefined && m[k] !== undefined).map((k) => `${k} ${fmt(k, m[k])}`);
+    lines.push(`Mark ${sym} updated for this channel by ${m.user} at ${whenUtc(m.at)} UTC: ${changed.join(', ')}${kept.length ? ` (kept: ${kept.join(', ')})` : ''}.`);
+  } else {
+    lines.push(`Mark ${sym} recorded for this channel by ${m.user} at ${whenUtc(m.at)} UTC: ${markTermsWords(m)}.`);
+  }
+  lines.push(`Requests that say \`on ${sym}\` take these terms; terms written in a request override them.`);
+  const unset = keys.filter((k) => m[k] === undefined);
   if (unset.length) {
     const defaults = unset.filter((k) => k !== 'spot');
     lines.push(
@@ -792,9 +829,18 @@ export async function ask(text: string, ctx: AskContext): Promise<Reply> {
 }
 
 /** The same as `ask`, synchronously (the engine does no I/O except the store, which is synchronous). */
-export function askSync(text: string, ctx: AskContext): Reply {
+export function askSync(typed: string, ctx: AskContext): Reply {
+  // a request may end with `verbose`: the text answer then carries the method notes too (the
+  // JSON always does); the word is not part of the check, so it is neither parsed nor logged
+  let text = typed;
+  let verbose = false;
+  const vb = typeof typed === 'string' ? /\s+verbose\s*$/i.exec(typed) : null;
+  if (vb && typed.slice(0, vb.index).trim()) {
+    text = typed.slice(0, vb.index);
+    verbose = true;
+  }
   try {
-    const env = envOf(ctx);
+    const env: Env = { ...envOf(ctx), verbose, used: new Map() };
     const p = parse(text);
     if (!p.ok) {
       try {
@@ -807,7 +853,8 @@ export function askSync(text: string, ctx: AskContext): Reply {
     const req = p.request;
     switch (req.verb) {
       case 'help':
-        return answer({ verb: 'help', headline: '', text: helpText(req.topic), json: { kind: 'help', topic: req.topic ?? null }, ephemeral: true });
+        // help pages carry no caution: they state no figures
+        return answer({ verb: 'help', headline: '', text: helpText(req.topic), json: { kind: 'help', topic: req.topic ?? null }, ephemeral: true, caution: '' });
       case 'log':
         return doLog(text, req, env);
       case 'mark':

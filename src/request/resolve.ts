@@ -83,6 +83,8 @@ export interface ResolvedTouch {
   q: number;
   view: { drift: number; vol: number; jumps?: Jumps };
   rate: number;
+  /** σ_m of the market figures: the request's iv, else the mark's, else the view's vol */
+  marketVol: number;
   by: string;
   asof: string;
 }
@@ -572,6 +574,7 @@ export function resolveTouch(
     const touch: ResolvedTouch = {
       level: req.level,
       S: base.spot,
+      marketVol: terms.iv ?? base.markIv ?? vol,
       T: days / 365,
       q: base.yield,
       view: terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol },

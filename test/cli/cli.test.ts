@@ -94,13 +94,13 @@ describe('kolmo --json iv and touch', () => {
     const t = json(['touch 120 by 2027-03-19 spot 100 drift 8% vol 25% rate 4.5% asof 2027-01-04']);
     expect(t.kind).toBe('touch');
     expect(t.level).toBe(120);
-    for (const k of ['probTouchView', 'probTouchRiskNeutral', 'probBeyondAtEndView']) {
+    for (const k of ['probTouchView', 'probTouchMarket', 'probBeyondAtEndView']) {
       expect(t[k]).toBeGreaterThan(0);
       expect(t[k]).toBeLessThan(1);
     }
     expect(t.probTouchView).toBeGreaterThanOrEqual(t.probBeyondAtEndView);
     // a higher drift makes an upper level likelier
-    expect(t.probTouchView).toBeGreaterThan(t.probTouchRiskNeutral);
+    expect(t.probTouchView).toBeGreaterThan(t.probTouchMarket);
   });
 });
 

@@ -293,7 +293,8 @@ describe('resolveTouch', () => {
     const r = resolveTouch(req<TouchRequest>('touch 120 by 2027-03-19 spot 100 drift 8% vol 25%'), { today: TODAY });
     expect(r.ok).toBe(true);
     if (!r.ok) return;
-    expect(r.touch).toEqual({ level: 120, S: 100, T: 74 / 365, q: 0, view: { drift: 0.08, vol: 0.25 }, rate: 0, by: '2027-03-19', asof: TODAY });
+    // no iv written: the market figures use the view's vol (DESIGN.md §4)
+    expect(r.touch).toEqual({ level: 120, S: 100, T: 74 / 365, q: 0, view: { drift: 0.08, vol: 0.25 }, rate: 0, marketVol: 0.25, by: '2027-03-19', asof: TODAY });
   });
 
   it('vol from iv, drift from rate, both noted', () => {

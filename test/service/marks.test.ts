@@ -31,12 +31,11 @@ describe('mark SYMBOL …', () => {
     expect(d.store.recent('C0DESKA', 10)).toEqual([]);
   });
 
-  it('a new mark replaces the old one as a whole and says which terms were not carried over', () => {
+  it('a new mark updates only the terms it names, keeps the others and shows before → after', () => {
     answered(ask(d.store, MARK));
     const r = answered(ask(d.store, 'mark fernwk spot 86', { now: at(3) }));
-    expect(d.store.getMark('C0DESKA', 'FERNWK')).toMatchObject({ spot: 86 });
-    expect(d.store.getMark('C0DESKA', 'FERNWK')!.iv).toBeUndefined();
-    expect(r.text).toMatch(/its iv, yield, rate are not carried over/);
+    expect(d.store.getMark('C0DESKA', 'FERNWK')).toMatchObject({ spot: 86, iv: 0.31, yield: 0.012, rate: 0.045, at: at(3).toISOString() });
+    expect(r.text).toMatch(/spot 84\.20 → 86 \(kept: iv 31%, yield 1\.2%, rate 4\.5%\)/);
     expect(r.json.replaced).toMatchObject({ spot: 84.2, iv: 0.31 });
   });
 
@@ -94,7 +93,7 @@ describe('on SYMBOL', () => {
     expect(day.json.mark).toMatchObject({ stale: false });
     const stale = answered(ask(d.store, ON, { now: at(24 + 1 / 60) }));
     expect(stale.json.mark).toMatchObject({ stale: true, ageMinutes: 24 * 60 + 1 });
-    expect(stale.text).toContain('STALE');
+    expect(stale.text).toMatch(/Warning: mark FERNWK is older than a day/);
     expect(stale.headline).toContain('mark FERNWK stale');
     const days = answered(ask(d.store, ON, { now: at(75) }));
     expect(days.text).toContain('3 days 3 h old');
