@@ -822,6 +822,78 @@ function doMark(text: string, req: MarkRequest, env: Env): Answer {
 }
 
 // ---------------------------------------------------------------------------------------------
+// Examples in rejections
+
+/**
+ * Would `example` be answered here — in this channel, with its marks and log? Parsing is not
+ * enough: an example with no spot, an `on SYMBOL` without a mark or `again N` of a number the
+ * log does not have would be refused in turn.
+ */
+function answersHere(example: string, env: Env): boolean {
+  try {
+    const p = parse(example);
+    if (!p.ok) return false;
+    const r = p.request;
+    const store = env.ctx.store;
+    const ctxFor = (on: string | undefined) => {
+      if (!on) return { today: env.today, now: env.nowIso };
+      const m = store?.getMark(env.ctx.channel, on.toUpperCase());
+      return m ? { today: env.today, now: env.nowIso, mark: termsOfMark(m) } : null;
+    };
+    switch (r.verb) {
+      case 'check': {
+        const c = ctxFor(r.terms.on);
+        return !!c && resolveCheck(r, c).ok;
+      }
+      case 'compare': {
+        const checks = r.checks ?? [];
+        return checks.length > 1 && checks.length <= COMPARE_MAX && checks.every((k) => {
+          const c = ctxFor(k.terms.on);
+          return !!c && resolveCheck(k, c).ok;
+        });
+      }
+      case 'iv': {
+        const c = ctxFor(r.terms.on);
+        return !!c && resolveIv(r, c).ok;
+      }
+      case 'touch': {
+        const c = ctxFor(r.terms.on);
+        return !!c && resolveTouch(r, c).ok;
+      }
+      case 'again':
+        return !!store?.get(env.ctx.channel, r.number);
+      case 'mark':
+        return r.symbol !== undefined || !!store;
+      case 'log':
+        return !!store;
+      default:
+        return true;
+    }
+  } catch {
+    return false;
+  }
+}
+
+/**
+ * Every "Example:" of a rejection is a request Kolmo answers here: the corrected request when it
+ * would be answered, else the verb's canonical example (they write their market terms out), else
+ * the canonical check (or, for `again`, `log 20`, which lists the numbers that exist).
+ */
+function workingExample(r: Rejection, env: Env): Rejection {
+  const lines = r.message.split('\n');
+  const last = lines[lines.length - 1];
+  if (!last.startsWith('Example: ')) return r;
+  const ex = last.slice('Example: '.length);
+  if (answersHere(ex, env)) return r;
+  const verb = parse(ex);
+  const key = verb.ok && verb.request.verb in EXAMPLES ? (verb.request.verb as keyof typeof EXAMPLES) : 'check';
+  const candidates = key === 'again' || key === 'log' ? ['log 20', EXAMPLES.check] : [EXAMPLES[key], EXAMPLES.check];
+  const pick = candidates.find((c) => answersHere(c, env)) ?? EXAMPLES.check;
+  lines[lines.length - 1] = `Example: ${pick}`;
+  return { ...r, message: lines.join('\n') };
+}
+
+// ---------------------------------------------------------------------------------------------
 // Entry points
 
 export async function ask(text: string, ctx: AskContext): Promise<Reply> {
@@ -848,7 +920,7 @@ export function askSync(typed: string, ctx: AskContext): Reply {
       } catch {
         /* a counter that cannot be written loses nothing the asker needs */
       }
-      return reject(text, p.error);
+      return workingExample(reject(text, p.error), env);
     }
     const req = p.request;
     switch (req.verb) {
@@ -874,7 +946,7 @@ export function askSync(typed: string, ctx: AskContext): Reply {
       } catch {
         /* as above: the counter is not worth a lost reply */
       }
-      return err.reply;
+      return workingExample(err.reply, { ...envOf(ctx) });
     }
     return {
       kind: 'rejected',
