@@ -65,6 +65,10 @@ export function assumptionsLine(c: CheckJson): string {
  */
 export function warningLines(c: CheckJson): string[] {
   const out: string[] = [];
+  const minutes = Math.round(c.horizonYears * 365 * 24 * 60);
+  if (minutes < 24 * 60) {
+    out.push(`Warning: a horizon of ${minutes} minutes: the outcome is almost today's value; did you mean ${Math.max(1, Math.round(minutes))}d (days) or ${Math.max(1, Math.round(minutes))}m (months)?`);
+  }
   c.legs.forEach((l, i) => {
     if (!l.entryGiven || l.type === 'shares') return;
     const far = (l.entry < l.value / 2 || l.entry > 2 * l.value) && Math.abs(l.entry - l.value) > 0.1;
@@ -102,7 +106,9 @@ export function exerciseNotes(c: CheckJson): string[] {
 export function checkText(c: CheckJson, opts: { verbose?: boolean } = {}): string {
   const lines: string[] = [];
   const days = daysBetween(c.asof, c.horizon);
-  lines.push(`${positionWords(c)} — horizon ${c.horizon} (${days} day${days === 1 ? '' : 's'})`);
+  const mins = Math.round(c.horizonYears * 365 * 24 * 60);
+  const span = mins < 24 * 60 ? `${mins} minutes` : `${days} day${days === 1 ? '' : 's'}`;
+  lines.push(`${positionWords(c)} — horizon ${c.horizon} (${span})`);
   lines.push('');
 
   // rho matters when the rate is high or a leg lives a year or more (the issue's rule)

@@ -170,6 +170,8 @@ export function addDays(date: string, days: number): string {
 /** Turn an expiry as written into a date, counting spans from `asof`. */
 export function resolveSpec(spec: ExpirySpec, asof: string): string {
   if ('date' in spec) return spec.date;
+  // a horizon in minutes or hours: the day it falls on (whole days from asof)
+  if ('minutes' in spec) return addDays(asof, Math.floor(spec.minutes / (24 * 60)));
   switch (spec.unit) {
     case 'd':
       return addDays(asof, spec.span);

@@ -360,7 +360,16 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
   // horizon
   let horizon: string;
   let horizonDays: number;
-  if (terms.horizon) {
+  if (terms.horizon && 'minutes' in terms.horizon) {
+    // a horizon in minutes or hours: fractional days from asof (the answer warns about it)
+    const days = terms.horizon.minutes / (24 * 60);
+    if (earliest && days > earliest.days) {
+      const leg = req.legs[earliest.leg];
+      throw R.term(termsAt.horizon, `the horizon is after ${legLabel(leg, earliest.leg)} expires on ${earliest.date}: the horizon must be on or before the earliest expiry`, R.replace(R.valueAt(termsAt.horizon), earliest.date));
+    }
+    horizon = resolveSpec(terms.horizon, asof);
+    horizonDays = days;
+  } else if (terms.horizon) {
     const h = dateAfterAsof(R, terms.horizon, asof, termsAt.horizon, 'the horizon', true);
     if (earliest && h.days > earliest.days) {
       const leg = req.legs[earliest.leg];

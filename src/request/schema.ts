@@ -19,6 +19,7 @@ const expirySpec = z.union([
   z
     .strictObject({ span: z.number().int().min(1), unit: z.enum(['d', 'w', 'm', 'y']) })
     .refine((s) => s.span <= SPAN_MAX[s.unit]),
+  z.strictObject({ minutes: z.number().int().min(1).max(7 * 24 * 60) }),
 ]);
 
 const price = z.number().positive().max(LIMITS.price);

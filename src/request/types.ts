@@ -11,7 +11,7 @@
 import type { ExerciseStyle, Jumps, LegKind } from '../core/types.js';
 
 /** An expiry as written: an ISO date, or a span from asof. */
-export type ExpirySpec = { date: string } | { span: number; unit: 'd' | 'w' | 'm' | 'y' };
+export type ExpirySpec = { date: string } | { span: number; unit: 'd' | 'w' | 'm' | 'y' } | { minutes: number };
 
 export interface LegSpec {
   qty: number;
