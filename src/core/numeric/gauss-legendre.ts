@@ -27,3 +27,6 @@ export function gaussLegendre(n: number): { t: number[]; w: number[] } {
   const idx = t.map((_, i) => i).sort((a, b) => t[a] - t[b]);
   return { t: idx.map((i) => t[i]), w: idx.map((i) => w[i]) };
 }
+
+/** The 8-node rule, ascending (the outcome engine's panels and the drift mixture use it). */
+export const GL8 = gaussLegendre(8);

@@ -4,14 +4,13 @@
  * added, and the monotone runs of the samples.
  */
 import { logDensity } from '../dist.js';
-import { gaussLegendre } from '../numeric/gauss-legendre.js';
+import { GL8 as GL } from '../numeric/gauss-legendre.js';
 import { brentMin } from '../numeric/minimise.js';
 import type { Mesh } from './mesh.js';
 import type { SplitDist } from './split-dist.js';
 
 /** Gauss-Legendre nodes per panel. */
 const GL_N = 8;
-const GL = gaussLegendre(GL_N);
 
 /** P&L × density integrals on log-spot panels (composite Gauss-Legendre). */
 export class Quadrature {
