@@ -59,7 +59,7 @@ describe('personal defaults', () => {
   it('the modal reads back what it shows; bad values are refused per field', () => {
     const view = defaultsView({ rate: 0.045, yield: 0.012, mult: 10, horizon: '30d' });
     const state: Record<string, Record<string, { value?: string | null }>> = {};
-    for (const b of view.blocks) if (b.type === 'input') state[b.block_id!] = { v: { value: (b.element as any).initial_value ?? null } };
+    for (const b of view.blocks) if (b.type === 'input') state[b.block_id!] = { v: { value: ((b as any).element as any).initial_value ?? null } };
     const r = readDefaults(state);
     expect(r).toEqual({ ok: true, defaults: { rate: 0.045, yield: 0.012, mult: 10, horizon: '30d' } });
     const bad = readDefaults({ rate: { v: { value: '450' } }, mult: { v: { value: '2.5' } }, horizon: { v: { value: '30 days' } }, yield: { v: { value: '' } } });
