@@ -28,7 +28,7 @@ import { EXAMPLES } from './request/examples.js';
 import type { AgainRequest, CheckRequest, CompareRequest, LogRequest, MarkRequest, ParseError, Request } from './request/types.js';
 import { CAUTION, type Answer, type Rejection, type Reply } from './reply.js';
 import type { CheckAssembly, CheckJson, LegJson } from './result.js';
-import { checkHeadline, checkText, positionWords } from './report/text.js';
+import { checkHeadline, checkText, positionWords, wrapParts } from './report/text.js';
 import { compareChartInput, compareHeadline, compareText, cut, type ComparePart } from './report/compare.js';
 import { ageWords, isStale, logText, marksText, whenUtc } from './report/log.js';
 import { level, money, num, pct, rate, shortDate, table } from './report/format.js';
@@ -350,7 +350,7 @@ function doCompare(text: string, req: CompareRequest, env: Env): Computed {
   const a = answer({
     verb: 'compare',
     headline: compareHeadline(parts) + (stale.length ? ` · mark ${stale.map((m) => m.symbol).join(', ')} stale` : ''),
-    text: [compareText(parts), ...ms.map((m) => markLine(m, env.now))].join('\n'),
+    text: [compareText(parts, { verbose: env.verbose }), ...ms.map((m) => markLine(m, env.now))].join('\n'),
     json: {
       kind: 'compare',
       checks: parts.map((p) => p.json),
@@ -479,7 +479,13 @@ function doTouch(text: string, req: Extract<Request, { verb: 'touch' }>, env: En
       [`chance ending ${dir === 'above' ? 'above' : 'below'}`, pct(bv), pct(brn)],
     ]),
     '',
-    `Assumptions: asof ${t.asof} · view drift ${rate(t.view.drift)}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''} · rate ${rate(t.rate)} · yield ${rate(t.q)} · ${jumps ? 'Merton jump diffusion' : 'lognormal walk'}, continuous monitoring.`,
+    wrapParts('Assumptions:', [
+      `asof ${t.asof}`,
+      `view drift ${rate(t.view.drift)}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''}`,
+      `rate ${rate(t.rate)}`,
+      `yield ${rate(t.q)}`,
+      `${jumps ? 'Merton jump diffusion' : 'lognormal walk'}, continuous monitoring`,
+    ]),
     ...(mc ? [`Note: touching under jumps by Monte Carlo (${mc.paths.toLocaleString('en-US')} paths, seed 1; ± is one standard error); ending beyond is exact.`] : []),
     ...r.notes.map((n) => `Note: ${n}`),
     ...(mark ? [markLine(mark, env.now)] : []),
