@@ -578,7 +578,7 @@ export function resolveTouch(
     let drift = terms.drift;
     if (drift === undefined) {
       drift = base.rate;
-      notes.push('drift not given: the view uses the rate, so the outcome is the risk-neutral one');
+      notes.push('drift not given: the view uses the rate, so its view edge is 0');
     }
     const touch: ResolvedTouch = {
       level: req.level,
