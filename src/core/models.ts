@@ -1,8 +1,8 @@
 /**
  * Model choice, in one place: which numerical method answers a question, given the exercise style
  * and whether jumps are active. The service layer (src/verbs) asks these functions and never picks
- * a solver itself. Per-leg valuation (European / early exercise / jumps) for checks is chosen the
- * same way in ./pricer.ts, which reads `activeJumps` from here.
+ * a solver itself. Per-leg valuation (European / early exercise / jumps) for checks is chosen in
+ * ./pricer.ts; whether jumps are active is ./jumps.ts.
  *
  *   implied vol   european → Black-Scholes-Merton (./iv.ts); with jumps → Merton (./merton.ts);
  *                 american → finite differences on the backward equation (./american.ts),
@@ -12,17 +12,13 @@
  *                 beyond the level exactly from the Poisson mixture (./dist.ts)
  */
 import { americanImpliedVol } from './american.js';
+import { activeJumps } from './jumps.js';
 import { cdf as spotCdf, sf as spotSf, walkDistribution } from './dist.js';
 import { impliedVol, type IvResult } from './iv.js';
 import { mertonImpliedVol } from './merton.js';
 import { probBeyondAtEnd, touchProb } from './touch.js';
 import { touchProbJumps } from './touch-jumps.js';
 import type { ExerciseStyle, Jumps, OptionKind } from './types.js';
-
-/** Jumps that change anything (a positive intensity), else undefined: the one test of "jumps are on". */
-export function activeJumps(j: Jumps | undefined | null): Jumps | undefined {
-  return j && j.intensity > 0 ? j : undefined;
-}
 
 /** Which method an implied vol was solved with. */
 export type IvMethod = 'american' | 'american-jumps' | 'merton' | 'bsm';

@@ -131,3 +131,10 @@ export async function ask(text: string, ctx: AskContext): Promise<Reply> {
 // The store a shell opens and hands back in the context (the shells import nothing else of it).
 export { openStore, defaultDbPath, StoreError, type Store, type LogEntry, type LogEntryInput } from '../store/store.js';
 export { verbOfText } from './registry.js';
+
+// What the shells may read of the grammar: they build request text (the check form, the buttons'
+// variations, personal defaults) and check it against the parser before it comes back here.
+export { parse, parseCheckPart } from '../request/parse.js';
+export { LIMITS, SPAN_MAX } from '../request/limits.js';
+export { resolveSpec } from '../request/dates.js';
+export type { CheckRequest, ExpirySpec, Request } from '../request/types.js';

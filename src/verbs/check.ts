@@ -4,13 +4,14 @@
  * is logged with its headline figures.
  */
 import { runCheck } from '../core/outcome.js';
-import { activeJumps } from '../core/models.js';
+import { activeJumps } from '../core/jumps.js';
 import { parseCheckVerb } from '../request/parse.js';
 import { resolveCheck, type ResolvedCheck } from '../request/resolve.js';
 import type { CheckRequest } from '../request/types.js';
 import type { CheckAssembly, CheckJson, LegJson } from '../result.js';
 import { checkHeadline, checkText, positionWords } from '../report/text.js';
 import { checkChartInput } from '../report/chart-input.js';
+import { checkNoteText } from '../report/notes.js';
 import { money, pct, pts } from '../report/format.js';
 import type { CheckSummary } from '../store/store.js';
 import { checkCost } from './budget.js';
@@ -56,7 +57,7 @@ export function computeCheck(rc: ResolvedCheck): CheckAssembly {
     view: { drift: input.view.drift, vol: input.view.vol, model: jumps ? 'merton-jumps' : 'lognormal', ...(jumps ? { jumps } : {}) },
     style: input.style,
     mult: input.mult,
-    notes: [...rc.notes, ...core.notes],
+    notes: [...rc.notes, ...core.notes.map(checkNoteText)],
     legs,
     position: core.position,
     outcome: core.outcome,

@@ -2,7 +2,8 @@
  * `touch LEVEL by DATE …`: the chance that the stock touches a level by a date, under the view and
  * the risk-neutral walk (closed form, or Monte Carlo under jumps: src/core/models.ts). Logged.
  */
-import { activeJumps, TOUCH_MC_SEED, touchFigures } from '../core/models.js';
+import { activeJumps } from '../core/jumps.js';
+import { TOUCH_MC_SEED, touchFigures } from '../core/models.js';
 import { parseTouch } from '../request/parse.js';
 import { resolveTouch } from '../request/resolve.js';
 import type { TouchRequest } from '../request/types.js';
