@@ -1,0 +1,84 @@
+/**
+ * `mark SYMBOL …` records the channel's market for a symbol (posted in the channel, not logged:
+ * a mark records its own who and when); `mark` and `mark SYMBOL` show marks to the asker only.
+ */
+import { parseMark } from '../request/parse.js';
+import type { MarkRequest } from '../request/types.js';
+import { marksText, whenUtc } from '../report/log.js';
+import { level, rate } from '../report/format.js';
+import type { Mark } from '../store/store.js';
+import { markJson, markRecord, markTermsWords } from './marks.js';
+import { answer, defineVerb, needStore, refuseFact, storeCall, type Outcome, type VerbEnv } from './verb.js';
+
+function listing(marks: Mark[], env: VerbEnv): Outcome {
+  return {
+    answer: answer({
+      verb: 'mark',
+      headline: '',
+      text: marksText(marks, env.now),
+      json: { kind: 'marks', marks: marks.map((m) => ({ ...markRecord(m), ...markJson(m, env.now) })) },
+      ephemeral: true,
+    }),
+  };
+}
+
+/** What the answer to a recorded mark says beyond the terms: what it replaced, what it leaves unset. */
+const KEYS = ['spot', 'iv', 'yield', 'rate'] as const;
+
+function recordedLines(m: Mark, prev: Mark | undefined, t: MarkRequest['terms']): string[] {
+  const sym = m.symbol;
+  const lines: string[] = [];
+  if (prev) {
+    const fmt = (k: (typeof KEYS)[number], v: number | undefined) => (v === undefined ? 'none' : k === 'spot' ? level(v) : rate(v));
+    const changed = KEYS.filter((k) => t[k] !== undefined).map((k) => `${k} ${fmt(k, prev[k])} → ${fmt(k, m[k])}`);
+    const kept = KEYS.filter((k) => t[k] === undefined && m[k] !== undefined).map((k) => `${k} ${fmt(k, m[k])}`);
+    lines.push(`Mark ${sym} updated for this channel by ${m.user} at ${whenUtc(m.at)} UTC: ${changed.join(', ')}${kept.length ? ` (kept: ${kept.join(', ')})` : ''}.`);
+  } else {
+    lines.push(`Mark ${sym} recorded for this channel by ${m.user} at ${whenUtc(m.at)} UTC: ${markTermsWords(m)}.`);
+  }
+  lines.push(`Requests that say \`on ${sym}\` take these terms; terms written in a request override them.`);
+  const unset = KEYS.filter((k) => m[k] === undefined);
+  if (unset.length) {
+    const defaults = unset.filter((k) => k !== 'spot');
+    lines.push(
+      `Not in this mark: ${unset.join(', ')}.` +
+        (unset.includes('spot') ? ` Requests on ${sym} must write spot.` : '') +
+        (defaults.length ? ` Where a request on ${sym} leaves ${defaults.join(' or ')} out, the usual default applies.` : ''),
+    );
+  }
+  return lines;
+}
+
+function runMark(text: string, req: MarkRequest, env: VerbEnv): Outcome {
+  const store = needStore(text, env, 'mark');
+  const channel = env.ctx.channel;
+  if (!req.symbol) return listing(storeCall(text, 'the marks of this channel could not be read', 0, () => store.listMarks(channel)), env);
+  const sym = req.symbol.toUpperCase();
+  const symAt = Math.max(0, text.toUpperCase().indexOf(sym));
+  const prev = storeCall(text, 'the marks of this channel could not be read', symAt, () => store.getMark(channel, sym));
+  const t = req.terms;
+  if (t.spot === undefined && t.iv === undefined && t.yield === undefined && t.rate === undefined) {
+    // `mark SYMBOL` alone shows that mark
+    if (!prev) {
+      throw refuseFact(text, { message: `no mark for ${sym} in this channel: record one with spot, iv, yield or rate`, at: symAt, length: sym.length, example: `mark ${sym} spot 84.20 iv 31% yield 1.2%` });
+    }
+    return listing([prev], env);
+  }
+  // a mark updates only what it names and keeps the rest of the channel's mark for the symbol
+  const m: Mark = { channel, symbol: sym, user: env.ctx.user, at: env.nowIso };
+  for (const k of KEYS) {
+    const v = t[k] !== undefined ? t[k] : prev?.[k];
+    if (v !== undefined) m[k] = v;
+  }
+  storeCall(text, `the mark for ${sym} was not recorded`, symAt, () => store.putMark(m));
+  return {
+    answer: answer({
+      verb: 'mark',
+      headline: '',
+      text: recordedLines(m, prev, t).join('\n'),
+      json: { kind: 'mark', ...markRecord(m), ...(prev ? { replaced: markRecord(prev) } : {}) },
+    }),
+  };
+}
+
+export const mark = defineVerb({ name: 'mark', words: ['mark'], grammar: parseMark, rerunnable: false, run: runMark });
