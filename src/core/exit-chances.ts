@@ -8,6 +8,7 @@
 import { exitFiguresMc, type ExitMcOptions } from './exits-mc.js';
 import { exitFiguresPde, exitGrid, type ExitFigures, type Levels } from './exits.js';
 import { pnlSurface } from './exit-region.js';
+import { activeJumps } from './jumps.js';
 import type { CheckInput, Walk } from './types.js';
 
 export type { ExitFigures, Levels } from './exits.js';
@@ -28,7 +29,7 @@ export interface ExitChances {
  */
 export function exitChances(input: CheckInput, levels: Levels, market: Walk, opts: ExitMcOptions = {}): ExitChances {
   const view = input.view;
-  const jumps = view.jumps && view.jumps.intensity > 0 ? view.jumps : undefined;
+  const jumps = activeJumps(view.jumps);
   const mk: Walk = { drift: market.drift, vol: market.vol, ...(jumps ? { jumps } : {}) };
   const walks = [view, mk];
   const q = input.market.yield;

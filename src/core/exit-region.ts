@@ -12,10 +12,11 @@
  * intervals (a short straddle: a stop on both sides, a target around the strike once time decay
  * has paid enough). The segments are found from a scan of Π on a uniform set of points in x (plus
  * the strikes), the sign changes of Π − level refined by Brent's root finder to 1e-11 in x, and
- * pairs of crossings hidden between two scan points found by a golden-section search for the
+ * pairs of crossings hidden between two scan points found by Brent's minimiser on the
  * extremum of Π wherever a local extremum of the scanned values comes near a level.
  */
-import { brentRoot } from './numeric.js';
+import { brentMin } from './numeric/minimise.js';
+import { brentRoot } from './numeric/root.js';
 import { legGreeks, legValuer, type LegModel } from './pricer.js';
 import type { CheckInput, LegInput } from './types.js';
 
@@ -90,31 +91,12 @@ function kindOf(p: number, lv: Levels): SegmentKind {
   return 'in';
 }
 
-const GOLD = 0.381966011250105;
 const ROOT_TOL = 1e-11;
 
-/** Golden-section search for the maximum (sign 1) or minimum (sign −1) of f on [a, b]. */
-function goldenExtremum(f: (x: number) => number, a: number, b: number, sign: number, tol: number): { x: number; fx: number } {
-  let x1 = a + GOLD * (b - a);
-  let x2 = b - GOLD * (b - a);
-  let f1 = sign * f(x1);
-  let f2 = sign * f(x2);
-  while (b - a > tol) {
-    if (f1 > f2) {
-      b = x2;
-      x2 = x1;
-      f2 = f1;
-      x1 = a + GOLD * (b - a);
-      f1 = sign * f(x1);
-    } else {
-      a = x1;
-      x1 = x2;
-      f1 = f2;
-      x2 = b - GOLD * (b - a);
-      f2 = sign * f(x2);
-    }
-  }
-  return f1 > f2 ? { x: x1, fx: sign * f1 } : { x: x2, fx: sign * f2 };
+/** The maximum (sign 1) or minimum (sign −1) of f on [a, b] (Brent's minimiser). */
+function extremum(f: (x: number) => number, a: number, b: number, sign: number, tol: number): { x: number; fx: number } {
+  const m = brentMin((x) => -sign * f(x), a, b, tol);
+  return { x: m.x, fx: -sign * m.fx };
 }
 
 /**
@@ -179,7 +161,7 @@ export function segmentsAt(pnl: (S: number) => number, scan: Float64Array, lv: L
       const spread = Math.max(Math.abs(f[hi] - f[m]), Math.abs(f[m] - f[lo]), Math.abs(f[i + 1] - f[i]));
       if (sign * (level - f[m]) > 2 * spread) continue;
       // search this pair's interval only (the neighbouring pairs search theirs)
-      const e = goldenExtremum(g, a, b, sign, 1e-9);
+      const e = extremum(g, a, b, sign, 1e-10);
       if (sign * (e.fx - level) < 0) continue;
       const c1 = root(a, e.x, f[i], e.fx, level);
       const c2 = root(e.x, b, e.fx, f[i + 1], level);

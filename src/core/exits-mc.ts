@@ -23,6 +23,7 @@
  */
 import { exitRegion, medianFromSurvival, type ExitFigures, type ExitOptions, type Levels } from './exits.js';
 import type { Segments } from './exit-region.js';
+import { activeJumps, jumpCompensator } from './jumps.js';
 import { Xoshiro128 } from './touch-jumps.js';
 import type { CheckInput, Walk } from './types.js';
 
@@ -49,11 +50,11 @@ export function exitFiguresMc(input: CheckInput, levels: Levels, walk: Walk, opt
   const M = t.length - 1;
   const q = input.market.yield;
   const sig = walk.vol;
-  const j = walk.jumps && walk.jumps.intensity > 0 ? walk.jumps : undefined;
+  const j = activeJumps(walk.jumps);
   const lam = j ? j.intensity : 0;
   const jm = j ? j.mean : 0;
   const jsd = j ? j.sd : 0;
-  const kappa = j ? Math.expm1(jm + 0.5 * jsd * jsd) : 0;
+  const kappa = j ? jumpCompensator(j) : 0;
   const nu = walk.drift - q - 0.5 * sig * sig - lam * kappa;
   const s2 = sig * sig;
   const tv = levels.target ?? 0;

@@ -18,6 +18,7 @@
  * Box-Muller transform; the same seed gives the same answer on every platform.
  */
 import type { Jumps } from './types.js';
+import { hasJumps, jumpCompensator, validJumps } from './jumps.js';
 
 export interface TouchJumpsOptions {
   /** number of simulated paths (default 20 000) */
@@ -31,6 +32,12 @@ export interface TouchJumpsOptions {
   steps?: number;
   /** seed of the generator (default 1) */
   seed?: number;
+  /**
+   * the drift's uncertainty τ (predictive.ts): each path draws its own μ ~ N(drift, τ²), which
+   * makes the estimate the exact mixture over μ at no extra cost. 0 or absent: the same random
+   * stream, and the same answer, as a known drift.
+   */
+  driftSe?: number;
 }
 
 export interface TouchJumpsResult {
@@ -127,7 +134,7 @@ export function touchProbJumps(
   const lam = jumps ? jumps.intensity : 0;
   const jm = jumps ? jumps.mean : 0;
   const jsd = jumps ? jumps.sd : 0;
-  if (!(Number.isFinite(lam) && lam >= 0 && Number.isFinite(jm) && Number.isFinite(jsd) && jsd >= 0)) {
+  if (jumps && !validJumps(jumps)) {
     throw new RangeError('touchProbJumps: jumps need intensity ≥ 0, a finite mean and s.d. ≥ 0');
   }
   const paths = Math.max(2, Math.floor(opts.paths ?? 20000));
@@ -141,7 +148,7 @@ export function touchProbJumps(
     const at = b === 0 ? 1 : 0;
     return { prob: at, stderr: 0, probBeyond: at, probBeyondStderr: 0, paths: 0 };
   }
-  const kappa = lam > 0 ? Math.expm1(jm + 0.5 * jsd * jsd) : 0;
+  const kappa = hasJumps(jumps) ? jumpCompensator(jumps) : 0;
   const nu = drift - q - 0.5 * sigma * sigma - lam * kappa;
   const s2 = sigma * sigma;
   const dtGrid = T / steps;
@@ -151,7 +158,9 @@ export function touchProbJumps(
   let sumT = 0;
   let sumT2 = 0;
   let sumB = 0;
+  const tau = opts.driftSe !== undefined && opts.driftSe > 0 && Number.isFinite(opts.driftSe) ? opts.driftSe : 0;
   for (let p = 0; p < paths; p++) {
+    const nuP = tau > 0 ? nu + tau * rng.normal() : nu;
     let x = 0;
     let t = 0;
     let touched = b === 0;
@@ -164,7 +173,7 @@ export function touchProbJumps(
         const tNext = nextJump < tEnd ? nextJump : tEnd;
         const dt = tNext - t;
         if (dt > 0) {
-          const x1 = x + nu * dt + sigma * Math.sqrt(dt) * rng.normal();
+          const x1 = x + nuP * dt + sigma * Math.sqrt(dt) * rng.normal();
           if (!touched) {
             if (beyond(x1)) touched = true;
             else if (s2 > 0) {
