@@ -187,7 +187,7 @@ describe('multi-leg positions', () => {
         [input.view, ex.view],
         [{ drift: market.rate, vol: marketWalk.vol }, ex.market],
       ] as const) {
-        const ref = referenceExitsMc(input, lv.target, lv.stop, walk, 20000, 300, 11);
+        const ref = referenceExitsMc(input, lv.target, lv.stop, walk, 10000, 250, 11);
         expect(Math.abs(f.probTarget - ref.probTarget)).toBeLessThan(4 * ref.se.probTarget + 1e-4);
         expect(Math.abs(f.probStop - ref.probStop)).toBeLessThan(4 * ref.se.probStop + 1e-4);
         expect(Math.abs(f.expectedPnl - ref.expectedPnl)).toBeLessThan(4 * ref.se.expectedPnl + 1e-2);
