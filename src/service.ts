@@ -12,6 +12,7 @@
  * - an entry of another channel is answered exactly like a number that does not exist.
  */
 import { runCheck } from './core/outcome.js';
+import { knownDriftFigures, probBeyondAtEndPredictive, touchProbPredictive } from './core/predictive.js';
 import { impliedVol } from './core/iv.js';
 import { americanImpliedVol } from './core/american.js';
 import { mertonImpliedVol } from './core/merton.js';
@@ -99,7 +100,13 @@ export function computeCheck(rc: ResolvedCheck): CheckAssembly {
     horizon: rc.horizon,
     horizonYears: input.horizonYears,
     market: { spot: input.market.spot, rate: input.market.rate, yield: input.market.yield },
-    view: { drift: input.view.drift, vol: input.view.vol, model: jumps ? 'merton-jumps' : 'lognormal', ...(jumps ? { jumps } : {}) },
+    view: {
+      drift: input.view.drift,
+      vol: input.view.vol,
+      model: jumps ? 'merton-jumps' : 'lognormal',
+      ...(jumps ? { jumps } : {}),
+      ...(input.view.driftSe ? { driftSe: input.view.driftSe } : {}),
+    },
     style: input.style,
     mult: input.mult,
     notes: [...rc.notes, ...core.notes],
@@ -113,6 +120,8 @@ export function computeCheck(rc: ResolvedCheck): CheckAssembly {
       tailMean05: rn.tailMean05,
     },
   };
+  const known = knownDriftFigures(input);
+  if (known) json.knownDrift = { probProfit: known.probProfit, pnlQuantiles: { p05: known.p05, p95: known.p95 } };
   return { json, curves: core.curves };
 }
 
@@ -122,7 +131,7 @@ export function chartInputOf(a: CheckAssembly) {
   return {
     title: positionWords(c),
     horizon: c.horizon,
-    view: { drift: c.view.drift, vol: c.view.vol, ...(c.view.jumps ? { jumps: c.view.jumps } : {}) },
+    view: { drift: c.view.drift, vol: c.view.vol, ...(c.view.jumps ? { jumps: c.view.jumps } : {}), ...(c.view.driftSe ? { driftSe: c.view.driftSe } : {}) },
     spot: c.market.spot,
     strikes: [...new Set(c.legs.filter((l) => l.strike !== null).map((l) => l.strike as number))].sort((x, y) => x - y),
     breakevens: c.outcome.breakevens,
@@ -418,21 +427,22 @@ function doTouch(text: string, req: Extract<Request, { verb: 'touch' }>, env: En
     // first passage with jumps has no closed form: a seeded Monte Carlo with its standard error;
     // the chance of ending beyond is exact from the Poisson mixture of lognormals
     const opts = { paths: TOUCH_MC_PATHS, seed: 1 };
-    const v = touchProbJumps(t.S, t.level, t.T, t.view.drift, t.q, t.view.vol, jumps, opts);
+    // with a drift uncertainty each path draws its own drift (the exact mixture over μ)
+    const v = touchProbJumps(t.S, t.level, t.T, t.view.drift, t.q, t.view.vol, jumps, { ...opts, ...(t.view.driftSe ? { driftSe: t.view.driftSe } : {}) });
     const n = touchProbJumps(t.S, t.level, t.T, t.rate, t.q, t.view.vol, jumps, opts);
     pv = v.prob;
     prn = n.prob;
     mc = { view: v.stderr, riskNeutral: n.stderr, paths: v.paths };
-    const beyond = (drift: number) => {
-      const d = walkDistribution(t.S, t.T, t.q, { drift, vol: t.view.vol, jumps });
+    const beyond = (drift: number, driftSe?: number) => {
+      const d = walkDistribution(t.S, t.T, t.q, { drift, vol: t.view.vol, jumps, ...(driftSe ? { driftSe } : {}) });
       return dir === 'above' ? spotSf(d, t.level) : spotCdf(d, t.level);
     };
-    bv = beyond(t.view.drift);
+    bv = beyond(t.view.drift, t.view.driftSe);
     brn = beyond(t.rate);
   } else {
-    pv = touchProb(t.S, t.level, t.T, t.view.drift, t.q, t.view.vol);
+    pv = touchProbPredictive(t.S, t.level, t.T, t.view.drift, t.view.driftSe ?? 0, t.q, t.view.vol);
     prn = touchProb(t.S, t.level, t.T, t.rate, t.q, t.view.vol);
-    bv = probBeyondAtEnd(t.S, t.level, t.T, t.view.drift, t.q, t.view.vol);
+    bv = probBeyondAtEndPredictive(t.S, t.level, t.T, t.view.drift, t.view.driftSe ?? 0, t.q, t.view.vol);
     brn = probBeyondAtEnd(t.S, t.level, t.T, t.rate, t.q, t.view.vol);
   }
   const model = jumps ? 'merton-jumps' : 'lognormal';
@@ -443,7 +453,7 @@ function doTouch(text: string, req: Extract<Request, { verb: 'touch' }>, env: En
     years: t.T,
     asof: t.asof,
     market: { spot: t.S, rate: t.rate, yield: t.q },
-    view: { drift: t.view.drift, vol: t.view.vol, model, ...(jumps ? { jumps } : {}) },
+    view: { drift: t.view.drift, vol: t.view.vol, model, ...(jumps ? { jumps } : {}), ...(t.view.driftSe ? { driftSe: t.view.driftSe } : {}) },
     probTouchView: pv,
     probTouchRiskNeutral: prn,
     probBeyondAtEndView: bv,
@@ -459,7 +469,7 @@ function doTouch(text: string, req: Extract<Request, { verb: 'touch' }>, env: En
     `chance of touching  ${pm(pv, mc?.view).padStart(7)}  ${pm(prn, mc?.riskNeutral).padStart(13)}`,
     `chance ending ${dir === 'above' ? 'above' : 'below'} ${pct(bv).padStart(7)}  ${pct(brn).padStart(13)}`,
     '',
-    `Assumptions: asof ${t.asof} · view drift ${rate(t.view.drift)}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''} · rate ${rate(t.rate)} · yield ${rate(t.q)} · ${jumps ? 'Merton jump diffusion' : 'lognormal walk'}, continuous monitoring.`,
+    `Assumptions: asof ${t.asof} · view drift ${rate(t.view.drift)}${t.view.driftSe ? ` ± ${rate(t.view.driftSe)} (view figures averaged over the uncertain drift)` : ''}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''} · rate ${rate(t.rate)} · yield ${rate(t.q)} · ${jumps ? 'Merton jump diffusion' : 'lognormal walk'}, continuous monitoring.`,
     ...(mc ? [`Note: touching under jumps by Monte Carlo (${mc.paths.toLocaleString('en-US')} paths, seed 1; ± is one standard error); ending beyond is exact.`] : []),
     ...r.notes.map((n) => `Note: ${n}`),
     ...(mark ? [markLine(mark, env.now)] : []),

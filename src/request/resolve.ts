@@ -81,13 +81,18 @@ export interface ResolvedTouch {
   S: number;
   T: number;
   q: number;
-  view: { drift: number; vol: number; jumps?: Jumps };
+  view: { drift: number; vol: number; jumps?: Jumps; driftSe?: number };
   rate: number;
   by: string;
   asof: string;
 }
 
 type Fail = { ok: false; error: ParseError };
+
+/** The drift's uncertainty as the view carries it: only when written and above zero (0 is a known drift). */
+function driftSeOf(terms: { drift?: number; driftSe?: number }): { driftSe?: number } {
+  return terms.drift !== undefined && terms.driftSe !== undefined && terms.driftSe > 0 ? { driftSe: terms.driftSe } : {};
+}
 
 const DAY_MS = 86_400_000;
 
@@ -402,7 +407,7 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     mult: terms.mult ?? 100,
     style: terms.style ?? 'european',
     horizonYears: horizonDays / 365,
-    view: terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol },
+    view: { ...(terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol }), ...driftSeOf(terms) },
   };
   checkSpread(R, input, req.termsAt);
   return { asof, horizon, input, legExpiries, notes, symbol: base.symbol };
@@ -417,7 +422,8 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
 function checkSpread(R: Resolver, input: CheckInput, termsAt: CheckRequest['termsAt']): void {
   const j = input.view.jumps;
   const jumpVar = j && j.intensity > 0 ? j.intensity * (j.mean * j.mean + j.sd * j.sd) : 0;
-  let worst = input.view.vol * input.view.vol * input.horizonYears + jumpVar * input.horizonYears;
+  const tau = input.view.driftSe ?? 0;
+  let worst = input.view.vol * input.view.vol * input.horizonYears + jumpVar * input.horizonYears + tau * tau * input.horizonYears * input.horizonYears;
   for (const l of input.legs) if (l.kind !== 'shares') worst = Math.max(worst, (l.iv * l.iv + jumpVar) * l.years);
   if (worst > LIMITS.maxLogVariance) {
     const sd = Math.sqrt(worst);
@@ -550,7 +556,7 @@ export function resolveTouch(
       S: base.spot,
       T: days / 365,
       q: base.yield,
-      view: terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol },
+      view: { ...(terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol }), ...driftSeOf(terms) },
       rate: base.rate,
       by: date,
       asof: base.asof,

@@ -39,6 +39,7 @@ export const termsSchema = z.strictObject({
   iv: vol.optional(),
   exp: expirySpec.optional(),
   drift: z.number().min(LIMITS.driftMin).max(LIMITS.driftMax).optional(),
+  driftSe: z.number().min(0).max(LIMITS.driftSeMax).optional(),
   vol: vol.optional(),
   horizon: expirySpec.optional(),
   asof: z.union([isoDate, z.literal('today')]).optional(),

@@ -34,6 +34,8 @@ export interface Terms {
   iv?: number;
   exp?: ExpirySpec;
   drift?: number;
+  /** the drift's uncertainty (`drift 9% ± 6%`), part of the drift term: written only after a drift */
+  driftSe?: number;
   vol?: number;
   horizon?: ExpirySpec;
   /** ISO date, or 'today' (`asof today`: the resolver's today) */
