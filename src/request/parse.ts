@@ -24,6 +24,7 @@ import { EXAMPLES, SAMPLE, type ExampleKey } from './examples.js';
 import { HELP_TOPICS } from './help.js';
 import { LIMITS, SPAN_MAX } from './limits.js';
 import { NUMBER, PERCENT, PER_YEAR, SPAN, percentValue, tokenize, type Tok } from './lex.js';
+import { readHistory } from './history.js';
 import { requestSchema } from './schema.js';
 import type {
   AgainRequest,
@@ -154,7 +155,7 @@ const TERM_WORDS: Record<string, TermName> = {
   on: 'on',
 };
 
-const VERBS = ['check', 'compare', 'iv', 'touch', 'mark', 'log', 'again', 'help'] as const;
+const VERBS = ['check', 'compare', 'iv', 'touch', 'mark', 'log', 'again', 'history', 'help'] as const;
 type Verb = (typeof VERBS)[number];
 
 /** Extra terms of particular verbs. */
@@ -1112,6 +1113,11 @@ function parseRequest(src: string): Request {
       const semi = toks.find((t) => t.text === ';');
       if (semi) throw rejectAt(semi, `again takes overrides for one check; ';' belongs to compare`, undefined, 'again');
       return parseAgain(src, toks);
+    }
+    case 'history': {
+      const r = readHistory(src, toks, 1);
+      if (!r.ok) throw new Reject(r.error.message, r.error.at, r.error.length, undefined, 'history');
+      return r.request;
     }
     case 'help':
     case '?':

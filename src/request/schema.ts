@@ -6,6 +6,7 @@
 import { z } from 'zod';
 import { LIMITS, SPAN_MAX } from './limits.js';
 import { MAX_YEAR, MIN_YEAR } from './dates.js';
+import { CLOSES_MAX } from './closes.js';
 
 const pos = z.number().int().min(0);
 
@@ -111,4 +112,22 @@ export const requestSchema = z.discriminatedUnion('verb', [
     restAt: pos,
   }),
   z.strictObject({ verb: z.literal('help'), topic: z.string().optional() }),
+  z.strictObject({
+    verb: z.literal('history'),
+    symbol,
+    symbolAt: pos,
+    closes: z
+      .array(
+        z.strictObject({
+          date: z.string().regex(/^\d{4}-\d{2}-\d{2}$/).optional(),
+          close: z.number().positive().finite(),
+          at: pos,
+          len: pos,
+        }),
+      )
+      .max(CLOSES_MAX),
+    yield: rate.optional(),
+    yieldAt: pos.optional(),
+    save: z.boolean(),
+  }),
 ]);

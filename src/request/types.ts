@@ -116,7 +116,11 @@ export interface HelpRequest {
   topic?: string;
 }
 
+import type { HistoryRequest } from './history.js';
+export type { HistoryRequest };
+
 export type Request =
+  | HistoryRequest
   | CheckRequest
   | IvRequest
   | TouchRequest
