@@ -3,7 +3,7 @@
  * The shell decides where each part goes; it never recomputes anything.
  */
 
-export type Verb = 'check' | 'compare' | 'iv' | 'touch' | 'mark' | 'log' | 'again' | 'help';
+export type Verb = 'check' | 'compare' | 'iv' | 'touch' | 'mark' | 'log' | 'again' | 'history' | 'help';
 
 /** A request that was rejected at the edge: shown only to the asker. */
 export interface Rejection {

@@ -34,6 +34,8 @@ import { compareChartInput, compareHeadline, compareText, cut, type ComparePart 
 import { ageWords, isStale, logText, marksText, whenUtc } from './report/log.js';
 import { level, money, num, pct, rate, shortDate } from './report/format.js';
 import { StoreError, type CheckSummary, type LogEntry, type Mark, type Store } from './store/store.js';
+import type { HistoryRequest } from './request/history.js';
+import { runHistory, type HistoryStore, type SharedFile } from './verbs/history.js';
 
 /** Monte Carlo paths for touch under jumps (standard error ≤ 0.25 percentage points). */
 const TOUCH_MC_PATHS = 40_000;
@@ -47,6 +49,8 @@ export interface AskContext {
   store?: Store | null;
   /** answering in a workspace: log listings return thread links apart (Answer.links) instead of inline */
   inWorkspace?: boolean;
+  /** files shared with the request (a workspace upload, or `--file` on the command line): read by `history` */
+  files?: SharedFile[];
 }
 
 /** Most checks in one comparison (the comparison chart draws six). */
@@ -213,7 +217,7 @@ interface Computed {
 // Marks
 
 function termsOfMark(m: Mark): MarkTerms {
-  return { symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, at: m.at };
+  return { symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, vol: m.vol, drift: m.drift, driftSe: m.driftSe, at: m.at };
 }
 
 /**
@@ -267,12 +271,14 @@ function markJson(m: Mark, now: Date) {
   };
 }
 
-function markTermsWords(m: Pick<Mark, 'spot' | 'iv' | 'yield' | 'rate'>): string {
+function markTermsWords(m: Pick<Mark, 'spot' | 'iv' | 'yield' | 'rate' | 'vol' | 'drift' | 'driftSe'>): string {
   const w: string[] = [];
   if (m.spot !== undefined) w.push(`spot ${level(m.spot)}`);
   if (m.iv !== undefined) w.push(`iv ${rate(m.iv)}`);
   if (m.yield !== undefined) w.push(`yield ${rate(m.yield)}`);
   if (m.rate !== undefined) w.push(`rate ${rate(m.rate)}`);
+  if (m.vol !== undefined) w.push(`vol ${rate(m.vol)}`);
+  if (m.drift !== undefined) w.push(`drift ${rate(m.drift)}${m.driftSe ? ` ± ${rate(m.driftSe)}` : ''}`);
   return w.join(' · ');
 }
 
@@ -720,7 +726,17 @@ function doLog(text: string, req: LogRequest, env: Env): Answer {
 }
 
 function markRecord(m: Mark) {
-  return { symbol: m.symbol, spot: m.spot ?? null, iv: m.iv ?? null, yield: m.yield ?? null, rate: m.rate ?? null, user: m.user, at: m.at };
+  return {
+    symbol: m.symbol,
+    spot: m.spot ?? null,
+    iv: m.iv ?? null,
+    yield: m.yield ?? null,
+    rate: m.rate ?? null,
+    ...(m.vol !== undefined ? { vol: m.vol } : {}),
+    ...(m.drift !== undefined ? { drift: m.drift, driftSe: m.driftSe ?? 0 } : {}),
+    user: m.user,
+    at: m.at,
+  };
 }
 
 function doMark(text: string, req: MarkRequest, env: Env): Answer {
@@ -740,7 +756,7 @@ function doMark(text: string, req: MarkRequest, env: Env): Answer {
   const symAt = Math.max(0, text.toUpperCase().indexOf(sym));
   const prev = storeCall(text, 'the marks of this channel could not be read', symAt, () => store.getMark(channel, sym));
   const t = req.terms;
-  if (t.spot === undefined && t.iv === undefined && t.yield === undefined && t.rate === undefined) {
+  if (t.spot === undefined && t.iv === undefined && t.yield === undefined && t.rate === undefined && t.vol === undefined && t.drift === undefined) {
     // `mark SYMBOL` alone shows that mark
     if (!prev) {
       throw refuseFact(text, { message: `no mark for ${sym} in this channel: record one with spot, iv, yield or rate`, at: symAt, length: sym.length, example: `mark ${sym} spot 84.20 iv 31% yield 1.2%` });
@@ -760,6 +776,8 @@ function doMark(text: string, req: MarkRequest, env: Env): Answer {
     ...(t.iv !== undefined ? { iv: t.iv } : {}),
     ...(t.yield !== undefined ? { yield: t.yield } : {}),
     ...(t.rate !== undefined ? { rate: t.rate } : {}),
+    ...(t.vol !== undefined ? { vol: t.vol } : {}),
+    ...(t.drift !== undefined ? { drift: t.drift, ...(t.driftSe ? { driftSe: t.driftSe } : {}) } : {}),
     user: env.ctx.user,
     at: env.nowIso,
   };
@@ -792,6 +810,46 @@ function doMark(text: string, req: MarkRequest, env: Env): Answer {
   });
 }
 
+/** What `history` needs of the store: the closes, and the mark the estimates are saved into. */
+function historyStore(store: Store): HistoryStore {
+  return {
+    getCloses: (c, s) => store.getCloses(c, s),
+    putCloses: (c, s, closes) => store.putCloses(c, s, closes),
+    saveEstimates(channel, symbol, est, user, at) {
+      // merged into the channel's mark (its market terms kept), or a new mark at the last close
+      const prev = store.getMark(channel, symbol);
+      const m: Mark = {
+        ...(prev ?? { channel, symbol, spot: est.spot }),
+        channel,
+        symbol,
+        vol: est.vol,
+        drift: est.drift,
+        driftSe: est.driftSe,
+        user,
+        at,
+      };
+      store.putMark(m);
+      return { ...(m.spot !== undefined ? { spot: m.spot } : {}) };
+    },
+  };
+}
+
+function doHistory(text: string, req: HistoryRequest, env: Env): Answer {
+  const store = env.ctx.store ?? null;
+  const r = runHistory(text, req, {
+    channel: env.ctx.channel,
+    user: env.ctx.user,
+    nowIso: env.nowIso,
+    ...(env.ctx.files ? { files: env.ctx.files } : {}),
+    store: store ? historyStore(store) : null,
+  });
+  if (r.refused) {
+    const e = { message: r.message, at: r.at, length: r.length, example: r.example };
+    throw r.fact ? refuseFact(text, e) : refuse(text, e);
+  }
+  return answer({ verb: 'history', headline: r.headline, text: r.text, json: r.json, chart: r.chart, warnings: r.warnings });
+}
+
 // ---------------------------------------------------------------------------------------------
 // Entry points
 
@@ -822,6 +880,8 @@ export function askSync(text: string, ctx: AskContext): Reply {
         return doMark(text, req, env);
       case 'again':
         return doAgain(text, req, env);
+      case 'history':
+        return doHistory(text, req, env);
       case 'check':
       case 'compare':
       case 'iv':

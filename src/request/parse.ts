@@ -182,7 +182,7 @@ const ALLOWED: Record<'check' | 'iv' | 'touch' | 'mark' | 'again', readonly AnyT
   check: ALL_TERMS,
   iv: ['price', 'spot', 'rate', 'yield', 'asof', 'on', 'style', 'jumps'],
   touch: ['by', 'spot', 'rate', 'yield', 'drift', 'vol', 'iv', 'asof', 'on', 'jumps'],
-  mark: ['spot', 'iv', 'yield', 'rate'],
+  mark: ['spot', 'iv', 'yield', 'rate', 'vol', 'drift'],
   again: [...ALL_TERMS, 'price', 'by'],
 };
 
@@ -1022,8 +1022,11 @@ function parseMark(src: string, toks: Tok[]): MarkRequest {
   }
   const symbol = readSymbol(c, toks[0], sTok, 'mark');
   const body = readBody(c, 'mark', false);
-  const { spot, iv, yield: q, rate } = body.terms;
+  const { spot, iv, yield: q, rate, vol, drift, driftSe } = body.terms;
   const terms: MarkRequest['terms'] = {};
+  if (vol !== undefined) terms.vol = vol;
+  if (drift !== undefined) terms.drift = drift;
+  if (driftSe !== undefined) terms.driftSe = driftSe;
   if (spot !== undefined) terms.spot = spot;
   if (iv !== undefined) terms.iv = iv;
   if (q !== undefined) terms.yield = q;

@@ -102,7 +102,15 @@ export const requestSchema = z.discriminatedUnion('verb', [
   z.strictObject({
     verb: z.literal('mark'),
     symbol: symbol.optional(),
-    terms: z.strictObject({ spot: price.optional(), iv: vol.optional(), yield: rate.optional(), rate: rate.optional() }),
+    terms: z.strictObject({
+      spot: price.optional(),
+      iv: vol.optional(),
+      yield: rate.optional(),
+      rate: rate.optional(),
+      vol: vol.optional(),
+      drift: z.number().min(LIMITS.driftMin).max(LIMITS.driftMax).optional(),
+      driftSe: z.number().min(0).max(LIMITS.driftSeMax).optional(),
+    }),
   }),
   z.strictObject({ verb: z.literal('log'), count: z.number().int().min(1).max(LIMITS.logMax) }),
   z.strictObject({

@@ -84,7 +84,7 @@ export interface MarkRequest {
   verb: 'mark';
   /** absent: list the channel's marks */
   symbol?: string;
-  terms: Pick<Terms, 'spot' | 'iv' | 'yield' | 'rate'>;
+  terms: Pick<Terms, 'spot' | 'iv' | 'yield' | 'rate' | 'vol' | 'drift' | 'driftSe'>;
 }
 
 export interface LogRequest {
