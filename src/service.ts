@@ -33,6 +33,7 @@ import { checkHeadline, checkText, positionWords } from './report/text.js';
 import { compareChartInput, compareHeadline, compareText, cut, type ComparePart } from './report/compare.js';
 import { ageWords, isStale, logText, marksText, whenUtc } from './report/log.js';
 import { level, money, num, pct, rate, shortDate } from './report/format.js';
+import { checkNoteText } from './report/notes.js';
 import { StoreError, type CheckSummary, type LogEntry, type Mark, type Store } from './store/store.js';
 import type { HistoryRequest } from './request/history.js';
 import { runHistory, type HistoryStore, type SharedFile } from './verbs/history.js';
@@ -113,7 +114,7 @@ export function computeCheck(rc: ResolvedCheck): CheckAssembly {
     },
     style: input.style,
     mult: input.mult,
-    notes: [...rc.notes, ...core.notes],
+    notes: [...rc.notes, ...core.notes.map(checkNoteText)],
     legs,
     position: core.position,
     outcome: core.outcome,
