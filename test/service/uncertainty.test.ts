@@ -88,3 +88,12 @@ describe('drift with its uncertainty', () => {
     expect(r5.kind).toBe('rejected');
   });
 });
+
+describe('the compute budget', () => {
+  it('a drift uncertainty doubles the estimated cost of a check (the outcome runs again with the drift known)', async () => {
+    const { requestCost } = await import('../../src/request/budget.js');
+    const a = requestCost(`${CALL} drift 9% style american`).units;
+    const b = requestCost(`${CALL} drift 9% ± 30% style american`).units;
+    expect(b).toBe(2 * a);
+  });
+});
