@@ -7,7 +7,7 @@
  * mentions Kolmo, at most CLOSES_FILE_BYTES each, and the token is sent only to the platform's
  * file host or to the Web API's own origin (a proxy or the test double set by KOLMO_API_URL).
  */
-import { CLOSES_FILE_BYTES } from '../request/closes.js';
+import { CLOSES_FILE_BYTES } from '../verbs/ask.js';
 
 /** What the app keeps of a file in an event (plain data: it may wait in the queue). */
 export interface FileRef {

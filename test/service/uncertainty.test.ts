@@ -91,9 +91,15 @@ describe('drift with its uncertainty', () => {
 
 describe('the compute budget', () => {
   it('a drift uncertainty doubles the estimated cost of a check (the outcome runs again with the drift known)', async () => {
-    const { requestCost } = await import('../../src/request/budget.js');
-    const a = requestCost(`${CALL} drift 9% style american`).units;
-    const b = requestCost(`${CALL} drift 9% ± 30% style american`).units;
+    const { checkCost } = await import('../../src/verbs/budget.js');
+    const { parse } = await import('../../src/request/parse.js');
+    const cost = (t: string) => {
+      const p = parse(t);
+      if (!p.ok || p.request.verb !== 'check') throw new Error('not a check');
+      return checkCost(p.request);
+    };
+    const a = cost(`${CALL} drift 9% style american`);
+    const b = cost(`${CALL} drift 9% ± 30% style american`);
     expect(b).toBe(2 * a);
   });
 });
