@@ -32,7 +32,8 @@ export interface CheckJson {
   horizon: string;
   horizonYears: number;
   market: { spot: number; rate: number; yield: number };
-  view: { drift: number; vol: number; model: 'lognormal' | 'merton-jumps'; jumps?: Jumps };
+  /** `driftSe`: the drift's uncertainty; the view's outcome is then under the predictive law */
+  view: { drift: number; vol: number; model: 'lognormal' | 'merton-jumps'; jumps?: Jumps; driftSe?: number };
   style: ExerciseStyle;
   mult: number;
   notes: string[];
@@ -43,6 +44,8 @@ export interface CheckJson {
   outcomeMarket: MarketOutcome;
   /** σ_m: the request's iv, else the mark's, else the iv of the option leg nearest the money */
   marketVol: number;
+  /** with a drift uncertainty: the same figures with the drift taken as known, for comparison */
+  knownDrift?: { probProfit: number; pnlQuantiles: { p05: number; p95: number } };
 }
 
 export interface CheckAssembly {

@@ -23,21 +23,26 @@ function listing(marks: Mark[], env: VerbEnv): Outcome {
 }
 
 /** What the answer to a recorded mark says beyond the terms: what it replaced, what it leaves unset. */
-const KEYS = ['spot', 'iv', 'yield', 'rate'] as const;
+const KEYS = ['spot', 'iv', 'yield', 'rate', 'vol', 'drift'] as const;
 
 function recordedLines(m: Mark, prev: Mark | undefined, t: MarkRequest['terms']): string[] {
   const sym = m.symbol;
   const lines: string[] = [];
   if (prev) {
-    const fmt = (k: (typeof KEYS)[number], v: number | undefined) => (v === undefined ? 'none' : k === 'spot' ? level(v) : rate(v));
-    const changed = KEYS.filter((k) => t[k] !== undefined).map((k) => `${k} ${fmt(k, prev[k])} → ${fmt(k, m[k])}`);
-    const kept = KEYS.filter((k) => t[k] === undefined && m[k] !== undefined).map((k) => `${k} ${fmt(k, m[k])}`);
+    const fmt = (k: (typeof KEYS)[number], of: Mark) => {
+      const v = of[k];
+      if (v === undefined) return 'none';
+      if (k === 'spot') return level(v);
+      return k === 'drift' && of.driftSe ? `${rate(v)} ± ${rate(of.driftSe)}` : rate(v);
+    };
+    const changed = KEYS.filter((k) => t[k] !== undefined).map((k) => `${k} ${fmt(k, prev)} → ${fmt(k, m)}`);
+    const kept = KEYS.filter((k) => t[k] === undefined && m[k] !== undefined).map((k) => `${k} ${fmt(k, m)}`);
     lines.push(`Mark ${sym} updated for this channel by ${m.user} at ${whenUtc(m.at)} UTC: ${changed.join(', ')}${kept.length ? ` (kept: ${kept.join(', ')})` : ''}.`);
   } else {
     lines.push(`Mark ${sym} recorded for this channel by ${m.user} at ${whenUtc(m.at)} UTC: ${markTermsWords(m)}.`);
   }
   lines.push(`Requests that say \`on ${sym}\` take these terms; terms written in a request override them.`);
-  const unset = KEYS.filter((k) => m[k] === undefined);
+  const unset = (['spot', 'iv', 'yield', 'rate'] as const).filter((k) => m[k] === undefined);
   if (unset.length) {
     const defaults = unset.filter((k) => k !== 'spot');
     lines.push(
@@ -57,7 +62,7 @@ function runMark(text: string, req: MarkRequest, env: VerbEnv): Outcome {
   const symAt = Math.max(0, text.toUpperCase().indexOf(sym));
   const prev = storeCall(text, 'the marks of this channel could not be read', symAt, () => store.getMark(channel, sym));
   const t = req.terms;
-  if (t.spot === undefined && t.iv === undefined && t.yield === undefined && t.rate === undefined) {
+  if (t.spot === undefined && t.iv === undefined && t.yield === undefined && t.rate === undefined && t.vol === undefined && t.drift === undefined) {
     // `mark SYMBOL` alone shows that mark
     if (!prev) {
       throw refuseFact(text, { message: `no mark for ${sym} in this channel: record one with spot, iv, yield or rate`, at: symAt, length: sym.length, example: `mark ${sym} spot 84.20 iv 31% yield 1.2%` });
@@ -65,11 +70,14 @@ function runMark(text: string, req: MarkRequest, env: VerbEnv): Outcome {
     return listing([prev], env);
   }
   // a mark updates only what it names and keeps the rest of the channel's mark for the symbol
+  // (a drift written anew brings its own uncertainty, or none)
   const m: Mark = { channel, symbol: sym, user: env.ctx.user, at: env.nowIso };
   for (const k of KEYS) {
     const v = t[k] !== undefined ? t[k] : prev?.[k];
     if (v !== undefined) m[k] = v;
   }
+  const driftSe = t.drift !== undefined ? t.driftSe : prev?.driftSe;
+  if (m.drift !== undefined && driftSe) m.driftSe = driftSe;
   storeCall(text, `the mark for ${sym} was not recorded`, symAt, () => store.putMark(m));
   return {
     answer: answer({

@@ -22,7 +22,7 @@ function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
   const jumps = activeJumps(t.view.jumps);
   const dir = t.level >= t.S ? 'above' : 'below';
   const q = { S: t.S, level: t.level, T: t.T, q: t.q, vol: t.view.vol, jumps };
-  const view = touchFigures(q, t.view.drift);
+  const view = touchFigures(q, t.view.drift, t.view.driftSe ?? 0);
   const rn = touchFigures({ ...q, vol: t.marketVol }, t.rate);
   const [pv, prn, bv, brn] = [view.touch, rn.touch, view.beyond, rn.beyond];
   const mc = view.paths !== undefined ? { view: view.stderr!, riskNeutral: rn.stderr!, paths: view.paths } : undefined;
@@ -34,7 +34,7 @@ function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
     years: t.T,
     asof: t.asof,
     market: { spot: t.S, rate: t.rate, yield: t.q },
-    view: { drift: t.view.drift, vol: t.view.vol, model, ...(jumps ? { jumps } : {}) },
+    view: { drift: t.view.drift, vol: t.view.vol, model, ...(jumps ? { jumps } : {}), ...(t.view.driftSe ? { driftSe: t.view.driftSe } : {}) },
     probTouchView: pv,
     probTouchMarket: prn,
     probBeyondAtEndView: bv,
@@ -55,7 +55,7 @@ function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
     '',
     wrapParts('Assumptions:', [
       `asof ${t.asof}`,
-      `view drift ${rate(t.view.drift)}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''}`,
+      `view drift ${rate(t.view.drift)}${t.view.driftSe ? ` ± ${rate(t.view.driftSe)} (view figures averaged over the uncertain drift)` : ''}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''}`,
       `rate ${rate(t.rate)}`,
       `yield ${rate(t.q)}`,
       `${jumps ? 'Merton jump diffusion' : 'lognormal walk'}, continuous monitoring`,

@@ -48,7 +48,7 @@ export interface Samples {
   sx: number[];
   /** P&L at the samples */
   sfv: number[];
-  /** prefix sums of the panel integrals under the view and the risk-neutral walk */
+  /** prefix sums of the panel integrals under the view and the twin walk (at the rate, or the market) */
   prefV: Float64Array;
   prefR: Float64Array;
 }
