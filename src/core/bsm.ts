@@ -187,3 +187,29 @@ export function probItm(
   const d2 = m / sd - 0.5 * sd;
   return kind === 'call' ? normCdf(d2) : normCdf(-d2);
 }
+
+/**
+ * The value of one European option across spots, for the same strike, life, rate, yield and vol:
+ * the constants (discount factors, σ√T, ln K) taken once, so that each spot costs one
+ * exponential (φ(d1)) and the two Φ. Takes x = ln S and S itself (the caller has both). Same
+ * formula, limits and clamp as bsmValue; T > 0.
+ */
+export function bsmValueAcross(kind: OptionKind, K: number, T: number, r: number, q: number, sigma: number): (x: number, S: number) => number {
+  const w = kind === 'call' ? 1 : -1;
+  const sd = sigma * sqrt(T);
+  const dq = exp(-q * T);
+  const fK = K * exp(-r * T);
+  const shift = (r - q) * T - log(K);
+  if (!(sd > TINY_SD)) return (_x, S) => max(w * (S * dq - fK), 0);
+  const half = 0.5 * sd;
+  return (x, S) => {
+    const fS = S * dq;
+    const fwd = w * (fS - fK);
+    const d1 = (x + shift) / sd + half;
+    const d2 = d1 - sd;
+    const p1 = normPdf(d1);
+    const p2 = pdfD2(p1, fS / fK, d2);
+    const v = w * (fS * normCdfWithPdf(w * d1, p1) - fK * normCdfWithPdf(w * d2, p2));
+    return max(v, fwd, 0);
+  };
+}

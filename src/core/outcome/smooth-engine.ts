@@ -35,10 +35,34 @@ function quickRoot(g: (x: number) => number, a: number, b: number, fa: number, f
   return fu === fv ? u : u + ((v - u) * fu) / (fu - fv);
 }
 
+/** What the engine of one walk and its twin share: the mesh, the samples and the panel integrals. */
+interface Sampled {
+  pa: number[];
+  pb: number[];
+  X0: number;
+  X1: number;
+  quad: Quadrature;
+  sx: number[];
+  sfv: number[];
+  /** prefix sums of the panel integrals under the view ([0]) and the risk-neutral walk ([1]) */
+  pref: [Float64Array, Float64Array];
+  runs: number[];
+}
+
+function sampleAll(input: SmoothInput): Sampled {
+  const fx = input.pf.fx;
+  const mesh = buildMesh(input);
+  const quad = new Quadrature(input.view, input.rn, fx);
+  const s = sampleMesh(mesh, quad, fx);
+  addLocalExtrema(s.sx, s.sfv, fx, 1e-13 * input.pf.scale);
+  return { pa: mesh.pa, pb: mesh.pb, X0: mesh.X0, X1: mesh.X1, quad, sx: s.sx, sfv: s.sfv, pref: [s.prefV, s.prefR], runs: monotoneRuns(s.sfv) };
+}
+
 export class SmoothEngine implements PnlEngine {
   readonly exact = false;
   private readonly f: (s: number) => number;
   private readonly fx: (x: number) => number;
+  /** the walk whose figures this engine gives ("view" in PnlEngine), and the other one */
   private readonly view: SplitDist;
   private readonly rn: SplitDist;
   private readonly pf: PnlFn;
@@ -52,27 +76,41 @@ export class SmoothEngine implements PnlEngine {
   private readonly prefV: Float64Array;
   private readonly prefR: Float64Array;
   private readonly runs: number[];
+  /** 0: the primary walk is the view of the quadrature, 1: its risk-neutral walk */
+  private readonly side: 0 | 1;
 
-  constructor(input: SmoothInput) {
-    const f = input.pf.f;
-    this.f = f;
-    this.fx = (x: number): number => f(Math.exp(x));
-    this.view = input.view;
-    this.rn = input.rn;
+  /** the engine of the view (side 0), or of the risk-neutral walk sharing `shared` (side 1) */
+  constructor(input: SmoothInput, side: 0 | 1 = 0, shared?: Sampled) {
+    const sm = shared ?? sampleAll(input);
+    this.side = side;
+    this.f = input.pf.f;
+    this.fx = input.pf.fx;
+    this.view = side === 0 ? input.view : input.rn;
+    this.rn = side === 0 ? input.rn : input.view;
     this.pf = input.pf;
-    const mesh = buildMesh(input);
-    this.pa = mesh.pa;
-    this.pb = mesh.pb;
-    this.X0 = mesh.X0;
-    this.X1 = mesh.X1;
-    this.quad = new Quadrature(input.view, input.rn, this.fx);
-    const s = sampleMesh(mesh, this.quad, this.fx);
-    addLocalExtrema(s.sx, s.sfv, this.fx, 1e-13 * input.pf.scale);
-    this.sx = s.sx;
-    this.sfv = s.sfv;
-    this.prefV = s.prefV;
-    this.prefR = s.prefR;
-    this.runs = monotoneRuns(s.sfv);
+    this.pa = sm.pa;
+    this.pb = sm.pb;
+    this.X0 = sm.X0;
+    this.X1 = sm.X1;
+    this.quad = sm.quad;
+    this.sx = sm.sx;
+    this.sfv = sm.sfv;
+    this.prefV = sm.pref[side];
+    this.prefR = sm.pref[1 - side];
+    this.runs = sm.runs;
+    this.input = input;
+    this.sampled = sm;
+  }
+
+  private readonly input: SmoothInput;
+  private readonly sampled: Sampled;
+
+  /**
+   * The engine of the risk-neutral walk on the same samples: no second revaluation (the mesh
+   * already follows both walks' scales).
+   */
+  twin(): SmoothEngine {
+    return new SmoothEngine(this.input, this.side === 0 ? 1 : 0, this.sampled);
   }
 
   private panelOf(x: number): number {
@@ -91,7 +129,7 @@ export class SmoothEngine implements PnlEngine {
   private panelPart(u: number, v: number, k: number): number {
     if (!(v > u)) return 0;
     if (u === this.pa[k] && v === this.pb[k]) return this.prefV[k + 1] - this.prefV[k];
-    return this.quad.panel(u, v)[0];
+    return this.quad.panel(u, v)[this.side];
   }
 
   /** ∫ P&L · f_view over ln S ∈ [xa, xb] */
