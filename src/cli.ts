@@ -15,6 +15,7 @@ import { dirname, join, resolve } from 'node:path';
 import { createInterface } from 'node:readline';
 import { askSync, type AskContext } from './service.js';
 import { COMPUTE_BUDGET_DEFAULT, overBudget } from './request/budget.js';
+import { localSettings, type LocalSettings } from './config.js';
 import type { Reply } from './reply.js';
 import { renderAnswerChart } from './report/answer-chart.js';
 import { openStore, defaultDbPath, type Store } from './store/store.js';
@@ -54,26 +55,30 @@ export function parseArgs(argv: string[]): CliOptions | { error: string } {
   return o;
 }
 
-function openStoreQuietly(enabled: boolean): { store: Store | null; warning?: string } {
+function openStoreQuietly(enabled: boolean, dbPath: string | undefined): { store: Store | null; warning?: string } {
   if (!enabled) return { store: null };
   try {
-    return { store: openStore(defaultDbPath()) };
+    return { store: openStore(defaultDbPath(dbPath)) };
   } catch (err) {
     return { store: null, warning: `the log is unavailable (${err instanceof Error ? err.message : String(err)}); answering without it` };
   }
 }
 
-function budgetOf(env = process.env): number {
-  const v = Number(env.KOLMO_COMPUTE_BUDGET);
-  return Number.isFinite(v) && v > 0 ? v : COMPUTE_BUDGET_DEFAULT;
+/** The settings of the command line and the console (src/config.ts); null after reporting a bad one. */
+function settingsOr(say: (line: string) => void): LocalSettings | null {
+  const s = localSettings();
+  if (s.ok) return s.settings;
+  say('kolmo: fix these settings:');
+  for (const e of s.errors) say(`  - ${e}`);
+  return null;
 }
 
 /**
  * One request from the command line or the console: the same compute budget as the chat app
  * (a request that would need too much work is refused before the engine runs), then the engine.
  */
-export function answerLocal(text: string, ctx: AskContext): Reply {
-  const refused = overBudget(text, budgetOf(), {
+export function answerLocal(text: string, ctx: AskContext, budget = COMPUTE_BUDGET_DEFAULT): Reply {
+  const refused = overBudget(text, budget, {
     now: ctx.now,
     logged: (n) => ctx.store?.get(ctx.channel, n)?.text,
   });
@@ -109,10 +114,12 @@ export async function runCli(argv: string[], out = process.stdout, err = process
     out.write(`${USAGE}\n`);
     return 0;
   }
-  const { store, warning } = openStoreQuietly(o.log);
+  const settings = settingsOr((line) => err.write(line + '\n'));
+  if (!settings) return 2;
+  const { store, warning } = openStoreQuietly(o.log, settings.dbPath);
   try {
-    const ctx: AskContext = { channel: o.channel ?? 'cli', user: process.env.USER || 'local', store };
-    const r = answerLocal(o.request, ctx);
+    const ctx: AskContext = { channel: o.channel ?? 'cli', user: settings.user, store };
+    const r = answerLocal(o.request, ctx, settings.computeBudget);
     if (warning && r.kind === 'answer') r.warnings.push(warning);
     let chartNote: string | null = null;
     if (o.chart && r.kind === 'answer') chartNote = await writeChart(r, o.chart);
@@ -145,13 +152,15 @@ export const CONSOLE_EXAMPLES = [
 
 export async function runConsole(
   opts: { input?: NodeJS.ReadableStream; output?: NodeJS.WritableStream; channel?: string; outDir?: string } = {},
-): Promise<void> {
+): Promise<number> {
   const output = opts.output ?? process.stdout;
   const input = opts.input ?? process.stdin;
-  const outDir = opts.outDir ?? process.env.KOLMO_OUT ?? 'out';
-  const channel = opts.channel ?? 'console';
-  const { store, warning } = openStoreQuietly(true);
   const say = (s: string) => output.write(s + '\n');
+  const settings = settingsOr(say);
+  if (!settings) return 2;
+  const outDir = opts.outDir ?? settings.outDir;
+  const channel = opts.channel ?? 'console';
+  const { store, warning } = openStoreQuietly(true, settings.dbPath);
   if (store) {
     for (const m of DEMO_MARKS) {
       if (!store.getMark(channel, m.symbol)) {
@@ -177,7 +186,7 @@ export async function runConsole(
           return;
         }
         if (text) {
-          const r = answerLocal(text, { channel, user: process.env.USER || 'local', store });
+          const r = answerLocal(text, { channel, user: settings.user, store }, settings.computeBudget);
           say(replyText(r));
           if (r.kind === 'answer' && r.chart) {
             n++;
@@ -194,4 +203,5 @@ export async function runConsole(
     });
   });
   store?.close();
+  return 0;
 }

@@ -165,10 +165,6 @@ function refuseFact(text: string, e: ParseError): Refused {
   return new Refused({ ...r, message: r.message.replace(/^Kolmo could not read this request:/, 'Kolmo cannot answer this request:') });
 }
 
-function why(err: unknown): string {
-  return err instanceof Error ? err.message : String(err);
-}
-
 /** Runs a store call; a StoreError becomes a refusal with `what` in front of its message. */
 function storeCall<T>(text: string, what: string, at: number, fn: () => T): T {
   try {

@@ -369,8 +369,6 @@ export function solveBackward(
   let t1 = 0;
   let t2 = 0;
   const rhs = new Float64Array(n);
-  const lo = new Float64Array(n);
-  const up = new Float64Array(n);
   const ib = new Float64Array(n); // 1 / eliminated diagonal
   const dp = new Float64Array(n); // eliminated right-hand side
 

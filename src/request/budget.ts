@@ -26,7 +26,7 @@ import { formatError, parse } from './parse.js';
 import type { CheckRequest, ExpirySpec, Request } from './types.js';
 import type { Rejection } from '../reply.js';
 
-export const COMPUTE_BUDGET_DEFAULT = 6000;
+export { COMPUTE_BUDGET_DEFAULT } from '../config.js';
 export const EARLY_EXERCISE_UNITS = 14;
 export const JUMP_BASE = 30;
 export const JUMP_PER_TERM = 0.1;

@@ -155,7 +155,6 @@ const TERM_WORDS: Record<string, TermName> = {
 };
 
 const VERBS = ['check', 'compare', 'iv', 'touch', 'mark', 'log', 'again', 'help'] as const;
-type Verb = (typeof VERBS)[number];
 
 /** Extra terms of particular verbs. */
 type Extra = 'price' | 'by';
@@ -184,19 +183,6 @@ const ALLOWED: Record<'check' | 'iv' | 'touch' | 'mark' | 'again', readonly AnyT
   mark: ['spot', 'iv', 'yield', 'rate'],
   again: [...ALL_TERMS, 'price', 'by'],
 };
-
-const KNOWN_WORDS = [
-  ...VERBS,
-  ...Object.keys(TERM_WORDS),
-  'call',
-  'put',
-  'shares',
-  'price',
-  'by',
-  'today',
-  'american',
-  'european',
-];
 
 /** Restricted Damerau–Levenshtein distance (for "did you mean"). */
 function editDistance(a: string, b: string): number {
