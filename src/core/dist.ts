@@ -8,6 +8,9 @@
  *   weight e^{−λh}(λh)ⁿ/n!,  mean ln S + (μ − q − λκ − σ²/2) h + n m,  variance σ² h + n δ²,
  * with κ = e^{m + δ²/2} − 1, the compensator that keeps E[S_h] = S e^{(μ−q)h}.
  *
+ * A walk with a drift uncertainty τ (μ ~ N(drift, τ²)) gives the predictive law: each component's
+ * variance gains τ²h² (predictive.ts explains why this is exact).
+ *
  * Every probability here is built from Φ (normal.ts) with the tail chosen so that both tails keep
  * full relative precision. Components with s = 0 (h = 0, or σ = 0 with no jump) are point masses.
  */
@@ -42,9 +45,12 @@ export function walkDistribution(spot: number, years: number, q: number, walk: W
   const x0 = Math.log(spot);
   const j = walk.jumps;
   const lh = j && j.intensity > 0 ? j.intensity * h : 0;
+  // drift uncertainty τ (predictive.ts): every component's log-variance gains τ²h², exactly
+  const tau = walk.driftSe !== undefined && walk.driftSe > 0 ? walk.driftSe : 0;
+  const extra = tau > 0 ? tau * tau * h * h : 0;
   if (!j || !(lh > 0)) {
     return {
-      components: [{ weight: 1, mu: x0 + (walk.drift - q - 0.5 * sigma * sigma) * h, s: sigma * Math.sqrt(h) }],
+      components: [{ weight: 1, mu: x0 + (walk.drift - q - 0.5 * sigma * sigma) * h, s: extra > 0 ? Math.sqrt(sigma * sigma * h + extra) : sigma * Math.sqrt(h) }],
     };
   }
   const m = j.mean;
@@ -57,7 +63,7 @@ export function walkDistribution(spot: number, years: number, q: number, walk: W
   for (let n = 0; n < MAX_COMPONENTS; n++) {
     const w = Math.exp(-lh + n * logLh - logFactorial(n));
     if (w >= MIN_WEIGHT) {
-      comps.push({ weight: w, mu: base + n * m, s: Math.sqrt(sigma * sigma * h + n * d2) });
+      comps.push({ weight: w, mu: base + n * m, s: Math.sqrt(sigma * sigma * h + n * d2 + extra) });
       total += w;
     }
     // bound on the remaining weight Σ_{k>n} w_k ≤ w_n·r/(1−r), r = λh/(n+2) < 1 (ratio bound)

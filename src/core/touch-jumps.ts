@@ -31,6 +31,12 @@ export interface TouchJumpsOptions {
   steps?: number;
   /** seed of the generator (default 1) */
   seed?: number;
+  /**
+   * the drift's uncertainty τ (predictive.ts): each path draws its own μ ~ N(drift, τ²), which
+   * makes the estimate the exact mixture over μ at no extra cost. 0 or absent: the same random
+   * stream, and the same answer, as a known drift.
+   */
+  driftSe?: number;
 }
 
 export interface TouchJumpsResult {
@@ -151,7 +157,9 @@ export function touchProbJumps(
   let sumT = 0;
   let sumT2 = 0;
   let sumB = 0;
+  const tau = opts.driftSe !== undefined && opts.driftSe > 0 && Number.isFinite(opts.driftSe) ? opts.driftSe : 0;
   for (let p = 0; p < paths; p++) {
+    const nuP = tau > 0 ? nu + tau * rng.normal() : nu;
     let x = 0;
     let t = 0;
     let touched = b === 0;
@@ -164,7 +172,7 @@ export function touchProbJumps(
         const tNext = nextJump < tEnd ? nextJump : tEnd;
         const dt = tNext - t;
         if (dt > 0) {
-          const x1 = x + nu * dt + sigma * Math.sqrt(dt) * rng.normal();
+          const x1 = x + nuP * dt + sigma * Math.sqrt(dt) * rng.normal();
           if (!touched) {
             if (beyond(x1)) touched = true;
             else if (s2 > 0) {

@@ -32,6 +32,11 @@ export interface Walk {
   drift: number;
   vol: number;
   jumps?: Jumps;
+  /**
+   * the drift's uncertainty τ (`drift 9% ± 6%`): μ ~ N(drift, τ²), fixed over the path; the
+   * horizon law is then the predictive law (predictive.ts). Absent or 0: the drift is taken as known.
+   */
+  driftSe?: number;
 }
 
 /** Per-share value and Greeks of one option (units: DESIGN.md §3). */
