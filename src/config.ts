@@ -14,12 +14,11 @@
  */
 import { availableParallelism } from 'node:os';
 import { z } from 'zod';
-import type { UserRateOptions } from './chat/ratelimit.js';
 
 const LEVELS = ['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent'] as const;
 export type LogLevel = (typeof LEVELS)[number];
 
-// Defaults of the settings (at run time this module imports no other Kolmo module: every layer may read it).
+// Defaults of the settings (this module imports no other Kolmo module: every layer may read it).
 /** compute units one request may need (request/budget.ts explains the units) */
 export const COMPUTE_BUDGET_DEFAULT = 6000;
 /** requests one user may send at once, and sustained per minute (chat/ratelimit.ts) */
@@ -155,7 +154,8 @@ export function localSettings(env: Env = process.env): LocalResult {
 // ---- `npm start`: the workspace app or the console --------------------------------------------
 
 export interface ChatSettings {
-  userRate: Pick<UserRateOptions, 'burst' | 'perMinute'>;
+  /** the per-user rate limit (chat/ratelimit.ts) */
+  userRate: { burst: number; perMinute: number };
   /** bytes; a larger body is refused with 413 before it is read */
   bodyLimit: number;
   computeBudget: number;
