@@ -7,5 +7,7 @@ export default defineConfig({
     testTimeout: 60_000,
     hookTimeout: 60_000,
     pool: 'forks',
+    // a throwaway PostgreSQL cluster for the tests of the PostgreSQL backend (or KOLMO_TEST_DATABASE_URL)
+    globalSetup: ['test/setup/postgres.ts'],
   },
 });

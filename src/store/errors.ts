@@ -90,3 +90,50 @@ export function toStoreError(err: unknown, op: StoreOp, context: { path?: string
   }
   throw err;
 }
+
+/**
+ * Maps an error of node-postgres (a server error carries the SQLSTATE in `code`; a connection
+ * problem is a Node system error such as ECONNREFUSED, or a plain Error from the client or the
+ * pool) to the same StoreError codes the SQLite backend uses. `where` names the database without
+ * its password. As for SQLite, an error that is not a database fault (a TypeError, a syntax error
+ * in our own SQL) is re-thrown as is.
+ * SQLSTATE classes: PostgreSQL documentation, Appendix A "PostgreSQL Error Codes".
+ */
+export function pgStoreError(err: unknown, op: StoreOp, where: string): StoreError {
+  if (err instanceof StoreError) return err;
+  const code = codeOf(err);
+  const message = err instanceof Error ? err.message : String(err);
+  const opts = { cause: err, sqliteCode: code };
+  const at = ` (${where})`;
+  if (code === undefined) {
+    // the client's and the pool's own errors carry no code; these are all a lost or missing connection
+    if (/connection terminated|connection timeout|timeout exceeded when trying to connect|not queryable|after calling end on the pool|connection error|Query read timeout/i.test(message)) {
+      return new StoreError('unavailable', op, `the database cannot be reached${at}: ${message}`, opts);
+    }
+    throw err;
+  }
+  if (/^E[A-Z]+$/.test(code)) {
+    const why =
+      code === 'ECONNREFUSED' ? 'the connection was refused'
+      : code === 'ENOTFOUND' || code === 'EAI_AGAIN' ? 'the host name is not known'
+      : code === 'ETIMEDOUT' ? 'the connection timed out'
+      : code === 'ECONNRESET' || code === 'EPIPE' ? 'the connection was dropped'
+      : code === 'ENOENT' ? 'there is no server socket at that path'
+      : code === 'EACCES' ? 'permission denied on the socket'
+      : code;
+    return new StoreError('unavailable', op, `the database cannot be reached${at}: ${why}`, opts);
+  }
+  const cls = code.slice(0, 2);
+  if (code === '53100') return new StoreError('full', op, 'the database disk is full', opts);
+  if (code === '25006') return new StoreError('readonly', op, `the database is read-only${at}`, opts);
+  if (code === '42501') return new StoreError('readonly', op, `the database refused the write (no privilege)${at}`, opts);
+  if (code === '40001' || code === '40P01' || code === '55P03' || code === '57014' || code === '53300' || code === '53400') {
+    return new StoreError('busy', op, 'the database is busy (a lock or a connection limit held the request too long); try again', opts);
+  }
+  if (cls === '22' || code === '54000') return new StoreError('invalid', op, `the database refused the input (${message})`, opts);
+  if (cls === '08' || cls === '57' || cls === '28' || cls === '3D' || cls === '53' || cls === '58' || cls === 'XX' || code === '42P01') {
+    return new StoreError('unavailable', op, `the database cannot be used${at}: ${message}`, opts);
+  }
+  if (cls === '23') return new StoreError('unavailable', op, `the database refused a write it should have taken (${message})`, opts);
+  throw err;
+}

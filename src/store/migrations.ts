@@ -1,8 +1,16 @@
 /**
- * Versioned schema of the SQLite log. The version lives in the file header (PRAGMA user_version);
- * migrations form an ordered list, migration i (1-based) takes the file from version i−1 to i.
- * They run at start-up inside one BEGIN IMMEDIATE transaction, so two processes opening an old
- * file at once migrate it exactly once, and a migration that fails leaves the file as it was.
+ * Versioned schema of the store, one numbered list for both backends: migration i (1-based) takes
+ * the schema from version i−1 to i, with its SQLite step (`up`) and its PostgreSQL text (`postgres`).
+ * The runner is our own and small (see DEVELOPERS.md, "The log and marks"): `plan` checks the list
+ * and picks the steps; each backend applies them in one transaction.
+ *
+ * - SQLite: the version lives in the file header (PRAGMA user_version); the steps run inside one
+ *   BEGIN IMMEDIATE transaction, so two processes opening an old file at once migrate it exactly
+ *   once, and a migration that fails leaves the file as it was.
+ * - PostgreSQL (postgres.ts): the version lives in the table kolmo_schema; the steps run in one
+ *   transaction under a transaction-level advisory lock, so several instances starting at once
+ *   migrate the database exactly once (PostgreSQL's DDL is transactional: a failing step leaves
+ *   nothing half-done).
  *
  * Never edit a migration that has shipped: append a new one.
  */
@@ -10,10 +18,13 @@ import type BetterSqlite3 from 'better-sqlite3';
 import { StoreError } from './errors.js';
 
 export interface Migration {
-  /** the version the file has after this migration */
+  /** the version the schema has after this migration */
   version: number;
   description: string;
+  /** the SQLite step */
   up(db: BetterSqlite3.Database): void;
+  /** the PostgreSQL step (one script, run inside the migration's transaction) */
+  postgres?: string;
 }
 
 export const MIGRATIONS: readonly Migration[] = [
@@ -56,6 +67,40 @@ export const MIGRATIONS: readonly Migration[] = [
         );
       `);
     },
+    postgres: `
+      CREATE TABLE channels (
+        channel     TEXT PRIMARY KEY,
+        next_number INTEGER NOT NULL CHECK (next_number >= 1)
+      );
+      CREATE TABLE checks (
+        id         BIGSERIAL PRIMARY KEY,
+        channel    TEXT NOT NULL,
+        number     INTEGER NOT NULL CHECK (number >= 1),
+        "user"     TEXT NOT NULL,
+        at         TEXT NOT NULL,
+        verb       TEXT NOT NULL,
+        text       TEXT NOT NULL,
+        normalized TEXT NOT NULL,
+        summary    TEXT NOT NULL,
+        thread_ts  TEXT
+      );
+      CREATE UNIQUE INDEX checks_channel_number ON checks (channel, number);
+      CREATE TABLE marks (
+        channel TEXT NOT NULL,
+        symbol  TEXT NOT NULL,
+        spot    DOUBLE PRECISION,
+        iv      DOUBLE PRECISION,
+        yield   DOUBLE PRECISION,
+        rate    DOUBLE PRECISION,
+        "user"  TEXT NOT NULL,
+        at      TEXT NOT NULL,
+        PRIMARY KEY (channel, symbol)
+      );
+      CREATE TABLE rejected (
+        channel TEXT PRIMARY KEY,
+        count   INTEGER NOT NULL
+      );
+    `,
   },
   {
     version: 2,
@@ -69,6 +114,12 @@ export const MIGRATIONS: readonly Migration[] = [
         UPDATE checks SET delivered = 'delivered' WHERE thread_ts IS NOT NULL;
       `);
     },
+    postgres: `
+      ALTER TABLE checks ADD COLUMN permalink TEXT;
+      ALTER TABLE checks ADD COLUMN delivered TEXT NOT NULL DEFAULT 'pending'
+        CHECK (delivered IN ('pending', 'delivered', 'undelivered'));
+      UPDATE checks SET delivered = 'delivered' WHERE thread_ts IS NOT NULL;
+    `,
   },
 ];
 
@@ -77,6 +128,27 @@ export const SCHEMA_VERSION = MIGRATIONS.length;
 
 export function schemaVersion(db: BetterSqlite3.Database): number {
   return db.pragma('user_version', { simple: true }) as number;
+}
+
+/**
+ * The shared part of the runner: checks the list (versions 1..n in order) and the target, refuses
+ * a schema newer than the list, and returns the migrations that take `from` to `target`.
+ */
+export function plan(from: number, target: number, migrations: readonly Migration[]): Migration[] {
+  if (!Number.isInteger(target) || target < 0 || target > migrations.length) {
+    throw new RangeError(`migration target ${target} outside 0..${migrations.length}`);
+  }
+  migrations.forEach((m, i) => {
+    if (m.version !== i + 1) throw new Error(`migration list out of order at position ${i + 1} (version ${m.version})`);
+  });
+  if (from > migrations.length) {
+    throw new StoreError(
+      'unavailable',
+      'open',
+      `the log was written by a newer version of Kolmo (schema ${from}, this version reads up to ${migrations.length})`,
+    );
+  }
+  return migrations.slice(from, Math.max(from, target));
 }
 
 /**
@@ -89,24 +161,12 @@ export function migrate(
   target: number = SCHEMA_VERSION,
   migrations: readonly Migration[] = MIGRATIONS,
 ): { from: number; to: number } {
-  if (!Number.isInteger(target) || target < 0 || target > migrations.length) {
-    throw new RangeError(`migration target ${target} outside 0..${migrations.length}`);
-  }
-  migrations.forEach((m, i) => {
-    if (m.version !== i + 1) throw new Error(`migration list out of order at position ${i + 1} (version ${m.version})`);
-  });
+  plan(0, target, migrations); // the list and the target are checked before anything is opened
   const run = db.transaction(() => {
     const from = schemaVersion(db);
-    if (from > migrations.length) {
-      throw new StoreError(
-        'unavailable',
-        'open',
-        `the log was written by a newer version of Kolmo (schema ${from}, this version reads up to ${migrations.length})`,
-      );
-    }
-    for (let v = from + 1; v <= target; v++) {
-      migrations[v - 1].up(db);
-      db.pragma(`user_version = ${v}`);
+    for (const m of plan(from, target, migrations)) {
+      m.up(db);
+      db.pragma(`user_version = ${m.version}`);
     }
     return { from, to: Math.max(from, target) };
   });

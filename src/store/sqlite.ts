@@ -24,34 +24,22 @@ import { dirname, resolve } from 'node:path';
 import { setting as readSetting } from '../config.js';
 import { StoreError, toStoreError, type StoreOp } from './errors.js';
 import { migrate, schemaVersion, SCHEMA_VERSION } from './migrations.js';
-import type { CheckSummary, DeliveryState, LogEntry, LogEntryInput, Mark, OpenOptions, Store } from './store.js';
+import {
+  checkRowOf,
+  deliveryArgsOf,
+  id,
+  isEntryNumber,
+  markRowOf,
+  recentLimitOf,
+  threadArgsOf,
+  toEntry,
+  toMark,
+  type CheckRow,
+  type MarkRow,
+} from './rows.js';
+import type { LogEntry, LogEntryInput, Mark, OpenOptions, Store } from './store.js';
 
-/**
- * Size limits. Identifiers are refused when too long (cutting a channel id could merge two
- * channels); free text is cut, ending with "…"; the parsed request is refused when too large,
- * because a cut JSON could not be re-run.
- */
-export const LIMITS = {
-  /** channel, user and symbol identifiers, in characters (refused above) */
-  idChars: 128,
-  symbolChars: 32,
-  verbChars: 32,
-  /** ISO time strings, in characters (refused above) */
-  atChars: 64,
-  /** the request as typed, in UTF-8 bytes (cut above) */
-  textBytes: 4096,
-  /** the position label in the summary, in characters (cut above) */
-  positionChars: 256,
-  /** JSON of the parsed request, in UTF-8 bytes (refused above) */
-  normalizedBytes: 256 * 1024,
-  /** JSON of the summary, in UTF-8 bytes (refused above) */
-  summaryBytes: 16 * 1024,
-  /** thread timestamp and permalink, in characters (refused above) */
-  threadTsChars: 64,
-  permalinkChars: 2048,
-  /** most entries `recent` returns */
-  recentMax: 1000,
-} as const;
+export { LIMITS, cutBytes } from './rows.js';
 
 const DEFAULT_BUSY_TIMEOUT_MS = 5000;
 
@@ -122,31 +110,6 @@ export function openStore(path: string, opts: OpenOptions = {}): Store {
   }
 }
 
-interface CheckRow {
-  channel: string;
-  number: number;
-  user: string;
-  at: string;
-  verb: string;
-  text: string;
-  normalized: string;
-  summary: string;
-  thread_ts: string | null;
-  permalink: string | null;
-  delivered: DeliveryState;
-}
-
-interface MarkRow {
-  channel: string;
-  symbol: string;
-  spot: number | null;
-  iv: number | null;
-  yield: number | null;
-  rate: number | null;
-  user: string;
-  at: string;
-}
-
 const CHECK_COLUMNS = 'channel, number, user, at, verb, text, normalized, summary, thread_ts, permalink, delivered';
 
 class SqliteStore implements Store {
@@ -208,37 +171,22 @@ class SqliteStore implements Store {
   }
 
   appendCheck(e: LogEntryInput): LogEntry {
-    const channel = id(e?.channel, 'channel');
-    const user = id(e.user, 'user');
-    const at = isoTime(e.at);
-    const verb = shortText(e.verb, 'verb', LIMITS.verbChars);
-    if (typeof e.text !== 'string') throw invalid('the request text is missing');
-    const text = cutBytes(e.text, LIMITS.textBytes);
-    const normalized = json(e.normalized);
-    const summary = cleanSummary(e.summary);
-    const summaryJson = JSON.stringify(summary);
-    if (bytes(summaryJson) > LIMITS.summaryBytes) {
-      throw invalid(`the summary is too large to store (${kb(bytes(summaryJson))} > ${kb(LIMITS.summaryBytes)})`);
-    }
-    const row = { channel, user, at, verb, text, normalized, summary: summaryJson };
+    const { summaryRecord, ...row } = checkRowOf(e);
     const number = this.guard('write', () => this.allocTx.immediate(row));
-    return { channel, user, at, verb, text, normalized, summary, number, threadTs: null, permalink: null, delivered: 'pending' };
+    return { ...row, summary: summaryRecord, number, threadTs: null, permalink: null, delivered: 'pending' };
   }
 
   setThread(channel: string, number: number, threadTs: string, permalink?: string | null): boolean {
-    const ch = id(channel, 'channel');
-    if (!isEntryNumber(number)) return false;
-    const ts = shortText(threadTs, 'thread timestamp', LIMITS.threadTsChars);
-    if (permalink === undefined) return this.guard('write', () => this.s.setThread.run(ts, ch, number).changes > 0);
-    if (permalink !== null) shortText(permalink, 'permalink', LIMITS.permalinkChars);
-    return this.guard('write', () => this.s.setThreadLink.run(ts, permalink, ch, number).changes > 0);
+    const a = threadArgsOf(channel, number, threadTs, permalink);
+    if (!a) return false;
+    if (a.permalink === undefined) return this.guard('write', () => this.s.setThread.run(a.ts, a.channel, number).changes > 0);
+    return this.guard('write', () => this.s.setThreadLink.run(a.ts, a.permalink, a.channel, number).changes > 0);
   }
 
   setDelivery(channel: string, number: number, state: 'delivered' | 'undelivered'): boolean {
-    const ch = id(channel, 'channel');
-    if (state !== 'delivered' && state !== 'undelivered') throw invalid(`delivery state must be delivered or undelivered, not ${String(state)}`);
-    if (!isEntryNumber(number)) return false;
-    return this.guard('write', () => this.s.setDelivery.run(state, ch, number).changes > 0);
+    const a = deliveryArgsOf(channel, number, state);
+    if (!a) return false;
+    return this.guard('write', () => this.s.setDelivery.run(a.state, a.channel, number).changes > 0);
   }
 
   get(channel: string, number: number): LogEntry | undefined {
@@ -248,23 +196,14 @@ class SqliteStore implements Store {
   }
 
   recent(channel: string, n: number): LogEntry[] {
-    if (typeof channel !== 'string' || typeof n !== 'number' || !(n >= 1)) return [];
-    const limit = Math.min(Math.floor(n), LIMITS.recentMax);
+    const limit = recentLimitOf(channel, n);
+    if (limit === 0) return [];
     const rows = this.guard('read', () => this.s.recent.all(channel, limit) as CheckRow[]);
     return rows.map(toEntry);
   }
 
   putMark(m: Mark): void {
-    const row = {
-      channel: id(m?.channel, 'channel'),
-      symbol: symbol(m.symbol),
-      spot: finiteOrNull(m.spot, 'spot'),
-      iv: finiteOrNull(m.iv, 'iv'),
-      yield: finiteOrNull(m.yield, 'yield'),
-      rate: finiteOrNull(m.rate, 'rate'),
-      user: id(m.user, 'user'),
-      at: isoTime(m.at),
-    };
+    const row = markRowOf(m);
     this.guard('write', () => this.s.putMark.run(row));
   }
 
@@ -289,6 +228,11 @@ class SqliteStore implements Store {
     return this.guard('read', () => (this.s.rejectedCount.get(channel) as number | undefined) ?? 0);
   }
 
+  /** answers when the file can be read */
+  ping(): void {
+    this.guard('read', () => this.db.prepare('SELECT 1').get());
+  }
+
   batch<T>(fn: () => T): T {
     return this.guard('write', () => this.db.transaction(fn).immediate());
   }
@@ -298,133 +242,3 @@ class SqliteStore implements Store {
   }
 }
 
-// ---- validation and conversion -------------------------------------------------------------
-
-function invalid(reason: string): StoreError {
-  return new StoreError('invalid', 'write', reason);
-}
-
-function id(v: unknown, what: string): string {
-  if (typeof v !== 'string' || v.trim() === '') throw invalid(`the ${what} is missing`);
-  if (v.length > LIMITS.idChars) throw invalid(`the ${what} is longer than ${LIMITS.idChars} characters`);
-  return v;
-}
-
-function shortText(v: unknown, what: string, max: number): string {
-  if (typeof v !== 'string' || v === '') throw invalid(`the ${what} is missing`);
-  if (v.length > max) throw invalid(`the ${what} is longer than ${max} characters`);
-  return v;
-}
-
-function symbol(v: unknown): string {
-  if (typeof v !== 'string' || v.trim() === '') throw invalid('the symbol is missing');
-  const s = v.trim().toUpperCase();
-  if (s.length > LIMITS.symbolChars) throw invalid(`the symbol is longer than ${LIMITS.symbolChars} characters`);
-  return s;
-}
-
-function isoTime(v: unknown): string {
-  if (typeof v !== 'string' || v.length > LIMITS.atChars || !Number.isFinite(Date.parse(v))) {
-    throw invalid(`the time must be an ISO date-time, not ${JSON.stringify(v)?.slice(0, 80)}`);
-  }
-  return v;
-}
-
-function finiteOrNull(v: unknown, what: string): number | null {
-  if (v === undefined || v === null) return null;
-  if (typeof v !== 'number' || !Number.isFinite(v)) throw invalid(`the ${what} must be a finite number, not ${String(v)}`);
-  return v;
-}
-
-function isEntryNumber(n: unknown): n is number {
-  return typeof n === 'number' && Number.isSafeInteger(n) && n >= 1;
-}
-
-function json(v: unknown): string {
-  if (typeof v !== 'string') throw invalid('the parsed request is missing');
-  if (bytes(v) > LIMITS.normalizedBytes) {
-    throw invalid(`the request is too large to store (${kb(bytes(v))} > ${kb(LIMITS.normalizedBytes)})`);
-  }
-  try {
-    JSON.parse(v);
-  } catch {
-    throw invalid('the parsed request is not valid JSON');
-  }
-  return v;
-}
-
-/** Drops non-finite numbers (JSON would turn them into null) and cuts the position label. */
-function cleanSummary(s: unknown): CheckSummary {
-  if (!s || typeof s !== 'object' || Array.isArray(s)) throw invalid('the summary is missing');
-  const src = s as Record<string, unknown>;
-  if (typeof src.position !== 'string') throw invalid('the summary has no position');
-  let text: string;
-  try {
-    text = JSON.stringify(src, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? undefined : v));
-  } catch (e) {
-    throw invalid(`the summary cannot be stored: ${(e as Error).message}`);
-  }
-  const out = JSON.parse(text) as CheckSummary;
-  out.position = cutChars(out.position, LIMITS.positionChars);
-  return out;
-}
-
-function bytes(s: string): number {
-  return Buffer.byteLength(s, 'utf8');
-}
-
-function kb(n: number): string {
-  return `${Math.ceil(n / 1024)} KB`;
-}
-
-/** Cuts to at most `max` UTF-8 bytes on a code point boundary, ending with "…" when cut. */
-export function cutBytes(s: string, max: number): string {
-  if (bytes(s) <= max) return s;
-  const budget = max - 3; // "…" is 3 bytes
-  let used = 0;
-  let out = '';
-  for (const cp of s) {
-    const b = bytes(cp);
-    if (used + b > budget) break;
-    out += cp;
-    used += b;
-  }
-  return out + '…';
-}
-
-function cutChars(s: string, max: number): string {
-  const cps = Array.from(s);
-  return cps.length <= max ? s : cps.slice(0, max - 1).join('') + '…';
-}
-
-function toEntry(r: CheckRow): LogEntry {
-  let summary: CheckSummary;
-  try {
-    summary = JSON.parse(r.summary) as CheckSummary;
-    if (!summary || typeof summary !== 'object' || typeof summary.position !== 'string') throw new Error('shape');
-  } catch {
-    summary = { position: '' };
-  }
-  return {
-    channel: r.channel,
-    number: r.number,
-    user: r.user,
-    at: r.at,
-    verb: r.verb,
-    text: r.text,
-    normalized: r.normalized,
-    summary,
-    threadTs: r.thread_ts,
-    permalink: r.permalink,
-    delivered: r.delivered,
-  };
-}
-
-function toMark(r: MarkRow): Mark {
-  const m: Mark = { channel: r.channel, symbol: r.symbol, user: r.user, at: r.at };
-  if (r.spot !== null) m.spot = r.spot;
-  if (r.iv !== null) m.iv = r.iv;
-  if (r.yield !== null) m.yield = r.yield;
-  if (r.rate !== null) m.rate = r.rate;
-  return m;
-}

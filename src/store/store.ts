@@ -1,8 +1,10 @@
 /**
  * The channel's memory: the per-channel log of checks and the channel's marks.
  *
- * One synchronous interface (the default implementation is SQLite through better-sqlite3, which is
- * synchronous). Every query is scoped to one channel: an entry of another channel is invisible,
+ * Two faces: `AsyncStore` (async.ts), the one interface with two backends (SQLite, the embedded
+ * default, and PostgreSQL for several instances), and `Store` below, the synchronous face of the
+ * SQLite backend that the engine still calls directly (better-sqlite3 is synchronous) until the
+ * verbs take the async interface. Every query is scoped to one channel: an entry of another channel is invisible,
  * exactly as if it did not exist. Every foreseeable fault surfaces as a StoreError (see errors.ts)
  * whose message can be shown to the user, e.g. "the log could not be written: disk full".
  */
@@ -76,6 +78,8 @@ export interface Store {
   rejectedCount(channel: string): number;
   /** Runs `fn` in one write transaction: every change inside it is kept, or none is. */
   batch<T>(fn: () => T): T;
+  /** Returns when the log answers a read; a StoreError otherwise. */
+  ping(): void;
   close(): void;
 }
 
@@ -98,3 +102,4 @@ export interface OpenOptions {
 export { StoreError, type StoreErrorCode, type StoreOp } from './errors.js';
 export { openStore, defaultDbPath, LIMITS } from './sqlite.js';
 export { MIGRATIONS, SCHEMA_VERSION, migrate, type Migration } from './migrations.js';
+export { openDatabase, databaseFromEnv, asyncOf, type AsyncStore, type DatabaseChoice, type DatabaseOptions } from './async.js';

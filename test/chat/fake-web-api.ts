@@ -10,9 +10,15 @@
  *   GET  /socket (WebSocket)   Socket Mode: sends {"type":"hello"}, then whatever envelopes a test sends
  *
  * Shapes of requests and responses follow the platform's published Web API reference
- * (auth.test, chat.postMessage, chat.postEphemeral, chat.getPermalink, files.getUploadURLExternal,
- * files.completeUploadExternal, apps.connections.open) and the Socket Mode protocol (hello, envelopes
- * acknowledged by envelope_id).
+ * (auth.test, chat.postMessage, chat.postEphemeral, chat.getPermalink, chat.update, chat.delete,
+ * files.getUploadURLExternal, files.completeUploadExternal, files.delete, views.open, views.update,
+ * views.publish, conversations.info, apps.connections.open) and the Socket Mode protocol (hello,
+ * envelopes acknowledged by envelope_id).
+ *
+ * The fake keeps the messages and files it was given, so a test can see what is still there after
+ * a delete (`live`), and knows which channels the app is a member of: by default all of them;
+ * `leave(channel)` makes posting there answer `not_in_channel`, as the platform does for a channel
+ * the app was not invited to. Views opened, updated and published are kept by id (`views`).
  */
 import { createServer, type IncomingMessage, type Server, type ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
@@ -47,6 +53,27 @@ export interface Fault {
   channel?: string;
 }
 
+/** A message the fake holds (posted and not deleted). */
+export interface HeldMessage {
+  channel: string;
+  ts: string;
+  thread_ts?: string;
+  text?: unknown;
+  blocks?: unknown;
+  /** times it was changed by chat.update */
+  updates: number;
+}
+
+/** A view the fake holds (opened or published). */
+export interface HeldView {
+  id: string;
+  /** the user a home view was published for; the trigger a modal was opened with */
+  user?: string;
+  trigger?: string;
+  view: Record<string, unknown>;
+  updates: number;
+}
+
 export const FAKE_TEAM = { team_id: 'T0FAKEDESK', team: 'Fernwick Desk (invented)' };
 export const FAKE_BOT = { user_id: 'UKOLMOBOT1', bot_id: 'BKOLMOBOT1', user: 'kolmo' };
 const PNG_SIGNATURE = Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
@@ -54,7 +81,7 @@ const PNG_SIGNATURE = Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0
 function parseForm(raw: Buffer): Record<string, unknown> {
   const out: Record<string, unknown> = {};
   for (const [k, v] of new URLSearchParams(raw.toString('utf8'))) {
-    if ((v.startsWith('[') || v.startsWith('{')) && (k === 'blocks' || k === 'files' || k === 'attachments')) {
+    if ((v.startsWith('[') || v.startsWith('{')) && (k === 'blocks' || k === 'files' || k === 'attachments' || k === 'view')) {
       try {
         out[k] = JSON.parse(v);
         continue;
@@ -77,6 +104,15 @@ export class FakeWebApi {
   private readonly sockets = new Set<WebSocket>();
   private readonly wss = new WebSocketServer({ noServer: true });
   private waiters: Array<() => void> = [];
+  /** messages posted and not deleted, by `channel ts` */
+  readonly messages = new Map<string, HeldMessage>();
+  /** files uploaded and not deleted */
+  readonly files = new Set<string>();
+  /** views by id */
+  readonly views = new Map<string, HeldView>();
+  /** channels the app is not a member of */
+  private readonly outside = new Set<string>();
+  private viewNo = 0;
 
   private constructor(
     private readonly server: Server,
@@ -114,6 +150,21 @@ export class FakeWebApi {
     const list = this.faults.get(method) ?? [];
     list.push(...faults);
     this.faults.set(method, list);
+  }
+
+  /** The app is not (or no longer) a member of `channel`: posting there answers not_in_channel. */
+  leave(channel: string): void {
+    this.outside.add(channel);
+  }
+
+  /** Messages still present in a channel (posted, not deleted), oldest first. */
+  live(channel: string): HeldMessage[] {
+    return [...this.messages.values()].filter((m) => m.channel === channel).sort((a, b) => a.ts.localeCompare(b.ts));
+  }
+
+  /** The home view last published for a user. */
+  homeOf(user: string): HeldView | undefined {
+    return [...this.views.values()].filter((v) => v.user === user && (v.view as { type?: string }).type === 'home').pop();
   }
 
   callsOf(method: string): Call[] {
@@ -248,8 +299,76 @@ export class FakeWebApi {
         case 'auth.test':
           return send(200, { ok: true, url: 'https://fernwick-desk.invalid/', ...FAKE_TEAM, ...FAKE_BOT });
         case 'chat.postMessage': {
+          if (this.outside.has(channel)) return send(200, { ok: false, error: 'not_in_channel' });
+          // a user id as the channel: the app's messages with that person (the platform opens the conversation)
+          const where = /^U/.test(channel) ? `D${channel.slice(1)}` : channel;
           const ts = this.nextTs();
-          return send(200, { ok: true, channel, ts, message: { type: 'message', text: body.text, ts, thread_ts: body.thread_ts, bot_id: FAKE_BOT.bot_id } });
+          const threadTs = typeof body.thread_ts === 'string' && body.thread_ts !== '' ? body.thread_ts : undefined;
+          this.messages.set(`${where} ${ts}`, { channel: where, ts, ...(threadTs ? { thread_ts: threadTs } : {}), text: body.text, blocks: body.blocks, updates: 0 });
+          return send(200, { ok: true, channel: where, ts, message: { type: 'message', text: body.text, ts, thread_ts: body.thread_ts, bot_id: FAKE_BOT.bot_id } });
+        }
+        case 'chat.update': {
+          const m = this.messages.get(`${channel} ${String(body.ts ?? '')}`);
+          if (!m) return send(200, { ok: false, error: 'message_not_found' });
+          m.text = body.text ?? m.text;
+          m.blocks = body.blocks ?? m.blocks;
+          m.updates++;
+          return send(200, { ok: true, channel, ts: m.ts, text: m.text });
+        }
+        case 'chat.delete': {
+          const key = `${channel} ${String(body.ts ?? '')}`;
+          if (!this.messages.has(key)) return send(200, { ok: false, error: 'message_not_found' });
+          this.messages.delete(key);
+          return send(200, { ok: true, channel, ts: body.ts });
+        }
+        case 'files.delete': {
+          const id = String(body.file ?? '');
+          if (!this.files.has(id)) return send(200, { ok: false, error: 'file_not_found' });
+          this.files.delete(id);
+          return send(200, { ok: true });
+        }
+        case 'conversations.info': {
+          if (!/^[CDG][A-Z0-9]+$/.test(channel)) return send(200, { ok: false, error: 'channel_not_found' });
+          return send(200, { ok: true, channel: { id: channel, is_member: !this.outside.has(channel), is_im: channel.startsWith('D') } });
+        }
+        case 'views.open':
+        case 'views.publish':
+        case 'views.update': {
+          let view = body.view as Record<string, unknown> | string | undefined;
+          if (typeof view === 'string') {
+            try {
+              view = JSON.parse(view) as Record<string, unknown>;
+            } catch {
+              view = undefined;
+            }
+          }
+          if (!view || typeof view !== 'object') return send(200, { ok: false, error: 'invalid_arguments' });
+          if (method === 'views.open' && typeof body.trigger_id !== 'string') return send(200, { ok: false, error: 'invalid_trigger_id' });
+          if (method === 'views.publish' && typeof body.user_id !== 'string') return send(200, { ok: false, error: 'invalid_arguments' });
+          let held: HeldView | undefined;
+          if (method === 'views.update') {
+            held = this.views.get(String(body.view_id ?? ''));
+            if (!held) return send(200, { ok: false, error: 'not_found' });
+            held.view = view;
+            held.updates++;
+          } else if (method === 'views.publish') {
+            held = [...this.views.values()].find((v) => v.user === body.user_id && (v.view as { type?: string }).type === 'home');
+            if (held) {
+              held.view = view;
+              held.updates++;
+            }
+          }
+          if (!held) {
+            const id = `VKOLMO${String(++this.viewNo).padStart(4, '0')}`;
+            held = {
+              id,
+              view,
+              updates: 0,
+              ...(method === 'views.publish' ? { user: String(body.user_id) } : { trigger: String(body.trigger_id) }),
+            };
+            this.views.set(id, held);
+          }
+          return send(200, { ok: true, view: { id: held.id, hash: `h${held.updates}`, ...held.view } });
         }
         case 'chat.postEphemeral':
           return send(200, { ok: true, message_ts: this.nextTs() });
@@ -265,6 +384,7 @@ export class FakeWebApi {
           return send(200, `OK - ${raw.length}`);
         case 'files.completeUploadExternal': {
           const files = Array.isArray(body.files) ? (body.files as Array<{ id: string; title?: string }>) : [];
+          for (const f of files) this.files.add(f.id);
           return send(200, { ok: true, files: files.map((f) => ({ id: f.id, title: f.title ?? '' })) });
         }
         case 'response':

@@ -247,3 +247,151 @@ export function httpEnv(apiUrl: string, extra: Record<string, string> = {}): Rec
     ...extra,
   };
 }
+
+// ---------------------------------------------------------------------------------------------
+// Interactive payloads (buttons, modals, shortcuts) and the events of my desk and direct messages.
+// The platform sends interactions as application/x-www-form-urlencoded with one field, `payload`,
+// holding the JSON (published "Handling user interaction" reference), signed like any request.
+
+let interactionNo = 0;
+
+function payloadForm(payload: Record<string, unknown>): string {
+  return new URLSearchParams({ payload: JSON.stringify(payload) }).toString();
+}
+
+const TEAM = { id: 'T0FAKEDESK', domain: 'fernwick-desk' };
+
+function userOf(id: string) {
+  return { id, username: id.toLowerCase(), name: id.toLowerCase(), team_id: TEAM.id };
+}
+
+/** A button press in a message (block_actions). */
+export function actionBody(o: {
+  user?: string;
+  channel?: string;
+  messageTs: string;
+  threadTs?: string;
+  actionId: string;
+  value: string;
+  blockId?: string;
+  responseUrl?: string;
+  triggerId?: string;
+}): string {
+  interactionNo++;
+  const channel = o.channel ?? 'CDESKOPTS1';
+  return payloadForm({
+    type: 'block_actions',
+    team: TEAM,
+    user: userOf(o.user ?? 'UTRADERAA1'),
+    api_app_id: 'AKOLMOFAKE',
+    token: 'deprecated-verification-token',
+    container: { type: 'message', message_ts: o.messageTs, channel_id: channel, is_ephemeral: false, ...(o.threadTs ? { thread_ts: o.threadTs } : {}) },
+    trigger_id: o.triggerId ?? `${interactionNo}.1111.action${interactionNo}`,
+    channel: { id: channel, name: 'desk-options' },
+    message: { type: 'message', ts: o.messageTs, ...(o.threadTs ? { thread_ts: o.threadTs } : {}), bot_id: 'BKOLMOBOT1' },
+    ...(o.responseUrl ? { response_url: o.responseUrl } : {}),
+    actions: [
+      {
+        type: 'button',
+        action_id: o.actionId,
+        block_id: o.blockId ?? 'kolmo_answer_actions',
+        value: o.value,
+        text: { type: 'plain_text', text: 'button' },
+        action_ts: `${Math.floor(Date.now() / 1000)}.${String(interactionNo).padStart(6, '0')}`,
+      },
+    ],
+  });
+}
+
+/** A button press in a view (a modal or the home tab). */
+export function viewActionBody(o: { user?: string; view: Record<string, unknown>; actionId: string; value: string; blockId?: string; triggerId?: string }): string {
+  interactionNo++;
+  return payloadForm({
+    type: 'block_actions',
+    team: TEAM,
+    user: userOf(o.user ?? 'UTRADERAA1'),
+    api_app_id: 'AKOLMOFAKE',
+    token: 'deprecated-verification-token',
+    container: { type: 'view', view_id: o.view.id },
+    trigger_id: o.triggerId ?? `${interactionNo}.1111.view${interactionNo}`,
+    view: o.view,
+    actions: [
+      {
+        type: 'button',
+        action_id: o.actionId,
+        block_id: o.blockId ?? 'b',
+        value: o.value,
+        action_ts: `${Math.floor(Date.now() / 1000)}.${String(interactionNo).padStart(6, '0')}`,
+      },
+    ],
+  });
+}
+
+/** A modal submitted (view_submission) with its inputs' state. */
+export function viewSubmissionBody(o: {
+  user?: string;
+  viewId: string;
+  callbackId: string;
+  privateMetadata?: string;
+  values: Record<string, Record<string, Record<string, unknown>>>;
+}): string {
+  interactionNo++;
+  return payloadForm({
+    type: 'view_submission',
+    team: TEAM,
+    user: userOf(o.user ?? 'UTRADERAA1'),
+    api_app_id: 'AKOLMOFAKE',
+    token: 'deprecated-verification-token',
+    trigger_id: `${interactionNo}.1111.submit${interactionNo}`,
+    view: {
+      id: o.viewId,
+      type: 'modal',
+      callback_id: o.callbackId,
+      private_metadata: o.privateMetadata ?? '',
+      state: { values: o.values },
+      hash: `h${interactionNo}`,
+    },
+    response_urls: [],
+  });
+}
+
+/** A global shortcut. */
+export function shortcutBody(o: { user?: string; callbackId: string; triggerId?: string }): string {
+  interactionNo++;
+  return payloadForm({
+    type: 'shortcut',
+    team: TEAM,
+    user: userOf(o.user ?? 'UTRADERAA1'),
+    api_app_id: 'AKOLMOFAKE',
+    token: 'deprecated-verification-token',
+    callback_id: o.callbackId,
+    trigger_id: o.triggerId ?? `${interactionNo}.1111.shortcut${interactionNo}`,
+    action_ts: `${Math.floor(Date.now() / 1000)}.${String(interactionNo).padStart(6, '0')}`,
+  });
+}
+
+let deskEventNo = 0;
+function eventEnvelope(botUserId: string, event: Record<string, unknown>): string {
+  deskEventNo++;
+  return JSON.stringify({
+    token: 'deprecated-verification-token',
+    team_id: 'T0FAKEDESK',
+    api_app_id: 'AKOLMOFAKE',
+    type: 'event_callback',
+    event_id: `Ev1DESK${String(deskEventNo).padStart(6, '0')}${Date.now()}`,
+    event_time: Math.floor(Date.now() / 1000),
+    authorizations: [{ team_id: 'T0FAKEDESK', user_id: botUserId, is_bot: true, is_enterprise_install: false }],
+    event,
+  });
+}
+
+/** app_home_opened on the home tab. */
+export function homeOpenedBody(o: { user?: string; botUserId: string }): string {
+  return eventEnvelope(o.botUserId, { type: 'app_home_opened', user: o.user ?? 'UTRADERAA1', channel: `D${(o.user ?? 'UTRADERAA1').slice(1)}`, tab: 'home', event_ts: `${Math.floor(Date.now() / 1000)}.000100` });
+}
+
+/** A direct message to the app (message event, channel_type im). */
+export function imMessageBody(o: { user?: string; text: string; ts: string; botUserId: string; channel?: string }): string {
+  const user = o.user ?? 'UTRADERAA1';
+  return eventEnvelope(o.botUserId, { type: 'message', channel_type: 'im', channel: o.channel ?? `D${user.slice(1)}`, user, text: o.text, ts: o.ts, event_ts: o.ts });
+}

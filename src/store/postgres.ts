@@ -1,0 +1,249 @@
+/**
+ * PostgreSQL backend of the async store (node-postgres), for several instances sharing one memory.
+ *
+ * Decisions:
+ * - One small pool per process (default 4 connections). Statements are single round trips where
+ *   possible, so a connection is held for one statement, not for a request.
+ * - Numbers: one INSERT … ON CONFLICT DO UPDATE on the channel's counter row takes that row's
+ *   lock and bumps it, and the check is inserted by the same statement (a data-modifying CTE), so
+ *   allocation and insert commit or roll back together: writers of one channel queue on the row
+ *   lock, in any process on any host, and the numbers are unique and without gaps. The counter is
+ *   cross-checked against MAX(number)+1, and the UNIQUE (channel, number) index is the last guard.
+ * - Timeouts: a statement running longer than `statementTimeoutMs` is cancelled by the server
+ *   ('busy'); the client gives up on a connection that answers nothing for 5 s more (a server that
+ *   vanished without closing the socket) and on a new connection after `connectTimeoutMs`
+ *   ('unavailable'). A lost connection is dropped from the pool and the next call opens another,
+ *   so the store recovers by itself when the database comes back.
+ * - Migrations: the shared list (migrations.ts), applied in one transaction under an advisory lock.
+ */
+import pg from 'pg';
+import { StoreError, pgStoreError, type StoreOp } from './errors.js';
+import { MIGRATIONS, plan, SCHEMA_VERSION, type Migration } from './migrations.js';
+import {
+  checkRowOf,
+  deliveryArgsOf,
+  id,
+  isEntryNumber,
+  markRowOf,
+  recentLimitOf,
+  threadArgsOf,
+  toEntry,
+  toMark,
+  type CheckRow,
+  type MarkRow,
+} from './rows.js';
+import type { LogEntry, LogEntryInput, Mark } from './store.js';
+import type { AsyncStore, DatabaseOptions } from './async.js';
+
+/** key of the advisory lock the migrations hold (any fixed number; "KOLMO" in ASCII) */
+const MIGRATION_LOCK = 0x4b4f4c4d4f;
+
+/** The URL without its password, for messages. */
+export function redactUrl(url: string): string {
+  try {
+    const u = new URL(url);
+    if (u.password) u.password = '***';
+    return u.toString();
+  } catch {
+    return '(not a URL)';
+  }
+}
+
+/** The schema version of the database behind `client` (0 when Kolmo never wrote to it). */
+async function schemaVersionPg(client: pg.ClientBase): Promise<number> {
+  const t = await client.query<{ t: string | null }>(`SELECT to_regclass('kolmo_schema')::text AS t`);
+  if (!t.rows[0]?.t) return 0;
+  const r = await client.query<{ v: number | null }>('SELECT MAX(version) AS v FROM kolmo_schema');
+  return r.rows[0]?.v ?? 0;
+}
+
+/**
+ * Brings the database to version `target` (default: the newest) in one transaction under an
+ * advisory lock: several instances starting together migrate it once; a failing step leaves it
+ * as it was. Returns the versions before and after.
+ */
+export async function migratePg(
+  client: pg.ClientBase,
+  target: number = SCHEMA_VERSION,
+  migrations: readonly Migration[] = MIGRATIONS,
+): Promise<{ from: number; to: number }> {
+  plan(0, target, migrations);
+  await client.query('BEGIN');
+  try {
+    await client.query('SELECT pg_advisory_xact_lock($1)', [MIGRATION_LOCK]);
+    await client.query(`CREATE TABLE IF NOT EXISTS kolmo_schema (
+      version     INTEGER PRIMARY KEY,
+      description TEXT NOT NULL,
+      applied_at  TIMESTAMPTZ NOT NULL DEFAULT now()
+    )`);
+    const from = await schemaVersionPg(client);
+    for (const m of plan(from, target, migrations)) {
+      if (m.postgres === undefined) throw new Error(`migration ${m.version} has no PostgreSQL step`);
+      await client.query(m.postgres);
+      await client.query('INSERT INTO kolmo_schema (version, description) VALUES ($1, $2)', [m.version, m.description]);
+    }
+    await client.query('COMMIT');
+    return { from, to: Math.max(from, target) };
+  } catch (e) {
+    await client.query('ROLLBACK').catch(() => undefined);
+    throw e;
+  }
+}
+
+/** Opens the database at `url`, migrating it unless read-only. Throws a StoreError when it cannot. */
+export async function openPostgres(url: string, opts: DatabaseOptions = {}): Promise<AsyncStore> {
+  const where = redactUrl(url);
+  const readonly = opts.readonly === true;
+  const statementTimeoutMs = opts.statementTimeoutMs ?? 10000;
+  const pool = new pg.Pool({
+    connectionString: url,
+    max: opts.poolSize ?? 4,
+    connectionTimeoutMillis: opts.connectTimeoutMs ?? 5000,
+    idleTimeoutMillis: 30000,
+    statement_timeout: statementTimeoutMs,
+    query_timeout: statementTimeoutMs + 5000,
+    keepAlive: true,
+    application_name: opts.applicationName ?? 'kolmo',
+    ...(readonly ? { options: '-c default_transaction_read_only=on' } : {}),
+  });
+  // an idle connection that breaks (the server restarted) is dropped by the pool; without a
+  // listener the 'error' event would end the process
+  pool.on('error', () => undefined);
+  try {
+    const client = await pool.connect();
+    try {
+      if (readonly) {
+        const v = await schemaVersionPg(client);
+        if (v === 0) throw new StoreError('unavailable', 'open', `the database holds no Kolmo log (${where})`);
+        plan(v, SCHEMA_VERSION, MIGRATIONS); // refuses a newer schema
+        if (v < SCHEMA_VERSION) {
+          throw new StoreError('readonly', 'open', `the database is opened read-only and has schema version ${v}, older than this version of Kolmo reads (${SCHEMA_VERSION}); start one instance with write access to upgrade it`);
+        }
+      } else {
+        await migratePg(client);
+      }
+    } finally {
+      client.release();
+    }
+  } catch (e) {
+    await pool.end().catch(() => undefined);
+    throw pgStoreError(e, 'open', where);
+  }
+  return new PgStore(pool, where);
+}
+
+const CHECK_COLUMNS = 'channel, number, "user", at, verb, text, normalized, summary, thread_ts, permalink, delivered';
+const MARK_COLUMNS = 'channel, symbol, spot, iv, yield, rate, "user", at';
+
+class PgStore implements AsyncStore {
+  readonly backend = 'postgres' as const;
+  private closed = false;
+
+  constructor(
+    private readonly pool: pg.Pool,
+    readonly where: string,
+  ) {}
+
+  private async q<R extends pg.QueryResultRow>(op: StoreOp, text: string, values: unknown[]): Promise<pg.QueryResult<R>> {
+    if (this.closed) throw new StoreError('unavailable', op, 'the log has been closed');
+    try {
+      return await this.pool.query<R>(text, values);
+    } catch (e) {
+      throw pgStoreError(e, op, this.where);
+    }
+  }
+
+  async appendCheck(e: LogEntryInput): Promise<LogEntry> {
+    const { summaryRecord, ...row } = checkRowOf(e);
+    const r = await this.q<{ number: number }>(
+      'write',
+      `WITH n AS (
+         INSERT INTO channels AS c (channel, next_number) VALUES ($1, 2)
+         ON CONFLICT (channel) DO UPDATE SET next_number =
+           GREATEST(c.next_number, (SELECT COALESCE(MAX(number), 0) + 1 FROM checks WHERE channel = $1)) + 1
+         RETURNING next_number - 1 AS number
+       )
+       INSERT INTO checks (channel, number, "user", at, verb, text, normalized, summary, thread_ts, permalink, delivered)
+       SELECT $1, n.number, $2, $3, $4, $5, $6, $7, NULL, NULL, 'pending' FROM n
+       RETURNING number`,
+      [row.channel, row.user, row.at, row.verb, row.text, row.normalized, row.summary],
+    );
+    const number = r.rows[0].number;
+    return { ...row, summary: summaryRecord, number, threadTs: null, permalink: null, delivered: 'pending' };
+  }
+
+  async setThread(channel: string, number: number, threadTs: string, permalink?: string | null): Promise<boolean> {
+    const a = threadArgsOf(channel, number, threadTs, permalink);
+    if (!a) return false;
+    const r =
+      a.permalink === undefined
+        ? await this.q('write', 'UPDATE checks SET thread_ts = $1 WHERE channel = $2 AND number = $3', [a.ts, a.channel, number])
+        : await this.q('write', 'UPDATE checks SET thread_ts = $1, permalink = $2 WHERE channel = $3 AND number = $4', [a.ts, a.permalink, a.channel, number]);
+    return (r.rowCount ?? 0) > 0;
+  }
+
+  async setDelivery(channel: string, number: number, state: 'delivered' | 'undelivered'): Promise<boolean> {
+    const a = deliveryArgsOf(channel, number, state);
+    if (!a) return false;
+    const r = await this.q('write', 'UPDATE checks SET delivered = $1 WHERE channel = $2 AND number = $3', [a.state, a.channel, number]);
+    return (r.rowCount ?? 0) > 0;
+  }
+
+  async get(channel: string, number: number): Promise<LogEntry | undefined> {
+    if (typeof channel !== 'string' || !isEntryNumber(number) || number > 2147483647) return undefined;
+    const r = await this.q<CheckRow>('read', `SELECT ${CHECK_COLUMNS} FROM checks WHERE channel = $1 AND number = $2`, [channel, number]);
+    return r.rows[0] && toEntry(r.rows[0]);
+  }
+
+  async recent(channel: string, n: number): Promise<LogEntry[]> {
+    const limit = recentLimitOf(channel, n);
+    if (limit === 0) return [];
+    const r = await this.q<CheckRow>('read', `SELECT ${CHECK_COLUMNS} FROM checks WHERE channel = $1 ORDER BY number DESC LIMIT $2`, [channel, limit]);
+    return r.rows.map(toEntry);
+  }
+
+  async putMark(m: Mark): Promise<void> {
+    const row = markRowOf(m);
+    await this.q(
+      'write',
+      `INSERT INTO marks (${MARK_COLUMNS}) VALUES ($1, $2, $3, $4, $5, $6, $7, $8)
+       ON CONFLICT (channel, symbol) DO UPDATE SET
+         spot = excluded.spot, iv = excluded.iv, yield = excluded.yield, rate = excluded.rate,
+         "user" = excluded."user", at = excluded.at`,
+      [row.channel, row.symbol, row.spot, row.iv, row.yield, row.rate, row.user, row.at],
+    );
+  }
+
+  async getMark(channel: string, sym: string): Promise<Mark | undefined> {
+    if (typeof channel !== 'string' || typeof sym !== 'string') return undefined;
+    const r = await this.q<MarkRow>('read', `SELECT ${MARK_COLUMNS} FROM marks WHERE channel = $1 AND symbol = $2`, [channel, sym.trim().toUpperCase()]);
+    return r.rows[0] && toMark(r.rows[0]);
+  }
+
+  async listMarks(channel: string): Promise<Mark[]> {
+    if (typeof channel !== 'string') return [];
+    const r = await this.q<MarkRow>('read', `SELECT ${MARK_COLUMNS} FROM marks WHERE channel = $1 ORDER BY symbol COLLATE "C"`, [channel]);
+    return r.rows.map(toMark);
+  }
+
+  async countRejected(channel: string): Promise<void> {
+    const ch = id(channel, 'channel');
+    await this.q('write', 'INSERT INTO rejected AS r (channel, count) VALUES ($1, 1) ON CONFLICT (channel) DO UPDATE SET count = r.count + 1', [ch]);
+  }
+
+  async rejectedCount(channel: string): Promise<number> {
+    if (typeof channel !== 'string') return 0;
+    const r = await this.q<{ count: number }>('read', 'SELECT count FROM rejected WHERE channel = $1', [channel]);
+    return r.rows[0]?.count ?? 0;
+  }
+
+  async ping(): Promise<void> {
+    await this.q('read', 'SELECT 1', []);
+  }
+
+  async close(): Promise<void> {
+    if (this.closed) return;
+    this.closed = true;
+    await this.pool.end().catch(() => undefined);
+  }
+}

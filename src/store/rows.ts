@@ -1,0 +1,249 @@
+/**
+ * What both backends share: the size limits, the checks on every input before it is stored (so
+ * SQLite and PostgreSQL refuse exactly the same things with the same words), and the conversion
+ * of stored rows back to records.
+ */
+import { StoreError } from './errors.js';
+import type { CheckSummary, DeliveryState, LogEntry, LogEntryInput, Mark } from './store.js';
+
+/**
+ * Size limits. Identifiers are refused when too long (cutting a channel id could merge two
+ * channels); free text is cut, ending with "…"; the parsed request is refused when too large,
+ * because a cut JSON could not be re-run.
+ */
+export const LIMITS = {
+  /** channel, user and symbol identifiers, in characters (refused above) */
+  idChars: 128,
+  symbolChars: 32,
+  verbChars: 32,
+  /** ISO time strings, in characters (refused above) */
+  atChars: 64,
+  /** the request as typed, in UTF-8 bytes (cut above) */
+  textBytes: 4096,
+  /** the position label in the summary, in characters (cut above) */
+  positionChars: 256,
+  /** JSON of the parsed request, in UTF-8 bytes (refused above) */
+  normalizedBytes: 256 * 1024,
+  /** JSON of the summary, in UTF-8 bytes (refused above) */
+  summaryBytes: 16 * 1024,
+  /** thread timestamp and permalink, in characters (refused above) */
+  threadTsChars: 64,
+  permalinkChars: 2048,
+  /** most entries `recent` returns */
+  recentMax: 1000,
+} as const;
+
+
+export interface CheckRow {
+  channel: string;
+  number: number;
+  user: string;
+  at: string;
+  verb: string;
+  text: string;
+  normalized: string;
+  summary: string;
+  thread_ts: string | null;
+  permalink: string | null;
+  delivered: DeliveryState;
+}
+
+export interface MarkRow {
+  channel: string;
+  symbol: string;
+  spot: number | null;
+  iv: number | null;
+  yield: number | null;
+  rate: number | null;
+  user: string;
+  at: string;
+}
+
+/** A check ready to be stored (everything but its number), or a StoreError 'invalid'. */
+export function checkRowOf(e: LogEntryInput): Omit<CheckRow, 'number' | 'thread_ts' | 'permalink' | 'delivered'> & { summaryRecord: CheckSummary } {
+  const channel = id(e?.channel, 'channel');
+  const user = id(e.user, 'user');
+  const at = isoTime(e.at);
+  const verb = shortText(e.verb, 'verb', LIMITS.verbChars);
+  if (typeof e.text !== 'string') throw invalid('the request text is missing');
+  // PostgreSQL's text cannot hold U+0000; both backends store the same replacement character
+  const text = cutBytes(e.text.replaceAll('\u0000', '\uFFFD'), LIMITS.textBytes);
+  const normalized = json(e.normalized);
+  const summaryRecord = cleanSummary(e.summary);
+  const summary = JSON.stringify(summaryRecord);
+  if (bytes(summary) > LIMITS.summaryBytes) {
+    throw invalid(`the summary is too large to store (${kb(bytes(summary))} > ${kb(LIMITS.summaryBytes)})`);
+  }
+  return { channel, user, at, verb, text, normalized, summary, summaryRecord };
+}
+
+/** A mark ready to be stored, or a StoreError 'invalid'. */
+export function markRowOf(m: Mark): MarkRow {
+  return {
+    channel: id(m?.channel, 'channel'),
+    symbol: symbol(m.symbol),
+    spot: finiteOrNull(m.spot, 'spot'),
+    iv: finiteOrNull(m.iv, 'iv'),
+    yield: finiteOrNull(m.yield, 'yield'),
+    rate: finiteOrNull(m.rate, 'rate'),
+    user: id(m.user, 'user'),
+    at: isoTime(m.at),
+  };
+}
+
+/** The thread arguments of setThread, checked; null when the number cannot exist. */
+export function threadArgsOf(channel: string, number: number, threadTs: string, permalink?: string | null): { channel: string; ts: string; permalink?: string | null } | null {
+  const ch = id(channel, 'channel');
+  if (!isEntryNumber(number)) return null;
+  const ts = shortText(threadTs, 'thread timestamp', LIMITS.threadTsChars);
+  if (permalink === undefined) return { channel: ch, ts };
+  if (permalink !== null) shortText(permalink, 'permalink', LIMITS.permalinkChars);
+  return { channel: ch, ts, permalink };
+}
+
+/** The delivery arguments of setDelivery, checked; null when the number cannot exist. */
+export function deliveryArgsOf(channel: string, number: number, state: 'delivered' | 'undelivered'): { channel: string; state: 'delivered' | 'undelivered' } | null {
+  const ch = id(channel, 'channel');
+  if (state !== 'delivered' && state !== 'undelivered') throw invalid(`delivery state must be delivered or undelivered, not ${String(state)}`);
+  if (!isEntryNumber(number)) return null;
+  return { channel: ch, state };
+}
+
+/** The row limit of `recent`, or 0 when nothing can be returned. */
+export function recentLimitOf(channel: unknown, n: unknown): number {
+  if (typeof channel !== 'string' || typeof n !== 'number' || !(n >= 1)) return 0;
+  return Math.min(Math.floor(n), LIMITS.recentMax);
+}
+
+
+export function invalid(reason: string): StoreError {
+  return new StoreError('invalid', 'write', reason);
+}
+
+export function id(v: unknown, what: string): string {
+  if (typeof v !== 'string' || v.trim() === '') throw invalid(`the ${what} is missing`);
+  if (v.includes('\u0000')) throw invalid(`the ${what} contains a NUL character`);
+  if (v.length > LIMITS.idChars) throw invalid(`the ${what} is longer than ${LIMITS.idChars} characters`);
+  return v;
+}
+
+export function shortText(v: unknown, what: string, max: number): string {
+  if (typeof v !== 'string' || v === '') throw invalid(`the ${what} is missing`);
+  if (v.includes('\u0000')) throw invalid(`the ${what} contains a NUL character`);
+  if (v.length > max) throw invalid(`the ${what} is longer than ${max} characters`);
+  return v;
+}
+
+export function symbol(v: unknown): string {
+  if (typeof v !== 'string' || v.trim() === '') throw invalid('the symbol is missing');
+  const s = v.trim().toUpperCase();
+  if (s.includes('\u0000')) throw invalid('the symbol contains a NUL character');
+  if (s.length > LIMITS.symbolChars) throw invalid(`the symbol is longer than ${LIMITS.symbolChars} characters`);
+  return s;
+}
+
+export function isoTime(v: unknown): string {
+  if (typeof v !== 'string' || v.length > LIMITS.atChars || !Number.isFinite(Date.parse(v))) {
+    throw invalid(`the time must be an ISO date-time, not ${JSON.stringify(v)?.slice(0, 80)}`);
+  }
+  return v;
+}
+
+export function finiteOrNull(v: unknown, what: string): number | null {
+  if (v === undefined || v === null) return null;
+  if (typeof v !== 'number' || !Number.isFinite(v)) throw invalid(`the ${what} must be a finite number, not ${String(v)}`);
+  return v;
+}
+
+export function isEntryNumber(n: unknown): n is number {
+  return typeof n === 'number' && Number.isSafeInteger(n) && n >= 1;
+}
+
+export function json(v: unknown): string {
+  if (typeof v !== 'string') throw invalid('the parsed request is missing');
+  if (bytes(v) > LIMITS.normalizedBytes) {
+    throw invalid(`the request is too large to store (${kb(bytes(v))} > ${kb(LIMITS.normalizedBytes)})`);
+  }
+  try {
+    JSON.parse(v);
+  } catch {
+    throw invalid('the parsed request is not valid JSON');
+  }
+  return v;
+}
+
+/** Drops non-finite numbers (JSON would turn them into null) and cuts the position label. */
+export function cleanSummary(s: unknown): CheckSummary {
+  if (!s || typeof s !== 'object' || Array.isArray(s)) throw invalid('the summary is missing');
+  const src = s as Record<string, unknown>;
+  if (typeof src.position !== 'string') throw invalid('the summary has no position');
+  let text: string;
+  try {
+    text = JSON.stringify(src, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? undefined : v));
+  } catch (e) {
+    throw invalid(`the summary cannot be stored: ${(e as Error).message}`);
+  }
+  const out = JSON.parse(text) as CheckSummary;
+  out.position = cutChars(out.position, LIMITS.positionChars);
+  return out;
+}
+
+export function bytes(s: string): number {
+  return Buffer.byteLength(s, 'utf8');
+}
+
+export function kb(n: number): string {
+  return `${Math.ceil(n / 1024)} KB`;
+}
+
+/** Cuts to at most `max` UTF-8 bytes on a code point boundary, ending with "…" when cut. */
+export function cutBytes(s: string, max: number): string {
+  if (bytes(s) <= max) return s;
+  const budget = max - 3; // "…" is 3 bytes
+  let used = 0;
+  let out = '';
+  for (const cp of s) {
+    const b = bytes(cp);
+    if (used + b > budget) break;
+    out += cp;
+    used += b;
+  }
+  return out + '…';
+}
+
+function cutChars(s: string, max: number): string {
+  const cps = Array.from(s);
+  return cps.length <= max ? s : cps.slice(0, max - 1).join('') + '…';
+}
+
+export function toEntry(r: CheckRow): LogEntry {
+  let summary: CheckSummary;
+  try {
+    summary = JSON.parse(r.summary) as CheckSummary;
+    if (!summary || typeof summary !== 'object' || typeof summary.position !== 'string') throw new Error('shape');
+  } catch {
+    summary = { position: '' };
+  }
+  return {
+    channel: r.channel,
+    number: r.number,
+    user: r.user,
+    at: r.at,
+    verb: r.verb,
+    text: r.text,
+    normalized: r.normalized,
+    summary,
+    threadTs: r.thread_ts,
+    permalink: r.permalink,
+    delivered: r.delivered,
+  };
+}
+
+export function toMark(r: MarkRow): Mark {
+  const m: Mark = { channel: r.channel, symbol: r.symbol, user: r.user, at: r.at };
+  if (r.spot !== null) m.spot = r.spot;
+  if (r.iv !== null) m.iv = r.iv;
+  if (r.yield !== null) m.yield = r.yield;
+  if (r.rate !== null) m.rate = r.rate;
+  return m;
+}

@@ -1,0 +1,292 @@
+/**
+ * One contract for the async store, run against both backends: SQLite (a file in a temporary
+ * folder) and PostgreSQL (a fresh database on the run's real server, see test/setup/postgres.ts).
+ * Whatever a shell can observe must be the same on both: numbering, channel isolation, marks,
+ * limits, refusals and their words, error codes.
+ *
+ * What the checks rest on (outside this project): the behaviour a user expects of a numbered
+ * per-channel log (common practice): numbers start at 1 in each channel, increase by one without
+ * gaps, also when several writers append at once, and a channel never sees another's entries;
+ * byte-wise ("C") ordering of symbols, as SQLite's default BINARY collation sorts (SQLite
+ * documentation, "Collating Sequences").
+ */
+import { afterEach, describe, expect, it } from 'vitest';
+import fc from 'fast-check';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { LIMITS, StoreError, openDatabase, type AsyncStore, type DatabaseChoice, type LogEntryInput } from '../../src/store/store.js';
+import { freshDatabase } from '../support/pg.js';
+
+interface Backend {
+  name: 'sqlite' | 'postgres';
+  /** a new, empty place for a log */
+  place(): Promise<DatabaseChoice>;
+}
+
+const cleanups: Array<() => Promise<void> | void> = [];
+const opened: AsyncStore[] = [];
+afterEach(async () => {
+  for (const s of opened.splice(0)) await s.close();
+  for (const c of cleanups.splice(0).reverse()) await c();
+});
+
+const backends: Backend[] = [
+  {
+    name: 'sqlite',
+    place: async () => {
+      const dir = mkdtempSync(join(tmpdir(), 'kolmo-contract-'));
+      cleanups.push(() => rmSync(dir, { recursive: true, force: true }));
+      return { backend: 'sqlite', path: join(dir, 'log.db') };
+    },
+  },
+  {
+    name: 'postgres',
+    place: async () => {
+      const db = await freshDatabase('contract');
+      cleanups.push(db.drop);
+      return { backend: 'postgres', url: db.url };
+    },
+  },
+];
+
+let seq = 0;
+function input(channel: string, over: Partial<LogEntryInput> = {}): LogEntryInput {
+  seq++;
+  return {
+    channel,
+    user: 'U0MAYA',
+    at: '2027-01-04T15:30:00.000Z',
+    verb: 'check',
+    text: `check +1 call 105 2027-03-19 @3.10 spot 100 on FERNWK #${seq}`,
+    normalized: JSON.stringify({ verb: 'check', seq }),
+    summary: { position: 'long 1 call 105', probProfit: 0.42, expectedPnl: 31.5, viewEdge: 12.25 },
+    ...over,
+  };
+}
+
+/** The StoreError a promise rejects with (fails the test if it resolves or rejects with something else). */
+async function storeError(p: Promise<unknown>): Promise<StoreError> {
+  try {
+    await p;
+  } catch (e) {
+    expect(e).toBeInstanceOf(StoreError);
+    return e as StoreError;
+  }
+  throw new Error('expected a StoreError, the call succeeded');
+}
+
+describe.each(backends)('the store contract on $name', (backend) => {
+  async function open(place?: DatabaseChoice): Promise<{ s: AsyncStore; place: DatabaseChoice }> {
+    const p = place ?? (await backend.place());
+    const s = await openDatabase(p);
+    opened.push(s);
+    return { s, place: p };
+  }
+
+  it('numbers each channel from 1 without gaps and returns what was stored', async () => {
+    const { s } = await open();
+    expect(s.backend).toBe(backend.name);
+    const a1 = await s.appendCheck(input('C0DESKA'));
+    const a2 = await s.appendCheck(input('C0DESKA'));
+    const b1 = await s.appendCheck(input('C0DESKB'));
+    const a3 = await s.appendCheck(input('C0DESKA'));
+    expect([a1.number, a2.number, a3.number, b1.number]).toEqual([1, 2, 3, 1]);
+    expect(a1.delivered).toBe('pending');
+    expect(a1.threadTs).toBeNull();
+    const back = await s.get('C0DESKA', 2);
+    expect(back).toEqual(a2);
+    expect(back?.summary.probProfit).toBe(0.42);
+  });
+
+  it('keeps entries across close and reopen, and numbering continues', async () => {
+    const first = await open();
+    await first.s.appendCheck(input('C0DESKA'));
+    await first.s.appendCheck(input('C0DESKA'));
+    await first.s.close();
+    const { s } = await open(first.place);
+    expect((await s.get('C0DESKA', 2))?.number).toBe(2);
+    expect((await s.appendCheck(input('C0DESKA'))).number).toBe(3);
+  });
+
+  it('records the thread, permalink and delivery state of an entry', async () => {
+    const { s } = await open();
+    await s.appendCheck(input('C0DESKA'));
+    expect(await s.setThread('C0DESKA', 1, '1799999999.000100', 'https://example.invalid/archives/C0DESKA/p1799999999000100')).toBe(true);
+    expect(await s.setDelivery('C0DESKA', 1, 'delivered')).toBe(true);
+    let e = (await s.get('C0DESKA', 1))!;
+    expect([e.threadTs, e.delivered]).toEqual(['1799999999.000100', 'delivered']);
+    expect(e.permalink).toContain('p1799999999000100');
+    await s.setThread('C0DESKA', 1, '1799999999.000200'); // permalink left out keeps the stored one
+    e = (await s.get('C0DESKA', 1))!;
+    expect(e.threadTs).toBe('1799999999.000200');
+    expect(e.permalink).toContain('p1799999999000100');
+    await s.setThread('C0DESKA', 1, '1799999999.000300', null); // null clears it
+    expect((await s.get('C0DESKA', 1))!.permalink).toBeNull();
+    expect(await s.setDelivery('C0DESKA', 1, 'undelivered')).toBe(true);
+    expect((await s.get('C0DESKA', 1))!.delivered).toBe('undelivered');
+    expect(await s.setThread('C0DESKA', 9, '1.2')).toBe(false);
+    expect(await s.setDelivery('C0DESKA', 9, 'delivered')).toBe(false);
+  });
+
+  it('recent returns the newest first and clamps n; get of a number that cannot exist is absent', async () => {
+    const { s } = await open();
+    for (let i = 0; i < 7; i++) await s.appendCheck(input('C0DESKA'));
+    const nums = async (n: number) => (await s.recent('C0DESKA', n)).map((e) => e.number);
+    expect(await nums(3)).toEqual([7, 6, 5]);
+    expect(await nums(50)).toEqual([7, 6, 5, 4, 3, 2, 1]);
+    expect(await nums(2.9)).toEqual([7, 6]);
+    for (const n of [0, -4, Number.NaN]) expect(await nums(n)).toEqual([]);
+    expect(await nums(Number.POSITIVE_INFINITY)).toHaveLength(7);
+    expect(await s.recent('C0NOBODY', 10)).toEqual([]);
+    for (const n of [0, -1, 1.5, Number.NaN, Number.POSITIVE_INFINITY, 8, 2 ** 40]) expect(await s.get('C0DESKA', n)).toBeUndefined();
+  });
+
+  it("another channel's number looks exactly like a number that does not exist; ids are compared exactly", async () => {
+    const { s } = await open();
+    for (let i = 0; i < 5; i++) await s.appendCheck(input('C0DESKA'));
+    await s.appendCheck(input('C0DESKB'));
+    expect(await s.get('C0DESKB', 3)).toBeUndefined();
+    expect((await s.recent('C0DESKB', 50)).map((e) => [e.channel, e.number])).toEqual([['C0DESKB', 1]]);
+    expect(await s.setThread('C0DESKB', 4, '1.1')).toBe(false);
+    expect(await s.setDelivery('C0DESKB', 4, 'delivered')).toBe(false);
+    expect((await s.get('C0DESKA', 4))!.threadTs).toBeNull();
+    expect(await s.get('c0deska', 1)).toBeUndefined();
+    expect(await s.get('C0DESK%', 1)).toBeUndefined();
+    expect(await s.recent('C0DESK_', 5)).toEqual([]);
+    const odd = "C0'; DROP TABLE checks; --";
+    expect((await s.appendCheck(input(odd))).number).toBe(1);
+    expect((await s.get(odd, 1))?.channel).toBe(odd);
+    expect((await s.get('C0DESKA', 5))?.number).toBe(5);
+  });
+
+  it('marks: stored in upper case, replaced as a whole, listed by symbol byte order, per channel', async () => {
+    const { s } = await open();
+    await s.putMark({ channel: 'C0DESKA', symbol: 'fernwk', spot: 84.2, iv: 0.31, yield: 0.012, user: 'U0MAYA', at: '2027-01-04T15:00:00Z' });
+    await s.putMark({ channel: 'C0DESKA', symbol: 'BRIXLO', spot: 12.5, rate: 0.045, user: 'U0MAYA', at: '2027-01-04T15:01:00Z' });
+    await s.putMark({ channel: 'C0DESKA', symbol: 'BRIX_LO', spot: 1, user: 'U0MAYA', at: '2027-01-04T15:01:00Z' });
+    expect(await s.getMark('C0DESKA', 'FERNWK')).toEqual({
+      channel: 'C0DESKA', symbol: 'FERNWK', spot: 84.2, iv: 0.31, yield: 0.012, user: 'U0MAYA', at: '2027-01-04T15:00:00Z',
+    });
+    expect((await s.getMark('C0DESKA', 'Fernwk'))?.spot).toBe(84.2);
+    await s.putMark({ channel: 'C0DESKA', symbol: 'FERNWK', spot: 85, user: 'U0OREN', at: '2027-01-05T15:00:00Z' });
+    const m = (await s.getMark('C0DESKA', 'FERNWK'))!;
+    expect([m.spot, m.iv, m.user]).toEqual([85, undefined, 'U0OREN']);
+    // "_" (0x5F) sorts after "L" (0x4C) byte-wise; a language collation would ignore it
+    expect((await s.listMarks('C0DESKA')).map((x) => x.symbol)).toEqual(['BRIXLO', 'BRIX_LO', 'FERNWK']);
+    expect(await s.getMark('C0DESKB', 'FERNWK')).toBeUndefined();
+    expect(await s.listMarks('C0DESKB')).toEqual([]);
+  });
+
+  it('refuses bad marks and bad entries with the same StoreError words, storing nothing and using up no number', async () => {
+    const { s } = await open();
+    const base = { channel: 'C0DESKA', symbol: 'FERNWK', user: 'U0MAYA', at: '2027-01-04T15:00:00Z' };
+    for (const bad of [{ spot: Number.NaN }, { iv: Number.POSITIVE_INFINITY }, { rate: '4.5%' as unknown as number }]) {
+      const e = await storeError(s.putMark({ ...base, ...bad }));
+      expect([e.code, e.op]).toEqual(['invalid', 'write']);
+      expect(e.message).toMatch(/must be a finite number/);
+    }
+    expect((await storeError(s.putMark({ ...base, symbol: '  ' }))).message).toMatch(/symbol is missing/);
+    expect((await storeError(s.putMark({ ...base, at: 'yesterday' }))).message).toMatch(/ISO date-time/);
+    expect(await s.listMarks('C0DESKA')).toEqual([]);
+    await s.appendCheck(input('C0DESKA'));
+    const big = JSON.stringify({ pad: 'x'.repeat(LIMITS.normalizedBytes) });
+    expect((await storeError(s.appendCheck(input('C0DESKA', { normalized: big })))).message).toMatch(/^the log could not be written: the request is too large to store/);
+    expect((await storeError(s.appendCheck(input('C0DESKA', { normalized: '{not json' })))).code).toBe('invalid');
+    expect((await storeError(s.appendCheck(input('')))).message).toMatch(/channel is missing/);
+    expect((await storeError(s.appendCheck(input('C'.repeat(LIMITS.idChars + 1))))).message).toMatch(/longer than/);
+    expect((await storeError(s.appendCheck(input('C0DE\u0000SKA')))).message).toMatch(/NUL/);
+    expect((await storeError(s.appendCheck(input('C0DESKA', { user: '' })))).message).toMatch(/user is missing/);
+    expect((await s.appendCheck(input('C0DESKA'))).number).toBe(2);
+  });
+
+  it('cuts long request text on a character boundary, keeps NUL out, drops non-finite summary numbers', async () => {
+    const { s } = await open();
+    const long = 'check ' + '€'.repeat(2000); // "€" is 3 bytes in UTF-8
+    const e = await s.appendCheck(input('C0DESKA', { text: long }));
+    const stored = (await s.get('C0DESKA', e.number))!.text;
+    expect(Buffer.byteLength(stored, 'utf8')).toBeLessThanOrEqual(LIMITS.textBytes);
+    expect(stored.endsWith('…')).toBe(true);
+    expect(long.startsWith(stored.slice(0, -1))).toBe(true);
+    const nul = await s.appendCheck(input('C0DESKA', { text: 'check\u0000 spot 100' }));
+    expect((await s.get('C0DESKA', nul.number))!.text).toBe('check\uFFFD spot 100');
+    const f = await s.appendCheck(input('C0DESKA', { summary: { position: 'short put', probProfit: Number.NaN, expectedPnl: -Infinity, viewEdge: 3 } }));
+    expect((await s.get('C0DESKA', f.number))!.summary).toEqual({ position: 'short put', viewEdge: 3 });
+  });
+
+  it('counts rejected requests per channel', async () => {
+    const { s } = await open();
+    await s.countRejected('C0DESKA');
+    await s.countRejected('C0DESKA');
+    await s.countRejected('C0DESKB');
+    expect([await s.rejectedCount('C0DESKA'), await s.rejectedCount('C0DESKB'), await s.rejectedCount('C0DESKC')]).toEqual([2, 1, 0]);
+  });
+
+  it('many appends at once from two connections give each channel unique numbers without gaps', async () => {
+    const a = await open();
+    const { s: b } = await open(a.place);
+    const channels = ['C0PAR0001', 'C0PAR0002', 'C0PAR0003'];
+    const jobs = Array.from({ length: 120 }, (_, i) => (i % 2 ? a.s : b).appendCheck(input(channels[i % 3], { normalized: JSON.stringify({ i }) })));
+    const got = await Promise.all(jobs);
+    for (const ch of channels) {
+      const mine = got.filter((e) => e.channel === ch).map((e) => e.number).sort((x, y) => x - y);
+      expect(mine).toEqual(Array.from({ length: 40 }, (_, k) => k + 1));
+      const stored = (await a.s.recent(ch, 1000)).map((e) => JSON.parse(e.normalized).i as number).sort((x, y) => x - y);
+      expect(stored).toEqual(got.filter((e) => e.channel === ch).map((e) => JSON.parse(e.normalized).i as number).sort((x, y) => x - y));
+    }
+  });
+
+  it('matches a simple model over random sequences of appends and reads (fast-check)', async () => {
+    const { s } = await open();
+    const channels = ['C0DESKA', 'C0DESKB', 'C0DESKC'];
+    const op = fc.oneof(
+      fc.record({ kind: fc.constant('append' as const), ch: fc.constantFrom(...channels) }),
+      fc.record({ kind: fc.constant('get' as const), ch: fc.constantFrom(...channels), n: fc.integer({ min: -2, max: 40 }) }),
+      fc.record({ kind: fc.constant('recent' as const), ch: fc.constantFrom(...channels), n: fc.integer({ min: 0, max: 12 }) }),
+    );
+    const model = new Map<string, string[]>(channels.map((c) => [c, []]));
+    let tag = 0;
+    await fc.assert(
+      fc.asyncProperty(fc.array(op, { maxLength: 20 }), async (ops) => {
+        for (const o of ops) {
+          const list = model.get(o.ch)!;
+          if (o.kind === 'append') {
+            const t = `t${tag++}`;
+            const e = await s.appendCheck(input(o.ch, { normalized: JSON.stringify({ t }) }));
+            list.push(t);
+            expect(e.number).toBe(list.length);
+          } else if (o.kind === 'get') {
+            const e = await s.get(o.ch, o.n);
+            if (o.n >= 1 && o.n <= list.length) expect(JSON.parse(e!.normalized).t).toBe(list[o.n - 1]);
+            else expect(e).toBeUndefined();
+          } else {
+            const got = (await s.recent(o.ch, o.n)).map((e) => JSON.parse(e.normalized).t as string);
+            expect(got).toEqual(list.slice(Math.max(0, list.length - o.n)).reverse());
+          }
+        }
+      }),
+      { numRuns: 25 },
+    );
+  });
+
+  it('a closed store answers with a StoreError, not a raw exception; ping answers while open', async () => {
+    const { s } = await open();
+    await s.ping();
+    await s.close();
+    const e = await storeError(s.get('C0DESKA', 1));
+    expect(e.code).toBe('unavailable');
+    expect((await storeError(s.ping())).code).toBe('unavailable');
+  });
+
+  it('read-only: reads work, every write is refused with code "readonly"', async () => {
+    const first = await open();
+    await first.s.appendCheck(input('C0DESKA'));
+    await first.s.close();
+    const s = await openDatabase(first.place, { readonly: true });
+    opened.push(s);
+    expect((await s.get('C0DESKA', 1))?.number).toBe(1);
+    expect((await storeError(s.appendCheck(input('C0DESKA')))).code).toBe('readonly');
+    expect((await storeError(s.putMark({ channel: 'C0DESKA', symbol: 'FERNWK', spot: 1, user: 'U0MAYA', at: '2027-01-04T15:00:00Z' }))).code).toBe('readonly');
+    expect((await storeError(s.countRejected('C0DESKA'))).code).toBe('readonly');
+  });
+});
