@@ -13,12 +13,10 @@
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { createInterface } from 'node:readline';
-import { askSync, type AskContext } from './service.js';
-import { COMPUTE_BUDGET_DEFAULT, overBudget } from './request/budget.js';
+import { askSync, COMPUTE_BUDGET_DEFAULT, openStore, defaultDbPath, type AskContext, type Store } from './verbs/ask.js';
 import { localSettings, type LocalSettings } from './config.js';
 import type { Reply } from './reply.js';
 import { renderAnswerChart } from './report/answer-chart.js';
-import { openStore, defaultDbPath, type Store } from './store/store.js';
 
 export interface CliOptions {
   json: boolean;
@@ -73,17 +71,9 @@ function settingsOr(say: (line: string) => void): LocalSettings | null {
   return null;
 }
 
-/**
- * One request from the command line or the console: the same compute budget as the chat app
- * (a request that would need too much work is refused before the engine runs), then the engine.
- */
-export function answerLocal(text: string, ctx: AskContext, budget = COMPUTE_BUDGET_DEFAULT): Reply {
-  const refused = overBudget(text, budget, {
-    now: ctx.now,
-    logged: (n) => ctx.store?.get(ctx.channel, n)?.text,
-  });
-  if (refused) return refused;
-  return askSync(text, ctx);
+/** One request from the command line or the console: the seam, with the compute budget of the settings (ctx.budget). */
+export function answerLocal(text: string, ctx: AskContext): Reply {
+  return askSync(text, { budget: COMPUTE_BUDGET_DEFAULT, ...ctx });
 }
 
 /** The text a terminal shows for a reply (answer, caution, warnings) — also used by the console. */
@@ -118,8 +108,8 @@ export async function runCli(argv: string[], out = process.stdout, err = process
   if (!settings) return 2;
   const { store, warning } = openStoreQuietly(o.log, settings.dbPath);
   try {
-    const ctx: AskContext = { channel: o.channel ?? 'cli', user: settings.user, store };
-    const r = answerLocal(o.request, ctx, settings.computeBudget);
+    const ctx: AskContext = { channel: o.channel ?? 'cli', user: settings.user, store, budget: settings.computeBudget };
+    const r = answerLocal(o.request, ctx);
     if (warning && r.kind === 'answer') r.warnings.push(warning);
     let chartNote: string | null = null;
     if (o.chart && r.kind === 'answer') chartNote = await writeChart(r, o.chart);
@@ -186,7 +176,7 @@ export async function runConsole(
           return;
         }
         if (text) {
-          const r = answerLocal(text, { channel, user: settings.user, store }, settings.computeBudget);
+          const r = answerLocal(text, { channel, user: settings.user, store, budget: settings.computeBudget });
           say(replyText(r));
           if (r.kind === 'answer' && r.chart) {
             n++;
