@@ -233,7 +233,7 @@ export class SmoothEngine implements PnlEngine {
 
   breakevens(): number[] {
     const out: number[] = [];
-    const { f, sx, sfv } = this;
+    const { f, sfv } = this;
     // left tail (0, e^{X0}]
     const f0 = f(0);
     if (this.sgn(f0) * this.sgn(sfv[0]) < 0) {
