@@ -31,7 +31,7 @@ import { sanitize } from './outcome/sanitize.js';
 import { SmoothEngine } from './outcome/smooth-engine.js';
 import { splitDist, type SplitDist } from './outcome/split-dist.js';
 import { expiresBy, type LegModel } from './pricer.js';
-import type { CheckCore, CheckInput, CheckNote, Outcome, Walk } from './types.js';
+import type { CheckCore, CheckInput, CheckNote, Curves, Outcome, Walk } from './types.js';
 
 export interface RunOptions {
   /**
@@ -41,7 +41,14 @@ export interface RunOptions {
   refine?: number;
   /** also compute chance of profit, quantiles and worst-5% average under the market walk (default true) */
   marketFigures?: boolean;
+  /**
+   * also sample the curves the chart draws (default true); false leaves them empty, for a caller
+   * that draws no chart (and the benchmark of the figures alone)
+   */
+  curves?: boolean;
 }
+
+const NO_CURVES = (): Curves => ({ spot: [], densityView: [], densityMarket: [], pnl: [], pnlDensity: { x: [], density: [], atoms: [] } });
 
 /** How the P&L is integrated: exact segments at expiry, else the smooth engine's live legs. */
 type EnginePlan = { segs: Segment[] } | { live: LiveInfo[]; ext: [number, number]; kinks: number[]; refine: number };
@@ -97,9 +104,8 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const { spot, rate, yield: q } = market;
   const h = Math.max(0, input.horizonYears);
   const model: LegModel = { market, style: input.style, jumps: view.jumps };
-  // three walks on the one P&L function: the view, the view's vol at the rate, and the market
-  // walk that prices the options (σ_m; with no vol view it is the at-rate walk itself)
-  const atRateWalk: Walk = { drift: rate, vol: view.vol, jumps: view.jumps };
+  // three walks on the one P&L function: the view; the market walk that prices the options
+  // (drift = rate, σ_m), the engine's twin; and the view's vol at the rate, for the attribution
   const marketVol = input.marketVol ?? nearestMoneyIv(input.legs, spot) ?? view.vol;
   const sameVol = marketVol === view.vol;
   const marketWalk: Walk = { drift: rate, vol: marketVol, jumps: view.jumps };
@@ -107,37 +113,37 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const today = legsToday(input, model, h);
   const { pf, active, c0, valuers } = positionPnl(input.legs, today.coefs, today.entries, model, h);
   const dView = walkDistribution(spot, h, q, view);
-  const dAtRate = walkDistribution(spot, h, q, atRateWalk);
-  const dMkt = sameVol ? dAtRate : walkDistribution(spot, h, q, marketWalk);
+  const dMkt = walkDistribution(spot, h, q, marketWalk);
   const sView = splitDist(dView);
-  const sAtRate = splitDist(dAtRate);
-  const sMkt = sameVol ? sAtRate : splitDist(dMkt);
+  const sMkt = splitDist(dMkt);
   const { plan, kinks } = planEngine(input, active, c0, pf.tolB, refine);
-  const eng = engineFor(plan, sView, sAtRate, pf);
+  const eng = engineFor(plan, sView, sMkt, pf);
   const notes = modelNotes(input, plan, today.hasShares);
 
   // --- outcome figures: seeds at the P&L of the kinks, where the cdf may jump or bend
   const seeds = kinks.map(pf.f);
   const fv = walkFigures(eng, seeds, pf.scale);
   const expectedPnl = eng.expectView();
-  const expectedPnlAtRate = eng.expectRiskNeutral();
+  const expectedMarket = eng.expectRiskNeutral();
+  // at the rate with the view's vol: the market walk itself when no vol view is given (the vol
+  // part is then exactly 0), the view itself when it is already at the rate, else one more sum
+  const viewAtRate = view.drift === rate && !(view.driftSe !== undefined && view.driftSe > 0);
+  const expectedPnlAtRate = sameVol
+    ? expectedMarket
+    : viewAtRate
+      ? expectedPnl
+      : engineFor(plan, splitDist(walkDistribution(spot, h, q, { drift: rate, vol: view.vol, jumps: view.jumps })), sMkt, pf).expectView();
   const viewEdge = expectedPnl - expectedPnlAtRate;
   // a crossing below a billionth of the spot is rounding in a P&L that is flat near zero there
   const breakevens = eng.breakevens().filter((b) => b > 1e-9 * spot);
   const ext = eng.extremes();
 
-  // the same figures under the market walk (same P&L function, no second revaluation); with no
-  // vol view its expectation is the at-rate one, taken from the same sum
+  // the same figures under the market walk (same P&L function, no second revaluation)
   let outcomeMarket: CheckCore['outcomeMarket'];
-  let expectedMarket = expectedPnlAtRate;
-  const wantFigures = options.marketFigures !== false;
-  if (wantFigures || !sameVol) {
-    const engM = engineFor(plan, sMkt, sMkt, pf);
-    if (!sameVol) expectedMarket = engM.expectView();
-    if (wantFigures) {
-      const fr = walkFigures(engM, seeds, pf.scale);
-      outcomeMarket = { probProfit: fr.probProfit, expectedPnl: expectedMarket, pnlQuantiles: quantileRecord(fr.qs), tailMean05: fr.tailMean05 };
-    }
+  if (options.marketFigures !== false) {
+    const twin = eng instanceof SmoothEngine ? eng.twin() : engineFor(plan, sMkt, sMkt, pf);
+    const fr = walkFigures(twin, seeds, pf.scale);
+    outcomeMarket = { probProfit: fr.probProfit, expectedPnl: expectedMarket, pnlQuantiles: quantileRecord(fr.qs), tailMean05: fr.tailMean05 };
   }
 
   // the attribution: parts that add up to expectedPnl exactly (DESIGN.md §4)
@@ -157,7 +163,7 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
     maxGain: ext.max,
     maxLoss: ext.min,
   };
-  const curves = buildCurves({ dView, dMkt, pnl: pf.f, strikes: strikesOf(input), breakevens, spot, eng, figures: fv, tolY: 1e-9 * pf.scale });
+  const curves = options.curves === false ? NO_CURVES() : buildCurves({ dView, dMkt, pnlAt: pf.fAt, strikes: strikesOf(input), breakevens, spot, eng, figures: fv, tolY: 1e-9 * pf.scale });
   const result: CheckCore = { legs: today.legs, position: today.position, outcome, curves, notes, ...(outcomeMarket ? { outcomeMarket } : {}), marketVol };
   if (sanitize(result)) notes.push({ code: 'not-finite' });
   return result;

@@ -29,7 +29,7 @@ export function nearestMoneyIv(legs: readonly LegInput[], spot: number): number 
 function expectLegAtHorizon(leg: LegInput, v: (s: number) => number, model: LegModel, h: number, d: SplitDist, refine: number): number {
   const K = leg.strike;
   const as = legAsymptote(leg, model, h);
-  const pf: PnlFn = { f: v, A: as.intercept, B: as.slope, tolB: 1e-12, scale: Math.max(K, model.market.spot) };
+  const pf: PnlFn = { f: v, fx: (x) => v(Math.exp(x)), fAt: (_x, s) => v(s), A: as.intercept, B: as.slope, tolB: 1e-12, scale: Math.max(K, model.market.spot) };
   if (expiresBy(leg, h)) {
     const segs: Segment[] =
       leg.kind === 'call'
