@@ -75,7 +75,7 @@ function logged(env: VerbEnv, o: Outcome): Answer {
   const { ctx } = env;
   if (!ctx.store || !o.log) return o.answer;
   // the marks the check used go into the log with it, so that `again N` reruns it as logged
-  const used = env.used && env.used.size ? [...env.used.values()].map(markRecord) : [];
+  const used = env.used?.size ? [...env.used.values()].map(markRecord) : [];
   try {
     const e = ctx.store.appendCheck({
       channel: ctx.channel,
