@@ -81,9 +81,9 @@ function strikesOf(input: CheckInput): number[] {
   return dedupe(input.legs.filter((l) => l.kind !== 'shares' && l.strike > 0).map((l) => l.strike));
 }
 
-function engineFor(plan: EnginePlan, primary: SplitDist, twin: SplitDist, pf: PnlFn): PnlEngine {
+function engineFor(plan: EnginePlan, primary: SplitDist, twin: SplitDist, pf: PnlFn, extra?: SplitDist): PnlEngine {
   if ('segs' in plan) return new LinearEngine(plan.segs, primary, twin, pf);
-  return new SmoothEngine({ view: primary, rn: twin, pf, kinks: plan.kinks, live: plan.live, extraRange: plan.ext, refine: plan.refine });
+  return new SmoothEngine({ view: primary, rn: twin, pf, kinks: plan.kinks, live: plan.live, extraRange: plan.ext, refine: plan.refine, ...(extra ? { extra } : {}) });
 }
 
 /** The notes on the models used, in the order the answer states them. */
@@ -117,7 +117,12 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const sView = splitDist(dView);
   const sMkt = splitDist(dMkt);
   const { plan, kinks } = planEngine(input, active, c0, pf.tolB, refine);
-  const eng = engineFor(plan, sView, sMkt, pf);
+  // the view's vol at the rate: the market walk itself when no vol view is given (the vol part is
+  // then exactly 0), the view itself when it is already at the rate; else a third walk whose
+  // expectation comes from the same samples (or, at expiry, the same closed forms)
+  const viewAtRate = view.drift === rate && !(view.driftSe !== undefined && view.driftSe > 0);
+  const sAtRate = sameVol || viewAtRate ? undefined : splitDist(walkDistribution(spot, h, q, { drift: rate, vol: view.vol, jumps: view.jumps }));
+  const eng = engineFor(plan, sView, sMkt, pf, sAtRate);
   const notes = modelNotes(input, plan, today.hasShares);
 
   // --- outcome figures: seeds at the P&L of the kinks, where the cdf may jump or bend
@@ -125,14 +130,13 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const fv = walkFigures(eng, seeds, pf.scale);
   const expectedPnl = eng.expectView();
   const expectedMarket = eng.expectRiskNeutral();
-  // at the rate with the view's vol: the market walk itself when no vol view is given (the vol
-  // part is then exactly 0), the view itself when it is already at the rate, else one more sum
-  const viewAtRate = view.drift === rate && !(view.driftSe !== undefined && view.driftSe > 0);
-  const expectedPnlAtRate = sameVol
-    ? expectedMarket
-    : viewAtRate
-      ? expectedPnl
-      : engineFor(plan, splitDist(walkDistribution(spot, h, q, { drift: rate, vol: view.vol, jumps: view.jumps })), sMkt, pf).expectView();
+  const expectedPnlAtRate = !sAtRate
+    ? sameVol
+      ? expectedMarket
+      : expectedPnl
+    : eng instanceof SmoothEngine
+      ? eng.expectExtra()!
+      : new LinearEngine((plan as { segs: Segment[] }).segs, sAtRate, sAtRate, pf).expectView();
   const viewEdge = expectedPnl - expectedPnlAtRate;
   // a crossing below a billionth of the spot is rounding in a P&L that is flat near zero there
   const breakevens = eng.breakevens().filter((b) => b > 1e-9 * spot);
