@@ -33,7 +33,7 @@ export class Quadrature {
     let iv = 0;
     let ir = 0;
     let ie = 0;
-    const extra = this.extra && this.extra.cont.components.length ? this.extra.cont : undefined;
+    const extra = this.extra?.cont.components.length ? this.extra.cont : undefined;
     for (let k = 0; k < GL_N; k++) {
       const x = mid + half * GL.t[k];
       const p = this.fx(x);
