@@ -27,7 +27,10 @@ import type { HttpConfig, SocketConfig } from '../config.js';
 import { boltLogger, scrub, type Log } from '../log.js';
 import type { Verb } from '../reply.js';
 import { openStore, defaultDbPath, type Store } from '../store/store.js';
-import { plainNotice } from './blocks.js';
+import { plainNotice, type Block } from './blocks.js';
+import type { Answer } from '../reply.js';
+import { answerActions } from './actions/buttons.js';
+import { privateLog, registerInteractive } from './interactive.js';
 import { BoundedClient } from './client.js';
 import { deliver, tellAsker, type DeliverDeps, type Origin, type Outcome, type Respond } from './deliver.js';
 import { memoryInbox, openInbox, type Inbox, type InboxEntry } from './inbox.js';
@@ -63,6 +66,8 @@ export interface ChatApp {
 }
 
 const VERBS = new Set<Verb>(['check', 'compare', 'iv', 'touch', 'mark', 'log', 'again', 'help']);
+/** answers that carry buttons (logged checks) */
+const ANSWER_BUTTON_VERBS = new Set<Verb>(['check', 'compare', 'iv', 'touch', 'again']);
 
 /** The verb a request text starts with, for the log line (the engine decides what it means). */
 export function verbOf(text: string): string {
@@ -295,7 +300,17 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
     return 'dropped';
   };
 
-  const submit = (origin: Origin, rawText: string, t0: number, key: string, now: string, resumed = false): void => {
+  const buttons = (a: Answer, origin: Origin) =>
+    a.logNumber !== undefined && !a.ephemeral && ANSWER_BUTTON_VERBS.has(a.verb)
+      ? answerActions({
+          number: a.logNumber,
+          verb: a.verb,
+          usedMark: a.json.mark !== undefined || a.json.marks !== undefined,
+          private: (origin.log ?? origin.channel).startsWith('im:'),
+        })
+      : undefined;
+
+  const submit = (origin: Origin, rawText: string, t0: number, key: string, now: string, resumed = false, extra: { variedFrom?: number; preface?: string } = {}): void => {
     const text = rawText.trim() === '' ? 'help' : rawText;
     const line = { channel: origin.channel, user: origin.user, source: origin.source, ...(resumed ? { resumed: true } : {}) };
     log.debug({ ...line, text }, 'request text');
@@ -328,13 +343,23 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
       let logNumber: number | undefined;
       let failures = 0;
       try {
-        const result = await engine.run({ text, channel: origin.channel, user: origin.user, now, budget: settings.computeBudget, ...(resumed ? { resumed } : {}) });
+        const result = await engine.run({
+          text,
+          channel: origin.log ?? origin.channel,
+          user: origin.user,
+          now,
+          budget: settings.computeBudget,
+          defaults: true,
+          ...(extra.variedFrom !== undefined ? { variedFrom: extra.variedFrom } : {}),
+          ...(extra.preface ? { preface: extra.preface } : {}),
+          ...(resumed ? { resumed } : {}),
+        });
         computeMs = Math.round(result.ms);
         if (result.reply.kind === 'answer') {
           verb = result.reply.verb;
           logNumber = result.reply.logNumber;
         }
-        const d = await deliver(deps, origin, result.reply, { png: result.png, note: result.chartNote });
+        const d = await deliver(deps, origin, result.reply, { png: result.png, note: result.chartNote }, { buttons: (a) => buttons(a, origin) as Block | undefined });
         outcome = d.outcome;
         failures = d.failures.length;
         inbox.finish(key);
@@ -400,6 +425,12 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
     // the ack first (nothing may delay it), then the inbox in the same turn of the event loop —
     // as for events, which Bolt acknowledges before the listener runs
     await ack();
+    if (text.trim() === '' && command.trigger_id) {
+      // `/kolmo` alone opens the check form; its trigger expires in 3 seconds, so nothing comes first
+      const opened = await interactive.openForm(command.trigger_id, { legs: 2, channel: command.channel_id });
+      log.info({ channel: command.channel_id, user: command.user_id, source: 'command', verb: 'form', outcome: opened ? 'form-opened' : 'form-failed', ms: Math.round(performance.now() - t0) }, 'request');
+      if (opened) return;
+    }
     const fresh = admit(
       { key, source: 'command', channel: origin.channel, user: origin.user, ...(command.response_url ? { responseUrl: command.response_url } : {}), text, now },
       context as { retryNum?: number; retryReason?: string },
@@ -421,6 +452,8 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
     );
     if (fresh) submit(origin, text, t0, key, now);
   });
+
+  const interactive = registerInteractive(app, { client, store, deps, log, submit, admit, budget: settings.computeBudget });
 
   app.error(async (err) => {
     log.error({ err: errText(err), code: (err as { code?: string }).code }, 'listener error');
@@ -457,7 +490,15 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
     for (const e of resume) {
       counts.resumed++;
       const respond = responder(e.responseUrl);
-      const origin: Origin = { source: e.source, channel: e.channel, user: e.user, ...(e.threadTs ? { threadTs: e.threadTs } : {}), ...(respond ? { respond } : {}) };
+      const dm = /^D/.test(e.channel);
+      const origin: Origin = {
+        source: e.source,
+        channel: e.channel,
+        user: e.user,
+        ...(dm ? { log: privateLog(e.user), flat: true } : {}),
+        ...(e.threadTs ? { threadTs: e.threadTs } : {}),
+        ...(respond ? { respond } : {}),
+      };
       submit(origin, e.text, performance.now(), e.key, e.now, true);
     }
     if (resume.length + expired.length > 0) log.info({ resumed: resume.length, expired: expired.length }, 'picked up requests left by the previous run');

@@ -28,7 +28,9 @@ export interface TextObject {
 export type Block =
   | { type: 'section'; text: TextObject }
   | { type: 'context'; elements: TextObject[] }
-  | { type: 'divider' };
+  | { type: 'divider' }
+  /** buttons (src/chat/actions/buttons.ts): no text of their own */
+  | { type: 'actions'; block_id?: string; elements: unknown[] };
 
 export interface Message {
   text: string;

@@ -12,6 +12,7 @@ import type { Reply } from '../reply.js';
 import { renderAnswerChart } from '../report/answer-chart.js';
 import type { LogEntry, LogEntryInput, Store } from '../store/store.js';
 import { COMPUTE_BUDGET_DEFAULT, overBudget } from '../request/budget.js';
+import { applyDefaults } from './desk/defaults.js';
 
 export interface Job {
   text: string;
@@ -23,6 +24,12 @@ export interface Job {
   budget?: number;
   /** answered once before by a process that stopped before finishing: log it at most once */
   resumed?: boolean;
+  /** a button's variation of this check (same log): recorded with the new entry */
+  variedFrom?: number;
+  /** a line put before the answer (what the button or the form did, and the request typed out) */
+  preface?: string;
+  /** apply the asker's personal defaults (my desk) where the request leaves a term out */
+  defaults?: boolean;
 }
 
 export interface WorkResult {
@@ -74,7 +81,37 @@ export async function work(job: Job, store: Store | null): Promise<WorkResult> {
     return { reply: refused, ms: performance.now() - t0 };
   }
   const s = store && job.resumed ? onceOnly(store) : store;
-  const reply = await ask(job.text, { channel: job.channel, user: job.user, now: new Date(job.now), store: s, inWorkspace: true });
+  let text = job.text;
+  let used: string[] = [];
+  if (job.defaults && store) {
+    try {
+      const d = store.getDefaults(job.user);
+      const markHas = (sym: string): ReadonlySet<string> => {
+        const m = store.getMark(job.channel, sym);
+        return new Set((['rate', 'yield'] as const).filter((k) => m?.[k] !== undefined));
+      };
+      const applied = applyDefaults(text, d, job.now.slice(0, 10), markHas);
+      text = applied.text;
+      used = applied.used;
+    } catch {
+      /* defaults that cannot be read leave the request as written */
+    }
+  }
+  let reply = await ask(text, { channel: job.channel, user: job.user, now: new Date(job.now), store: s, inWorkspace: true });
+  if (reply.kind === 'answer') {
+    const lines = [
+      ...(job.preface ? [job.preface] : []),
+      ...(used.length ? [`Used your defaults (my desk): ${used.map((u) => u.replace(/^your default /, '')).join(', ')}. Request run: ${text}`] : []),
+    ];
+    if (lines.length) reply = { ...reply, text: `${lines.join('\n')}\n\n${reply.text}`, json: { ...reply.json, ...(used.length ? { defaultsUsed: used } : {}) } };
+    if (job.variedFrom !== undefined && reply.logNumber !== undefined && store) {
+      try {
+        store.setVariedFrom(job.channel, reply.logNumber, job.variedFrom);
+      } catch {
+        /* the new check stands; only its link to the one it came from is missing */
+      }
+    }
+  }
   if (reply.kind !== 'answer' || reply.chart === undefined || reply.chart === null) {
     return { reply, ms: performance.now() - t0 };
   }
