@@ -32,6 +32,7 @@ import { checkHeadline, checkText, positionWords } from './report/text.js';
 import { compareChartInput, compareHeadline, compareText, cut, type ComparePart } from './report/compare.js';
 import { ageWords, isStale, logText, marksText, whenUtc } from './report/log.js';
 import { level, money, num, pct, rate, shortDate } from './report/format.js';
+import { checkNoteText } from './report/notes.js';
 import { StoreError, type CheckSummary, type LogEntry, type Mark, type Store } from './store/store.js';
 
 /** Monte Carlo paths for touch under jumps (standard error ≤ 0.25 percentage points). */
@@ -102,7 +103,7 @@ export function computeCheck(rc: ResolvedCheck): CheckAssembly {
     view: { drift: input.view.drift, vol: input.view.vol, model: jumps ? 'merton-jumps' : 'lognormal', ...(jumps ? { jumps } : {}) },
     style: input.style,
     mult: input.mult,
-    notes: [...rc.notes, ...core.notes],
+    notes: [...rc.notes, ...core.notes.map(checkNoteText)],
     legs,
     position: core.position,
     outcome: core.outcome,

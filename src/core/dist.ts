@@ -16,7 +16,8 @@
  */
 import { normCdf, normInv, normPdf } from './normal.js';
 import type { Walk } from './types.js';
-import { logFactorial } from './numeric.js';
+import { logFactorial } from './numeric/special.js';
+import { hasJumps, jumpCompensator } from './jumps.js';
 
 /** ln S_h ~ N(mu, s²) with probability `weight`. */
 export interface Component {
@@ -44,7 +45,7 @@ export function walkDistribution(spot: number, years: number, q: number, walk: W
   const sigma = Math.abs(walk.vol);
   const x0 = Math.log(spot);
   const j = walk.jumps;
-  const lh = j && j.intensity > 0 ? j.intensity * h : 0;
+  const lh = hasJumps(j) ? j.intensity * h : 0;
   // drift uncertainty τ (predictive.ts): every component's log-variance gains τ²h², exactly
   const tau = walk.driftSe !== undefined && walk.driftSe > 0 ? walk.driftSe : 0;
   const extra = tau > 0 ? tau * tau * h * h : 0;
@@ -55,7 +56,7 @@ export function walkDistribution(spot: number, years: number, q: number, walk: W
   }
   const m = j.mean;
   const d2 = j.sd * j.sd;
-  const kappa = Math.expm1(m + 0.5 * d2);
+  const kappa = jumpCompensator(j);
   const base = x0 + (walk.drift - q - j.intensity * kappa - 0.5 * sigma * sigma) * h;
   const comps: Component[] = [];
   const logLh = Math.log(lh);

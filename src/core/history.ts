@@ -21,6 +21,8 @@
  * a caret); `estimateHistory` expects closes that passed it and never throws.
  */
 
+import { DAY_MS } from './units.js';
+
 /** One close; `date` is an ISO day (YYYY-MM-DD) or absent for every close. */
 export interface Close {
   date?: string;
@@ -91,7 +93,6 @@ export interface HistoryEstimate {
   warnings: string[];
 }
 
-const DAY_MS = 86_400_000;
 const ISO_DAY = /^(\d{4})-(\d{2})-(\d{2})$/;
 
 /** Day number (days since 1970-01-01) of an ISO day, or null when it is not a real date. */

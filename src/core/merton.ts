@@ -24,14 +24,16 @@
 import { bsmGreeks, bsmValue } from './bsm.js';
 import type { IvResult } from './iv.js';
 import type { Greeks, Jumps, OptionKind } from './types.js';
-import { logFactorial } from './numeric.js';
+import { logFactorial } from './numeric/special.js';
+import { hasJumps, jumpCompensator } from './jumps.js';
 
 const TAIL = 1e-15;
 const MAX_TERMS = 20000;
 
 
-function hasJumps(j: Jumps | undefined, T: number): j is Jumps {
-  return !!j && j.intensity > 0 && T > 0;
+/** Jumps that act before expiry (the series reduces to BSM otherwise). */
+function jumpsAct(j: Jumps | undefined, T: number): j is Jumps {
+  return hasJumps(j) && T > 0;
 }
 
 function checkInputs(S: number, K: number, T: number, r: number, q: number, sigma: number, j: Jumps): void {
@@ -58,7 +60,7 @@ interface Term {
  * below TAIL·(S + K).
  */
 function forTerms(kind: OptionKind, S: number, K: number, T: number, r: number, q: number, sigma: number, j: Jumps, visit: (t: Term) => void): void {
-  const kappa = Math.expm1(j.mean + 0.5 * j.sd * j.sd);
+  const kappa = jumpCompensator(j);
   const lnJ = j.mean + 0.5 * j.sd * j.sd; // ln(1+κ)
   const lp = j.intensity * (1 + kappa) * T; // λ'T
   const lam = j.intensity * T; // λT
@@ -94,7 +96,7 @@ function forTerms(kind: OptionKind, S: number, K: number, T: number, r: number, 
 /** Merton jump-diffusion value per share of a European call or put. */
 export function mertonValue(kind: OptionKind, S: number, K: number, T: number, r: number, q: number, sigma: number, jumps: Jumps): number {
   checkInputs(S, K, T, r, q, sigma, jumps);
-  if (!hasJumps(jumps, T)) return bsmValue(kind, S, K, T, r, q, sigma);
+  if (!jumpsAct(jumps, T)) return bsmValue(kind, S, K, T, r, q, sigma);
   let v = 0;
   forTerms(kind, S, K, T, r, q, sigma, jumps, (t) => {
     if (t.w > 0) v += t.w * bsmValue(kind, S, K, T, t.rn, q, t.sn);
@@ -108,8 +110,8 @@ export function mertonValue(kind: OptionKind, S: number, K: number, T: number, r
 /** Value and Greeks per share under Merton jumps (vega: per vol point of the diffusion σ). */
 export function mertonGreeks(kind: OptionKind, S: number, K: number, T: number, r: number, q: number, sigma: number, jumps: Jumps): Greeks {
   checkInputs(S, K, T, r, q, sigma, jumps);
-  if (!hasJumps(jumps, T)) return bsmGreeks(kind, S, K, T, r, q, sigma);
-  const lp = jumps.intensity * (1 + Math.expm1(jumps.mean + 0.5 * jumps.sd * jumps.sd)) * T;
+  if (!jumpsAct(jumps, T)) return bsmGreeks(kind, S, K, T, r, q, sigma);
+  const lp = jumps.intensity * (1 + jumpCompensator(jumps)) * T;
   const lnJ = jumps.mean + 0.5 * jumps.sd * jumps.sd;
   const d2 = jumps.sd * jumps.sd;
   let value = 0;

@@ -23,6 +23,7 @@
  * twice the panels.
  */
 import { normCdf, normPdf } from './normal.js';
+import { GL8 } from './numeric/gauss-legendre.js';
 import { touchProb } from './touch.js';
 
 /** A drift with its weight in the mixture over μ. */
@@ -36,15 +37,9 @@ const Z_END = 8.3;
 /** Upper bound on the number of panels (each of 8 nodes). */
 const MAX_PANELS = 400;
 
-// 8-point Gauss-Legendre on [−1, 1] (Abramowitz & Stegun, Table 25.4)
-export const GL8_X = [
-  -0.9602898564975363, -0.7966664774136267, -0.525532409916329, -0.1834346424956498, 0.1834346424956498,
-  0.525532409916329, 0.7966664774136267, 0.9602898564975363,
-];
-export const GL8_W = [
-  0.1012285362903763, 0.2223810344533745, 0.3137066458778873, 0.362683783378362, 0.362683783378362,
-  0.3137066458778873, 0.2223810344533745, 0.1012285362903763,
-];
+// 8-point Gauss-Legendre on [−1, 1] (the core's rule, numeric/gauss-legendre.ts)
+export const GL8_X = GL8.t;
+export const GL8_W = GL8.w;
 
 export interface DriftNodeOptions {
   /**

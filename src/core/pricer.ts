@@ -12,6 +12,7 @@ import { americanGreeks, americanValueCurve } from './american.js';
 import { bsmGreeks, bsmValue } from './bsm.js';
 import { mertonGreeks, mertonValue } from './merton.js';
 import type { ExerciseStyle, Greeks, Jumps, LegInput, Market } from './types.js';
+import { activeJumps } from './jumps.js';
 
 export interface LegModel {
   market: Market;
@@ -23,7 +24,7 @@ export interface LegModel {
 export const EXPIRY_EPS = 1e-9;
 
 function jumpsOf(m: LegModel): Jumps | undefined {
-  return m.jumps && m.jumps.intensity > 0 ? m.jumps : undefined;
+  return activeJumps(m.jumps);
 }
 
 /** Today's per-share value and Greeks (shares: value = spot, delta 1, the rest 0). */

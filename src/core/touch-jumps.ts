@@ -18,6 +18,7 @@
  * Box-Muller transform; the same seed gives the same answer on every platform.
  */
 import type { Jumps } from './types.js';
+import { hasJumps, jumpCompensator, validJumps } from './jumps.js';
 
 export interface TouchJumpsOptions {
   /** number of simulated paths (default 20 000) */
@@ -133,7 +134,7 @@ export function touchProbJumps(
   const lam = jumps ? jumps.intensity : 0;
   const jm = jumps ? jumps.mean : 0;
   const jsd = jumps ? jumps.sd : 0;
-  if (!(Number.isFinite(lam) && lam >= 0 && Number.isFinite(jm) && Number.isFinite(jsd) && jsd >= 0)) {
+  if (jumps && !validJumps(jumps)) {
     throw new RangeError('touchProbJumps: jumps need intensity ≥ 0, a finite mean and s.d. ≥ 0');
   }
   const paths = Math.max(2, Math.floor(opts.paths ?? 20000));
@@ -147,7 +148,7 @@ export function touchProbJumps(
     const at = b === 0 ? 1 : 0;
     return { prob: at, stderr: 0, probBeyond: at, probBeyondStderr: 0, paths: 0 };
   }
-  const kappa = lam > 0 ? Math.expm1(jm + 0.5 * jsd * jsd) : 0;
+  const kappa = hasJumps(jumps) ? jumpCompensator(jumps) : 0;
   const nu = drift - q - 0.5 * sigma * sigma - lam * kappa;
   const s2 = sigma * sigma;
   const dtGrid = T / steps;

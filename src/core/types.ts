@@ -136,8 +136,8 @@ export interface CheckCore {
   position: PositionTotals;
   outcome: Outcome;
   curves: Curves;
-  /** which model produced which figure, and other assumptions worth stating */
-  notes: string[];
+  /** which model produced which figure, and other assumptions worth stating (the report words them) */
+  notes: CheckNote[];
   /** the outcome under the risk-neutral twin (drift = rate, the view's vol and jumps) */
   outcomeRiskNeutral?: {
     probProfit: number;
@@ -146,3 +146,22 @@ export interface CheckCore {
     tailMean05: number;
   };
 }
+
+/**
+ * What a check states about how its figures were made, as codes (the report turns them into
+ * words, src/report/notes.ts):
+ * - `values-bsm`, `values-merton`, `values-american` (`jumps`: with Merton jumps, a PIDE): the
+ *   model of the leg values;
+ * - `outcome-exact`: every option leg expires at the horizon (closed forms);
+ * - `outcome-integration`: Gauss-Legendre integration, live legs revalued with their own iv;
+ * - `shares-legs`: shares are in the money with probability 1 and their P&L leaves dividends out;
+ * - `not-finite`: some figures could not be computed and were replaced by 0.
+ */
+export type CheckNote =
+  | { code: 'values-bsm' }
+  | { code: 'values-merton' }
+  | { code: 'values-american'; jumps: boolean }
+  | { code: 'outcome-exact' }
+  | { code: 'outcome-integration' }
+  | { code: 'shares-legs' }
+  | { code: 'not-finite' };

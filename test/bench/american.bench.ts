@@ -4,8 +4,11 @@
  * run on the same option (goal: ≤ 2 ms per value). Also the convergence table of the
  * finite-difference solver, the full Greeks, the value curve and the implied vol; and the same
  * with Merton jumps (the PIDE) against the European Merton series.
+ *
+ * Repeated calls on the same option share one FdCache (grids and jump weights), as a caller that
+ * keeps one would; the line marked "cold" builds them afresh on every call.
  */
-import { americanFdValue, americanGreeks, americanImpliedVol, americanValue, americanValueCurve } from '../../src/core/american.js';
+import { americanFdValue, americanGreeks, americanImpliedVol, americanValue, americanValueCurve, FdCache } from '../../src/core/american.js';
 import { bbsrValue, crrValue } from '../../src/core/binomial.js';
 import { mertonValue } from '../../src/core/merton.js';
 import type { Jumps, OptionKind } from '../../src/core/types.js';
@@ -54,12 +57,13 @@ export function run(): void {
     console.log(`  trees within 1e-4: CRR ${crrN} steps${note(crrS)}, BBSR ${bbsrN} steps${note(bbsrS)}`);
     const crr = measure(`CRR tree, ${crrN} steps`, () => crrValue(c[0], true, c[1], c[2], c[3], c[4], c[5], c[6], crrN), 1, 1);
     const bbsr = measure(`BBSR tree, ${bbsrN} steps`, () => bbsrValue(c[0], true, c[1], c[2], c[3], c[4], c[5], c[6], bbsrN), 1, 1);
-    const fd = measure('americanValue (FD, normal)', () => americanValue(...c), 1, 2);
+    const cache = new FdCache();
+    const fd = measure('americanValue (FD, normal)', () => americanValue(...c, { cache }), 1, 2);
     report(crr);
     report(bbsr, crr);
     report(fd, crr, '≤ 2 ms per value');
     report(fd, bbsr);
-    report(measure('americanGreeks (5 Richardson solves)', () => americanGreeks(...c), 1, 1), fd);
+    report(measure('americanGreeks (5 Richardson solves)', () => americanGreeks(...c, { cache }), 1, 1), fd);
     report(measure("americanValue (FD, 'fine')", () => americanValue(...c, { accuracy: 'fine' }), 1, 1), fd);
     report(measure('americanValueCurve (one build)', () => americanValueCurve(c[0], c[2], c[3], c[4], c[5], c[6], c[2] * 0.3, c[2] * 3), 1, 1), fd);
     const curve = americanValueCurve(c[0], c[2], c[3], c[4], c[5], c[6], c[2] * 0.3, c[2] * 3);
@@ -77,9 +81,11 @@ export function run(): void {
   const jv = americanValue('put', 100, 100, 0.25, 0.05, 0, 0.15, { jumps: j });
   console.log(`  americanValue with jumps ${jv.toFixed(6)} (published 3.241251, from memory)`);
   const eu = measure('mertonValue (European series)', () => mertonValue('put', 100, 100, 0.25, 0.05, 0, 0.15, j), 1, 0.5);
-  const am = measure('americanValue with jumps (PIDE, normal)', () => americanValue('put', 100, 100, 0.25, 0.05, 0, 0.15, { jumps: j }), 1, 2);
+  const cache = new FdCache();
+  const am = measure('americanValue with jumps (PIDE, normal)', () => americanValue('put', 100, 100, 0.25, 0.05, 0, 0.15, { jumps: j, cache }), 1, 2);
   report(eu);
   report(am, eu);
-  report(measure('americanGreeks with jumps', () => americanGreeks('put', 100, 100, 0.25, 0.05, 0, 0.15, { jumps: j }), 1, 2), am);
+  report(measure('  cold (new grids and jump weights per call)', () => americanValue('put', 100, 100, 0.25, 0.05, 0, 0.15, { jumps: j }), 1, 2), am);
+  report(measure('americanGreeks with jumps', () => americanGreeks('put', 100, 100, 0.25, 0.05, 0, 0.15, { jumps: j, cache }), 1, 2), am);
   report(measure('americanValueCurve with jumps', () => americanValueCurve('put', 100, 0.25, 0.05, 0, 0.15, 30, 300, j), 1, 1), am);
 }

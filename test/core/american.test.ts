@@ -105,7 +105,7 @@ describe('americanFdValue: Hull American put and grid convergence', () => {
         const x = new Float64Array(n);
         const h = (10 * sigma * Math.sqrt(T)) / (n - 1);
         for (let i = 0; i < n; i++) x[i] = xK + (i - (n - 1) / 2) * h;
-        const sol = solveBackward(kind, K, T, r, q, sigma, x, nt, false, 1, 4, true, undefined, scheme);
+        const sol = solveBackward({ kind, K, T, r, q, sigma }, x, { nt, american: false, scheme });
         let e = 0;
         for (const S of [80, 95, 100, 110, 125]) {
           const i = Math.round((Math.log(S) - x[0]) / h);
@@ -359,7 +359,7 @@ describe('American options with Merton jumps (the PIDE)', () => {
         const sdTot = Math.sqrt((sigma * sigma + j.intensity * (j.mean * j.mean + j.sd * j.sd)) * T);
         const h = (12 * sdTot) / (n - 1);
         for (let i = 0; i < n; i++) x[i] = Math.log(K) + (i - (n - 1) / 2) * h;
-        const sol = solveBackward(kind, K, T, r, q, sigma, x, nt, false, 1, 4, true, j);
+        const sol = solveBackward({ kind, K, T, r, q, sigma, jumps: j }, x, { nt, american: false });
         let e = 0;
         for (const S of [80, 95, 100, 110, 125]) {
           const i = Math.round((Math.log(S) - x[0]) / h);

@@ -1,4 +1,4 @@
-/** Small numerical tools shared by the core modules. */
+/** Root finding on a bracket. */
 
 /**
  * Brent's root finder (Brent 1973, Algorithms for Minimization without Derivatives, ch. 4) on a
@@ -61,18 +61,4 @@ export function brentRoot(f: (x: number) => number, a: number, b: number, fa: nu
     fb = f(b);
   }
   return b;
-}
-
-/** ln(n!): exact sum for small n, Stirling's series beyond (error < 1e-15 relative for n ≥ 20). */
-export function logFactorial(n: number): number {
-  if (n < 20) {
-    let s = 0;
-    for (let k = 2; k <= n; k++) s += Math.log(k);
-    return s;
-  }
-  const x = n + 1;
-  return (
-    (x - 0.5) * Math.log(x) - x + 0.5 * Math.log(2 * Math.PI) +
-    1 / (12 * x) - 1 / (360 * x * x * x) + 1 / (1260 * x ** 5) - 1 / (1680 * x ** 7)
-  );
 }

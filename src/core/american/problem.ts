@@ -1,0 +1,60 @@
+/**
+ * The problem of one backward solve (an option under the walk with rate r, yield q, diffusion vol
+ * σ and optional Merton jumps), its payoff and its values at the far ends of the grid.
+ */
+import { jumpCompensator, jumpVariance, validJumps } from '../jumps.js';
+import type { Jumps, OptionKind } from '../types.js';
+
+export interface Problem {
+  kind: OptionKind;
+  K: number;
+  T: number;
+  r: number;
+  q: number;
+  sigma: number;
+  /** Merton jumps (only active ones count: intensity > 0) */
+  jumps?: Jumps;
+}
+
+export function payoff(kind: OptionKind, S: number, K: number): number {
+  return kind === 'call' ? Math.max(S - K, 0) : Math.max(K - S, 0);
+}
+
+/** Value on the boundary nodes at time to expiry τ. */
+export function boundaryValue(p: Problem, S: number, tau: number, american: boolean): number {
+  const { kind, K, r, q } = p;
+  const fwd = kind === 'call' ? S * Math.exp(-q * tau) - K * Math.exp(-r * tau) : K * Math.exp(-r * tau) - S * Math.exp(-q * tau);
+  const eu = Math.max(fwd, 0);
+  return american ? Math.max(eu, payoff(kind, S, K)) : eu;
+}
+
+/** Standard deviation of ln S_T: diffusion and jumps together. */
+export function totalSd(p: Problem): number {
+  const j = p.jumps;
+  const v = p.sigma * p.sigma + (j ? jumpVariance(j) : 0);
+  return Math.sqrt(v * p.T);
+}
+
+/** Half-width of the grid in x (from ln K), enough that the boundaries do not matter. */
+export function halfWidth(p: Problem, sds: number): number {
+  const s = totalSd(p);
+  const j = p.jumps;
+  const comp = j ? j.intensity * jumpCompensator(j) : 0;
+  const nu = Math.abs(p.r - p.q - 0.5 * p.sigma * p.sigma - comp) * p.T;
+  return sds * s + nu + 0.02;
+}
+
+/** Programming errors only (the request edge rejects bad input first): throws a RangeError. */
+export function checkInputs(S: number | null, K: number, T: number, r: number, q: number, sigma: number, jumps?: Jumps): void {
+  if (jumps && !validJumps(jumps)) {
+    throw new RangeError(`american: jumps need a finite intensity ≥ 0, a finite mean and an s.d. ≥ 0 (got ${jumps.intensity}, ${jumps.mean}, ${jumps.sd})`);
+  }
+  const bad = (what: string, v: number): never => {
+    throw new RangeError(`american: ${what} must be ${what === 'T' ? 'finite and ≥ 0' : 'finite and > 0'} (got ${v})`);
+  };
+  if (S !== null && !(Number.isFinite(S) && S > 0)) bad('S', S);
+  if (!(Number.isFinite(K) && K > 0)) bad('K', K);
+  if (!(Number.isFinite(T) && T >= 0)) bad('T', T);
+  if (!Number.isFinite(r) || !Number.isFinite(q)) throw new RangeError(`american: rate and yield must be finite (got ${r}, ${q})`);
+  if (!(Number.isFinite(sigma) && sigma >= 0)) throw new RangeError(`american: sigma must be finite and ≥ 0 (got ${sigma})`);
+}

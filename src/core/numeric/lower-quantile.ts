@@ -1,0 +1,71 @@
+/** The lower quantile of a nondecreasing function known by its evaluations. */
+
+/** Evaluations of a nondecreasing function G (a P&L cdf), kept sorted to bracket later solves. */
+export class CdfCache {
+  readonly ys: number[] = [];
+  readonly gs: number[] = [];
+  constructor(private readonly G: (y: number) => number) {}
+  at(y: number): number {
+    const g = this.G(y);
+    let i = this.ys.length;
+    while (i > 0 && this.ys[i - 1] > y) i--;
+    this.ys.splice(i, 0, y);
+    this.gs.splice(i, 0, g);
+    return g;
+  }
+}
+
+/**
+ * Lower quantile inf{y : G(y) ≥ p} of a nondecreasing G (a P&L cdf, possibly with jumps), given
+ * G(lo) < p ≤ G(hi) among the cached values: Illinois regula falsi with bisection safeguards, to a
+ * bracket of width `tol`; a jump (atom) inside the final bracket is returned exactly.
+ */
+export function lowerQuantile(cache: CdfCache, p: number, tol: number, atoms: number[]): number {
+  const { ys, gs } = cache;
+  // tightest bracket among the known evaluations (the first and last are the outer bracket)
+  let lo = ys[0];
+  let glo = gs[0] - p;
+  let hi = ys[ys.length - 1];
+  let ghi = gs[gs.length - 1] - p;
+  for (let i = 0; i < ys.length; i++) {
+    if (gs[i] < p) {
+      lo = ys[i];
+      glo = gs[i] - p;
+    } else {
+      hi = ys[i];
+      ghi = gs[i] - p;
+      break;
+    }
+  }
+  if (glo >= 0) return lo;
+  if (ghi < 0) return hi;
+  let side = 0;
+  let lastWidth = hi - lo;
+  for (let it = 0; it < 300 && hi - lo > tol; it++) {
+    let x = hi - (ghi * (hi - lo)) / (ghi - glo);
+    const margin = 0.01 * (hi - lo);
+    if (it % 4 === 3) {
+      // force progress: bisect if the bracket did not halve over the last steps
+      if (hi - lo > 0.5 * lastWidth) x = 0.5 * (lo + hi);
+      lastWidth = hi - lo;
+    }
+    if (!(x > lo + margin && x < hi - margin)) x = x <= lo + margin ? lo + margin : hi - margin;
+    if (!(x > lo && x < hi)) x = 0.5 * (lo + hi);
+    if (!(x > lo && x < hi)) break;
+    const gx = cache.at(x) - p;
+    if (gx >= 0) {
+      hi = x;
+      ghi = gx;
+      if (side === 1) glo *= 0.5;
+      side = 1;
+    } else {
+      lo = x;
+      glo = gx;
+      if (side === -1) ghi *= 0.5;
+      side = -1;
+    }
+  }
+  let best = hi;
+  for (const a of atoms) if (a > lo && a <= best && cache.at(a) >= p) best = a;
+  return best;
+}
