@@ -13,11 +13,9 @@
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { createInterface } from 'node:readline';
-import { askSync, type AskContext } from './service.js';
-import { COMPUTE_BUDGET_DEFAULT, overBudget } from './request/budget.js';
+import { askSync, COMPUTE_BUDGET_DEFAULT, openStore, defaultDbPath, type AskContext, type Store } from './verbs/ask.js';
 import type { Reply } from './reply.js';
 import { renderAnswerChart } from './report/answer-chart.js';
-import { openStore, defaultDbPath, type Store } from './store/store.js';
 
 export interface CliOptions {
   json: boolean;
@@ -68,17 +66,9 @@ function budgetOf(env = process.env): number {
   return Number.isFinite(v) && v > 0 ? v : COMPUTE_BUDGET_DEFAULT;
 }
 
-/**
- * One request from the command line or the console: the same compute budget as the chat app
- * (a request that would need too much work is refused before the engine runs), then the engine.
- */
+/** One request from the command line or the console: the seam, with the compute budget of the environment. */
 export function answerLocal(text: string, ctx: AskContext): Reply {
-  const refused = overBudget(text, budgetOf(), {
-    now: ctx.now,
-    logged: (n) => ctx.store?.get(ctx.channel, n)?.text,
-  });
-  if (refused) return refused;
-  return askSync(text, ctx);
+  return askSync(text, { budget: budgetOf(), ...ctx });
 }
 
 /** The text a terminal shows for a reply (answer, caution, warnings) — also used by the console. */

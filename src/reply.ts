@@ -3,7 +3,10 @@
  * The shell decides where each part goes; it never recomputes anything.
  */
 
-export type Verb = 'check' | 'compare' | 'iv' | 'touch' | 'mark' | 'log' | 'again' | 'help';
+import type { VerbName } from './verbs/registry.js';
+
+/** The verb an answer is to (the registry's names: src/verbs/registry.ts). */
+export type Verb = VerbName;
 
 /** A request that was rejected at the edge: shown only to the asker. */
 export interface Rejection {

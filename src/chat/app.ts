@@ -25,10 +25,9 @@ import bolt from '@slack/bolt';
 import type { webApi } from '@slack/bolt';
 import type { HttpConfig, SocketConfig } from '../config.js';
 import { boltLogger, scrub, type Log } from '../log.js';
-import type { Verb } from '../reply.js';
-import { openStore, defaultDbPath, type Store } from '../store/store.js';
+import { openStore, defaultDbPath, verbOfText, type Store } from '../verbs/ask.js';
 import { plainNotice, type Block } from './blocks.js';
-import type { Answer } from '../reply.js';
+import type { Answer, Verb } from '../reply.js';
 import { answerActions } from './actions/buttons.js';
 import { privateLog, registerInteractive } from './interactive.js';
 import { BoundedClient } from './client.js';
@@ -65,16 +64,11 @@ export interface ChatApp {
   stop(): Promise<void>;
 }
 
-const VERBS = new Set<Verb>(['check', 'compare', 'iv', 'touch', 'mark', 'log', 'again', 'help']);
 /** answers that carry buttons (logged checks) */
 const ANSWER_BUTTON_VERBS = new Set<Verb>(['check', 'compare', 'iv', 'touch', 'again']);
 
 /** The verb a request text starts with, for the log line (the engine decides what it means). */
-export function verbOf(text: string): string {
-  const w = text.trim().split(/\s+/, 1)[0]?.toLowerCase() ?? '';
-  if (VERBS.has(w as Verb)) return w;
-  return /^[+-]?\d/.test(w) ? 'check' : 'unknown';
-}
+export const verbOf = verbOfText;
 
 /** Removes mentions of the app itself from a mention's text. */
 export function stripMention(text: string, botUserId: string | undefined): string {

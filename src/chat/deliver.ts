@@ -14,7 +14,7 @@
  */
 import type { webApi } from '@slack/bolt';
 import type { Reply, Answer } from '../reply.js';
-import type { Store } from '../store/store.js';
+import type { Store } from '../verbs/ask.js';
 import { scrub } from '../log.js';
 import { answerMessages, BLOCKS_PER_MESSAGE_MAX, escapeMrkdwn, monoNotice, plainNotice, rootMessage, SECTION_TEXT_MAX, type Block, type Message } from './blocks.js';
 

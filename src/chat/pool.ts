@@ -25,7 +25,7 @@
 import { fork, type ChildProcess } from 'node:child_process';
 import { setPriority } from 'node:os';
 import { fileURLToPath } from 'node:url';
-import type { Store } from '../store/store.js';
+import type { Store } from '../verbs/ask.js';
 import { work, type Job, type WorkResult } from './work.js';
 
 export interface Engine {

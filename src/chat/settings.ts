@@ -9,7 +9,7 @@
  *   KOLMO_SHUTDOWN_GRACE    seconds SIGTERM waits for answers in progress   (default 10)
  */
 import { USER_RATE_DEFAULTS, type UserRateOptions } from './ratelimit.js';
-import { COMPUTE_BUDGET_DEFAULT } from '../request/budget.js';
+import { COMPUTE_BUDGET_DEFAULT } from '../verbs/ask.js';
 
 export interface ChatSettings {
   userRate: UserRateOptions;

@@ -2,16 +2,14 @@
  * One unit of heavy work for the chat app: the engine's answer and its chart as PNG bytes.
  * Runs inside a worker process (worker.ts) or, with KOLMO_WORKERS=0, on the main thread.
  *
- * Before the engine runs, the request's estimated cost is held against the compute budget
- * (budget.ts). A request resumed after a restart (`resumed`) may already be in the log — the
+ * The seam (src/verbs/ask.ts) holds the request's estimated cost against the compute budget
+ * before the engine runs. A request resumed after a restart (`resumed`) may already be in the log — the
  * previous process can have logged it and died before posting — so its log entry is found again
  * instead of being appended twice (see `onceOnly`).
  */
-import { ask } from '../service.js';
+import { ask, type LogEntry, type LogEntryInput, type Store } from '../verbs/ask.js';
 import type { Reply } from '../reply.js';
 import { renderAnswerChart } from '../report/answer-chart.js';
-import type { LogEntry, LogEntryInput, Store } from '../store/store.js';
-import { COMPUTE_BUDGET_DEFAULT, overBudget } from '../request/budget.js';
 import { applyDefaults } from './desk/defaults.js';
 
 export interface Job {
@@ -20,7 +18,7 @@ export interface Job {
   user: string;
   /** ISO time the request arrived */
   now: string;
-  /** compute units this request may use (default COMPUTE_BUDGET_DEFAULT) */
+  /** compute units this request may use (default: the seam's COMPUTE_BUDGET_DEFAULT) */
   budget?: number;
   /** answered once before by a process that stopped before finishing: log it at most once */
   resumed?: boolean;
@@ -64,22 +62,6 @@ export function onceOnly(store: Store): Store {
 
 export async function work(job: Job, store: Store | null): Promise<WorkResult> {
   const t0 = performance.now();
-  const logged = (n: number): string | undefined => {
-    try {
-      return store?.get(job.channel, n)?.text;
-    } catch {
-      return undefined;
-    }
-  };
-  const refused = overBudget(job.text, job.budget ?? COMPUTE_BUDGET_DEFAULT, { now: new Date(job.now), logged });
-  if (refused) {
-    try {
-      store?.countRejected(job.channel);
-    } catch {
-      /* a counter that cannot be written loses nothing the asker needs */
-    }
-    return { reply: refused, ms: performance.now() - t0 };
-  }
   const s = store && job.resumed ? onceOnly(store) : store;
   let text = job.text;
   let used: string[] = [];
@@ -97,7 +79,7 @@ export async function work(job: Job, store: Store | null): Promise<WorkResult> {
       /* defaults that cannot be read leave the request as written */
     }
   }
-  let reply = await ask(text, { channel: job.channel, user: job.user, now: new Date(job.now), store: s, inWorkspace: true });
+  let reply = await ask(text, { channel: job.channel, user: job.user, now: new Date(job.now), store: s, inWorkspace: true, budget: job.budget });
   if (reply.kind === 'answer') {
     const lines = [
       ...(job.preface ? [job.preface] : []),

@@ -3,7 +3,7 @@
  * (SQLite allows several), then answers jobs one at a time over the IPC channel. It ends when
  * the app goes away (the channel disconnects) or is told to stop.
  */
-import { openStore, type Store } from '../store/store.js';
+import { openStore, type Store } from '../verbs/ask.js';
 import { work, type Job } from './work.js';
 
 let store: Store | null = null;

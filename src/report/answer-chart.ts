@@ -1,5 +1,5 @@
 /**
- * Turns the chart part of an answer (a plain chart input: see src/service.ts `chartInputOf`)
+ * Turns the chart part of an answer (a plain chart input: see ./chart-input.ts and ./compare.ts)
  * into PNG bytes. Never throws: a failure becomes a note, and the shell sends the text alone.
  */
 import { checkChartConfig, compareChartConfig, type ChartInput } from './chart.js';

@@ -24,6 +24,12 @@ export function pct(p: number, decimals = 1): string {
 }
 
 /** A rate or vol given as a decimal, as a percentage with up to two decimals: 0.045 → "4.5%". */
+/** A change of a chance in percentage points: "+4.2 pts", "−0.3 pts" (a change that rounds to 0 is "+0.0"). */
+export function pts(d: number): string {
+  const v = Math.abs(d * 100).toFixed(1);
+  return `${d < 0 && v !== '0.0' ? '−' : '+'}${v} pts`;
+}
+
 export function rate(x: number): string {
   if (!Number.isFinite(x)) return 'n/a';
   const v = Math.round(x * 10000) / 100;

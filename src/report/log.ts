@@ -2,7 +2,6 @@
  * The channel's log (`log [N]`) and marks (`mark`) as monospace listings. Layout and labels are
  * Kolmo's own (DESIGN.md §1).
  */
-import type { LogEntry, Mark } from '../store/store.js';
 import { level, money, pct, rate, table } from './format.js';
 import { cut } from './compare.js';
 
@@ -32,6 +31,34 @@ export function isStale(at: string, now: Date): boolean {
   return !Number.isFinite(t) || now.getTime() - t > DAY_MS;
 }
 
+/** What a listing reads of a logged check (the log keeps more). */
+export interface LoggedCheck {
+  number: number;
+  user: string;
+  /** ISO time of the check */
+  at: string;
+  verb: string;
+  text: string;
+  /** headline figures as logged (position words, chance of profit, …; `parts` for a comparison) */
+  summary: Record<string, unknown>;
+  permalink: string | null;
+  delivered: string;
+}
+
+/** What a listing reads of a mark. */
+export interface MarkShown {
+  symbol: string;
+  spot?: number;
+  iv?: number;
+  yield?: number;
+  rate?: number;
+  user: string;
+  at: string;
+}
+
+/** What a verb adds after the position words of one of its entries (e.g. " → iv 26.98%"). */
+export type ResultWords = (e: LoggedCheck) => string;
+
 const num = (v: unknown): number | undefined => (typeof v === 'number' && Number.isFinite(v) ? v : undefined);
 
 interface PartFigures {
@@ -40,7 +67,7 @@ interface PartFigures {
 }
 
 /** The figures of a logged entry as the log shows them: chance of profit and expected P&L (ranges for a comparison). */
-export function entryFigures(e: LogEntry): { chance: string; pnl: string } {
+export function entryFigures(e: LoggedCheck): { chance: string; pnl: string } {
   const s = e.summary;
   const parts = Array.isArray(s.parts) ? (s.parts as PartFigures[]) : null;
   if (parts && parts.length) {
@@ -60,11 +87,10 @@ export function entryFigures(e: LogEntry): { chance: string; pnl: string } {
 }
 
 /** The words of a logged entry: the position, or what an iv / touch request asked, and its result. */
-export function entryWords(e: LogEntry): string {
+export function entryWords(e: LoggedCheck, result: ResultWords): string {
   const s = e.summary;
   let w = typeof s.position === 'string' && s.position !== '' ? s.position : e.text;
-  if (e.verb === 'iv' && num(s.iv) !== undefined) w += ` → iv ${pct(num(s.iv)!, 2)}`;
-  if (e.verb === 'touch' && num(s.probTouch) !== undefined) w += ` → ${pct(num(s.probTouch)!)} (view)`;
+  w += result(e);
   if (num(s.againOf) !== undefined) w = `again #${num(s.againOf)}: ${w}`;
   if (e.delivered === 'undelivered') w += ' (not posted)';
   return w;
@@ -86,7 +112,7 @@ export function safeUrl(u: string | null): string | null {
  * The log listing, newest first. `linksInline`: write each thread link as a line of the text
  * (outside a workspace, where links cannot be rendered); otherwise they are returned apart.
  */
-export function logText(entries: LogEntry[], asked: number, linksInline: boolean): LogListing {
+export function logText(entries: LoggedCheck[], asked: number, linksInline: boolean, result: ResultWords): LogListing {
   if (entries.length === 0) return { text: 'No checks in this channel\'s log yet.', links: [] };
   // two lines per entry (number, who, when, figures; then the position in words) to stay narrow
   const rows: string[][] = [['#', 'who', 'when (UTC)', 'chance', 'exp. P&L']];
@@ -95,7 +121,7 @@ export function logText(entries: LogEntry[], asked: number, linksInline: boolean
   for (const e of entries) {
     const f = entryFigures(e);
     rows.push([`#${e.number}`, cut(e.user, 14), whenUtc(e.at), f.chance, f.pnl]);
-    words.push(`    ${cut(entryWords(e), 66)}`);
+    words.push(`    ${cut(entryWords(e, result), 66)}`);
     const url = safeUrl(e.permalink);
     if (url) links.push({ label: `#${e.number}`, url });
   }
@@ -116,7 +142,7 @@ export function logText(entries: LogEntry[], asked: number, linksInline: boolean
 }
 
 /** The channel's marks, with their age and a stale flag. */
-export function marksText(marks: Mark[], now: Date): string {
+export function marksText(marks: MarkShown[], now: Date): string {
   if (marks.length === 0) return 'No marks in this channel yet. Record one with `mark FERNWK spot 84.20 iv 31% yield 1.2%`.';
   const rows: string[][] = [['symbol', 'spot', 'iv', 'yield', 'rate', 'by', 'age']];
   for (const m of marks) {

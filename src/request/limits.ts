@@ -10,8 +10,8 @@ export const LIMITS = {
   legs: 50,
   /** total variance of ln S over a leg's life or the horizon (diffusion + jumps): s.d. ≤ 10 */
   maxLogVariance: 100,
-  /** parts of one comparison */
-  compareParts: 8,
+  /** parts of one comparison (the comparison chart draws six) */
+  compareParts: 6,
   /** |qty| of an option leg, in contracts */
   qtyContracts: 100_000,
   /** |qty| of a shares leg, in shares */

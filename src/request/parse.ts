@@ -25,6 +25,7 @@ import { HELP_TOPICS } from './help.js';
 import { LIMITS, SPAN_MAX } from './limits.js';
 import { NUMBER, PERCENT, PER_YEAR, SPAN, percentValue, tokenize, type Tok } from './lex.js';
 import { requestSchema } from './schema.js';
+import { verbNamed, verbNames, verbOfWord } from '../verbs/registry.js';
 import type {
   AgainRequest,
   CheckRequest,
@@ -154,9 +155,6 @@ const TERM_WORDS: Record<string, TermName> = {
   on: 'on',
 };
 
-const VERBS = ['check', 'compare', 'iv', 'touch', 'mark', 'log', 'again', 'help'] as const;
-type Verb = (typeof VERBS)[number];
-
 /** Extra terms of particular verbs. */
 type Extra = 'price' | 'by';
 type AnyTerm = TermName | Extra;
@@ -184,19 +182,6 @@ const ALLOWED: Record<'check' | 'iv' | 'touch' | 'mark' | 'again', readonly AnyT
   mark: ['spot', 'iv', 'yield', 'rate'],
   again: [...ALL_TERMS, 'price', 'by'],
 };
-
-const KNOWN_WORDS = [
-  ...VERBS,
-  ...Object.keys(TERM_WORDS),
-  'call',
-  'put',
-  'shares',
-  'price',
-  'by',
-  'today',
-  'american',
-  'european',
-];
 
 /** Restricted Damerau–Levenshtein distance (for "did you mean"). */
 function editDistance(a: string, b: string): number {
@@ -282,7 +267,7 @@ function isSpecToken(t: Tok): boolean {
 
 /** Is the word a keyword of the grammar (so it cannot be a value)? */
 function isKeyword(low: string): boolean {
-  return low in TERM_WORDS || low in TYPE_WORDS || (VERBS as readonly string[]).includes(low) || low === 'price' || low === 'by';
+  return low in TERM_WORDS || low in TYPE_WORDS || verbNames().includes(low as never) || low === 'price' || low === 'by';
 }
 
 /**
@@ -777,7 +762,7 @@ function stray(c: Cursor, t: Tok, verb: BodyVerb, allowed: readonly AnyTerm[], l
     if (!legsOk) return c.reject(t, `${verb} takes no legs; it takes ${list}`);
     return c.reject(t, `a leg starts with its quantity: +1 ${t.text} (long) or -1 ${t.text} (short)`, insertBefore(t, '+1'));
   }
-  if ((VERBS as readonly string[]).includes(low)) {
+  if (verbNames().includes(low as never)) {
     return c.reject(t, `'${t.text}' is a verb and goes at the start of a request`);
   }
   const words = SPAN_WORDS.exec(t.text);
@@ -849,6 +834,11 @@ function parseCheck(src: string, toks: Tok[], from: number, to: number): CheckPa
   return { check: checkOf(body, c.end()), legToks: body.legToks, termToks: body.termToks, toks };
 }
 
+/** The grammar hook of `check`: a check from `from` (after the word `check`, or 0 when it starts with a leg). */
+export function parseCheckVerb(src: string, toks: Tok[], from: number): CheckRequest {
+  return parseCheck(src, toks, from, toks.length).check;
+}
+
 /** Merge a later part into the check before it: terms override, legs (if any) replace. */
 export function mergeCheck(prev: CheckRequest, next: CheckRequest): CheckRequest {
   const terms: Terms = { ...prev.terms };
@@ -868,7 +858,7 @@ export function mergeCheck(prev: CheckRequest, next: CheckRequest): CheckRequest
   };
 }
 
-function parseCompare(src: string, toks: Tok[]): CompareRequest {
+export function parseCompare(src: string, toks: Tok[]): CompareRequest {
   const head = toks[0];
   // split on ';'
   const groups: [number, number][] = [];
@@ -888,8 +878,16 @@ function parseCompare(src: string, toks: Tok[]): CompareRequest {
     }
   }
   if (groups.length > LIMITS.compareParts) {
-    const t = toks[groups[LIMITS.compareParts][0]];
-    throw rejectAt(t, `a comparison has at most ${LIMITS.compareParts} parts`, undefined, 'compare');
+    const first = toks[groups[LIMITS.compareParts][0]];
+    const last = toks[groups[LIMITS.compareParts][1] - 1];
+    const kept = toks[groups[LIMITS.compareParts - 1][1] - 1];
+    throw new Reject(
+      `a comparison takes at most ${LIMITS.compareParts} checks and this one has ${groups.length}: drop the parts from here on, or split it into two comparisons`,
+      first.at,
+      last.at + last.len - first.at,
+      { at: kept.at + kept.len, length: src.length - kept.at - kept.len, text: '' },
+      'compare',
+    );
   }
   if (groups.length < 2) {
     const last = toks[toks.length - 1];
@@ -922,7 +920,7 @@ function parseCompare(src: string, toks: Tok[]): CompareRequest {
   return { verb: 'compare', parts, checks };
 }
 
-function parseIv(src: string, toks: Tok[]): IvRequest {
+export function parseIv(src: string, toks: Tok[]): IvRequest {
   const c = new Cursor(src, toks, 1, toks.length, 'iv');
   const head = toks[0];
   const kTok = c.peek();
@@ -977,7 +975,7 @@ function parseIv(src: string, toks: Tok[]): IvRequest {
   };
 }
 
-function parseTouch(src: string, toks: Tok[]): TouchRequest {
+export function parseTouch(src: string, toks: Tok[]): TouchRequest {
   const c = new Cursor(src, toks, 1, toks.length, 'touch');
   const head = toks[0];
   const lTok = c.peek();
@@ -998,7 +996,7 @@ function parseTouch(src: string, toks: Tok[]): TouchRequest {
   };
 }
 
-function parseMark(src: string, toks: Tok[]): MarkRequest {
+export function parseMark(src: string, toks: Tok[]): MarkRequest {
   const c = new Cursor(src, toks, 1, toks.length, 'mark');
   if (c.done()) return { verb: 'mark', terms: {} };
   const sTok = c.peek()!;
@@ -1025,7 +1023,7 @@ function readWholeNumber(c: Cursor, t: Tok, what: string, min: number, max: numb
   return n;
 }
 
-function parseLog(src: string, toks: Tok[]): LogRequest {
+export function parseLog(src: string, toks: Tok[]): LogRequest {
   const c = new Cursor(src, toks, 1, toks.length, 'log');
   if (c.done()) return { verb: 'log', count: LIMITS.logDefault };
   const count = readWholeNumber(c, c.peek()!, 'log', 1, LIMITS.logMax, '20');
@@ -1034,7 +1032,9 @@ function parseLog(src: string, toks: Tok[]): LogRequest {
   return { verb: 'log', count };
 }
 
-function parseAgain(src: string, toks: Tok[]): AgainRequest {
+export function parseAgain(src: string, toks: Tok[]): AgainRequest {
+  const semi = toks.find((t) => t.text === ';');
+  if (semi) throw rejectAt(semi, `again takes overrides for one check; ';' belongs to compare`, undefined, 'again');
   const c = new Cursor(src, toks, 1, toks.length, 'again');
   const nTok = c.peek();
   if (!nTok) throw c.missing(toks[0], 'again needs the number of a check in the log, e.g. again 17', '17');
@@ -1046,7 +1046,7 @@ function parseAgain(src: string, toks: Tok[]): AgainRequest {
   return { verb: 'again', number, rest: src.slice(restTok.at, c.end()), restAt: restTok.at };
 }
 
-function parseHelp(src: string, toks: Tok[]): HelpRequest {
+export function parseHelp(src: string, toks: Tok[]): HelpRequest {
   const c = new Cursor(src, toks, 1, toks.length, 'help');
   const t = c.peek();
   if (!t) return { verb: 'help' };
@@ -1074,37 +1074,17 @@ function parseRequest(src: string): Request {
     throw new Reject('the request is empty: start with a leg (e.g. +1 call 100 3m) or a verb (help lists them)', 0, 1, undefined, 'check');
   }
   const first = toks[0];
+  const verb = verbOfWord(first.low);
   // any ';' outside a comparison is a misplaced compare
-  if (first.low !== 'compare' && first.low !== 'again') {
+  if (!verb?.readsSemicolons) {
     const semi = toks.find((t) => t.text === ';');
     if (semi) {
       throw rejectAt(semi, `';' separates the parts of a comparison: start the request with compare`, { at: 0, length: 0, text: 'compare ' }, 'compare');
     }
   }
-  switch (first.low) {
-    case 'check':
-      return parseCheck(src, toks, 1, toks.length).check;
-    case 'compare':
-      return parseCompare(src, toks);
-    case 'iv':
-      return parseIv(src, toks);
-    case 'touch':
-      return parseTouch(src, toks);
-    case 'mark':
-      return parseMark(src, toks);
-    case 'log':
-      return parseLog(src, toks);
-    case 'again': {
-      const semi = toks.find((t) => t.text === ';');
-      if (semi) throw rejectAt(semi, `again takes overrides for one check; ';' belongs to compare`, undefined, 'again');
-      return parseAgain(src, toks);
-    }
-    case 'help':
-    case '?':
-      return parseHelp(src, toks);
-  }
+  if (verb) return verb.grammar(src, toks, 1);
   const c = new Cursor(src, toks, 0, toks.length, 'check');
-  if (isLegStart(c)) return parseCheck(src, toks, 0, toks.length).check;
+  if (isLegStart(c)) return verbNamed('check').grammar(src, toks, 0);
   // not a verb, not a leg
   const plain = plainNumber(first);
   if (plain !== undefined) throw plainReject(c, first, plain);
@@ -1124,10 +1104,11 @@ function parseRequest(src: string): Request {
   if (first.low in TERM_WORDS) {
     throw rejectAt(first, `a check starts with its legs; market terms such as ${TERM_WORDS[first.low]} come after them`, insertBefore(first, '+1 call 100 3m iv 30%'));
   }
-  const guess = closest(first.low, VERBS);
+  const names = verbNames();
+  const guess = closest(first.low, names);
   throw rejectAt(
     first,
-    `unknown verb '${first.text}'${guess ? ` — did you mean ${guess}?` : ''}; a request starts with a leg (e.g. +1 call 100 3m) or one of ${VERBS.join(', ')}`,
+    `unknown verb '${first.text}'${guess ? ` — did you mean ${guess}?` : ''}; a request starts with a leg (e.g. +1 call 100 3m) or one of ${names.join(', ')}`,
     guess ? replaceTok(first, guess) : undefined,
   );
 }

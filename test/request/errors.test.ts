@@ -287,7 +287,7 @@ describe('structure', () => {
     bad('compare +1 call 100 3m ; ; drift 0%', ';', /empty part/, 1);
     bad('compare drift 0% ; drift 5%', 'drift', /first part of a comparison .* starts with a leg/);
     const text = 'compare +1 call 100 3m' + ' ; drift 1%'.repeat(8);
-    bad(text, 'drift', /at most 8 parts/, 7);
+    bad(text, 'drift 1%', /at most 6 checks/, 5);
     bad('compare +1 call 100 3m ; vol 0.3', '0.3', /did you mean 30%/);
   });
 

@@ -7,7 +7,7 @@
  * years, horizon 13 years out) measured about 51 s of computing before the budget existed.
  */
 import { describe, it, expect } from 'vitest';
-import { COMPUTE_BUDGET_DEFAULT, overBudget, requestCost } from '../../src/request/budget.js';
+import { COMPUTE_BUDGET_DEFAULT, overBudget, requestCost } from '../../src/verbs/ask.js';
 
 const NOW = new Date('2027-01-04T12:00:00Z');
 const base = 'check +1 c 100 2028-01-04 iv 30% spot 100 rate 4% drift 8% asof 2027-01-04';

@@ -1,6 +1,6 @@
 /**
  * The full request path — the compute budget (src/chat/budget.ts), parse → resolve → engine →
- * report (src/service.ts `askSync`, with a real in-memory log so `log`, `again` and `mark` do
+ * report (src/verbs/ask.ts `askSync`, with a real in-memory log so `log`, `again` and `mark` do
  * real work) → chart (src/report/answer-chart.ts) — on 100,000 seeded requests generated from the
  * grammar (DESIGN.md §2: legs, terms, percentages, dates, spans, jumps, `style american`, every
  * verb) and mutated (tokens deleted, duplicated, swapped or glued; numbers made huge, tiny,
@@ -19,10 +19,10 @@
  */
 import { describe, it, expect } from 'vitest';
 import fc from 'fast-check';
-import { askSync } from '../../src/service.js';
+import { askSync } from '../../src/verbs/ask.js';
 import { renderAnswerChart } from '../../src/report/answer-chart.js';
 import { openStore, type Store } from '../../src/store/store.js';
-import { COMPUTE_BUDGET_DEFAULT, overBudget } from '../../src/request/budget.js';
+import { COMPUTE_BUDGET_DEFAULT, overBudget } from '../../src/verbs/ask.js';
 
 const RUNS = Number(process.env.KOLMO_FUZZ_RUNS ?? 100_000);
 const SEED = 20261202;

@@ -2,7 +2,7 @@
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { askSync, type AskContext } from '../../src/service.js';
+import { askSync, type AskContext } from '../../src/verbs/ask.js';
 import type { Answer, Rejection, Reply } from '../../src/reply.js';
 import { openStore, type OpenOptions, type Store } from '../../src/store/store.js';
 

@@ -11,9 +11,7 @@
  * A variation keeps the logged check's day (`asof`) when it was not today, so "spot −5%" changes
  * the spot and nothing else; "re-run on today's mark" is the one that moves the day.
  */
-import { parse, parseCheckPart } from '../../request/parse.js';
-import type { CheckRequest } from '../../request/types.js';
-import { LIMITS } from '../../request/limits.js';
+import { LIMITS, parse, parseCheckPart, type CheckRequest } from '../../verbs/ask.js';
 
 export type Variation = 'spot_down' | 'spot_up' | 'vol_down' | 'vol_up' | 'drift_rate' | 'rerun_mark';
 export const VARIATIONS: readonly Variation[] = ['spot_down', 'spot_up', 'vol_down', 'vol_up', 'drift_rate', 'rerun_mark'];

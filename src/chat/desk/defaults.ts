@@ -9,10 +9,7 @@
  * or before the earliest option expiry (otherwise the usual default, the earliest expiry, stays).
  */
 import type { types } from '@slack/bolt';
-import { LIMITS, SPAN_MAX } from '../../request/limits.js';
-import { resolveSpec } from '../../request/dates.js';
-import { parse } from '../../request/parse.js';
-import type { CheckRequest, Request } from '../../request/types.js';
+import { LIMITS, SPAN_MAX, parse, resolveSpec, type CheckRequest, type Request } from '../../verbs/ask.js';
 import { pctText } from '../actions/variations.js';
 
 export interface PersonalDefaults {

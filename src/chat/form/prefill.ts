@@ -6,9 +6,7 @@
  * as its first part (the form builds one check). What the form has no field for is listed in
  * `dropped`, so the form can say so instead of losing it silently.
  */
-import { resolveSpec } from '../../request/dates.js';
-import { parse } from '../../request/parse.js';
-import type { CheckRequest, ExpirySpec } from '../../request/types.js';
+import { parse, resolveSpec, type CheckRequest, type ExpirySpec } from '../../verbs/ask.js';
 import { FORM_LEGS_MAX, type FormValues, type LegValues } from './compose.js';
 
 export interface Prefill {

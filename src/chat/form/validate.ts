@@ -5,9 +5,7 @@
  * goes back onto the form's field (`response_action: "errors"`) instead of a message after the
  * form has closed. The engine itself runs after the form closes, through the usual path.
  */
-import { COMPUTE_BUDGET_DEFAULT, overBudget } from '../../request/budget.js';
-import { formatError, parse } from '../../request/parse.js';
-import { resolveCheck, type MarkTerms } from '../../request/resolve.js';
+import { COMPUTE_BUDGET_DEFAULT, formatError, overBudget, parse, resolveCheck, type MarkTerms } from '../../verbs/ask.js';
 import type { Rejection } from '../../reply.js';
 
 export interface QuickContext {

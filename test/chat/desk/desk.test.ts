@@ -2,7 +2,7 @@
 import { describe, expect, it } from 'vitest';
 import { applyDefaults, defaultsView, defaultsWords, readDefaults } from '../../../src/chat/desk/defaults.js';
 import { myDeskView, summaryLine, DESK_CHECKS, type DeskCheck } from '../../../src/chat/desk/view.js';
-import { askSync } from '../../../src/service.js';
+import { askSync } from '../../../src/verbs/ask.js';
 import type { Answer } from '../../../src/reply.js';
 
 const NOW = new Date('2027-01-04T12:00:00Z');

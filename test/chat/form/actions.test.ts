@@ -6,7 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import { answerActions, parseCheckKey, variationOfAction, VARY_ACTIONS, checkKey } from '../../../src/chat/actions/buttons.js';
 import { usesMark, variationText, type Variation } from '../../../src/chat/actions/variations.js';
-import { askSync } from '../../../src/service.js';
+import { askSync } from '../../../src/verbs/ask.js';
 import type { Answer } from '../../../src/reply.js';
 import { openStore } from '../../../src/store/store.js';
 import { mkdtempSync, rmSync } from 'node:fs';

@@ -11,7 +11,7 @@ import { checkFormView, decodeMeta, encodeMeta, fieldsShown, readForm, MODAL_BLO
 import { parse } from '../../../src/request/parse.js';
 import { EXAMPLES } from '../../../src/request/examples.js';
 import type { CheckRequest } from '../../../src/request/types.js';
-import { askSync } from '../../../src/service.js';
+import { askSync } from '../../../src/verbs/ask.js';
 import type { Reply } from '../../../src/reply.js';
 
 const NOW = new Date('2027-01-04T12:00:00Z');

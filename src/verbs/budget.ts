@@ -1,7 +1,7 @@
 /**
  * The compute budget of one request, checked before the engine runs.
  *
- * The request layer bounds each input on its own (LIMITS: 2000 characters, 50 legs, 8 comparison
+ * The request layer bounds each input on its own (LIMITS: 2000 characters, 50 legs, 6 comparison
  * parts, finite sane numbers), but their product can still be large: every option leg of every
  * part is valued under the view and its risk-neutral twin and, before its expiry, revalued across
  * the horizon's spot distribution; with Merton jumps each value is a Poisson series whose length
@@ -14,17 +14,17 @@
  *                                            JUMP_BASE + JUMP_PER_TERM·λT
  *     and a horizon before its expiry        + (1 + JUMP_SD_WEIGHT·δ²)·(JUMP_HORIZON_BASE + JUMP_HORIZON_PER_TERM·λT)
  *
- * fitted to timings of askSync on 50-leg checks (European 45–66 ms; early exercise 0.5–0.7 s;
+ * fitted to timings of the seam (./ask.ts) on 50-leg checks (European 45–66 ms; early exercise 0.5–0.7 s;
  * jumps at 5/yr 1.4 s, at 50/yr with a horizon 4.1 s) and on one leg with jumps of s.d. 200%:
  * 20/yr over 4 years 2.0 s, 100/yr over 1 year 3.9 s, 100/yr over 30 years 0.25 s at expiry and
  * 51 s with the horizon 13 years out — the case this budget exists for. The estimate errs high.
  * A request above the budget gets a clear rejection before any work is done; the worker pool's
  * per-request deadline (KOLMO_TASK_TIMEOUT) stays as the hard stop behind it.
  */
-import { applyAgain } from './again.js';
-import { formatError, parse } from './parse.js';
-import type { CheckRequest, ExpirySpec, Request } from './types.js';
+import { formatError } from '../request/parse.js';
+import type { CheckRequest, ExpirySpec } from '../request/types.js';
 import type { Rejection } from '../reply.js';
+import type { Cost } from './verb.js';
 
 export const COMPUTE_BUDGET_DEFAULT = 6000;
 export const EARLY_EXERCISE_UNITS = 14;
@@ -71,47 +71,9 @@ export function checkCost(c: CheckRequest, now: Date = new Date()): number {
   return Math.max(1, Math.ceil(units));
 }
 
-export interface CostContext {
-  now?: Date;
-  /** the logged text of check N of the asker's channel (for `again N`), if it can be read */
-  logged?: (n: number) => string | undefined;
-}
-
-function costOf(r: Request, now: Date): number {
-  if (r.verb === 'check') return checkCost(r, now);
-  if (r.verb === 'compare' && r.checks) return r.checks.reduce((s, c) => s + checkCost(c, now), 0);
-  return 0;
-}
-
-/**
- * Units the request would need, where they can be known from its text (a check, a comparison, or
- * `again N` with its changes applied to the logged check); 0 for verbs whose work is small (help,
- * log, mark, iv, touch) and for text that does not parse (the engine rejects it with its own
- * message).
- */
-export function requestCost(text: string, ctx: CostContext = {}): { units: number; at: number; what: string } {
-  const now = ctx.now ?? new Date();
-  const p = parse(text);
-  if (!p.ok) return { units: 0, at: 0, what: '' };
-  const r = p.request;
-  if (r.verb === 'check') return { units: costOf(r, now), at: r.termsAt.jumps ?? r.termsAt.style ?? 0, what: 'check' };
-  if (r.verb === 'compare') return { units: costOf(r, now), at: 0, what: 'comparison' };
-  if (r.verb === 'again' && ctx.logged) {
-    const stored = ctx.logged(r.number);
-    if (stored === undefined) return { units: 0, at: 0, what: '' };
-    const merged = applyAgain(stored, r, text);
-    if (!merged.ok) return { units: 0, at: 0, what: '' };
-    const q = parse(merged.text);
-    if (!q.ok) return { units: 0, at: 0, what: '' };
-    return { units: costOf(q.request, now), at: r.restAt, what: 'rerun' };
-  }
-  return { units: 0, at: 0, what: '' };
-}
-
-/** A rejection when the request is over the budget, else null. */
-export function overBudget(text: string, budget: number, ctx: CostContext = {}): Rejection | null {
-  const c = requestCost(text, ctx);
-  if (c.units <= budget) return null;
+/** A rejection when the cost is over the budget, else null. */
+export function budgetRejection(text: string, c: Cost | null, budget: number): Rejection | null {
+  if (!c || c.units <= budget) return null;
   const message = formatError(text, {
     message:
       `this ${c.what} needs about ${c.units.toLocaleString('en-US')} units of computing and Kolmo allows ${budget.toLocaleString('en-US')} per request ` +

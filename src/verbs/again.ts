@@ -1,0 +1,175 @@
+/**
+ * `again N [changes]`: reruns check #N of the channel's log (with changes), says what changed in
+ * the inputs and the figures, and logs the rerun under the verb it ran, with the request it ran.
+ * The rewriting of the logged text is in src/request/again.ts.
+ */
+import { applyAgain } from '../request/again.js';
+import { EXAMPLES } from '../request/examples.js';
+import { parse, parseAgain } from '../request/parse.js';
+import type { AgainRequest, Request } from '../request/types.js';
+import { level, num, rate } from '../report/format.js';
+import { cut } from '../report/compare.js';
+import { whenUtc } from '../report/log.js';
+import type { CheckSummary, LogEntry } from '../store/store.js';
+import { checkFigureChanges } from './check.js';
+import { defineVerb, isoDay, needStore, refuse, refuseFact, Refused, storeCall, type Outcome, type VerbEnv } from './verb.js';
+
+/** Start of the number in an `again N` request, for the caret. */
+function againNumberAt(text: string): number {
+  const m = /^\s*again\s+/i.exec(text);
+  return m ? m[0].length : 0;
+}
+
+function isIsoDay(v: unknown): v is string {
+  return typeof v === 'string' && /^\d{4}-\d{2}-\d{2}$/.test(v);
+}
+
+/** The asofs a logged request wrote (one per part of a comparison). */
+function asofsOf(r: Request, env: VerbEnv): (string | undefined)[] {
+  if (r.verb === 'compare') return (r.checks ?? []).map((c) => c.terms.asof);
+  return env.verb(r.verb).rerunnable && 'terms' in r ? [(r.terms as { asof?: string }).asof] : [];
+}
+
+/**
+ * The logged text with its asof pinned to the day it was answered, when it was left to default
+ * (or said `asof today`): `again 17` reruns #17 as of its own day; `again 17 asof today` moves it.
+ */
+function pinAsof(entry: LogEntry, env: VerbEnv): { text: string; day?: string } {
+  const p = parse(entry.text);
+  if (!p.ok) return { text: entry.text };
+  const asofs = asofsOf(p.request, env);
+  if (asofs.length === 0 || asofs.some((a) => a !== undefined && a !== 'today')) return { text: entry.text };
+  const s = entry.summary;
+  const parts = Array.isArray(s.parts) ? (s.parts as CheckSummary[]) : [];
+  const t = Date.parse(entry.at);
+  const day = isIsoDay(s.asof) ? s.asof : isIsoDay(parts[0]?.asof) ? (parts[0].asof as string) : Number.isFinite(t) ? isoDay(new Date(t)) : undefined;
+  if (!day) return { text: entry.text };
+  const pinned = applyAgain(entry.text, { verb: 'again', number: entry.number, rest: `asof ${day}`, restAt: 0 });
+  return pinned.ok ? { text: pinned.text, day } : { text: entry.text };
+}
+
+const FMT: Record<string, (v: unknown) => string> = {
+  position: (v) => String(v),
+  asof: (v) => String(v),
+  horizon: (v) => String(v),
+  by: (v) => String(v),
+  spot: (v) => level(v as number),
+  price: (v) => num(v as number),
+  rate: (v) => rate(v as number),
+  yield: (v) => rate(v as number),
+  drift: (v) => rate(v as number),
+  vol: (v) => rate(v as number),
+};
+
+/** What differs between two summaries' inputs, in words ("spot 100 → 102"). */
+function inputChanges(before: CheckSummary, after: CheckSummary): string[] {
+  const out: string[] = [];
+  for (const [k, f] of Object.entries(FMT)) {
+    const a = before[k];
+    const b = after[k];
+    if (a === undefined || b === undefined) continue;
+    const fa = f(a);
+    const fb = f(b);
+    if (fa !== fb) out.push(k === 'position' ? `position ${fa} → ${fb}` : `${k} ${fa} → ${fb}`);
+  }
+  return out;
+}
+
+const partsOf = (s: CheckSummary) => (Array.isArray(s.parts) ? (s.parts as CheckSummary[]) : null);
+
+/** The lines that set the rerun against the logged check: what changed, and the figures then and now. */
+function comparisonLines(n: number, verb: Request['verb'], before: CheckSummary, after: CheckSummary, env: VerbEnv): { changed: string[]; figures: string[] } {
+  const changed: string[] = [];
+  const partsB = partsOf(before);
+  const partsA = partsOf(after);
+  if (!partsA) {
+    changed.push(...inputChanges(before, after));
+    return { changed, figures: [(env.verb(verb).figureChanges ?? checkFigureChanges)(before, after)] };
+  }
+  partsA.forEach((pa, k) => {
+    const pb = partsB?.[k];
+    if (!pb) return;
+    const ch = inputChanges(pb, pa);
+    if (ch.length) changed.push(`part ${k + 1}: ${ch.join(', ')}`);
+  });
+  const figures = partsA.map((pa, k) => {
+    const pb = partsB?.[k];
+    return `${k + 1}: ${pb ? checkFigureChanges(pb, pa) : `no part ${k + 1} in #${n}`}`;
+  });
+  return { changed, figures };
+}
+
+/** The logged entry and the request it reruns (changes applied, asof pinned), or a refusal. */
+function rerunOf(text: string, req: AgainRequest, env: VerbEnv) {
+  const store = needStore(text, env, 'again');
+  const n = req.number;
+  const at = againNumberAt(text);
+  const entry = storeCall(text, 'the log could not be read', at, () => store.get(env.ctx.channel, n));
+  if (!entry) {
+    // the same words whether #n belongs to another channel or to none
+    throw refuseFact(text, { message: `no check #${n} in this channel; \`log\` lists this channel's checks and their numbers`, at, length: String(n).length, example: 'log 20' });
+  }
+  const pinned = pinAsof(entry, env);
+  const re = applyAgain(pinned.text, req, text);
+  if (!re.ok) throw refuse(text, re.error);
+  const p = parse(re.text);
+  if (!p.ok || !env.verb(p.request.verb).rerunnable) {
+    throw refuseFact(text, { message: `check #${n} could not be rerun from the log; write the request out in full`, at, length: String(n).length, example: EXAMPLES.check });
+  }
+  return { entry, pinned, eff: re.text, request: p.request, at };
+}
+
+function runAgain(text: string, req: AgainRequest, env: VerbEnv): Outcome {
+  const n = req.number;
+  const { entry, pinned, eff, request, at } = rerunOf(text, req, env);
+  let c: Outcome;
+  try {
+    c = env.verb(request.verb).run(eff, request as never, env);
+  } catch (err) {
+    if (!(err instanceof Refused)) throw err;
+    throw new Refused({
+      kind: 'rejected',
+      message: `again ${n} reruns check #${n} as the request quoted below.\n${err.reply.message}`,
+      at: req.rest ? req.restAt : at,
+    });
+  }
+  const after = c.log!.summary;
+  const { changed, figures } = comparisonLines(n, request.verb, entry.summary, after, env);
+  const lines = [
+    `Again #${n} (${entry.verb} by ${entry.user}, ${whenUtc(entry.at)} UTC)${req.rest.trim() ? ` with: ${req.rest.trim()}` : ', as logged'}`,
+    changed.length ? `changed: ${changed.join(' · ')}` : `changed: nothing — the same inputs as #${n}`,
+    ...(pinned.day && !/\basof\b/i.test(req.rest) ? [`asof ${pinned.day} kept from #${n} (add \`asof today\` to move it)`] : []),
+    ...figures,
+    `request run: ${cut(eff, 400)}`,
+  ];
+  return {
+    answer: {
+      ...c.answer,
+      verb: 'again',
+      headline: `again #${n} · ${c.answer.headline}`,
+      text: `${lines.join('\n')}\n\n${c.answer.text}`,
+      json: { ...c.answer.json, again: { of: n, request: eff, changes: req.rest.trim(), changed, before: entry.summary } },
+    },
+    log: { verb: request.verb, text: eff, request, summary: { ...after, againOf: n } },
+  };
+}
+
+export const again = defineVerb({
+  name: 'again',
+  words: ['again'],
+  grammar: parseAgain,
+  readsSemicolons: true,
+  rerunnable: false,
+  run: runAgain,
+  // the cost of the check it reruns: its logged text with the changes applied
+  cost: (req, text, ctx) => {
+    const stored = ctx.logged?.(req.number);
+    if (stored === undefined) return null;
+    const merged = applyAgain(stored, req, text);
+    if (!merged.ok) return null;
+    const q = parse(merged.text);
+    if (!q.ok) return null;
+    const c = ctx.costOf(q.request, merged.text);
+    return { units: c ? c.units : 0, at: req.restAt, what: 'rerun' };
+  },
+});

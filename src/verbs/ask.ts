@@ -1,0 +1,141 @@
+/**
+ * The one seam: text in, Reply out, for every shell (chat app, workers, console, command line).
+ *
+ *   budget → parse → verb → log → reply
+ *
+ * The text is parsed once; the compute budget is held against the parsed request (./budget.ts);
+ * the verb (./registry.ts) resolves, computes and renders; what it asks to be logged is written to
+ * the channel's log before the shell posts the answer. Never throws: anything unexpected becomes a
+ * rejection the asker sees, and every rejection is counted in the channel's rejected counter.
+ *
+ * The channel's memory (the log and the marks, src/store) reaches the verbs only through the store
+ * handed over in the context:
+ * - check, compare, iv and touch are logged (again logs the request it actually ran, so `again`
+ *   of it works); help, log, mark listings and `mark SYMBOL …` are not.
+ * - a store that cannot be written (read-only, full, busy) never costs the answer: it is answered
+ *   and flagged in `warnings` as not logged.
+ * - an entry of another channel is answered exactly like a number that does not exist.
+ */
+import { parse } from '../request/parse.js';
+import type { Request } from '../request/types.js';
+import type { Answer, Rejection, Reply } from '../reply.js';
+import { StoreError } from '../store/store.js';
+import { budgetRejection, COMPUTE_BUDGET_DEFAULT } from './budget.js';
+import { verbNamed, verbs } from './registry.js';
+import { envOf, reject, Refused, type AskContext, type Cost, type CostContext, type Outcome, type VerbEnv } from './verb.js';
+
+export type { AskContext } from './verb.js';
+export { COMPUTE_BUDGET_DEFAULT } from './budget.js';
+
+/** Units a parsed request would need (null: its work is small). */
+function costOf(req: Request, text: string, ctx: Omit<CostContext, 'costOf'>): Cost | null {
+  const v = verbNamed(req.verb);
+  return v.cost ? v.cost(req as never, text, { ...ctx, costOf: (r, t) => costOf(r, t, ctx) }) : null;
+}
+
+function costContext(ctx: AskContext, now: Date): Omit<CostContext, 'costOf'> {
+  const { store, channel } = ctx;
+  return {
+    now,
+    logged: (n) => {
+      try {
+        return store?.get(channel, n)?.text;
+      } catch {
+        return undefined;
+      }
+    },
+  };
+}
+
+/**
+ * Units the request would need, where they can be known from its text (a check, a comparison, or
+ * `again N` with its changes applied to the logged check); 0 for verbs whose work is small and for
+ * text that does not parse (the seam rejects it with its own message).
+ */
+export function requestCost(text: string, ctx: { now?: Date; logged?: (n: number) => string | undefined } = {}): Cost {
+  const p = parse(text);
+  const c = p.ok ? costOf(p.request, text, { now: ctx.now ?? new Date(), logged: ctx.logged }) : null;
+  return c ?? { units: 0, at: 0, what: '' };
+}
+
+/** A rejection when the request is over the budget, else null. */
+export function overBudget(text: string, budget: number, ctx: { now?: Date; logged?: (n: number) => string | undefined } = {}): Rejection | null {
+  return budgetRejection(text, requestCost(text, ctx), budget);
+}
+
+/**
+ * Writes the entry before the answer goes out. A store that cannot take it (read-only, full,
+ * busy, refused input) costs only the number: the answer is returned, flagged in `warnings`.
+ */
+function logged(env: VerbEnv, o: Outcome): Answer {
+  const { ctx } = env;
+  if (!ctx.store || !o.log) return o.answer;
+  try {
+    const e = ctx.store.appendCheck({
+      channel: ctx.channel,
+      user: ctx.user,
+      at: env.nowIso,
+      verb: o.log.verb,
+      text: o.log.text,
+      normalized: JSON.stringify(o.log.request),
+      summary: o.log.summary,
+    });
+    return { ...o.answer, logNumber: e.number };
+  } catch (err) {
+    if (!(err instanceof StoreError)) throw err;
+    return {
+      ...o.answer,
+      warnings: [...o.answer.warnings, `Not logged: ${err.message}. The answer is complete, but it has no number in the log, so \`again\` cannot rerun it.`],
+    };
+  }
+}
+
+function counted(ctx: AskContext, r: Rejection): Rejection {
+  try {
+    ctx.store?.countRejected(ctx.channel);
+  } catch {
+    /* a counter that cannot be written loses nothing the asker needs */
+  }
+  return r;
+}
+
+const INTERNAL: Rejection = {
+  kind: 'rejected',
+  // the internal text stays out of the reply: it can name code paths and inputs of no use to the asker
+  message:
+    'Kolmo could not answer this request: the engine ran into a problem computing it (an internal error, not a reading of your request).\n' +
+    'Nothing was logged. Try nearer dates or milder jump terms, or `help` for the grammar.',
+  at: 0,
+};
+
+/** The same as `ask`, synchronously (the engine does no I/O except the store, which is synchronous). */
+export function askSync(text: string, ctx: AskContext): Reply {
+  try {
+    const env = envOf(ctx, { verb: verbNamed, verbs });
+    const p = parse(text);
+    if (!p.ok) return counted(ctx, reject(text, p.error));
+    const req = p.request;
+    const over = budgetRejection(text, costOf(req, text, costContext(ctx, env.now)), ctx.budget ?? COMPUTE_BUDGET_DEFAULT);
+    if (over) return counted(ctx, over);
+    return logged(env, verbNamed(req.verb).run(text, req as never, env));
+  } catch (err) {
+    if (err instanceof Refused) return counted(ctx, err.reply);
+    return INTERNAL;
+  }
+}
+
+export async function ask(text: string, ctx: AskContext): Promise<Reply> {
+  return askSync(text, ctx);
+}
+
+// The store a shell opens and hands back in the context (the shells import nothing else of it).
+export { openStore, defaultDbPath, StoreError, type Store, type LogEntry, type LogEntryInput } from '../store/store.js';
+export { verbOfText } from './registry.js';
+
+// What the shells may read of the grammar: they build request text (the check form, the buttons'
+// variations, personal defaults) and check it against the parser before it comes back here.
+export { parse, parseCheckPart, formatError } from '../request/parse.js';
+export { resolveCheck, type MarkTerms } from '../request/resolve.js';
+export { LIMITS, SPAN_MAX } from '../request/limits.js';
+export { resolveSpec } from '../request/dates.js';
+export type { CheckRequest, ExpirySpec, Request } from '../request/types.js';

@@ -1,0 +1,136 @@
+/**
+ * `check`: fair value, Greeks and the likely outcome of a position under the user's view.
+ * Resolves against the channel's mark, runs the core, answers with the table and the chart, and
+ * is logged with its headline figures.
+ */
+import { runCheck } from '../core/outcome.js';
+import { activeJumps } from '../core/jumps.js';
+import { parseCheckVerb } from '../request/parse.js';
+import { resolveCheck, type ResolvedCheck } from '../request/resolve.js';
+import type { CheckRequest } from '../request/types.js';
+import type { CheckAssembly, CheckJson, LegJson } from '../result.js';
+import { checkHeadline, checkText, positionWords } from '../report/text.js';
+import { checkChartInput } from '../report/chart-input.js';
+import { checkNoteText } from '../report/notes.js';
+import { money, pct, pts } from '../report/format.js';
+import type { CheckSummary } from '../store/store.js';
+import { checkCost } from './budget.js';
+import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
+import { answer, defineVerb, refuse, type Outcome, type VerbEnv } from './verb.js';
+
+/** Runs the core for a resolved check and assembles the JSON result (DESIGN.md §4). */
+export function computeCheck(rc: ResolvedCheck): CheckAssembly {
+  const input = rc.input;
+  const core = runCheck(input);
+  // the risk-neutral column comes from the same run (same P&L function, the twin's distribution)
+  const rn = core.outcomeRiskNeutral!; // computed by default (RunOptions.riskNeutralFigures)
+  const legs: LegJson[] = input.legs.map((l, i) => {
+    const g = core.legs[i];
+    const isOpt = l.kind !== 'shares';
+    return {
+      qty: l.qty,
+      type: l.kind,
+      strike: isOpt ? l.strike : null,
+      expiry: rc.legExpiries[i] ?? null,
+      years: isOpt ? l.years : null,
+      iv: isOpt ? l.iv : null,
+      entry: l.entry ?? g.value,
+      entryGiven: l.entry !== null,
+      value: g.value,
+      delta: g.delta,
+      gamma: g.gamma,
+      vega: g.vega,
+      theta: g.theta,
+      rho: g.rho,
+      probItmRiskNeutral: isOpt ? g.probItmRiskNeutral : null,
+      probItmView: isOpt ? g.probItmView : null,
+    };
+  });
+  const jumps = activeJumps(input.view.jumps);
+  const json: CheckJson = {
+    kind: 'check',
+    ...(rc.symbol ? { symbol: rc.symbol } : {}),
+    asof: rc.asof,
+    horizon: rc.horizon,
+    horizonYears: input.horizonYears,
+    market: { spot: input.market.spot, rate: input.market.rate, yield: input.market.yield },
+    view: { drift: input.view.drift, vol: input.view.vol, model: jumps ? 'merton-jumps' : 'lognormal', ...(jumps ? { jumps } : {}) },
+    style: input.style,
+    mult: input.mult,
+    notes: [...rc.notes, ...core.notes.map(checkNoteText)],
+    legs,
+    position: core.position,
+    outcome: core.outcome,
+    outcomeRiskNeutral: {
+      probProfit: rn.probProfit,
+      expectedPnl: rn.expectedPnl,
+      pnlQuantiles: rn.pnlQuantiles,
+      tailMean05: rn.tailMean05,
+    },
+  };
+  return { json, curves: core.curves };
+}
+
+/** What the log keeps of a check: its position in words, headline figures and inputs. */
+export function checkSummary(c: CheckJson): CheckSummary {
+  return {
+    position: positionWords(c),
+    probProfit: c.outcome.probProfit,
+    expectedPnl: c.outcome.expectedPnl,
+    viewEdge: c.outcome.viewEdge,
+    asof: c.asof,
+    horizon: c.horizon,
+    spot: c.market.spot,
+    rate: c.market.rate,
+    yield: c.market.yield,
+    drift: c.view.drift,
+    vol: c.view.vol,
+  };
+}
+
+const isNum = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
+
+/** "label a → b (Δ)" when both figures are there, else null. */
+export function figurePair(label: string, a: unknown, b: unknown, f: (x: number) => string, d: (x: number) => string): string | null {
+  return isNum(a) && isNum(b) ? `${label} ${f(a)} → ${f(b)} (${d(b - a)})` : null;
+}
+
+/** Figures that were there, joined; a sentence when none were. */
+export function joinFigures(items: (string | null)[]): string {
+  const got = items.filter((x): x is string => x !== null);
+  return got.length ? got.join(' · ') : 'no figures of the earlier check to set against';
+}
+
+/** Chance and expected P&L then and now ("chance of profit 48.1% → 52.3% (+4.2 pts) · …"). */
+export function checkFigureChanges(before: CheckSummary, after: CheckSummary): string {
+  const moneyD = (x: number) => money(x, { sign: true });
+  return joinFigures([
+    figurePair('chance of profit', before.probProfit, after.probProfit, (x) => pct(x), pts),
+    figurePair('expected P&L', before.expectedPnl, after.expectedPnl, moneyD, moneyD),
+  ]);
+}
+
+function runCheckVerb(text: string, req: CheckRequest, env: VerbEnv): Outcome {
+  const mark = markFor(text, env, req.terms.on, req.termsAt.on);
+  const r = resolveCheck(req, resolveContext(text, env, mark));
+  if (!r.ok) throw refuse(text, r.error);
+  const asm = computeCheck(r.check);
+  const a = answer({
+    verb: 'check',
+    headline: checkHeadline(asm.json) + staleWords(mark, env.now),
+    text: checkText(asm.json) + (mark ? `\n${markLine(mark, env.now)}` : ''),
+    json: { ...asm.json, ...(mark ? { mark: markJson(mark, env.now) } : {}) } as unknown as Record<string, unknown>,
+    chart: checkChartInput(asm),
+  });
+  return { answer: a, log: { verb: 'check', text, request: req, summary: checkSummary(asm.json) } };
+}
+
+export const check = defineVerb({
+  name: 'check',
+  words: ['check'],
+  grammar: parseCheckVerb,
+  rerunnable: true,
+  run: runCheckVerb,
+  cost: (req, _text, ctx) => ({ units: checkCost(req, ctx.now), at: req.termsAt.jumps ?? req.termsAt.style ?? 0, what: 'check' }),
+  figureChanges: checkFigureChanges,
+});

@@ -1,0 +1,86 @@
+/**
+ * `mark SYMBOL …` records the channel's market for a symbol (posted in the channel, not logged:
+ * a mark records its own who and when); `mark` and `mark SYMBOL` show marks to the asker only.
+ */
+import { parseMark } from '../request/parse.js';
+import type { MarkRequest } from '../request/types.js';
+import { marksText, whenUtc } from '../report/log.js';
+import type { Mark } from '../store/store.js';
+import { markJson, markRecord, markTermsWords } from './marks.js';
+import { answer, defineVerb, needStore, refuseFact, storeCall, type Outcome, type VerbEnv } from './verb.js';
+
+function listing(marks: Mark[], env: VerbEnv): Outcome {
+  return {
+    answer: answer({
+      verb: 'mark',
+      headline: '',
+      text: marksText(marks, env.now),
+      json: { kind: 'marks', marks: marks.map((m) => ({ ...markRecord(m), ...markJson(m, env.now) })) },
+      ephemeral: true,
+    }),
+  };
+}
+
+/** What the answer to a recorded mark says beyond the terms: what it replaced, what it leaves unset. */
+function recordedLines(m: Mark, prev: Mark | undefined): string[] {
+  const sym = m.symbol;
+  const lines = [
+    `Mark ${sym} recorded for this channel by ${m.user} at ${whenUtc(m.at)} UTC: ${markTermsWords(m)}.`,
+    `Requests that say \`on ${sym}\` take these terms; terms written in a request override them.`,
+  ];
+  const unset = (['spot', 'iv', 'yield', 'rate'] as const).filter((k) => m[k] === undefined);
+  if (prev) {
+    const dropped = unset.filter((k) => prev[k] !== undefined);
+    lines.push(
+      `It replaces the mark of ${whenUtc(prev.at)} UTC by ${prev.user} (${markTermsWords(prev) || 'no terms'})` +
+        (dropped.length ? `; its ${dropped.join(', ')} ${dropped.length === 1 ? 'is' : 'are'} not carried over (a mark is one snapshot): write ${dropped.length === 1 ? 'it' : 'them'} again to keep ${dropped.length === 1 ? 'it' : 'them'}.` : '.'),
+    );
+  }
+  if (unset.length) {
+    const defaults = unset.filter((k) => k !== 'spot');
+    lines.push(
+      `Not in this mark: ${unset.join(', ')}.` +
+        (unset.includes('spot') ? ` Requests on ${sym} must write spot.` : '') +
+        (defaults.length ? ` Where a request on ${sym} leaves ${defaults.join(' or ')} out, the usual default applies.` : ''),
+    );
+  }
+  return lines;
+}
+
+function runMark(text: string, req: MarkRequest, env: VerbEnv): Outcome {
+  const store = needStore(text, env, 'mark');
+  const channel = env.ctx.channel;
+  if (!req.symbol) return listing(storeCall(text, 'the marks of this channel could not be read', 0, () => store.listMarks(channel)), env);
+  const sym = req.symbol.toUpperCase();
+  const symAt = Math.max(0, text.toUpperCase().indexOf(sym));
+  const prev = storeCall(text, 'the marks of this channel could not be read', symAt, () => store.getMark(channel, sym));
+  const t = req.terms;
+  if (t.spot === undefined && t.iv === undefined && t.yield === undefined && t.rate === undefined) {
+    // `mark SYMBOL` alone shows that mark
+    if (!prev) {
+      throw refuseFact(text, { message: `no mark for ${sym} in this channel: record one with spot, iv, yield or rate`, at: symAt, length: sym.length, example: `mark ${sym} spot 84.20 iv 31% yield 1.2%` });
+    }
+    return listing([prev], env);
+  }
+  const m: Mark = {
+    channel,
+    symbol: sym,
+    ...(t.spot !== undefined ? { spot: t.spot } : {}),
+    ...(t.iv !== undefined ? { iv: t.iv } : {}),
+    ...(t.yield !== undefined ? { yield: t.yield } : {}),
+    ...(t.rate !== undefined ? { rate: t.rate } : {}),
+    user: env.ctx.user,
+    at: env.nowIso,
+  };
+  storeCall(text, `the mark for ${sym} was not recorded`, symAt, () => store.putMark(m));
+  return {
+    answer: answer({
+      verb: 'mark',
+      headline: '',
+      text: recordedLines(m, prev).join('\n'),
+      json: { kind: 'mark', ...markRecord(m), ...(prev ? { replaced: markRecord(prev) } : {}) },
+    }),
+  };
+}
+
+export const mark = defineVerb({ name: 'mark', words: ['mark'], grammar: parseMark, rerunnable: false, run: runMark });

@@ -1,0 +1,51 @@
+/**
+ * The verbs, in one list: everything that lists or dispatches verbs reads it (the parser's
+ * dispatch and its "unknown verb" message, the reply's `verb`, the seam, the budget, `again`'s
+ * set of rerunnable verbs, the chat app's log lines). Adding a verb: DEVELOPERS.md, "Adding a verb".
+ *
+ * The list is read through functions, never at module load: the grammar (src/request/parse.ts)
+ * reads it for its dispatch while the verb files import the grammar, and an import cycle is only
+ * safe when nothing is read before every module has loaded.
+ */
+import type { Request } from '../request/types.js';
+import { again } from './again.js';
+import { check } from './check.js';
+import { compare } from './compare.js';
+import { help } from './help.js';
+import { iv } from './iv.js';
+import { log } from './log.js';
+import { mark } from './mark.js';
+import { touch } from './touch.js';
+import type { Verb } from './verb.js';
+
+/** Every verb, in the order help and the "unknown verb" message list them. */
+export function verbs(): readonly Verb[] {
+  return [check, compare, iv, touch, mark, log, again, help] as readonly Verb[];
+}
+
+/** A verb's name (the `verb` of its request and of its answer). */
+export type VerbName = Request['verb'];
+
+/** The verb of that name. */
+export function verbNamed(name: VerbName): Verb {
+  const v = verbs().find((x) => x.name === name);
+  if (!v) throw new Error(`no verb ${name}`);
+  return v;
+}
+
+/** The verb a request starting with this word (lower case) asks for, if any. */
+export function verbOfWord(word: string): Verb | undefined {
+  return verbs().find((v) => v.words.includes(word));
+}
+
+/** The verbs' names, in the registry's order. */
+export function verbNames(): VerbName[] {
+  return verbs().map((v) => v.name);
+}
+
+/** The verb a request text starts with, for a log line: its name, `check` for a leg, else `unknown`. */
+export function verbOfText(text: string): string {
+  const w = text.trim().split(/\s+/, 1)[0]?.toLowerCase() ?? '';
+  if ((verbNames() as string[]).includes(w)) return w;
+  return /^[+-]?\d/.test(w) ? 'check' : 'unknown';
+}

@@ -1,0 +1,87 @@
+/**
+ * `touch LEVEL by DATE …`: the chance that the stock touches a level by a date, under the view and
+ * the risk-neutral walk (closed form, or Monte Carlo under jumps: src/core/models.ts). Logged.
+ */
+import { activeJumps } from '../core/jumps.js';
+import { TOUCH_MC_SEED, touchFigures } from '../core/models.js';
+import { parseTouch } from '../request/parse.js';
+import { resolveTouch } from '../request/resolve.js';
+import type { TouchRequest } from '../request/types.js';
+import { level, num, pct, pts, rate } from '../report/format.js';
+import type { CheckSummary } from '../store/store.js';
+import { figurePair, joinFigures } from './check.js';
+import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
+import { answer, defineVerb, refuse, type Outcome, type VerbEnv } from './verb.js';
+
+function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
+  const mark = markFor(text, env, req.terms.on, req.termsAt.on);
+  const r = resolveTouch(req, resolveContext(text, env, mark));
+  if (!r.ok) throw refuse(text, r.error);
+  const t = r.touch;
+  const jumps = activeJumps(t.view.jumps);
+  const dir = t.level >= t.S ? 'above' : 'below';
+  const q = { S: t.S, level: t.level, T: t.T, q: t.q, vol: t.view.vol, jumps };
+  const view = touchFigures(q, t.view.drift);
+  const rn = touchFigures(q, t.rate);
+  const [pv, prn, bv, brn] = [view.touch, rn.touch, view.beyond, rn.beyond];
+  const mc = view.paths !== undefined ? { view: view.stderr!, riskNeutral: rn.stderr!, paths: view.paths } : undefined;
+  const model = jumps ? 'merton-jumps' : 'lognormal';
+  const json = {
+    kind: 'touch',
+    level: t.level,
+    by: t.by,
+    years: t.T,
+    asof: t.asof,
+    market: { spot: t.S, rate: t.rate, yield: t.q },
+    view: { drift: t.view.drift, vol: t.view.vol, model, ...(jumps ? { jumps } : {}) },
+    probTouchView: pv,
+    probTouchRiskNeutral: prn,
+    probBeyondAtEndView: bv,
+    probBeyondAtEndRiskNeutral: brn,
+    ...(mc ? { monteCarlo: { paths: mc.paths, seed: TOUCH_MC_SEED, stderrView: mc.view, stderrRiskNeutral: mc.riskNeutral } } : {}),
+    notes: r.notes,
+    ...(mark ? { mark: markJson(mark, env.now) } : {}),
+  };
+  const pm = (p: number, se?: number) => (se === undefined ? pct(p) : `${pct(p)} ±${pct(se, 2)}`);
+  const rows = [
+    `Touching ${level(t.level)} (${dir} spot ${level(t.S)}) by ${t.by}`,
+    `                       view   risk-neutral`,
+    `chance of touching  ${pm(pv, mc?.view).padStart(7)}  ${pm(prn, mc?.riskNeutral).padStart(13)}`,
+    `chance ending ${dir === 'above' ? 'above' : 'below'} ${pct(bv).padStart(7)}  ${pct(brn).padStart(13)}`,
+    '',
+    `Assumptions: asof ${t.asof} · view drift ${rate(t.view.drift)}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''} · rate ${rate(t.rate)} · yield ${rate(t.q)} · ${jumps ? 'Merton jump diffusion' : 'lognormal walk'}, continuous monitoring.`,
+    ...(mc ? [`Note: touching under jumps by Monte Carlo (${mc.paths.toLocaleString('en-US')} paths, seed ${TOUCH_MC_SEED}; ± is one standard error); ending beyond is exact.`] : []),
+    ...r.notes.map((n) => `Note: ${n}`),
+    ...(mark ? [markLine(mark, env.now)] : []),
+  ];
+  const what = `touch ${level(t.level)} by ${t.by}`;
+  const summary = {
+    position: what,
+    probTouch: pv,
+    probTouchRiskNeutral: prn,
+    asof: t.asof,
+    by: t.by,
+    spot: t.S,
+    rate: t.rate,
+    yield: t.q,
+    drift: t.view.drift,
+    vol: t.view.vol,
+  };
+  return {
+    answer: answer({ verb: 'touch', headline: `${what}: ${pct(pv)} under the view${staleWords(mark, env.now)}`, text: rows.join('\n'), json }),
+    log: { verb: 'touch', text, request: req, summary },
+  };
+}
+
+const isNum = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
+
+export const touch = defineVerb({
+  name: 'touch',
+  words: ['touch'],
+  grammar: parseTouch,
+  rerunnable: true,
+  run: runTouch,
+  figureChanges: (before: CheckSummary, after: CheckSummary) =>
+    joinFigures([figurePair('chance of touching', before.probTouch, after.probTouch, (x) => pct(x), pts)]),
+  logWords: (s) => (isNum(s.probTouch) ? ` → ${pct(s.probTouch)} (view)` : ''),
+});

@@ -1,0 +1,147 @@
+/**
+ * What every verb file provides (see ./registry.ts for the list) and the small kit the verb files
+ * share: the request's clock, refusals, and the store as the seam hands it over.
+ *
+ * A verb file never imports the registry or the seam (./ask.ts): everything it needs from them
+ * (the store, the clock, rerunning another verb, the list of verbs) arrives in its `VerbEnv`.
+ */
+import { formatError } from '../request/parse.js';
+import type { ParseError, Request } from '../request/types.js';
+import type { Tok } from '../request/lex.js';
+import { CAUTION, type Answer, type Rejection } from '../reply.js';
+import { StoreError, type CheckSummary, type Store } from '../store/store.js';
+
+export interface AskContext {
+  /** the channel (workspace channel id, `cli`, `console`): the log and the marks are per channel */
+  channel: string;
+  user: string;
+  /** the time of the request (default: the clock); drives `asof` defaults and the marks' age */
+  now?: Date;
+  store?: Store | null;
+  /** answering in a workspace: log listings return thread links apart (Answer.links) instead of inline */
+  inWorkspace?: boolean;
+  /** compute units this request may use (default COMPUTE_BUDGET_DEFAULT, ./budget.ts) */
+  budget?: number;
+}
+
+/** A verb's work as the seam hands it over: the request's time and day, once, and the store. */
+export interface VerbEnv {
+  ctx: AskContext;
+  now: Date;
+  today: string;
+  nowIso: string;
+  /** the verb of that name, and all of them (from the registry, handed over by the seam) */
+  verb(name: Request['verb']): Verb;
+  verbs(): readonly Verb[];
+}
+
+/** What a verb returns: the answer, and what the log keeps of it (verbs that are not logged leave it out). */
+export interface Outcome {
+  answer: Answer;
+  log?: { verb: string; text: string; request: Request; summary: CheckSummary };
+}
+
+/** Units of computing a request needs (./budget.ts); `at` is where the caret goes when it is too much. */
+export interface Cost {
+  units: number;
+  at: number;
+  what: string;
+}
+
+export interface CostContext {
+  now: Date;
+  /** the logged text of check N of the asker's channel (for `again N`), if it can be read */
+  logged?: (n: number) => string | undefined;
+  /** the cost of another request (for `again N`: the request it reruns) */
+  costOf(req: Request, text: string): Cost | null;
+}
+
+type OfVerb<N extends Request['verb']> = Extract<Request, { verb: N }>;
+
+/** One verb: everything the rest of Kolmo needs to know about it. */
+export interface Verb<N extends Request['verb'] = Request['verb']> {
+  name: N;
+  /** first words that start a request of this verb (the first is its name) */
+  words: readonly string[];
+  /**
+   * grammar hook: reads the tokens from `from` (just after the verb word; 0 for a check written
+   * without its verb) into the verb's request; throws the grammar's Reject
+   */
+  grammar(src: string, toks: Tok[], from: number): OfVerb<N>;
+  /** reads `;` itself (every other verb refuses it as a misplaced comparison) */
+  readsSemicolons?: boolean;
+  /** `again N` can rerun it (and the log keeps it under this verb) */
+  rerunnable: boolean;
+  /** resolve, compute, render; refusals are thrown as `Refused` */
+  run(text: string, req: OfVerb<N>, env: VerbEnv): Outcome;
+  /** units against the compute budget; absent: its work is small */
+  cost?(req: OfVerb<N>, text: string, ctx: CostContext): Cost | null;
+  /** figures of a logged summary against a rerun's, in words (for `again`) */
+  figureChanges?(before: CheckSummary, after: CheckSummary): string;
+  /** what the log shows after the position words of an entry of this verb (e.g. " → iv 26.98%") */
+  logWords?(summary: Record<string, unknown>): string;
+}
+
+/** Declares a verb with its name kept as a literal type. */
+export function defineVerb<N extends Request['verb']>(v: Verb<N>): Verb<N> {
+  return v;
+}
+
+export function isoDay(d: Date): string {
+  return d.toISOString().slice(0, 10);
+}
+
+export function envOf(ctx: AskContext, registry: Pick<VerbEnv, 'verb' | 'verbs'>): VerbEnv {
+  const now = ctx.now instanceof Date && Number.isFinite(ctx.now.getTime()) ? ctx.now : new Date();
+  return { ctx, now, today: isoDay(now), nowIso: now.toISOString(), ...registry };
+}
+
+export function reject(text: string, e: ParseError): Rejection {
+  return { kind: 'rejected', message: formatError(text, e), at: e.at };
+}
+
+export function answer(partial: Omit<Answer, 'kind' | 'caution' | 'warnings' | 'ephemeral'> & Partial<Answer>): Answer {
+  return { kind: 'answer', caution: CAUTION, warnings: [], ephemeral: false, ...partial };
+}
+
+/** A request Kolmo will not answer: thrown inside the verbs, returned by the seam. */
+export class Refused extends Error {
+  constructor(readonly reply: Rejection) {
+    super(reply.message);
+  }
+}
+
+export function refuse(text: string, e: ParseError): Refused {
+  return new Refused(reject(text, e));
+}
+
+/** A refusal that is not about reading the request (no such check, the log unavailable, …). */
+export function refuseFact(text: string, e: ParseError): Refused {
+  const r = reject(text, e);
+  return new Refused({ ...r, message: r.message.replace(/^Kolmo could not read this request:/, 'Kolmo cannot answer this request:') });
+}
+
+/** Runs a store call; a StoreError becomes a refusal with `what` in front of its message. */
+export function storeCall<T>(text: string, what: string, at: number, fn: () => T): T {
+  try {
+    return fn();
+  } catch (err) {
+    if (err instanceof StoreError) {
+      throw refuseFact(text, { message: `${what}: ${err.message}`, at, length: 1, example: 'help' });
+    }
+    throw err;
+  }
+}
+
+export function needStore(text: string, env: VerbEnv, verb: string): Store {
+  const s = env.ctx.store;
+  if (!s) {
+    throw refuseFact(text, {
+      message: `${verb} needs the channel's log, and this session has none (the log could not be opened, or it was turned off)`,
+      at: 0,
+      length: verb.length,
+      example: 'help',
+    });
+  }
+  return s;
+}
