@@ -37,6 +37,7 @@ import { EngineError, InlineEngine, WorkerPool, type Engine } from './pool.js';
 import { ChannelQueue } from './queue.js';
 import { UserRateLimit } from './ratelimit.js';
 import { CHAT_DEFAULTS, type ChatSettings } from './settings.js';
+import { downloadFile, fileRefsOf, type FileRef } from './files.js';
 
 const { App, HTTPReceiver, SocketModeReceiver } = bolt;
 type WebClientOptions = webApi.WebClientOptions;
@@ -304,7 +305,7 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
         })
       : undefined;
 
-  const submit = (origin: Origin, rawText: string, t0: number, key: string, now: string, resumed = false, extra: { variedFrom?: number; preface?: string } = {}): void => {
+  const submit = (origin: Origin, rawText: string, t0: number, key: string, now: string, resumed = false, fileRefs: FileRef[] = [], extra: { variedFrom?: number; preface?: string } = {}): void => {
     const text = rawText.trim() === '' ? 'help' : rawText;
     const line = { channel: origin.channel, user: origin.user, source: origin.source, ...(resumed ? { resumed: true } : {}) };
     log.debug({ ...line, text }, 'request text');
@@ -337,6 +338,19 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
       let logNumber: number | undefined;
       let failures = 0;
       try {
+        // files shared with a `history` mention: downloaded here, in the channel's turn
+        let files: { name: string; base64: string }[] | undefined;
+        if (fileRefs.length > 0) {
+          try {
+            files = await Promise.all(fileRefs.map((f) => downloadFile(f, config.botToken, config.apiUrl)));
+          } catch (err) {
+            const why = scrub(err instanceof Error ? err.message : String(err), secrets);
+            log.info({ ...line, verb, outcome: 'file-unreadable', ms: Math.round(performance.now() - t0) }, 'request');
+            await tellAsker(deps, origin, [plainNotice(`Kolmo could not read the file shared with this request: ${why}. Nothing was posted.`)]).catch(() => false);
+            inbox.finish(key);
+            return;
+          }
+        }
         const result = await engine.run({
           text,
           channel: origin.log ?? origin.channel,
@@ -347,6 +361,7 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
           ...(extra.variedFrom !== undefined ? { variedFrom: extra.variedFrom } : {}),
           ...(extra.preface ? { preface: extra.preface } : {}),
           ...(resumed ? { resumed } : {}),
+          ...(files ? { files } : {}),
         });
         computeMs = Math.round(result.ms);
         if (result.reply.kind === 'answer') {
@@ -440,14 +455,24 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
     const key = eventKey((body as { event_id?: string }).event_id, `${event.channel}\n${event.ts}`);
     const text = stripMention(event.text ?? '', context.botUserId ?? botUserId);
     const origin: Origin = { source: 'mention', channel: event.channel, user, ...(event.thread_ts ? { threadTs: event.thread_ts } : {}) };
+    // only a `history` request reads the files attached to its message
+    const fileRefs = verbOf(text) === 'history' ? fileRefsOf((event as { files?: unknown }).files) : [];
     const fresh = admit(
       { key, source: 'mention', channel: origin.channel, user, ...(origin.threadTs ? { threadTs: origin.threadTs } : {}), text, now },
       context as { retryNum?: number; retryReason?: string },
     );
-    if (fresh) submit(origin, text, t0, key, now);
+    if (fresh) submit(origin, text, t0, key, now, false, fileRefs);
   });
 
-  const interactive = registerInteractive(app, { client, store, deps, log, submit, admit, budget: settings.computeBudget });
+  const interactive = registerInteractive(app, {
+    client,
+    store,
+    deps,
+    log,
+    submit: (o, t, t0, k, n, r, extra) => submit(o, t, t0, k, n, r, [], extra),
+    admit,
+    budget: settings.computeBudget,
+  });
 
   app.error(async (err) => {
     log.error({ err: errText(err), code: (err as { code?: string }).code }, 'listener error');

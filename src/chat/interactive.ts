@@ -17,6 +17,7 @@ import type bolt from '@slack/bolt';
 import type { webApi } from '@slack/bolt';
 import type { Log } from '../log.js';
 import type { LogEntry, MarkTerms, Store } from '../verbs/ask.js';
+import { termsOfMark } from '../verbs/marks.js';
 import { plainNotice } from './blocks.js';
 import { tellAsker, type DeliverDeps, type Origin } from './deliver.js';
 import type { InboxEntry } from './inbox.js';
@@ -66,7 +67,7 @@ export function interactionKey(kind: string, triggerId: string | undefined, fall
 function markTermsOf(store: Store | null, log: string, symbol: string): MarkTerms | undefined {
   try {
     const m = store?.getMark(log, symbol);
-    return m ? { symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, at: m.at } : undefined;
+    return m ? termsOfMark(m) : undefined;
   } catch {
     return undefined;
   }

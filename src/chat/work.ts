@@ -28,6 +28,8 @@ export interface Job {
   preface?: string;
   /** apply the asker's personal defaults (my desk) where the request leaves a term out */
   defaults?: boolean;
+  /** files shared with the request (downloaded by the app), for `history` */
+  files?: { name: string; base64: string }[];
 }
 
 export interface WorkResult {
@@ -79,7 +81,7 @@ export async function work(job: Job, store: Store | null): Promise<WorkResult> {
       /* defaults that cannot be read leave the request as written */
     }
   }
-  let reply = await ask(text, { channel: job.channel, user: job.user, now: new Date(job.now), store: s, inWorkspace: true, budget: job.budget });
+  let reply = await ask(text, { channel: job.channel, user: job.user, now: new Date(job.now), store: s, inWorkspace: true, budget: job.budget, ...(job.files && job.files.length ? { files: job.files } : {}) });
   if (reply.kind === 'answer') {
     const lines = [
       ...(job.preface ? [job.preface] : []),

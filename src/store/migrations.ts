@@ -123,6 +123,38 @@ export const MIGRATIONS: readonly Migration[] = [
   },
   {
     version: 3,
+    description: "a mark's view (vol, drift and its uncertainty) and each channel's price histories",
+    up(db) {
+      db.exec(`
+        ALTER TABLE marks ADD COLUMN vol REAL;
+        ALTER TABLE marks ADD COLUMN drift REAL;
+        ALTER TABLE marks ADD COLUMN drift_se REAL;
+        CREATE TABLE closes (
+          channel TEXT NOT NULL,
+          symbol  TEXT NOT NULL,
+          seq     INTEGER NOT NULL CHECK (seq >= 0),
+          day     TEXT,
+          close   REAL NOT NULL,
+          PRIMARY KEY (channel, symbol, seq)
+        );
+      `);
+    },
+    postgres: `
+      ALTER TABLE marks ADD COLUMN vol DOUBLE PRECISION;
+      ALTER TABLE marks ADD COLUMN drift DOUBLE PRECISION;
+      ALTER TABLE marks ADD COLUMN drift_se DOUBLE PRECISION;
+      CREATE TABLE closes (
+        channel TEXT NOT NULL,
+        symbol  TEXT NOT NULL,
+        seq     INTEGER NOT NULL CHECK (seq >= 0),
+        day     TEXT,
+        close   DOUBLE PRECISION NOT NULL,
+        PRIMARY KEY (channel, symbol, seq)
+      );
+    `,
+  },
+  {
+    version: 4,
     description: 'buttons and my desk: which check a variation came from, tombstones of deleted checks, the messages and files each answer posted, a person\'s checks across channels, personal defaults',
     up(db) {
       db.exec(`

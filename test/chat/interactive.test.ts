@@ -465,7 +465,8 @@ describe('the manifests', () => {
     };
     // events and payloads received (Events API reference: message.im needs im:history; app_home_opened none;
     // slash commands and shortcuts: commands)
-    const used = new Set<string>(['commands', 'app_mentions:read', 'im:history']);
+    // files:read: the file shared with a `history` mention, downloaded in e2e.test.ts (not exercised here)
+    const used = new Set<string>(['commands', 'app_mentions:read', 'im:history', 'files:read']);
     for (const c of fake.calls) {
       if (c.method === 'upload' || c.method === 'response') continue;
       expect(Object.keys(needs)).toContain(c.method);
