@@ -138,6 +138,7 @@ export { verbOfText } from './registry.js';
 // variations, personal defaults) and check it against the parser before it comes back here.
 export { parse, parseCheckPart, formatError } from '../request/parse.js';
 export { resolveCheck, type MarkTerms } from '../request/resolve.js';
+export { termsOfMark } from './marks.js';
 export { LIMITS, SPAN_MAX } from '../request/limits.js';
 export { resolveSpec } from '../request/dates.js';
 export type { CheckRequest, ExpirySpec, Request } from '../request/types.js';
