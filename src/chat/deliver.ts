@@ -42,7 +42,7 @@ export function linkMessages(links: Answer['links']): Message[] {
 }
 
 /** Sends an ephemeral reply through the slash command's response URL. */
-export type Respond = (msg: { response_type: 'ephemeral'; replace_original: false; text: string; blocks: unknown[] }) => Promise<unknown>;
+export type Respond = (msg: { response_type: 'ephemeral'; replace_original: false; text: string; blocks: Block[] }) => Promise<unknown>;
 
 export interface Origin {
   source: 'command' | 'mention' | 'dm' | 'action' | 'form';
@@ -138,7 +138,7 @@ async function postAll(client: WebClient, channel: string, threadTs: string | un
     const r = await client.chat.postMessage({
       channel,
       text: m.text,
-      blocks: m.blocks as never,
+      blocks: m.blocks,
       ...(threadTs ? { thread_ts: threadTs } : {}),
       unfurl_links: false,
       unfurl_media: false,
@@ -178,7 +178,7 @@ export async function tellAsker(deps: DeliverDeps, origin: Origin, msgs: Message
           channel: origin.channel,
           user: origin.user,
           text: m.text,
-          blocks: m.blocks as never,
+          blocks: m.blocks,
           ...(origin.threadTs ? { thread_ts: origin.threadTs } : {}),
         });
         sent = true;
@@ -262,7 +262,7 @@ export async function deliver(
       anchorTs = ts[0];
     } else {
       const rm = rootMessage(origin.user, a.headline);
-      const root = await client.chat.postMessage({ channel, text: rm.text, blocks: rm.blocks as never, unfurl_links: false, unfurl_media: false });
+      const root = await client.chat.postMessage({ channel, text: rm.text, blocks: rm.blocks, unfurl_links: false, unfurl_media: false });
       threadTs = String(root.ts ?? '');
       sent.push(threadTs);
       anchorTs = threadTs;
@@ -309,7 +309,7 @@ export async function deliver(
         filename: logNumber !== undefined ? `kolmo-check-${logNumber}.png` : 'kolmo-chart.png',
         title: logNumber !== undefined ? `Check #${logNumber}` : 'Kolmo chart',
         alt_text: a.headline || 'Kolmo chart',
-      } as never);
+      });
       files.push(...fileIdsOf(up));
     } catch (err) {
       outcome = 'answered-no-chart';
@@ -326,7 +326,13 @@ export async function deliver(
     record(deps, (s) => s.setPosted(log, logNumber, { channel, ts: sent, files }), failures);
     // deleted while the chart was on its way: the chart goes too
     let gone = false;
-    record(deps, (s) => void (gone = !!s.get(log, logNumber)?.deletedAt), failures);
+    record(
+      deps,
+      (s) => {
+        gone = !!s.get(log, logNumber)?.deletedAt;
+      },
+      failures,
+    );
     if (gone) {
       for (const file of files) await client.files.delete({ file }).catch(() => undefined);
       for (const t of sent) await client.chat.delete({ channel, ts: t }).catch(() => undefined);

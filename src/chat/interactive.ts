@@ -20,9 +20,9 @@ import { termsOfMark, type LogEntry, type MarkTerms, type Store } from '../verbs
 import { plainNotice } from './blocks.js';
 import { tellAsker, type DeliverDeps, type Origin } from './deliver.js';
 import type { InboxEntry } from './inbox.js';
-import { DELETE_ACTION, EDIT_ACTION, POST_ACTION, POST_CALLBACK, parseCheckKey, postToChannelView, variationOfAction, VARY_ACTIONS } from './actions/buttons.js';
+import { DELETE_ACTION, EDIT_ACTION, POST_ACTION, POST_CALLBACK, parseCheckKey, postToChannelView, VARY_ACTIONS } from './actions/buttons.js';
 import { variationText, type Variation } from './actions/variations.js';
-import { composeRequest } from './form/compose.js';
+import { composeRequest, type FormValues } from './form/compose.js';
 import { formErrorsOf } from './form/errors.js';
 import { prefillFromRequest } from './form/prefill.js';
 import { quickCheck } from './form/validate.js';
@@ -115,7 +115,7 @@ export function registerInteractive(app: App, env: InteractiveEnv): { openForm: 
   const openForm = async (triggerId: string, meta: FormMeta, from?: LogEntry): Promise<boolean> => {
     const logKey = meta.channel ? logOf(meta.channel, '') : undefined;
     const symbols = logKey && !logKey.startsWith('im:') ? symbolsOf(store, logKey) : [];
-    let values;
+    let values: FormValues | undefined;
     let note: string | undefined;
     if (from) {
       const day = typeof from.summary.asof === 'string' ? from.summary.asof : from.at.slice(0, 10);

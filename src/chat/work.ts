@@ -81,7 +81,7 @@ export async function work(job: Job, store: Store | null): Promise<WorkResult> {
       /* defaults that cannot be read leave the request as written */
     }
   }
-  let reply = await ask(text, { channel: job.channel, user: job.user, now: new Date(job.now), store: s, inWorkspace: true, budget: job.budget, ...(job.files && job.files.length ? { files: job.files } : {}) });
+  let reply = await ask(text, { channel: job.channel, user: job.user, now: new Date(job.now), store: s, inWorkspace: true, budget: job.budget, ...(job.files?.length ? { files: job.files } : {}) });
   if (reply.kind === 'answer') {
     const lines = [
       ...(job.preface ? [job.preface] : []),
