@@ -44,7 +44,7 @@ const K_STOP = 2;
  */
 export function exitFiguresMc(input: CheckInput, levels: Levels, walk: Walk, opts: ExitMcOptions = {}, regionWalks?: Walk[]): ExitFigures {
   const paths = Math.max(2, Math.floor(opts.paths ?? 20000));
-  const nt = Math.max(4, Math.floor(opts.nt ?? 100));
+  const nt = Math.max(4, Math.floor(opts.nt ?? 48));
   const reg = exitRegion(input, levels, regionWalks ?? [walk], { ...opts, nt });
   const { t, segs, surface, x0 } = reg;
   const M = t.length - 1;
@@ -228,6 +228,7 @@ export function exitFiguresMc(input: CheckInput, levels: Levels, walk: Walk, opt
     expectedPnl: sE / n,
     medianExitYears: medianFromSurvival(t, surv),
     method: 'monte-carlo',
+    paths: n,
     stderr: { probTarget: se(sT, sT2), probStop: se(sS, sS2), probNeither: se(sN, sN2), expectedPnl: se(sE, sE2) },
   };
 }

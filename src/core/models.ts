@@ -10,15 +10,22 @@
  *   touch         no jumps → closed forms (./touch.ts); with jumps → seeded Monte Carlo with an
  *                 exact Brownian-bridge crossing (./touch-jumps.ts) and the chance of ending
  *                 beyond the level exactly from the Poisson mixture (./dist.ts)
+ *   exits         (targets and stops) no jumps → finite differences on the backward equation over
+ *                 the region stop < P&L < target, one grid for both walks (./exits.ts); with jumps →
+ *                 seeded Monte Carlo with a Brownian-bridge correction (./exits-mc.ts, which says
+ *                 why); European legs only (early exercise: not yet)
  */
 import { americanImpliedVol } from './american.js';
+import { pnlSurface } from './exit-region.js';
+import { exitFiguresPde, exitGrid, type ExitFigures, type Levels } from './exits.js';
+import { exitFiguresMc, type ExitMcOptions } from './exits-mc.js';
 import { activeJumps } from './jumps.js';
 import { cdf as spotCdf, sf as spotSf, walkDistribution } from './dist.js';
 import { impliedVol, type IvResult } from './iv.js';
 import { mertonImpliedVol } from './merton.js';
 import { probBeyondAtEnd, touchProb } from './touch.js';
 import { touchProbJumps } from './touch-jumps.js';
-import type { ExerciseStyle, Jumps, OptionKind } from './types.js';
+import type { CheckInput, ExerciseStyle, Jumps, OptionKind, Walk } from './types.js';
 
 /** Which method an implied vol was solved with. */
 export type IvMethod = 'american' | 'american-jumps' | 'merton' | 'bsm';
@@ -82,4 +89,41 @@ export function touchFigures(t: TouchQuestion, drift: number): TouchFigures {
   const d = walkDistribution(t.S, t.T, t.q, { drift, vol: t.vol, jumps });
   const beyond = t.level >= t.S ? spotSf(d, t.level) : spotCdf(d, t.level);
   return { touch: mc.prob, beyond, stderr: mc.stderr, paths: mc.paths };
+}
+
+export type { ExitFigures, Levels } from './exits.js';
+
+/** Paths and seed of the Monte Carlo used for exits under jumps. */
+export const EXITS_MC_PATHS = 20_000;
+export const EXITS_MC_SEED = 1;
+
+export interface ExitChances {
+  target: number | null;
+  stop: number | null;
+  /** the P&L today (position value − cost): the start of every path */
+  current: number;
+  view: ExitFigures;
+  market: ExitFigures;
+}
+
+/**
+ * Exit figures (targets and stops) under the view (input.view) and the market walk (`market`:
+ * drift = rate and the market vol; its jumps are the view's). Levels are money P&L of the whole
+ * position; the caller has checked that the P&L now lies strictly between them. Monitoring is
+ * continuous.
+ */
+export function exitChances(input: CheckInput, levels: Levels, market: Walk, opts: ExitMcOptions = {}): ExitChances {
+  const view = input.view;
+  const jumps = activeJumps(view.jumps);
+  const mk: Walk = { drift: market.drift, vol: market.vol, ...(jumps ? { jumps } : {}) };
+  const walks = [view, mk];
+  const q = input.market.yield;
+  if (jumps) {
+    const o = { paths: EXITS_MC_PATHS, seed: EXITS_MC_SEED, ...opts };
+    const v = exitFiguresMc(input, levels, view, o, walks);
+    const m = exitFiguresMc(input, levels, mk, o, walks);
+    return { ...levels, current: pnlSurface(input).current, view: v, market: m };
+  }
+  const g = exitGrid(input, levels, walks, opts);
+  return { ...levels, current: g.surface.current, view: exitFiguresPde(g, view, q), market: exitFiguresPde(g, mk, q) };
 }

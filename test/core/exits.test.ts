@@ -4,7 +4,7 @@
  * Brownian-bridge correction, optional stopping of martingales and the horizon outcome.
  */
 import { describe, expect, it } from 'vitest';
-import { exitChances } from '../../src/core/exit-chances.js';
+import { exitChances } from '../../src/core/models.js';
 import { pnlSurface, segmentsAt } from '../../src/core/exit-region.js';
 import { exitFiguresMc } from '../../src/core/exits-mc.js';
 import { exitFiguresPde, exitGrid, solveExitBackward, solveExitForward } from '../../src/core/exits.js';
