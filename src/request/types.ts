@@ -48,6 +48,8 @@ export interface Terms {
   iv?: number;
   exp?: ExpirySpec;
   drift?: number;
+  /** the drift's uncertainty (`drift 9% ± 6%`), part of the drift term: written only after a drift */
+  driftSe?: number;
   vol?: number;
   horizon?: ExpirySpec;
   /** ISO date, or 'today' (`asof today`: the resolver's today) */
@@ -100,7 +102,7 @@ export interface MarkRequest {
   verb: 'mark';
   /** absent: list the channel's marks */
   symbol?: string;
-  terms: Pick<Terms, 'spot' | 'iv' | 'yield' | 'rate'>;
+  terms: Pick<Terms, 'spot' | 'iv' | 'yield' | 'rate' | 'vol' | 'drift' | 'driftSe'>;
 }
 
 export interface LogRequest {
@@ -132,7 +134,11 @@ export interface HelpRequest {
   topic?: string;
 }
 
+import type { HistoryRequest } from './history.js';
+export type { HistoryRequest };
+
 export type Request =
+  | HistoryRequest
   | CheckRequest
   | IvRequest
   | TouchRequest

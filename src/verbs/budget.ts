@@ -38,6 +38,8 @@ export const JUMP_PER_TERM = 0.1;
 export const JUMP_HORIZON_BASE = 30;
 export const JUMP_HORIZON_PER_TERM = 0.2;
 export const JUMP_SD_WEIGHT = 20;
+/** a check with a drift uncertainty runs the engine twice: measured 1.0× (European) to 1.6× (American, two legs) the time; 2 bounds both */
+export const DRIFT_UNCERTAINTY_FACTOR = 2;
 export const EXITS_BASE = 40;
 export const EXITS_PER_LEG = 3;
 export const EXITS_JUMP_BASE = 400;
@@ -77,6 +79,9 @@ export function checkCost(c: CheckRequest, now: Date = new Date()): number {
     }
     units += u;
   }
+  // a drift uncertainty runs the outcome once more with the drift known (for the line that sets
+  // the two side by side): the legs are revalued again, so the cost doubles
+  if (c.terms.driftSe !== undefined && c.terms.driftSe > 0) units *= DRIFT_UNCERTAINTY_FACTOR;
   if (c.terms.target || c.terms.stop) {
     const n = Math.max(1, c.legs.length);
     if (lambda > 0) {
