@@ -14,6 +14,7 @@
  *                                            JUMP_BASE + JUMP_PER_TERM·λT
  *     and a horizon before its expiry        + (1 + JUMP_SD_WEIGHT·δ²)·(JUMP_HORIZON_BASE + JUMP_HORIZON_PER_TERM·λT)
  *   a target or a stop (exit chances)        EXITS_BASE + EXITS_PER_LEG per leg (finite differences)
+ *     with a drift uncertainty               + EXITS_DRIFT_UNITS
  *     with jumps (Monte Carlo)               EXITS_JUMP_BASE + EXITS_JUMP_PER_LEG·(1 + 0.2·λT·(1 + JUMP_SD_WEIGHT·δ²)) per leg
  *
  * fitted to timings of the seam (./ask.ts) on 50-leg checks (European 45–66 ms; early exercise 0.5–0.7 s;
@@ -44,6 +45,8 @@ export const EXITS_BASE = 40;
 export const EXITS_PER_LEG = 3;
 export const EXITS_JUMP_BASE = 400;
 export const EXITS_JUMP_PER_LEG = 10;
+/** a drift uncertainty: the view's exit figures are solved at 24 drifts (src/core/models.ts) */
+export const EXITS_DRIFT_UNITS = 150;
 
 const DAY_MS = 86_400_000;
 
@@ -87,7 +90,10 @@ export function checkCost(c: CheckRequest, now: Date = new Date()): number {
     if (lambda > 0) {
       const T = years.length ? Math.max(...years) : Math.max(horizon, 0);
       units += EXITS_JUMP_BASE + EXITS_JUMP_PER_LEG * n * (1 + 0.2 * lambda * T * (1 + JUMP_SD_WEIGHT * sd * sd));
-    } else units += EXITS_BASE + EXITS_PER_LEG * n;
+    } else {
+      units += EXITS_BASE + EXITS_PER_LEG * n;
+      if (c.terms.driftSe !== undefined && c.terms.driftSe > 0) units += EXITS_DRIFT_UNITS;
+    }
   }
   return Math.max(1, Math.ceil(units));
 }
