@@ -13,13 +13,12 @@
  * expires in 3 seconds too), then does its work.
  */
 import { createHash } from 'node:crypto';
-import type bolt from '@slack/bolt';
-import type { webApi } from '@slack/bolt';
-import type { Log } from '../log.js';
 import { termsOfMark, type LogEntry, type MarkTerms, type Store } from '../verbs/ask.js';
 import { plainNotice } from './blocks.js';
-import { tellAsker, type DeliverDeps, type Origin } from './deliver.js';
+import { tellAsker, type Origin } from './deliver.js';
 import type { InboxEntry } from './inbox.js';
+import type { RetryInfo } from './intake.js';
+import type { ListenerContext } from './listeners/context.js';
 import { DELETE_ACTION, EDIT_ACTION, POST_ACTION, POST_CALLBACK, parseCheckKey, postToChannelView, VARY_ACTIONS } from './actions/buttons.js';
 import { variationText, type Variation } from './actions/variations.js';
 import { composeRequest, type FormValues } from './form/compose.js';
@@ -30,24 +29,8 @@ import { ADD_LEG, REMOVE_LEG, checkFormView, decodeMeta, fieldsShown, FORM_CALLB
 import { DEFAULTS_CALLBACK, defaultsView, readDefaults } from './desk/defaults.js';
 import { DESK_CHECKS, DESK_EDIT_DEFAULTS, DESK_MARK_CHANNELS, DESK_OPEN_FORM, DESK_RERUN, myDeskView, type DeskCheck } from './desk/view.js';
 
-type App = InstanceType<typeof bolt.App>;
-type WebClient = webApi.WebClient;
 
 export const SHORTCUT_CALLBACK = 'kolmo_open_form';
-
-/** What the interactive listeners need of the app. */
-export interface InteractiveEnv {
-  client: WebClient;
-  /** the app's own connection to the log (null: answering without it) */
-  store: Store | null;
-  deps: DeliverDeps;
-  log: Log;
-  /** hands a request to the engine and delivers its answer (the same path as typed text) */
-  submit: (origin: Origin, text: string, t0: number, key: string, now: string, resumed?: boolean, extra?: { variedFrom?: number; preface?: string }) => void;
-  /** records a delivery key; false for one seen before (a replay) */
-  admit: (e: Omit<InboxEntry, 'attempts'>, retry: { retryNum?: number; retryReason?: string }) => boolean;
-  budget: number;
-}
 
 /** The log a conversation's checks are numbered in: a channel's own, or the person's private log. */
 export function logOf(channel: string, user: string): string {
@@ -94,8 +77,16 @@ export function typedLine(lead: string, text: string): string {
   return `${lead}. Typed, it is: /kolmo ${text}`;
 }
 
-export function registerInteractive(app: App, env: InteractiveEnv): { openForm: (triggerId: string, meta: FormMeta) => Promise<boolean> } {
-  const { client, store, log } = env;
+export function registerInteractive(ctx: ListenerContext): void {
+  const { app, store, log, intake } = ctx;
+  const client = ctx.delivery.client;
+  const env = {
+    deps: ctx.delivery,
+    budget: ctx.budget,
+    admit: (e: Omit<InboxEntry, 'attempts'>, retry: RetryInfo) => intake.admit(e, retry),
+    submit: (origin: Origin, text: string, t0: number, key: string, now: string, _resumed = false, extra: { variedFrom?: number; preface?: string } = {}) =>
+      intake.submit({ origin, text, t0, key, now, ...extra }),
+  };
 
   const notice = async (origin: Origin, text: string) => {
     await tellAsker(env.deps, origin, [plainNotice(text)]).catch(() => false);
@@ -535,5 +526,5 @@ export function registerInteractive(app: App, env: InteractiveEnv): { openForm: 
     env.submit(origin, text, t0, key, now);
   });
 
-  return { openForm: (triggerId, meta) => openForm(triggerId, meta) };
+  ctx.forms.open = (triggerId, meta) => openForm(triggerId, meta);
 }
