@@ -18,5 +18,6 @@ export function checkChartInput(a: CheckAssembly) {
     expectedPnl: c.outcome.expectedPnl,
     marketVol: c.marketVol,
     curves: a.curves,
+    ...(c.exits ? { exits: { target: c.exits.target, stop: c.exits.stop } } : {}),
   };
 }

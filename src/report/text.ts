@@ -4,6 +4,7 @@
  */
 import type { CheckJson } from '../result.js';
 import { describePosition } from './describe.js';
+import { exitsLine } from './exits.js';
 import { level, money, num, pct, qty as fmtQty, rate, shortDate, table } from './format.js';
 
 function daysBetween(a: string, b: string): number {
@@ -182,6 +183,7 @@ export function checkText(c: CheckJson, opts: { verbose?: boolean } = {}): strin
   lines.push(
     `max gain: ${o.maxGain === null ? 'unbounded' : s(o.maxGain)} · max loss: ${o.maxLoss === null ? 'unbounded' : s(o.maxLoss)}`,
   );
+  if (c.exits) lines.push(exitsLine(c.exits));
   lines.push('');
   const warnings = warningLines(c);
   if (warnings.length) lines.push(...warnings, '');
