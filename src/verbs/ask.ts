@@ -127,7 +127,19 @@ export function askSync(typed: string, ctx: AskContext): Reply {
   }
   const env: VerbEnv = { ...envOf(ctx, { verb: verbNamed, verbs }), verbose, used: new Map() };
   // every Example: of a rejection is a request this channel would answer (./working-example.ts)
-  const counted = (ctx: AskContext, r: Rejection): Rejection => countedRejection(ctx, workingExample(r, ctx, env.today, env.nowIso));
+  // a check, comparison, iv or touch example is run for real (within the budget, nothing logged),
+  // because some of their refusals (targets and stops) come only once the position is valued
+  const runs = (ex: string, req: Request): boolean => {
+    if (!['check', 'compare', 'iv', 'touch'].includes(req.verb)) return true;
+    if (budgetRejection(ex, costOf(req, ex, costContext(ctx, env.now)), ctx.budget ?? COMPUTE_BUDGET_DEFAULT)) return false;
+    try {
+      verbNamed(req.verb).run(ex, req as never, { ...env, used: new Map() });
+      return true;
+    } catch {
+      return false;
+    }
+  };
+  const counted = (ctx: AskContext, r: Rejection): Rejection => countedRejection(ctx, workingExample(r, ctx, env.today, env.nowIso, runs));
   try {
     const p = parse(text);
     if (!p.ok) return counted(ctx, reject(text, p.error));

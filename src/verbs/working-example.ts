@@ -9,17 +9,19 @@ import { EXAMPLES } from '../request/examples.js';
 import { parse } from '../request/parse.js';
 import { resolveCheck, resolveIv, resolveTouch } from '../request/resolve.js';
 import type { Rejection } from '../reply.js';
+import type { Request } from '../request/types.js';
 import { termsOfMark } from './marks.js';
 import type { AskContext } from './verb.js';
 
 /** Most checks in one comparison the seam answers. */
 const COMPARE_MAX = 6;
 
-export function answersHere(example: string, ctx: AskContext, today: string, nowIso: string): boolean {
+export function answersHere(example: string, ctx: AskContext, today: string, nowIso: string, runs?: (ex: string, req: Request) => boolean): boolean {
   try {
     const p = parse(example);
     if (!p.ok) return false;
     const r = p.request;
+    if (runs && !runs(example, r)) return false;
     const store = ctx.store;
     const ctxFor = (on: string | undefined) => {
       if (!on) return { today, now: nowIso };
@@ -64,16 +66,16 @@ export function answersHere(example: string, ctx: AskContext, today: string, now
   }
 }
 
-export function workingExample(r: Rejection, ctx: AskContext, today: string, nowIso: string): Rejection {
+export function workingExample(r: Rejection, ctx: AskContext, today: string, nowIso: string, runs?: (ex: string, req: Request) => boolean): Rejection {
   const lines = r.message.split('\n');
   const last = lines[lines.length - 1];
   if (!last.startsWith('Example: ')) return r;
   const ex = last.slice('Example: '.length);
-  if (answersHere(ex, ctx, today, nowIso)) return r;
+  if (answersHere(ex, ctx, today, nowIso, runs)) return r;
   const verb = parse(ex);
   const key = verb.ok && verb.request.verb in EXAMPLES ? (verb.request.verb as keyof typeof EXAMPLES) : 'check';
   const candidates = key === 'again' || key === 'log' ? ['log 20', EXAMPLES.check] : [EXAMPLES[key], EXAMPLES.check];
-  const pick = candidates.find((c) => answersHere(c, ctx, today, nowIso)) ?? EXAMPLES.check;
+  const pick = candidates.find((c) => answersHere(c, ctx, today, nowIso, runs)) ?? EXAMPLES.check;
   lines[lines.length - 1] = `Example: ${pick}`;
   return { ...r, message: lines.join('\n') };
 }
