@@ -109,6 +109,10 @@ function rerunOf(text: string, req: AgainRequest, env: VerbEnv) {
     // the same words whether #n belongs to another channel or to none
     throw refuseFact(text, { message: `no check #${n} in this channel; \`log\` lists this channel's checks and their numbers`, at, length: String(n).length, example: 'log 20' });
   }
+  if (entry.deletedAt) {
+    // a tombstone keeps only its number (deleted by its asker from the answer's buttons)
+    throw refuseFact(text, { message: `check #${n} was deleted by the person who asked it; only its number is kept`, at, length: String(n).length, example: 'log 20' });
+  }
   const pinned = pinAsof(entry, env);
   const re = applyAgain(pinned.text, req, text);
   if (!re.ok) throw refuse(text, re.error);
