@@ -1,7 +1,10 @@
 /**
- * zod schemas of the typed requests (./types.ts): the last check at the edge before a request
- * leaves the parser. The parser already rejects bad input with positions; this schema guarantees
- * that whatever it lets through is finite, within LIMITS and of the right shape.
+ * zod schemas of the typed requests, one per verb: the last check at the edge before a request
+ * leaves the parser, and (through z.infer, ./types.ts) the requests' types. The parser already
+ * rejects bad input with positions; a schema guarantees that whatever it lets through is finite,
+ * within LIMITS and of the right shape. Values are in core units: percentages divided by 100,
+ * dates as ISO strings; relative expiries (`30d`, `6w`, `3m`, `1y`) stay relative here and are
+ * turned into dates against `asof` by the resolver.
  */
 import { z } from 'zod';
 import { LIMITS, SPAN_MAX } from './limits.js';
@@ -14,7 +17,8 @@ const isoDate = z.iso.date().refine((d) => {
   return y >= MIN_YEAR && y <= MAX_YEAR;
 });
 
-const expirySpec = z.union([
+/** An expiry as written: an ISO date, or a span from asof. */
+export const expirySpec = z.union([
   z.strictObject({ date: isoDate }),
   z
     .strictObject({ span: z.number().int().min(1), unit: z.enum(['d', 'w', 'm', 'y']) })
@@ -32,6 +36,7 @@ const jumps = z.strictObject({
   sd: z.number().min(0).max(LIMITS.jumpSdMax),
 });
 
+/** Terms that may follow the legs, in any order. All optional; the resolver fills defaults. */
 export const termsSchema = z.strictObject({
   spot: price.optional(),
   rate: rate.optional(),
@@ -48,7 +53,15 @@ export const termsSchema = z.strictObject({
   on: symbol.optional(),
 });
 
-const termsAt = z.record(z.string(), pos);
+/** The term names, in the order help lists them. */
+export const TERM_NAMES = ['spot', 'rate', 'yield', 'iv', 'exp', 'drift', 'vol', 'horizon', 'asof', 'mult', 'style', 'jumps', 'on'] as const;
+
+/** The character index of each named part that was written (so later checks can put a caret on it). */
+function positions<K extends string>(names: readonly [K, ...K[]]) {
+  return z.partialRecord(z.enum(names), pos);
+}
+
+const termsAt = positions(TERM_NAMES);
 
 export const legSchema = z
   .strictObject({
@@ -58,8 +71,10 @@ export const legSchema = z
     expiry: expirySpec.optional(),
     entry: z.number().min(0).max(LIMITS.price).optional(),
     iv: vol.optional(),
+    /** index of the leg's first token */
     at: pos,
-    termsAt: termsAt,
+    /** index of each term of the leg that was written */
+    termsAt: positions(['strike', 'expiry', 'entry', 'iv']),
   })
   .refine((l) => Math.abs(l.qty) <= (l.kind === 'shares' ? LIMITS.qtyShares : LIMITS.qtyContracts))
   .refine((l) => (l.kind === 'shares' ? l.strike === undefined && l.expiry === undefined && l.iv === undefined : l.strike !== undefined));
@@ -69,45 +84,57 @@ export const checkSchema = z.strictObject({
   legs: z.array(legSchema).min(1).max(LIMITS.legs),
   terms: termsSchema,
   termsAt,
+  /** index just past the last token of the check (where a missing term would go) */
   end: pos.optional(),
 });
 
-export const requestSchema = z.discriminatedUnion('verb', [
-  checkSchema,
-  z.strictObject({
-    verb: z.literal('compare'),
-    parts: z.array(z.strictObject({ text: z.string(), at: pos })).min(2).max(LIMITS.compareParts),
-    checks: z.array(checkSchema).optional(),
-  }),
-  z.strictObject({
-    verb: z.literal('iv'),
-    kind: z.enum(['call', 'put']),
-    strike: price,
-    expiry: expirySpec,
-    price,
-    terms: termsSchema,
-    termsAt,
-    end: pos.optional(),
-  }),
-  z.strictObject({
-    verb: z.literal('touch'),
-    level: price,
-    by: expirySpec,
-    terms: termsSchema,
-    termsAt,
-    end: pos.optional(),
-  }),
-  z.strictObject({
-    verb: z.literal('mark'),
-    symbol: symbol.optional(),
-    terms: z.strictObject({ spot: price.optional(), iv: vol.optional(), yield: rate.optional(), rate: rate.optional() }),
-  }),
-  z.strictObject({ verb: z.literal('log'), count: z.number().int().min(1).max(LIMITS.logMax) }),
-  z.strictObject({
-    verb: z.literal('again'),
-    number: z.number().int().min(1).max(LIMITS.againMax),
-    rest: z.string(),
-    restAt: pos,
-  }),
-  z.strictObject({ verb: z.literal('help'), topic: z.string().optional() }),
-]);
+export const compareSchema = z.strictObject({
+  verb: z.literal('compare'),
+  /** the parts' texts between `;`, with their start index in the request */
+  parts: z.array(z.strictObject({ text: z.string(), at: pos })).min(2).max(LIMITS.compareParts),
+  /**
+   * each part as a check after inheriting from the one before (terms written in a part override,
+   * legs written in a part replace the legs); positions index the whole request text
+   */
+  checks: z.array(checkSchema).optional(),
+});
+
+export const ivSchema = z.strictObject({
+  verb: z.literal('iv'),
+  kind: z.enum(['call', 'put']),
+  strike: price,
+  expiry: expirySpec,
+  price,
+  terms: termsSchema,
+  termsAt: positions([...TERM_NAMES, 'price', 'strike', 'expiry']),
+  end: pos.optional(),
+});
+
+export const touchSchema = z.strictObject({
+  verb: z.literal('touch'),
+  level: price,
+  /** the date by which the level must be touched */
+  by: expirySpec,
+  terms: termsSchema,
+  termsAt: positions([...TERM_NAMES, 'level', 'by']),
+  end: pos.optional(),
+});
+
+export const markSchema = z.strictObject({
+  verb: z.literal('mark'),
+  /** absent: list the channel's marks */
+  symbol: symbol.optional(),
+  terms: z.strictObject({ spot: price.optional(), iv: vol.optional(), yield: rate.optional(), rate: rate.optional() }),
+});
+
+export const logSchema = z.strictObject({ verb: z.literal('log'), count: z.number().int().min(1).max(LIMITS.logMax) });
+
+export const againSchema = z.strictObject({
+  verb: z.literal('again'),
+  number: z.number().int().min(1).max(LIMITS.againMax),
+  /** the override text after the number, parsed as terms (and possibly legs) by the caller */
+  rest: z.string(),
+  restAt: pos,
+});
+
+export const helpSchema = z.strictObject({ verb: z.literal('help'), topic: z.string().optional() });

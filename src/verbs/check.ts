@@ -3,9 +3,11 @@
  * Resolves against the channel's mark, runs the core, answers with the table and the chart, and
  * is logged with its headline figures.
  */
+import { checkSchema } from '../request/schema.js';
 import { runCheck } from '../core/outcome.js';
 import { activeJumps } from '../core/jumps.js';
-import { parseCheckVerb } from '../request/parse.js';
+import { parseCheckVerb } from '../request/grammar/body.js';
+import { ALL_TERMS } from '../request/grammar/words.js';
 import { resolveCheck, type ResolvedCheck } from '../request/resolve.js';
 import type { CheckRequest } from '../request/types.js';
 import type { CheckAssembly, CheckJson, LegJson } from '../result.js';
@@ -16,7 +18,7 @@ import { money, pct, pts } from '../report/format.js';
 import type { CheckSummary } from '../store/store.js';
 import { checkCost } from './budget.js';
 import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
-import { answer, defineVerb, refuse, type Outcome, type VerbEnv } from './verb.js';
+import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 /** Runs the core for a resolved check and assembles the JSON result (DESIGN.md §4). */
 export function computeCheck(rc: ResolvedCheck): CheckAssembly {
@@ -125,12 +127,14 @@ function runCheckVerb(text: string, req: CheckRequest, env: VerbEnv): Outcome {
   return { answer: a, log: { verb: 'check', text, request: req, summary: checkSummary(asm.json) } };
 }
 
-export const check = defineVerb({
+export const check: Verb<CheckRequest> = {
   name: 'check',
+  schema: checkSchema,
+  body: { terms: ALL_TERMS, legs: true },
   words: ['check'],
   grammar: parseCheckVerb,
   rerunnable: true,
   run: runCheckVerb,
   cost: (req, _text, ctx) => ({ units: checkCost(req, ctx.now), at: req.termsAt.jumps ?? req.termsAt.style ?? 0, what: 'check' }),
   figureChanges: checkFigureChanges,
-});
+};
