@@ -34,6 +34,7 @@ import { EngineError, InlineEngine, WorkerPool, type Engine } from './pool.js';
 import { ChannelQueue } from './queue.js';
 import { UserRateLimit } from './ratelimit.js';
 import { CHAT_DEFAULTS, type ChatSettings } from './settings.js';
+import { downloadFile, fileRefsOf, type FileRef } from './files.js';
 
 const { App, HTTPReceiver, SocketModeReceiver } = bolt;
 type WebClientOptions = webApi.WebClientOptions;
@@ -288,7 +289,7 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
     return 'dropped';
   };
 
-  const submit = (origin: Origin, rawText: string, t0: number, key: string, now: string, resumed = false): void => {
+  const submit = (origin: Origin, rawText: string, t0: number, key: string, now: string, resumed = false, fileRefs: FileRef[] = []): void => {
     const text = rawText.trim() === '' ? 'help' : rawText;
     const line = { channel: origin.channel, user: origin.user, source: origin.source, ...(resumed ? { resumed: true } : {}) };
     log.debug({ ...line, text }, 'request text');
@@ -321,7 +322,28 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
       let logNumber: number | undefined;
       let failures = 0;
       try {
-        const result = await engine.run({ text, channel: origin.channel, user: origin.user, now, budget: settings.computeBudget, ...(resumed ? { resumed } : {}) });
+        // files shared with a `history` mention: downloaded here, in the channel's turn
+        let files: { name: string; base64: string }[] | undefined;
+        if (fileRefs.length > 0) {
+          try {
+            files = await Promise.all(fileRefs.map((f) => downloadFile(f, config.botToken, config.apiUrl)));
+          } catch (err) {
+            const why = scrub(err instanceof Error ? err.message : String(err), secrets);
+            log.info({ ...line, verb, outcome: 'file-unreadable', ms: Math.round(performance.now() - t0) }, 'request');
+            await tellAsker(deps, origin, [plainNotice(`Kolmo could not read the file shared with this request: ${why}. Nothing was posted.`)]).catch(() => false);
+            inbox.finish(key);
+            return;
+          }
+        }
+        const result = await engine.run({
+          text,
+          channel: origin.channel,
+          user: origin.user,
+          now,
+          budget: settings.computeBudget,
+          ...(resumed ? { resumed } : {}),
+          ...(files ? { files } : {}),
+        });
         computeMs = Math.round(result.ms);
         if (result.reply.kind === 'answer') {
           verb = result.reply.verb;
@@ -408,11 +430,13 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
     const key = eventKey((body as { event_id?: string }).event_id, `${event.channel}\n${event.ts}`);
     const text = stripMention(event.text ?? '', context.botUserId ?? botUserId);
     const origin: Origin = { source: 'mention', channel: event.channel, user, ...(event.thread_ts ? { threadTs: event.thread_ts } : {}) };
+    // only a `history` request reads the files attached to its message
+    const fileRefs = verbOf(text) === 'history' ? fileRefsOf((event as { files?: unknown }).files) : [];
     const fresh = admit(
       { key, source: 'mention', channel: origin.channel, user, ...(origin.threadTs ? { threadTs: origin.threadTs } : {}), text, now },
       context as { retryNum?: number; retryReason?: string },
     );
-    if (fresh) submit(origin, text, t0, key, now);
+    if (fresh) submit(origin, text, t0, key, now, false, fileRefs);
   });
 
   app.error(async (err) => {

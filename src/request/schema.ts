@@ -9,6 +9,7 @@
 import { z } from 'zod';
 import { LIMITS, SPAN_MAX } from './limits.js';
 import { MAX_YEAR, MIN_YEAR } from './dates.js';
+import { CLOSES_MAX } from './closes.js';
 
 const pos = z.number().int().min(0);
 
@@ -28,6 +29,8 @@ export const expirySpec = z.union([
 const price = z.number().positive().max(LIMITS.price);
 const vol = z.number().min(LIMITS.volMin).max(LIMITS.volMax);
 const rate = z.number().min(LIMITS.rateMin).max(LIMITS.rateMax);
+const drift = z.number().min(LIMITS.driftMin).max(LIMITS.driftMax);
+const driftSe = z.number().min(0).max(LIMITS.driftSeMax);
 const symbol = z.string().regex(/^[A-Z][A-Z0-9.-]*$/).max(LIMITS.symbolLength);
 
 const jumps = z.strictObject({
@@ -43,7 +46,9 @@ export const termsSchema = z.strictObject({
   yield: rate.optional(),
   iv: vol.optional(),
   exp: expirySpec.optional(),
-  drift: z.number().min(LIMITS.driftMin).max(LIMITS.driftMax).optional(),
+  drift: drift.optional(),
+  /** the drift's uncertainty (`drift 9% ± 6%`), part of the drift term: written only after a drift */
+  driftSe: driftSe.optional(),
   vol: vol.optional(),
   horizon: expirySpec.optional(),
   asof: z.union([isoDate, z.literal('today')]).optional(),
@@ -124,7 +129,15 @@ export const markSchema = z.strictObject({
   verb: z.literal('mark'),
   /** absent: list the channel's marks */
   symbol: symbol.optional(),
-  terms: z.strictObject({ spot: price.optional(), iv: vol.optional(), yield: rate.optional(), rate: rate.optional() }),
+  terms: z.strictObject({
+    spot: price.optional(),
+    iv: vol.optional(),
+    yield: rate.optional(),
+    rate: rate.optional(),
+    vol: vol.optional(),
+    drift: drift.optional(),
+    driftSe: driftSe.optional(),
+  }),
 });
 
 export const logSchema = z.strictObject({ verb: z.literal('log'), count: z.number().int().min(1).max(LIMITS.logMax) });
@@ -138,3 +151,22 @@ export const againSchema = z.strictObject({
 });
 
 export const helpSchema = z.strictObject({ verb: z.literal('help'), topic: z.string().optional() });
+
+export const historySchema = z.strictObject({
+  verb: z.literal('history'),
+  symbol,
+  symbolAt: pos,
+  closes: z
+    .array(
+      z.strictObject({
+        date: z.string().regex(/^\d{4}-\d{2}-\d{2}$/).optional(),
+        close: z.number().positive().finite(),
+        at: pos,
+        len: pos,
+      }),
+    )
+    .max(CLOSES_MAX),
+  yield: rate.optional(),
+  yieldAt: pos.optional(),
+  save: z.boolean(),
+});

@@ -11,6 +11,7 @@ import type {
   compareSchema,
   expirySpec,
   helpSchema,
+  historySchema,
   ivSchema,
   legSchema,
   logSchema,
@@ -32,6 +33,7 @@ export type MarkRequest = z.infer<typeof markSchema>;
 export type LogRequest = z.infer<typeof logSchema>;
 export type AgainRequest = z.infer<typeof againSchema>;
 export type HelpRequest = z.infer<typeof helpSchema>;
+export type HistoryRequest = z.infer<typeof historySchema>;
 
 /** Any request: the requests of the verbs in the registry. */
 export type { Request };

@@ -15,7 +15,7 @@ import { openPostgres, redactUrl } from './postgres.js';
 
 export { redactUrl };
 import { defaultDbPath, openStore } from './sqlite.js';
-import type { LogEntry, LogEntryInput, Mark, OpenOptions, Store } from './store.js';
+import type { LogEntry, LogEntryInput, Mark, OpenOptions, Store, StoredClose } from './store.js';
 
 export interface AsyncStore {
   readonly backend: 'sqlite' | 'postgres';
@@ -33,6 +33,10 @@ export interface AsyncStore {
   recent(channel: string, n: number): Promise<LogEntry[]>;
   /** Stores the mark, replacing the channel's previous mark for that symbol as a whole. */
   putMark(m: Mark): Promise<void>;
+  /** The channel's stored price history for a symbol, oldest first ([] when none). */
+  getCloses(channel: string, symbol: string): Promise<StoredClose[]>;
+  /** Replaces the channel's stored price history for a symbol as a whole (in one transaction). */
+  putCloses(channel: string, symbol: string, closes: StoredClose[]): Promise<void>;
   getMark(channel: string, symbol: string): Promise<Mark | undefined>;
   /** The channel's marks in symbol order. */
   listMarks(channel: string): Promise<Mark[]>;
@@ -56,6 +60,8 @@ export function asyncOf(s: Store, where: string): AsyncStore {
     get: async (c, n) => s.get(c, n),
     recent: async (c, n) => s.recent(c, n),
     putMark: async (m) => s.putMark(m),
+    getCloses: async (c, sym) => s.getCloses(c, sym),
+    putCloses: async (c, sym, closes) => s.putCloses(c, sym, closes),
     getMark: async (c, sym) => s.getMark(c, sym),
     listMarks: async (c) => s.listMarks(c),
     countRejected: async (c) => s.countRejected(c),

@@ -121,6 +121,38 @@ export const MIGRATIONS: readonly Migration[] = [
       UPDATE checks SET delivered = 'delivered' WHERE thread_ts IS NOT NULL;
     `,
   },
+  {
+    version: 3,
+    description: "a mark's view (vol, drift and its uncertainty) and each channel's price histories",
+    up(db) {
+      db.exec(`
+        ALTER TABLE marks ADD COLUMN vol REAL;
+        ALTER TABLE marks ADD COLUMN drift REAL;
+        ALTER TABLE marks ADD COLUMN drift_se REAL;
+        CREATE TABLE closes (
+          channel TEXT NOT NULL,
+          symbol  TEXT NOT NULL,
+          seq     INTEGER NOT NULL CHECK (seq >= 0),
+          day     TEXT,
+          close   REAL NOT NULL,
+          PRIMARY KEY (channel, symbol, seq)
+        );
+      `);
+    },
+    postgres: `
+      ALTER TABLE marks ADD COLUMN vol DOUBLE PRECISION;
+      ALTER TABLE marks ADD COLUMN drift DOUBLE PRECISION;
+      ALTER TABLE marks ADD COLUMN drift_se DOUBLE PRECISION;
+      CREATE TABLE closes (
+        channel TEXT NOT NULL,
+        symbol  TEXT NOT NULL,
+        seq     INTEGER NOT NULL CHECK (seq >= 0),
+        day     TEXT,
+        close   DOUBLE PRECISION NOT NULL,
+        PRIMARY KEY (channel, symbol, seq)
+      );
+    `,
+  },
 ];
 
 /** The schema version this code reads and writes. */

@@ -26,6 +26,7 @@ import { migrate, schemaVersion, SCHEMA_VERSION } from './migrations.js';
 import {
   LIMITS,
   checkRowOf,
+  closeRowsOf,
   deliveryArgsOf,
   id,
   isEntryNumber,
@@ -33,11 +34,13 @@ import {
   recentLimitOf,
   threadArgsOf,
   toEntry,
+  toClose,
   toMark,
   type CheckRow,
+  type CloseRow,
   type MarkRow,
 } from './rows.js';
-import type { LogEntry, LogEntryInput, Mark, OpenOptions, Store } from './store.js';
+import type { LogEntry, LogEntryInput, Mark, OpenOptions, Store, StoredClose } from './store.js';
 
 export { LIMITS, cutBytes } from './rows.js';
 
@@ -112,6 +115,7 @@ export function openStore(path: string, opts: OpenOptions = {}): Store {
 }
 
 const CHECK_COLUMNS = 'channel, number, user, at, verb, text, normalized, summary, thread_ts, permalink, delivered';
+const MARK_COLUMNS = 'channel, symbol, spot, iv, yield, rate, vol, drift, drift_se, user, at';
 
 class SqliteStore implements Store {
   private readonly s;
@@ -138,14 +142,18 @@ class SqliteStore implements Store {
       get: db.prepare(`SELECT ${CHECK_COLUMNS} FROM checks WHERE channel = ? AND number = ?`),
       recent: db.prepare(`SELECT ${CHECK_COLUMNS} FROM checks WHERE channel = ? ORDER BY number DESC LIMIT ?`),
       putMark: db.prepare(
-        `INSERT INTO marks (channel, symbol, spot, iv, yield, rate, user, at)
-         VALUES (@channel, @symbol, @spot, @iv, @yield, @rate, @user, @at)
+        `INSERT INTO marks (channel, symbol, spot, iv, yield, rate, vol, drift, drift_se, user, at)
+         VALUES (@channel, @symbol, @spot, @iv, @yield, @rate, @vol, @drift, @drift_se, @user, @at)
          ON CONFLICT (channel, symbol) DO UPDATE SET
            spot = excluded.spot, iv = excluded.iv, yield = excluded.yield, rate = excluded.rate,
+           vol = excluded.vol, drift = excluded.drift, drift_se = excluded.drift_se,
            user = excluded.user, at = excluded.at`,
       ),
-      getMark: db.prepare('SELECT channel, symbol, spot, iv, yield, rate, user, at FROM marks WHERE channel = ? AND symbol = ?'),
-      listMarks: db.prepare('SELECT channel, symbol, spot, iv, yield, rate, user, at FROM marks WHERE channel = ? ORDER BY symbol'),
+      getMark: db.prepare(`SELECT ${MARK_COLUMNS} FROM marks WHERE channel = ? AND symbol = ?`),
+      listMarks: db.prepare(`SELECT ${MARK_COLUMNS} FROM marks WHERE channel = ? ORDER BY symbol`),
+      getCloses: db.prepare('SELECT seq, day, close FROM closes WHERE channel = ? AND symbol = ? ORDER BY seq'),
+      dropCloses: db.prepare('DELETE FROM closes WHERE channel = ? AND symbol = ?'),
+      putClose: db.prepare('INSERT INTO closes (channel, symbol, seq, day, close) VALUES (?, ?, ?, ?, ?)'),
       countRejected: db.prepare(
         'INSERT INTO rejected (channel, count) VALUES (?, 1) ON CONFLICT (channel) DO UPDATE SET count = count + 1',
       ),
@@ -217,6 +225,20 @@ class SqliteStore implements Store {
   listMarks(channel: string): Mark[] {
     if (typeof channel !== 'string') return [];
     return this.guard('read', () => this.s.listMarks.all(channel) as MarkRow[]).map(toMark);
+  }
+
+  getCloses(channel: string, sym: string): StoredClose[] {
+    if (typeof channel !== 'string' || typeof sym !== 'string') return [];
+    return this.guard('read', () => this.s.getCloses.all(channel, sym.trim().toUpperCase()) as CloseRow[]).map(toClose);
+  }
+
+  putCloses(channel: string, sym: string, closes: StoredClose[]): void {
+    const r = closeRowsOf(channel, sym, closes);
+    const tx = this.db.transaction(() => {
+      this.s.dropCloses.run(r.channel, r.symbol);
+      for (const row of r.rows) this.s.putClose.run(r.channel, r.symbol, row.seq, row.day, row.close);
+    });
+    this.guard('write', () => tx.immediate());
   }
 
   countRejected(channel: string): void {

@@ -5,6 +5,7 @@
  */
 import { checkSchema } from '../request/schema.js';
 import { runCheck } from '../core/outcome.js';
+import { knownDriftFigures } from '../core/predictive.js';
 import { activeJumps } from '../core/jumps.js';
 import { parseCheckVerb } from '../request/grammar/body.js';
 import { ALL_TERMS } from '../request/grammar/words.js';
@@ -56,7 +57,13 @@ export function computeCheck(rc: ResolvedCheck): CheckAssembly {
     horizon: rc.horizon,
     horizonYears: input.horizonYears,
     market: { spot: input.market.spot, rate: input.market.rate, yield: input.market.yield },
-    view: { drift: input.view.drift, vol: input.view.vol, model: jumps ? 'merton-jumps' : 'lognormal', ...(jumps ? { jumps } : {}) },
+    view: {
+      drift: input.view.drift,
+      vol: input.view.vol,
+      model: jumps ? 'merton-jumps' : 'lognormal',
+      ...(jumps ? { jumps } : {}),
+      ...(input.view.driftSe ? { driftSe: input.view.driftSe } : {}),
+    },
     style: input.style,
     mult: input.mult,
     notes: [...rc.notes, ...core.notes.map(checkNoteText)],
@@ -70,6 +77,9 @@ export function computeCheck(rc: ResolvedCheck): CheckAssembly {
       tailMean05: rn.tailMean05,
     },
   };
+  // with a drift uncertainty, the same figures with the drift known, for the line that compares them
+  const known = knownDriftFigures(input);
+  if (known) json.knownDrift = { probProfit: known.probProfit, pnlQuantiles: { p05: known.p05, p95: known.p95 } };
   return { json, curves: core.curves };
 }
 

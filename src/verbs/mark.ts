@@ -61,7 +61,7 @@ function runMark(text: string, req: MarkRequest, env: VerbEnv): Outcome {
   const symAt = Math.max(0, text.toUpperCase().indexOf(sym));
   const prev = storeCall(text, 'the marks of this channel could not be read', symAt, () => store.getMark(channel, sym));
   const t = req.terms;
-  if (t.spot === undefined && t.iv === undefined && t.yield === undefined && t.rate === undefined) {
+  if (t.spot === undefined && t.iv === undefined && t.yield === undefined && t.rate === undefined && t.vol === undefined && t.drift === undefined) {
     // `mark SYMBOL` alone shows that mark
     if (!prev) {
       throw refuseFact(text, { message: `no mark for ${sym} in this channel: record one with spot, iv, yield or rate`, at: symAt, length: sym.length, example: `mark ${sym} spot 84.20 iv 31% yield 1.2%` });
@@ -75,6 +75,8 @@ function runMark(text: string, req: MarkRequest, env: VerbEnv): Outcome {
     ...(t.iv !== undefined ? { iv: t.iv } : {}),
     ...(t.yield !== undefined ? { yield: t.yield } : {}),
     ...(t.rate !== undefined ? { rate: t.rate } : {}),
+    ...(t.vol !== undefined ? { vol: t.vol } : {}),
+    ...(t.drift !== undefined ? { drift: t.drift, ...(t.driftSe ? { driftSe: t.driftSe } : {}) } : {}),
     user: env.ctx.user,
     at: env.nowIso,
   };
@@ -98,8 +100,11 @@ export function parseMark(src: string, toks: Tok[]): MarkRequest {
   }
   const symbol = readSymbol(c, toks[0], sTok, 'mark');
   const body = readBody(c, 'mark');
-  const { spot, iv, yield: q, rate } = body.terms;
+  const { spot, iv, yield: q, rate, vol, drift, driftSe } = body.terms;
   const terms: MarkRequest['terms'] = {};
+  if (vol !== undefined) terms.vol = vol;
+  if (drift !== undefined) terms.drift = drift;
+  if (driftSe !== undefined) terms.driftSe = driftSe;
   if (spot !== undefined) terms.spot = spot;
   if (iv !== undefined) terms.iv = iv;
   if (q !== undefined) terms.yield = q;
@@ -107,4 +112,4 @@ export function parseMark(src: string, toks: Tok[]): MarkRequest {
   return { verb: 'mark', symbol, terms };
 }
 
-export const mark: Verb<MarkRequest> = { name: 'mark', schema: markSchema, body: { terms: ['spot', 'iv', 'yield', 'rate'], legs: false }, words: ['mark'], grammar: parseMark, rerunnable: false, run: runMark };
+export const mark: Verb<MarkRequest> = { name: 'mark', schema: markSchema, body: { terms: ['spot', 'iv', 'yield', 'rate', 'vol', 'drift'], legs: false }, words: ['mark'], grammar: parseMark, rerunnable: false, run: runMark };

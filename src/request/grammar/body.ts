@@ -160,9 +160,13 @@ export function mergeCheck(prev: CheckRequest, next: CheckRequest): CheckRequest
   for (const k of Object.keys(next.terms) as TermName[]) {
     if (next.terms[k] !== undefined) {
       (terms as Record<string, unknown>)[k] = next.terms[k];
-      termsAt[k] = next.termsAt[k];
+      // the drift's uncertainty is part of the drift term and has no position of its own
+      const at = (next.termsAt as Partial<Record<string, number>>)[k];
+      if (at !== undefined) (termsAt as Partial<Record<string, number>>)[k] = at;
     }
   }
+  // a drift written again replaces the drift term whole, its uncertainty included
+  if (next.terms.drift !== undefined && next.terms.driftSe === undefined) delete terms.driftSe;
   return {
     verb: 'check',
     legs: next.legs.length ? next.legs : prev.legs,

@@ -37,9 +37,16 @@ export function readTermValue(c: Cursor, name: AnyTerm, t: Tok, into: Collected)
     case 'vol':
       terms.vol = readPercent(c, t, 'vol', 'vol');
       return;
-    case 'drift':
+    case 'drift': {
       terms.drift = readPercent(c, t, 'drift', 'drift');
+      // `drift 9% ± 6%` (also `9%±6%`, `9% +/- 6%`): the drift's uncertainty, part of the drift term
+      const pm = c.peek();
+      if (pm && (pm.text === '±' || pm.low === '+/-')) {
+        c.next();
+        terms.driftSe = readPercent(c, pm, `the drift's uncertainty after ${pm.text}`, 'driftSe');
+      }
       return;
+    }
     case 'exp':
       terms.exp = readSpec(c, t, 'exp', SAMPLE.exp);
       return;

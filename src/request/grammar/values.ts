@@ -32,12 +32,13 @@ export function readPrice(c: Cursor, term: Tok, label: string, sample: string): 
   return v;
 }
 
-export type PctKind = 'vol' | 'rate' | 'drift' | 'jumpMean' | 'jumpSd';
+export type PctKind = 'vol' | 'rate' | 'drift' | 'driftSe' | 'jumpMean' | 'jumpSd';
 
 const PCT_RANGE: Record<PctKind, [number, number]> = {
   vol: [LIMITS.volMin, LIMITS.volMax],
   rate: [LIMITS.rateMin, LIMITS.rateMax],
   drift: [LIMITS.driftMin, LIMITS.driftMax],
+  driftSe: [0, LIMITS.driftSeMax],
   jumpMean: [LIMITS.jumpMeanMin, LIMITS.jumpMeanMax],
   jumpSd: [0, LIMITS.jumpSdMax],
 };
@@ -46,6 +47,7 @@ const PCT_SAMPLE: Record<PctKind, string> = {
   vol: '25%',
   rate: '4.5%',
   drift: '9%',
+  driftSe: '6%',
   jumpMean: '-8%',
   jumpSd: '12%',
 };
@@ -69,6 +71,9 @@ export function readPercent(c: Cursor, term: Tok, name: string, kind: PctKind): 
     const [lo, hi] = PCT_RANGE[kind];
     if (kind === 'vol' && v <= 0) {
       throw c.reject(t, `${name} must be positive, not ${t.text}`, replaceTok(t, v < 0 ? t.text.slice(1) : sample));
+    }
+    if (kind === 'driftSe' && v < 0) {
+      throw c.reject(t, `the drift's uncertainty is a standard error and must not be negative, not ${t.text}`, replaceTok(t, t.text.slice(1)));
     }
     if (kind === 'jumpSd' && v < 0) {
       throw c.reject(t, `the jump s.d. must not be negative, not ${t.text}`, replaceTok(t, t.text.slice(1)));
