@@ -23,7 +23,10 @@
  * - time = calendar days / 365.
  */
 
-import type { CheckInput, ExerciseStyle, Jumps, LegInput } from '../core/types.js';
+import type { CheckInput, Jumps, LegInput } from '../core/types.js';
+import { hasJumps, jumpVariance } from '../core/jumps.js';
+import type { IvQuestion } from '../core/models.js';
+import { DAY_MS } from '../core/units.js';
 import { MAX_YEAR, checkDate, daysBetween, resolveSpec, yearOf } from './dates.js';
 import { EXAMPLES, SAMPLE, type ExampleKey } from './examples.js';
 import { LIMITS } from './limits.js';
@@ -65,19 +68,10 @@ export interface ResolvedCheck {
   symbol?: string;
 }
 
-export interface ResolvedIv {
-  kind: 'call' | 'put';
-  price: number;
-  S: number;
-  K: number;
-  T: number;
-  r: number;
-  q: number;
+/** An implied-vol question for the core (src/core/models.ts), with its dates. */
+export interface ResolvedIv extends IvQuestion {
   expiry: string;
   asof: string;
-  style: ExerciseStyle;
-  /** Merton jumps: the implied vol is then the diffusion's vol */
-  jumps?: Jumps;
 }
 
 export interface ResolvedTouch {
@@ -113,8 +107,6 @@ function viewDrift(terms: { drift?: number; driftSe?: number }, base: Base, note
   notes.push('drift not given: the view uses the rate, so the outcome is the risk-neutral one');
   return { drift: base.rate, se: {} };
 }
-
-const DAY_MS = 86_400_000;
 
 function pct(v: number): string {
   return `${Number((v * 100).toPrecision(10))}%`;
@@ -454,7 +446,7 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
  */
 function checkSpread(R: Resolver, input: CheckInput, termsAt: CheckRequest['termsAt']): void {
   const j = input.view.jumps;
-  const jumpVar = j && j.intensity > 0 ? j.intensity * (j.mean * j.mean + j.sd * j.sd) : 0;
+  const jumpVar = hasJumps(j) ? jumpVariance(j) : 0;
   const tau = input.view.driftSe ?? 0;
   let worst = input.view.vol * input.view.vol * input.horizonYears + jumpVar * input.horizonYears + tau * tau * input.horizonYears * input.horizonYears;
   for (const l of input.legs) if (l.kind !== 'shares') worst = Math.max(worst, (l.iv * l.iv + jumpVar) * l.years);
@@ -553,7 +545,7 @@ export function resolveIv(
     }
     const iv: ResolvedIv = {
       kind: req.kind, price: req.price, S, K, T, r: base.rate, q: base.yield, expiry: date, asof: base.asof, style,
-      ...(req.terms.jumps && req.terms.jumps.intensity > 0 ? { jumps: { ...req.terms.jumps } } : {}),
+      ...(hasJumps(req.terms.jumps) ? { jumps: { ...req.terms.jumps } } : {}),
     };
     return { iv, notes: base.notes };
   });

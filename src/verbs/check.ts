@@ -15,7 +15,7 @@ import type { CheckAssembly, CheckJson, LegJson } from '../result.js';
 import { checkHeadline, checkText, positionWords } from '../report/text.js';
 import { checkChartInput } from '../report/chart-input.js';
 import { checkNoteText } from '../report/notes.js';
-import { money, pct, pts } from '../report/format.js';
+import { money, pct, pts, isNum } from '../report/format.js';
 import type { CheckSummary } from '../store/store.js';
 import { checkCost } from './budget.js';
 import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
@@ -99,8 +99,6 @@ export function checkSummary(c: CheckJson): CheckSummary {
     vol: c.view.vol,
   };
 }
-
-const isNum = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
 
 /** "label a → b (Δ)" when both figures are there, else null. */
 export function figurePair(label: string, a: unknown, b: unknown, f: (x: number) => string, d: (x: number) => string): string | null {

@@ -14,7 +14,7 @@ import type { ExpirySpec } from '../request/types.js';
 import { solveImpliedVol, type IvMethod } from '../core/models.js';
 import { resolveIv } from '../request/resolve.js';
 import type { IvRequest } from '../request/types.js';
-import { level, num, pct, pts, rate, shortDate } from '../report/format.js';
+import { level, num, pct, pts, rate, shortDate, isNum } from '../report/format.js';
 import type { CheckSummary } from '../store/store.js';
 import { figurePair, joinFigures } from './check.js';
 import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
@@ -33,7 +33,7 @@ function runIv(text: string, req: IvRequest, env: VerbEnv): Outcome {
   const r = resolveIv(req, resolveContext(text, env, mark));
   if (!r.ok) throw refuse(text, r.error);
   const v = r.iv;
-  const { result: s, method } = solveImpliedVol({ kind: v.kind, price: v.price, S: v.S, K: v.K, T: v.T, r: v.r, q: v.q, style: v.style, jumps: v.jumps });
+  const { result: s, method } = solveImpliedVol(v);
   const ivModel = METHOD_WORDS[method];
   if (!s.ok) {
     throw refuse(text, {
@@ -73,8 +73,6 @@ function runIv(text: string, req: IvRequest, env: VerbEnv): Outcome {
     log: { verb: 'iv', text, request: req, summary },
   };
 }
-
-const isNum = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
 
 export function parseIv(src: string, toks: Tok[]): IvRequest {
   const c = new Cursor(src, toks, 1, toks.length, 'iv');

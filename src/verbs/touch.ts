@@ -13,7 +13,7 @@ import { activeJumps } from '../core/jumps.js';
 import { TOUCH_MC_SEED, touchFigures } from '../core/models.js';
 import { resolveTouch } from '../request/resolve.js';
 import type { TouchRequest } from '../request/types.js';
-import { level, num, pct, pts, rate } from '../report/format.js';
+import { level, num, pct, pts, rate, isNum } from '../report/format.js';
 import type { CheckSummary } from '../store/store.js';
 import { figurePair, joinFigures } from './check.js';
 import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
@@ -78,8 +78,6 @@ function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
     log: { verb: 'touch', text, request: req, summary },
   };
 }
-
-const isNum = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
 
 export function parseTouch(src: string, toks: Tok[]): TouchRequest {
   const c = new Cursor(src, toks, 1, toks.length, 'touch');

@@ -1,0 +1,253 @@
+/** The density chart of one check (design: ../chart.ts). */
+import type { ChartConfiguration, ChartDataset } from 'chart.js';
+import type { CheckCore, CheckInput, Curves } from '../../core/types.js';
+import { describeView, fmtChance, fmtMoney, fmtPrice, isNum } from '../format.js';
+import { type ChartMarker, type KolmoPluginOptions, type ChartInput, type ChartSize, DEFAULT_SIZE, INK, GRID, MUTED, VIEW_LINE, VIEW_FILL, RN_LINE, PNL_LINE, PROFIT_BAND, MAX_POINTS } from './style.js';
+import { niceRange, tickFormat, trapezoid, sampledQuantiles, thinIndices } from './scale.js';
+import { profitBands, AXIS_TITLE_FONT, TICK_FONT, baseOptions, emptyPluginOptions, densityAxis } from './axes.js';
+
+// ---------------------------------------------------------------------------------------------
+// The density chart of one check.
+
+interface CleanCurves {
+  spot: number[];
+  dv: number[];
+  drn: number[];
+  pnl: number[];
+}
+
+function cleanCurves(c: Curves | undefined): CleanCurves {
+  const out: CleanCurves = { spot: [], dv: [], drn: [], pnl: [] };
+  if (!c || !Array.isArray(c.spot)) return out;
+  const n = Math.min(c.spot.length, c.densityView?.length ?? 0, c.densityRiskNeutral?.length ?? 0, c.pnl?.length ?? 0);
+  let last = -Infinity;
+  for (let i = 0; i < n; i++) {
+    const s = c.spot[i];
+    const a = c.densityView[i];
+    const b = c.densityRiskNeutral[i];
+    const p = c.pnl[i];
+    if (!isNum(s) || !isNum(a) || !isNum(b) || !isNum(p) || s <= last) continue;
+    last = s;
+    out.spot.push(s);
+    out.dv.push(Math.max(0, a));
+    out.drn.push(Math.max(0, b));
+    out.pnl.push(p);
+  }
+  return out;
+}
+
+/**
+ * The density chart of one check: the view's and the risk-neutral density of the spot at the
+ * horizon (left axis), the P&L at the horizon (right axis, money) with its zero line, the profit
+ * region shaded, markers at spot, strikes and breakevens. Pure; JSON-serialisable result.
+ */
+export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SIZE): ChartConfiguration<'line', { x: number; y: number }[]> {
+  const cur = input.currency && /^[A-Za-z]{2,5}$/.test(input.currency) ? input.currency.toUpperCase() : undefined;
+  const c = cleanCurves(input.curves);
+  const spot = isNum(input.spot) ? input.spot : NaN;
+  const strikes = [...new Set((input.strikes ?? []).filter(isNum))].sort((a, b) => a - b);
+  const breakevens = [...new Set((input.breakevens ?? []).filter(isNum))].sort((a, b) => a - b);
+
+  const areaV = trapezoid(c.spot, c.dv);
+  const areaR = trapezoid(c.spot, c.drn);
+  let empty: string | undefined;
+  if (c.spot.length < 2) empty = 'no chart: the result carries no sampled curves';
+  else if (!(areaV > 0) && !(areaR > 0)) {
+    empty = 'no chart: the spot at the horizon has no spread to draw (a horizon of today or a zero volatility)';
+  } else if (c.pnl.every((v) => v === 0)) {
+    empty = 'no chart: the position has no exposure (its legs cancel; P&L is zero at every spot)';
+  }
+
+  // x range: 0.5%–99.5% quantiles of both densities, today's spot, strikes and breakevens.
+  const want: number[] = [];
+  if (!empty) {
+    if (areaV > 0) want.push(...sampledQuantiles(c.spot, c.dv, [0.005, 0.995]));
+    if (areaR > 0) want.push(...sampledQuantiles(c.spot, c.drn, [0.005, 0.995]));
+  }
+  want.push(...strikes, ...breakevens);
+  if (isNum(spot)) want.push(spot);
+  const finiteWant = want.filter(isNum);
+  let lo = finiteWant.length ? Math.min(...finiteWant) : 0;
+  let hi = finiteWant.length ? Math.max(...finiteWant) : 1;
+  const pad = (hi - lo) * 0.04;
+  lo -= pad;
+  hi += pad;
+  if (lo < 0 && Math.min(...finiteWant, Infinity) >= 0) lo = 0; // spot never goes below zero
+  const xr = niceRange(lo, hi, 10);
+  // The axis ends where the sampled curves end when they already hold everything needed, so
+  // the curves reach both edges; ticks stay at whole multiples of the step.
+  let xMin = xr.min;
+  let xMax = xr.max;
+  if (!empty && finiteWant.length) {
+    const g0 = c.spot[0];
+    const g1 = c.spot[c.spot.length - 1];
+    if (g0 > xMin && g0 <= Math.min(...finiteWant)) xMin = g0;
+    if (g1 < xMax && g1 >= Math.max(...finiteWant)) xMax = g1;
+  }
+
+  // Keep the samples inside the range (and one either side so lines reach the edges).
+  let i0 = 0;
+  let i1 = c.spot.length - 1;
+  while (i0 < i1 && c.spot[i0 + 1] <= xMin) i0++;
+  while (i1 > i0 && c.spot[i1 - 1] >= xMax) i1--;
+  const sx = c.spot.slice(i0, i1 + 1);
+  const sv = c.dv.slice(i0, i1 + 1);
+  const sr = c.drn.slice(i0, i1 + 1);
+  const sp = c.pnl.slice(i0, i1 + 1);
+  const keep = empty ? [] : thinIndices(sx, [sp], MAX_POINTS, [...strikes, ...breakevens, spot]);
+  const pts = (ys: number[]) => keep.map((i) => ({ x: sx[i], y: ys[i] }));
+
+  // Axes: densities from zero with headroom; P&L nicely rounded, always holding zero.
+  const inRange = keep.filter((i) => sx[i] >= xMin && sx[i] <= xMax);
+  const dMax = Math.max(0, ...inRange.map((i) => Math.max(sv[i], sr[i])));
+  const pVals = inRange.map((i) => sp[i]);
+  const pLo = Math.min(0, ...pVals);
+  const pHi = Math.max(0, ...pVals);
+  const allZero = pVals.length > 0 && pVals.every((v) => v === 0);
+  const span = pHi - pLo;
+  const pr = span > 0 ? niceRange(pLo - span * 0.03, pHi + span * 0.06, 8) : niceRange(-1, 1, 4);
+
+  const bands = empty ? [] : profitBands(sx, sp, breakevens);
+
+  // Markers, labelled in the strip above the plot.
+  const markers: ChartMarker[] = [];
+  if (isNum(spot)) markers.push({ x: spot, label: `spot ${fmtPrice(spot)}`, kind: 'spot' });
+  for (const k of strikes) markers.push({ x: k, label: `K ${fmtPrice(k)}`, kind: 'strike' });
+  for (const b of breakevens) markers.push({ x: b, label: `BE ${fmtPrice(b)}`, kind: 'breakeven' });
+
+  const plugin: KolmoPluginOptions = {
+    ...emptyPluginOptions(size),
+    markers,
+    bands,
+    hlines: [{ axis: 'yPnl', y: 0, color: '#7a7a7a', dash: [], width: 1.2 }],
+    labelStrip: 56,
+    ...(empty ? { empty } : {}),
+  };
+
+  const datasets: ChartDataset<'line', { x: number; y: number }[]>[] = [
+    {
+      label: isNum(input.view?.driftSe) && input.view.driftSe > 0 ? 'your view: predictive spot density (drift uncertain)' : 'your view: spot density',
+      data: pts(sv),
+      yAxisID: 'yDensity',
+      borderColor: VIEW_LINE,
+      backgroundColor: VIEW_FILL,
+      borderWidth: 2.2,
+      fill: 'origin',
+      order: 3,
+    },
+    {
+      label: 'risk-neutral: prices the options',
+      data: pts(sr),
+      yAxisID: 'yDensity',
+      borderColor: RN_LINE,
+      backgroundColor: 'rgba(213,94,0,0)',
+      borderWidth: 2.4,
+      borderDash: [8, 5],
+      fill: false,
+      order: 2,
+    },
+    {
+      label: 'P&L (right axis)',
+      data: pts(sp),
+      yAxisID: 'yPnl',
+      borderColor: PNL_LINE,
+      backgroundColor: 'rgba(17,17,17,0)',
+      borderWidth: 2.6,
+      fill: false,
+      order: 1,
+    },
+    {
+      label: 'profit region',
+      data: [],
+      yAxisID: 'yPnl',
+      borderColor: 'rgba(0,158,115,0.55)',
+      backgroundColor: PROFIT_BAND,
+      borderWidth: 1,
+      fill: false,
+      order: 4,
+    },
+  ];
+  for (const d of datasets) {
+    Object.assign(d, { parsing: false, normalized: true, pointRadius: 0, pointHoverRadius: 0, tension: 0, spanGaps: false });
+  }
+
+  const unit = cur ? ` (${cur})` : '';
+  // One title line when it fits the width (bold 16 px DejaVu Sans: about 9.5 px a character),
+  // else the position on the first line and horizon and view on the second.
+  const maxChars = Math.max(30, Math.floor((isNum(size?.width) ? size.width : DEFAULT_SIZE.width) / 9.5));
+  const clip = (t: string) => (t.length > maxChars ? `${t.slice(0, maxChars - 1)}…` : t);
+  const posWords = (input.position || input.title || 'position').replace(/\s+/g, ' ').trim();
+  const when = `horizon ${input.horizon || '–'}  ·  view: ${describeView(input.view ?? { drift: NaN, vol: NaN })}`;
+  const oneLine = `${posWords}  ·  ${when}`;
+  const title: string | string[] = oneLine.length <= maxChars ? oneLine : [clip(posWords), clip(when)];
+  const subtitle =
+    `chance of profit ${fmtChance(input.probProfit)}` +
+    `  ·  expected P&L ${fmtMoney(input.expectedPnl, cur)} under your view` +
+    (allZero ? '  ·  P&L is zero at every spot' : '');
+
+  return {
+    type: 'line',
+    data: { datasets },
+    options: {
+      ...baseOptions(),
+      scales: {
+        x: {
+          type: 'linear',
+          min: xMin,
+          max: xMax,
+          ticks: { stepSize: xr.step, includeBounds: false, autoSkip: false, font: TICK_FONT, color: INK, format: tickFormat(xr.step) },
+          grid: { color: GRID },
+          title: { display: true, text: `spot at horizon${unit}`, font: AXIS_TITLE_FONT, color: INK },
+        },
+        yDensity: densityAxis(dMax, 'likelihood (each density has area 1)'),
+        yPnl: {
+          type: 'linear',
+          position: 'right',
+          min: pr.min,
+          max: pr.max,
+          ticks: { stepSize: pr.step, autoSkip: false, font: TICK_FONT, color: INK, format: tickFormat(pr.step) },
+          grid: { color: GRID },
+          title: { display: true, text: `P&L at horizon${unit}`, font: AXIS_TITLE_FONT, color: INK },
+        },
+      },
+      plugins: {
+        title: { display: true, text: title, font: { size: 16, weight: 'bold' }, color: INK, padding: { top: 4, bottom: 2 } },
+        subtitle: { display: true, text: subtitle, font: { size: 14 }, color: MUTED, padding: { top: 0, bottom: plugin.labelStrip } },
+        legend: {
+          display: true,
+          position: 'bottom',
+          labels: { font: { size: 13 }, color: INK, boxWidth: 28, boxHeight: 11, padding: 14 },
+        },
+        tooltip: { enabled: false },
+        kolmo: plugin,
+      },
+    } as ChartConfiguration<'line', { x: number; y: number }[]>['options'],
+  };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Assembling the chart input from the core's records.
+
+/**
+ * The chart input of a check from the core's input and result plus the words only the shell
+ * knows (the position in words, the horizon date, the currency).
+ */
+export function chartInputFromCheck(
+  input: CheckInput,
+  core: CheckCore,
+  words: { position: string; horizon: string; currency?: string },
+): ChartInput {
+  return {
+    position: words.position,
+    horizon: words.horizon,
+    view: { drift: input.view.drift, vol: input.view.vol, ...(input.view.jumps ? { jumps: input.view.jumps } : {}) },
+    spot: input.market.spot,
+    strikes: input.legs.filter((l) => l.kind !== 'shares').map((l) => l.strike),
+    breakevens: core.outcome.breakevens,
+    probProfit: core.outcome.probProfit,
+    expectedPnl: core.outcome.expectedPnl,
+    curves: core.curves,
+    ...(words.currency ? { currency: words.currency } : {}),
+  };
+}
+

@@ -1,0 +1,167 @@
+/** The comparison chart: P&L distributions of several checks, overlaid (design: ../chart.ts). */
+import type { ChartConfiguration, ChartDataset } from 'chart.js';
+import { fmtMoney, fmtPct, isNum } from '../format.js';
+import { type ChartMarker, type ChartStem, type KolmoPluginOptions, type CompareChartItem, type ChartSize, DEFAULT_SIZE, INK, GRID, MUTED, COMPARE_STYLES, MAX_COMPARE, MAX_POINTS } from './style.js';
+import { niceRange, decimalsOf, tickFormat, trapezoid, sampledQuantiles, thinIndices } from './scale.js';
+import { AXIS_TITLE_FONT, TICK_FONT, baseOptions, emptyPluginOptions, densityAxis } from './axes.js';
+
+// ---------------------------------------------------------------------------------------------
+// The comparison chart: P&L distributions of several checks, overlaid.
+
+export interface CompareChartOptions {
+  /** heading; default "P&L at horizon under each check's view" */
+  title?: string;
+  currency?: string;
+}
+
+/**
+ * Overlaid densities of P&L at the horizon (not of spot) for up to six checks, one legend entry
+ * per check; point masses (e.g. a vertical spread's capped gain and loss at expiry) drawn as
+ * stems on a right-hand probability axis; a zero line and each check's expected P&L marked.
+ */
+export function compareChartConfig(
+  inputs: CompareChartItem[],
+  opts: CompareChartOptions = {},
+  size: ChartSize = DEFAULT_SIZE,
+): ChartConfiguration<'line', { x: number; y: number }[]> {
+  const cur = opts.currency && /^[A-Za-z]{2,5}$/.test(opts.currency) ? opts.currency.toUpperCase() : undefined;
+  const list = (inputs ?? []).slice(0, MAX_COMPARE);
+  const dropped = Math.max(0, (inputs ?? []).length - MAX_COMPARE);
+
+  interface Clean { x: number[]; d: number[]; atoms: { x: number; prob: number }[]; mass: number }
+  const cleaned: Clean[] = list.map((it) => {
+    const x: number[] = [];
+    const d: number[] = [];
+    const pd = it?.pnlDensity;
+    const n = Math.min(pd?.x?.length ?? 0, pd?.density?.length ?? 0);
+    let last = -Infinity;
+    for (let i = 0; i < n; i++) {
+      const xv = pd.x[i];
+      const dv = pd.density[i];
+      if (!isNum(xv) || !isNum(dv) || xv <= last) continue;
+      last = xv;
+      x.push(xv);
+      d.push(Math.max(0, dv));
+    }
+    const atoms = (pd?.atoms ?? []).filter((a) => isNum(a?.x) && isNum(a?.prob) && a.prob > 0);
+    const mass = trapezoid(x, d) + atoms.reduce((s, a) => s + a.prob, 0);
+    return { x, d, atoms, mass };
+  });
+
+  let empty: string | undefined;
+  if (list.length === 0) empty = 'no chart: nothing to compare';
+  else if (cleaned.every((c) => !(c.mass > 0))) empty = 'no chart: the checks carry no P&L distribution';
+
+  const want: number[] = [0];
+  for (const c of cleaned) {
+    if (!(c.mass > 0)) continue;
+    want.push(...sampledQuantiles(c.x, c.d, [0.005, 0.995], c.atoms).filter(isNum));
+    for (const a of c.atoms) if (a.prob >= 0.005) want.push(a.x);
+  }
+  for (const it of list) if (isNum(it?.expectedPnl)) want.push(it.expectedPnl);
+  let lo = Math.min(...want);
+  let hi = Math.max(...want);
+  const pad = (hi - lo) * 0.04;
+  lo -= pad;
+  hi += pad;
+  const xr = niceRange(lo, hi, 10);
+
+  const styles = COMPARE_STYLES;
+  let dMax = 0;
+  let aMax = 0;
+  const datasets: ChartDataset<'line', { x: number; y: number }[]>[] = cleaned.map((c, k) => {
+    let i0 = 0;
+    let i1 = c.x.length - 1;
+    while (i0 < i1 && c.x[i0 + 1] <= xr.min) i0++;
+    while (i1 > i0 && c.x[i1 - 1] >= xr.max) i1--;
+    const sx = c.x.slice(i0, i1 + 1);
+    const sd = c.d.slice(i0, i1 + 1);
+    const keep = sx.length ? thinIndices(sx, [sd], MAX_POINTS, [0]) : [];
+    for (const i of keep) if (sx[i] >= xr.min && sx[i] <= xr.max) dMax = Math.max(dMax, sd[i]);
+    for (const a of c.atoms) aMax = Math.max(aMax, a.prob);
+    const st = styles[k];
+    const it = list[k];
+    return {
+      label: `${it?.label || `check ${k + 1}`} · expected ${fmtMoney(it?.expectedPnl, cur)}`,
+      data: keep.map((i) => ({ x: sx[i], y: sd[i] })),
+      yAxisID: 'yDensity',
+      borderColor: st.color,
+      backgroundColor: 'rgba(255,255,255,0)',
+      borderWidth: 2.4,
+      borderDash: st.dash,
+      fill: false,
+      parsing: false,
+      normalized: true,
+      pointRadius: 0,
+      pointHoverRadius: 0,
+      tension: 0,
+    };
+  });
+
+  const stems: ChartStem[] = [];
+  cleaned.forEach((c, k) => {
+    for (const a of c.atoms) {
+      if (a.x < xr.min || a.x > xr.max) continue;
+      stems.push({ x: a.x, y: a.prob, axis: 'yAtom', color: styles[k].color, label: `${fmtPct(Math.round(a.prob * 1000) / 1000)}` });
+    }
+  });
+  const markers: ChartMarker[] = [{ x: 0, label: 'P&L 0', kind: 'zero' }];
+  list.forEach((it, k) => {
+    if (isNum(it?.expectedPnl)) markers.push({ x: it.expectedPnl, label: '', kind: 'mean', color: styles[k].color });
+  });
+  const ar = niceRange(0, aMax > 0 ? Math.min(1, aMax * 1.15) : 1, 5);
+
+  const plugin: KolmoPluginOptions = {
+    ...emptyPluginOptions(size),
+    markers,
+    stems,
+    labelStrip: 22,
+    ...(empty ? { empty } : {}),
+  };
+  const unit = cur ? ` (${cur})` : '';
+  const subtitle =
+    'density of P&L under each view (area = chance of a continuous outcome); ▲ expected P&L' +
+    (stems.length ? '; stems: chance of one exact P&L (right axis)' : '') +
+    (dropped ? `; first ${MAX_COMPARE} of ${list.length + dropped} shown` : '');
+
+  return {
+    type: 'line',
+    data: { datasets },
+    options: {
+      ...baseOptions(),
+      scales: {
+        x: {
+          type: 'linear',
+          min: xr.min,
+          max: xr.max,
+          ticks: { stepSize: xr.step, autoSkip: false, font: TICK_FONT, color: INK, format: tickFormat(xr.step) },
+          grid: { color: GRID },
+          title: { display: true, text: `P&L at horizon${unit}`, font: AXIS_TITLE_FONT, color: INK },
+        },
+        yDensity: densityAxis(dMax, 'likelihood of P&L'),
+        yAtom: {
+          type: 'linear',
+          position: 'right',
+          display: stems.length > 0,
+          min: 0,
+          max: ar.max,
+          ticks: { stepSize: ar.step, font: TICK_FONT, color: MUTED, format: { style: 'percent', minimumFractionDigits: Math.max(0, decimalsOf(ar.step) - 2), maximumFractionDigits: Math.max(0, decimalsOf(ar.step) - 2) } },
+          grid: { display: false },
+          title: { display: true, text: 'chance of exact value', font: AXIS_TITLE_FONT, color: MUTED },
+        },
+      },
+      plugins: {
+        title: { display: true, text: opts.title || "P&L at horizon under each check's view", font: { size: 16, weight: 'bold' }, color: INK, padding: { top: 4, bottom: 2 } },
+        subtitle: { display: true, text: subtitle, font: { size: 12 }, color: MUTED, padding: { top: 0, bottom: plugin.labelStrip } },
+        legend: {
+          display: true,
+          position: 'bottom',
+          labels: { font: { size: 13 }, color: INK, boxWidth: 28, boxHeight: 11, padding: 14 },
+        },
+        tooltip: { enabled: false },
+        kolmo: plugin,
+      },
+    } as ChartConfiguration<'line', { x: number; y: number }[]>['options'],
+  };
+}
+
