@@ -69,3 +69,17 @@ export function densityAxis(dMax: number, title: string) {
   };
 }
 
+/** The title, subtitle, legend and Kolmo's plugin options of a chart. */
+export function chartPlugins(title: string | string[], subtitle: string, subtitleSize: number, plugin: KolmoPluginOptions) {
+  return {
+    title: { display: true, text: title, font: { size: 16, weight: 'bold' }, color: INK, padding: { top: 4, bottom: 2 } },
+    subtitle: { display: true, text: subtitle, font: { size: subtitleSize }, color: MUTED, padding: { top: 0, bottom: plugin.labelStrip } },
+    legend: {
+      display: true,
+      position: 'bottom',
+      labels: { font: { size: 13 }, color: INK, boxWidth: 28, boxHeight: 11, padding: 14 },
+    },
+    tooltip: { enabled: false },
+    kolmo: plugin,
+  };
+}

@@ -2,9 +2,9 @@
 import type { ChartConfiguration, ChartDataset } from 'chart.js';
 import type { CheckCore, CheckInput, Curves } from '../../core/types.js';
 import { describeView, fmtChance, fmtMoney, fmtPrice, isNum } from '../format.js';
-import { type ChartMarker, type KolmoPluginOptions, type ChartInput, type ChartSize, DEFAULT_SIZE, INK, GRID, MUTED, VIEW_LINE, VIEW_FILL, RN_LINE, PNL_LINE, PROFIT_BAND, MAX_POINTS } from './style.js';
+import { type ChartMarker, type KolmoPluginOptions, type ChartInput, type ChartSize, DEFAULT_SIZE, INK, GRID, VIEW_LINE, VIEW_FILL, RN_LINE, PNL_LINE, PROFIT_BAND, MAX_POINTS } from './style.js';
 import { niceRange, tickFormat, trapezoid, sampledQuantiles, thinIndices } from './scale.js';
-import { profitBands, AXIS_TITLE_FONT, TICK_FONT, baseOptions, emptyPluginOptions, densityAxis } from './axes.js';
+import { AXIS_TITLE_FONT, TICK_FONT, baseOptions, chartPlugins, densityAxis, emptyPluginOptions, profitBands } from './axes.js';
 
 // ---------------------------------------------------------------------------------------------
 // The density chart of one check.
@@ -36,36 +36,29 @@ function cleanCurves(c: Curves | undefined): CleanCurves {
   return out;
 }
 
-/**
- * The density chart of one check: the view's and the risk-neutral density of the spot at the
- * horizon (left axis), the P&L at the horizon (right axis, money) with its zero line, the profit
- * region shaded, markers at spot, strikes and breakevens. Pure; JSON-serialisable result.
- */
-export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SIZE): ChartConfiguration<'line', { x: number; y: number }[]> {
-  const cur = input.currency && /^[A-Za-z]{2,5}$/.test(input.currency) ? input.currency.toUpperCase() : undefined;
-  const c = cleanCurves(input.curves);
-  const spot = isNum(input.spot) ? input.spot : NaN;
-  const strikes = [...new Set((input.strikes ?? []).filter(isNum))].sort((a, b) => a - b);
-  const breakevens = [...new Set((input.breakevens ?? []).filter(isNum))].sort((a, b) => a - b);
+/** Why there is nothing to draw, if so. */
+function emptyReason(c: CleanCurves, areaV: number, areaR: number): string | undefined {
+  if (c.spot.length < 2) return 'no chart: the result carries no sampled curves';
+  if (!(areaV > 0) && !(areaR > 0)) return 'no chart: the spot at the horizon has no spread to draw (a horizon of today or a zero volatility)';
+  if (c.pnl.every((v) => v === 0)) return 'no chart: the position has no exposure (its legs cancel; P&L is zero at every spot)';
+  return undefined;
+}
 
-  const areaV = trapezoid(c.spot, c.dv);
-  const areaR = trapezoid(c.spot, c.drn);
-  let empty: string | undefined;
-  if (c.spot.length < 2) empty = 'no chart: the result carries no sampled curves';
-  else if (!(areaV > 0) && !(areaR > 0)) {
-    empty = 'no chart: the spot at the horizon has no spread to draw (a horizon of today or a zero volatility)';
-  } else if (c.pnl.every((v) => v === 0)) {
-    empty = 'no chart: the position has no exposure (its legs cancel; P&L is zero at every spot)';
-  }
+interface Levels {
+  spot: number;
+  strikes: number[];
+  breakevens: number[];
+}
 
-  // x range: 0.5%–99.5% quantiles of both densities, today's spot, strikes and breakevens.
+/** The x range: 0.5%–99.5% quantiles of both densities, today's spot, strikes and breakevens. */
+function xWindow(c: CleanCurves, lv: Levels, areas: { v: number; r: number }, empty: string | undefined) {
   const want: number[] = [];
   if (!empty) {
-    if (areaV > 0) want.push(...sampledQuantiles(c.spot, c.dv, [0.005, 0.995]));
-    if (areaR > 0) want.push(...sampledQuantiles(c.spot, c.drn, [0.005, 0.995]));
+    if (areas.v > 0) want.push(...sampledQuantiles(c.spot, c.dv, [0.005, 0.995]));
+    if (areas.r > 0) want.push(...sampledQuantiles(c.spot, c.drn, [0.005, 0.995]));
   }
-  want.push(...strikes, ...breakevens);
-  if (isNum(spot)) want.push(spot);
+  want.push(...lv.strikes, ...lv.breakevens);
+  if (isNum(lv.spot)) want.push(lv.spot);
   const finiteWant = want.filter(isNum);
   let lo = finiteWant.length ? Math.min(...finiteWant) : 0;
   let hi = finiteWant.length ? Math.max(...finiteWant) : 1;
@@ -84,8 +77,11 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
     if (g0 > xMin && g0 <= Math.min(...finiteWant)) xMin = g0;
     if (g1 < xMax && g1 >= Math.max(...finiteWant)) xMax = g1;
   }
+  return { xMin, xMax, step: xr.step };
+}
 
-  // Keep the samples inside the range (and one either side so lines reach the edges).
+/** The samples inside [xMin, xMax] (and one either side so lines reach the edges), thinned. */
+function windowSamples(c: CleanCurves, xMin: number, xMax: number, lv: Levels, empty: string | undefined) {
   let i0 = 0;
   let i1 = c.spot.length - 1;
   while (i0 < i1 && c.spot[i0 + 1] <= xMin) i0++;
@@ -94,40 +90,39 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
   const sv = c.dv.slice(i0, i1 + 1);
   const sr = c.drn.slice(i0, i1 + 1);
   const sp = c.pnl.slice(i0, i1 + 1);
-  const keep = empty ? [] : thinIndices(sx, [sp], MAX_POINTS, [...strikes, ...breakevens, spot]);
-  const pts = (ys: number[]) => keep.map((i) => ({ x: sx[i], y: ys[i] }));
+  const keep = empty ? [] : thinIndices(sx, [sp], MAX_POINTS, [...lv.strikes, ...lv.breakevens, lv.spot]);
+  return { sx, sv, sr, sp, keep };
+}
 
-  // Axes: densities from zero with headroom; P&L nicely rounded, always holding zero.
-  const inRange = keep.filter((i) => sx[i] >= xMin && sx[i] <= xMax);
-  const dMax = Math.max(0, ...inRange.map((i) => Math.max(sv[i], sr[i])));
-  const pVals = inRange.map((i) => sp[i]);
+/** Axes: densities from zero with headroom; P&L nicely rounded, always holding zero. */
+function yRanges(w: ReturnType<typeof windowSamples>, xMin: number, xMax: number) {
+  const inRange = w.keep.filter((i) => w.sx[i] >= xMin && w.sx[i] <= xMax);
+  const dMax = Math.max(0, ...inRange.map((i) => Math.max(w.sv[i], w.sr[i])));
+  const pVals = inRange.map((i) => w.sp[i]);
   const pLo = Math.min(0, ...pVals);
   const pHi = Math.max(0, ...pVals);
   const allZero = pVals.length > 0 && pVals.every((v) => v === 0);
   const span = pHi - pLo;
   const pr = span > 0 ? niceRange(pLo - span * 0.03, pHi + span * 0.06, 8) : niceRange(-1, 1, 4);
+  return { dMax, pr, allZero };
+}
 
-  const bands = empty ? [] : profitBands(sx, sp, breakevens);
-
-  // Markers, labelled in the strip above the plot.
+/** Markers, labelled in the strip above the plot. */
+function levelMarkers(lv: Levels): ChartMarker[] {
   const markers: ChartMarker[] = [];
-  if (isNum(spot)) markers.push({ x: spot, label: `spot ${fmtPrice(spot)}`, kind: 'spot' });
-  for (const k of strikes) markers.push({ x: k, label: `K ${fmtPrice(k)}`, kind: 'strike' });
-  for (const b of breakevens) markers.push({ x: b, label: `BE ${fmtPrice(b)}`, kind: 'breakeven' });
+  if (isNum(lv.spot)) markers.push({ x: lv.spot, label: `spot ${fmtPrice(lv.spot)}`, kind: 'spot' });
+  for (const k of lv.strikes) markers.push({ x: k, label: `K ${fmtPrice(k)}`, kind: 'strike' });
+  for (const b of lv.breakevens) markers.push({ x: b, label: `BE ${fmtPrice(b)}`, kind: 'breakeven' });
+  return markers;
+}
 
-  const plugin: KolmoPluginOptions = {
-    ...emptyPluginOptions(size),
-    markers,
-    bands,
-    hlines: [{ axis: 'yPnl', y: 0, color: '#7a7a7a', dash: [], width: 1.2 }],
-    labelStrip: 56,
-    ...(empty ? { empty } : {}),
-  };
+type Points = { x: number; y: number }[];
 
-  const datasets: ChartDataset<'line', { x: number; y: number }[]>[] = [
+function checkDatasets(pts: (ys: number[]) => Points, w: ReturnType<typeof windowSamples>, view: ChartInput['view'] | undefined): ChartDataset<'line', Points>[] {
+  const datasets: ChartDataset<'line', Points>[] = [
     {
-      label: isNum(input.view?.driftSe) && input.view.driftSe > 0 ? 'your view: predictive spot density (drift uncertain)' : 'your view: spot density',
-      data: pts(sv),
+      label: isNum(view?.driftSe) && view.driftSe > 0 ? 'your view: predictive spot density (drift uncertain)' : 'your view: spot density',
+      data: pts(w.sv),
       yAxisID: 'yDensity',
       borderColor: VIEW_LINE,
       backgroundColor: VIEW_FILL,
@@ -137,7 +132,7 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
     },
     {
       label: 'risk-neutral: prices the options',
-      data: pts(sr),
+      data: pts(w.sr),
       yAxisID: 'yDensity',
       borderColor: RN_LINE,
       backgroundColor: 'rgba(213,94,0,0)',
@@ -148,7 +143,7 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
     },
     {
       label: 'P&L (right axis)',
-      data: pts(sp),
+      data: pts(w.sp),
       yAxisID: 'yPnl',
       borderColor: PNL_LINE,
       backgroundColor: 'rgba(17,17,17,0)',
@@ -170,10 +165,14 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
   for (const d of datasets) {
     Object.assign(d, { parsing: false, normalized: true, pointRadius: 0, pointHoverRadius: 0, tension: 0, spanGaps: false });
   }
+  return datasets;
+}
 
-  const unit = cur ? ` (${cur})` : '';
-  // One title line when it fits the width (bold 16 px DejaVu Sans: about 9.5 px a character),
-  // else the position on the first line and horizon and view on the second.
+/**
+ * One title line when it fits the width (bold 16 px DejaVu Sans: about 9.5 px a character), else
+ * the position on the first line and horizon and view on the second; the figures below it.
+ */
+function checkTitles(input: ChartInput, size: ChartSize, cur: string | undefined, allZero: boolean) {
   const maxChars = Math.max(30, Math.floor((isNum(size?.width) ? size.width : DEFAULT_SIZE.width) / 9.5));
   const clip = (t: string) => (t.length > maxChars ? `${t.slice(0, maxChars - 1)}…` : t);
   const posWords = (input.position || input.title || 'position').replace(/\s+/g, ' ').trim();
@@ -184,10 +183,41 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
     `chance of profit ${fmtChance(input.probProfit)}` +
     `  ·  expected P&L ${fmtMoney(input.expectedPnl, cur)} under your view` +
     (allZero ? '  ·  P&L is zero at every spot' : '');
+  return { title, subtitle };
+}
 
+/**
+ * The density chart of one check: the view's and the risk-neutral density of the spot at the
+ * horizon (left axis), the P&L at the horizon (right axis, money) with its zero line, the profit
+ * region shaded, markers at spot, strikes and breakevens. Pure; JSON-serialisable result.
+ */
+export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SIZE): ChartConfiguration<'line', Points> {
+  const cur = input.currency && /^[A-Za-z]{2,5}$/.test(input.currency) ? input.currency.toUpperCase() : undefined;
+  const c = cleanCurves(input.curves);
+  const lv: Levels = {
+    spot: isNum(input.spot) ? input.spot : NaN,
+    strikes: [...new Set((input.strikes ?? []).filter(isNum))].sort((a, b) => a - b),
+    breakevens: [...new Set((input.breakevens ?? []).filter(isNum))].sort((a, b) => a - b),
+  };
+  const areas = { v: trapezoid(c.spot, c.dv), r: trapezoid(c.spot, c.drn) };
+  const empty = emptyReason(c, areas.v, areas.r);
+  const { xMin, xMax, step } = xWindow(c, lv, areas, empty);
+  const w = windowSamples(c, xMin, xMax, lv, empty);
+  const pts = (ys: number[]) => w.keep.map((i) => ({ x: w.sx[i], y: ys[i] }));
+  const { dMax, pr, allZero } = yRanges(w, xMin, xMax);
+  const plugin: KolmoPluginOptions = {
+    ...emptyPluginOptions(size),
+    markers: levelMarkers(lv),
+    bands: empty ? [] : profitBands(w.sx, w.sp, lv.breakevens),
+    hlines: [{ axis: 'yPnl', y: 0, color: '#7a7a7a', dash: [], width: 1.2 }],
+    labelStrip: 56,
+    ...(empty ? { empty } : {}),
+  };
+  const unit = cur ? ` (${cur})` : '';
+  const { title, subtitle } = checkTitles(input, size, cur, allZero);
   return {
     type: 'line',
-    data: { datasets },
+    data: { datasets: checkDatasets(pts, w, input.view) },
     options: {
       ...baseOptions(),
       scales: {
@@ -195,7 +225,7 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
           type: 'linear',
           min: xMin,
           max: xMax,
-          ticks: { stepSize: xr.step, includeBounds: false, autoSkip: false, font: TICK_FONT, color: INK, format: tickFormat(xr.step) },
+          ticks: { stepSize: step, includeBounds: false, autoSkip: false, font: TICK_FONT, color: INK, format: tickFormat(step) },
           grid: { color: GRID },
           title: { display: true, text: `spot at horizon${unit}`, font: AXIS_TITLE_FONT, color: INK },
         },
@@ -210,18 +240,8 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
           title: { display: true, text: `P&L at horizon${unit}`, font: AXIS_TITLE_FONT, color: INK },
         },
       },
-      plugins: {
-        title: { display: true, text: title, font: { size: 16, weight: 'bold' }, color: INK, padding: { top: 4, bottom: 2 } },
-        subtitle: { display: true, text: subtitle, font: { size: 14 }, color: MUTED, padding: { top: 0, bottom: plugin.labelStrip } },
-        legend: {
-          display: true,
-          position: 'bottom',
-          labels: { font: { size: 13 }, color: INK, boxWidth: 28, boxHeight: 11, padding: 14 },
-        },
-        tooltip: { enabled: false },
-        kolmo: plugin,
-      },
-    } as ChartConfiguration<'line', { x: number; y: number }[]>['options'],
+      plugins: chartPlugins(title, subtitle, 14, plugin),
+    } as ChartConfiguration<'line', Points>['options'],
   };
 }
 

@@ -3,7 +3,7 @@ import type { ChartConfiguration, ChartDataset } from 'chart.js';
 import { fmtMoney, fmtPct, isNum } from '../format.js';
 import { type ChartMarker, type ChartStem, type KolmoPluginOptions, type CompareChartItem, type ChartSize, DEFAULT_SIZE, INK, GRID, MUTED, COMPARE_STYLES, MAX_COMPARE, MAX_POINTS } from './style.js';
 import { niceRange, decimalsOf, tickFormat, trapezoid, sampledQuantiles, thinIndices } from './scale.js';
-import { AXIS_TITLE_FONT, TICK_FONT, baseOptions, emptyPluginOptions, densityAxis } from './axes.js';
+import { AXIS_TITLE_FONT, TICK_FONT, baseOptions, chartPlugins, densityAxis, emptyPluginOptions } from './axes.js';
 
 // ---------------------------------------------------------------------------------------------
 // The comparison chart: P&L distributions of several checks, overlaid.
@@ -150,17 +150,7 @@ export function compareChartConfig(
           title: { display: true, text: 'chance of exact value', font: AXIS_TITLE_FONT, color: MUTED },
         },
       },
-      plugins: {
-        title: { display: true, text: opts.title || "P&L at horizon under each check's view", font: { size: 16, weight: 'bold' }, color: INK, padding: { top: 4, bottom: 2 } },
-        subtitle: { display: true, text: subtitle, font: { size: 12 }, color: MUTED, padding: { top: 0, bottom: plugin.labelStrip } },
-        legend: {
-          display: true,
-          position: 'bottom',
-          labels: { font: { size: 13 }, color: INK, boxWidth: 28, boxHeight: 11, padding: 14 },
-        },
-        tooltip: { enabled: false },
-        kolmo: plugin,
-      },
+      plugins: chartPlugins(opts.title || "P&L at horizon under each check's view", subtitle, 12, plugin),
     } as ChartConfiguration<'line', { x: number; y: number }[]>['options'],
   };
 }
