@@ -1,6 +1,7 @@
 /** Pieces both charts build from: axes, base options, the plugin's empty options, the profit bands. */
 import { isNum } from '../format.js';
-import { INK, MUTED, PROFIT_BAND, type ChartSize, type KolmoPluginOptions } from './style.js';
+import { tickFormat } from './scale.js';
+import { GRID, INK, MUTED, PROFIT_BAND, type ChartSize, type KolmoPluginOptions } from './style.js';
 
 /** Spot intervals where the sampled P&L is above zero; crossings snap to a nearby breakeven. */
 export function profitBands(
@@ -81,5 +82,18 @@ export function chartPlugins(title: string | string[], subtitle: string, subtitl
     },
     tooltip: { enabled: false },
     kolmo: plugin,
+  };
+}
+
+/** A value axis with ticks at whole multiples of the range's step, a grid and its title. */
+export function valueAxis(r: { min: number; max: number; step: number }, title: string, opts: { position?: 'right'; includeBounds?: false } = {}) {
+  return {
+    type: 'linear' as const,
+    ...(opts.position ? { position: opts.position } : {}),
+    min: r.min,
+    max: r.max,
+    ticks: { stepSize: r.step, ...(opts.includeBounds === false ? { includeBounds: false } : {}), autoSkip: false, font: TICK_FONT, color: INK, format: tickFormat(r.step) },
+    grid: { color: GRID },
+    title: { display: true, text: title, font: AXIS_TITLE_FONT, color: INK },
   };
 }

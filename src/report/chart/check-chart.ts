@@ -2,9 +2,9 @@
 import type { ChartConfiguration, ChartDataset } from 'chart.js';
 import type { CheckCore, CheckInput, Curves } from '../../core/types.js';
 import { describeView, fmtChance, fmtMoney, fmtPrice, isNum } from '../format.js';
-import { type ChartMarker, type KolmoPluginOptions, type ChartInput, type ChartSize, DEFAULT_SIZE, INK, GRID, VIEW_LINE, VIEW_FILL, RN_LINE, PNL_LINE, PROFIT_BAND, MAX_POINTS } from './style.js';
-import { niceRange, tickFormat, trapezoid, sampledQuantiles, thinIndices } from './scale.js';
-import { AXIS_TITLE_FONT, TICK_FONT, baseOptions, chartPlugins, densityAxis, emptyPluginOptions, profitBands } from './axes.js';
+import { type ChartMarker, type KolmoPluginOptions, type ChartInput, type ChartSize, DEFAULT_SIZE, VIEW_LINE, VIEW_FILL, RN_LINE, PNL_LINE, PROFIT_BAND, MAX_POINTS } from './style.js';
+import { niceRange, trapezoid, sampledQuantiles, thinIndices } from './scale.js';
+import { baseOptions, chartPlugins, densityAxis, emptyPluginOptions, profitBands, valueAxis } from './axes.js';
 
 // ---------------------------------------------------------------------------------------------
 // The density chart of one check.
@@ -221,24 +221,9 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
     options: {
       ...baseOptions(),
       scales: {
-        x: {
-          type: 'linear',
-          min: xMin,
-          max: xMax,
-          ticks: { stepSize: step, includeBounds: false, autoSkip: false, font: TICK_FONT, color: INK, format: tickFormat(step) },
-          grid: { color: GRID },
-          title: { display: true, text: `spot at horizon${unit}`, font: AXIS_TITLE_FONT, color: INK },
-        },
+        x: valueAxis({ min: xMin, max: xMax, step }, `spot at horizon${unit}`, { includeBounds: false }),
         yDensity: densityAxis(dMax, 'likelihood (each density has area 1)'),
-        yPnl: {
-          type: 'linear',
-          position: 'right',
-          min: pr.min,
-          max: pr.max,
-          ticks: { stepSize: pr.step, autoSkip: false, font: TICK_FONT, color: INK, format: tickFormat(pr.step) },
-          grid: { color: GRID },
-          title: { display: true, text: `P&L at horizon${unit}`, font: AXIS_TITLE_FONT, color: INK },
-        },
+        yPnl: valueAxis(pr, `P&L at horizon${unit}`, { position: 'right' }),
       },
       plugins: chartPlugins(title, subtitle, 14, plugin),
     } as ChartConfiguration<'line', Points>['options'],

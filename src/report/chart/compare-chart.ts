@@ -1,9 +1,9 @@
 /** The comparison chart: P&L distributions of several checks, overlaid (design: ../chart.ts). */
 import type { ChartConfiguration, ChartDataset } from 'chart.js';
 import { fmtMoney, fmtPct, isNum } from '../format.js';
-import { type ChartMarker, type ChartStem, type KolmoPluginOptions, type CompareChartItem, type ChartSize, DEFAULT_SIZE, INK, GRID, MUTED, COMPARE_STYLES, MAX_COMPARE, MAX_POINTS } from './style.js';
-import { niceRange, decimalsOf, tickFormat, trapezoid, sampledQuantiles, thinIndices } from './scale.js';
-import { AXIS_TITLE_FONT, TICK_FONT, baseOptions, chartPlugins, densityAxis, emptyPluginOptions } from './axes.js';
+import { type ChartMarker, type ChartStem, type KolmoPluginOptions, type CompareChartItem, type ChartSize, DEFAULT_SIZE, MUTED, COMPARE_STYLES, MAX_COMPARE, MAX_POINTS } from './style.js';
+import { niceRange, decimalsOf, trapezoid, sampledQuantiles, thinIndices } from './scale.js';
+import { AXIS_TITLE_FONT, TICK_FONT, baseOptions, chartPlugins, densityAxis, emptyPluginOptions, valueAxis } from './axes.js';
 
 // ---------------------------------------------------------------------------------------------
 // The comparison chart: P&L distributions of several checks, overlaid.
@@ -130,14 +130,7 @@ export function compareChartConfig(
     options: {
       ...baseOptions(),
       scales: {
-        x: {
-          type: 'linear',
-          min: xr.min,
-          max: xr.max,
-          ticks: { stepSize: xr.step, autoSkip: false, font: TICK_FONT, color: INK, format: tickFormat(xr.step) },
-          grid: { color: GRID },
-          title: { display: true, text: `P&L at horizon${unit}`, font: AXIS_TITLE_FONT, color: INK },
-        },
+        x: valueAxis(xr, `P&L at horizon${unit}`),
         yDensity: densityAxis(dMax, 'likelihood of P&L'),
         yAtom: {
           type: 'linear',
