@@ -16,6 +16,7 @@ import { basename, dirname, join, resolve } from 'node:path';
 import { DEMO_HISTORY, DEMO_HISTORY_SYMBOL } from './demo/history.js';
 import { createInterface } from 'node:readline';
 import { askSync, CLOSES_FILE_BYTES, COMPUTE_BUDGET_DEFAULT, openStore, defaultDbPath, type AskContext, type Store } from './verbs/ask.js';
+import { localSettings, type LocalSettings } from './config.js';
 import type { Reply } from './reply.js';
 import { renderAnswerChart } from './report/answer-chart.js';
 
@@ -58,23 +59,27 @@ export function parseArgs(argv: string[]): CliOptions | { error: string } {
   return o;
 }
 
-function openStoreQuietly(enabled: boolean): { store: Store | null; warning?: string } {
+function openStoreQuietly(enabled: boolean, dbPath: string | undefined): { store: Store | null; warning?: string } {
   if (!enabled) return { store: null };
   try {
-    return { store: openStore(defaultDbPath()) };
+    return { store: openStore(defaultDbPath(dbPath)) };
   } catch (err) {
     return { store: null, warning: `the log is unavailable (${err instanceof Error ? err.message : String(err)}); answering without it` };
   }
 }
 
-function budgetOf(env = process.env): number {
-  const v = Number(env.KOLMO_COMPUTE_BUDGET);
-  return Number.isFinite(v) && v > 0 ? v : COMPUTE_BUDGET_DEFAULT;
+/** The settings of the command line and the console (src/config.ts); null after reporting a bad one. */
+function settingsOr(say: (line: string) => void): LocalSettings | null {
+  const s = localSettings();
+  if (s.ok) return s.settings;
+  say('kolmo: fix these settings:');
+  for (const e of s.errors) say(`  - ${e}`);
+  return null;
 }
 
-/** One request from the command line or the console: the seam, with the compute budget of the environment. */
+/** One request from the command line or the console: the seam, with the compute budget of the settings (ctx.budget). */
 export function answerLocal(text: string, ctx: AskContext): Reply {
-  return askSync(text, { budget: budgetOf(), ...ctx });
+  return askSync(text, { budget: COMPUTE_BUDGET_DEFAULT, ...ctx });
 }
 
 /** The text a terminal shows for a reply (answer, caution, warnings) — also used by the console. */
@@ -105,6 +110,8 @@ export async function runCli(argv: string[], out = process.stdout, err = process
     out.write(`${USAGE}\n`);
     return 0;
   }
+  const settings = settingsOr((line) => err.write(line + '\n'));
+  if (!settings) return 2;
   let files: AskContext['files'];
   if (o.file !== undefined) {
     try {
@@ -117,9 +124,9 @@ export async function runCli(argv: string[], out = process.stdout, err = process
       return 2;
     }
   }
-  const { store, warning } = openStoreQuietly(o.log);
+  const { store, warning } = openStoreQuietly(o.log, settings.dbPath);
   try {
-    const ctx: AskContext = { channel: o.channel ?? 'cli', user: process.env.USER || 'local', store, ...(files ? { files } : {}) };
+    const ctx: AskContext = { channel: o.channel ?? 'cli', user: settings.user, store, budget: settings.computeBudget, ...(files ? { files } : {}) };
     const r = answerLocal(o.request, ctx);
     if (warning && r.kind === 'answer') r.warnings.push(warning);
     let chartNote: string | null = null;
@@ -154,13 +161,15 @@ export const CONSOLE_EXAMPLES = [
 
 export async function runConsole(
   opts: { input?: NodeJS.ReadableStream; output?: NodeJS.WritableStream; channel?: string; outDir?: string } = {},
-): Promise<void> {
+): Promise<number> {
   const output = opts.output ?? process.stdout;
   const input = opts.input ?? process.stdin;
-  const outDir = opts.outDir ?? process.env.KOLMO_OUT ?? 'out';
-  const channel = opts.channel ?? 'console';
-  const { store, warning } = openStoreQuietly(true);
   const say = (s: string) => output.write(s + '\n');
+  const settings = settingsOr(say);
+  if (!settings) return 2;
+  const outDir = opts.outDir ?? settings.outDir;
+  const channel = opts.channel ?? 'console';
+  const { store, warning } = openStoreQuietly(true, settings.dbPath);
   if (store) {
     for (const m of DEMO_MARKS) {
       if (!store.getMark(channel, m.symbol)) {
@@ -194,7 +203,7 @@ export async function runConsole(
           return;
         }
         if (text) {
-          const r = answerLocal(text, { channel, user: process.env.USER || 'local', store });
+          const r = answerLocal(text, { channel, user: settings.user, store, budget: settings.computeBudget });
           say(replyText(r));
           if (r.kind === 'answer' && r.chart) {
             n++;
@@ -211,4 +220,5 @@ export async function runConsole(
     });
   });
   store?.close();
+  return 0;
 }

@@ -32,8 +32,7 @@ import { deliver, tellAsker, type DeliverDeps, type Origin, type Outcome, type R
 import { memoryInbox, openInbox, type Inbox, type InboxEntry } from './inbox.js';
 import { EngineError, InlineEngine, WorkerPool, type Engine } from './pool.js';
 import { ChannelQueue } from './queue.js';
-import { UserRateLimit } from './ratelimit.js';
-import { CHAT_DEFAULTS, type ChatSettings } from './settings.js';
+import { USER_RATE_DEFAULTS, UserRateLimit } from './ratelimit.js';
 import { downloadFile, fileRefsOf, type FileRef } from './files.js';
 
 const { App, HTTPReceiver, SocketModeReceiver } = bolt;
@@ -159,13 +158,9 @@ export function guardBodySize(server: Server, limit: number, log: Log): void {
   });
 }
 
-export interface StartOptions {
-  settings?: ChatSettings;
-}
-
 /** Starts the app in the configured mode. Throws with a clear message when it cannot start. */
-export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, opts: StartOptions = {}): Promise<ChatApp> {
-  const settings = opts.settings ?? CHAT_DEFAULTS;
+export async function startChatApp(config: HttpConfig | SocketConfig, log: Log): Promise<ChatApp> {
+  const settings = config.chat;
   const secrets = secretsOf(config);
   const clientOptions = clientOptionsOf(config, log);
   const errText = (err: unknown): string => scrub(err instanceof Error ? err.message : String(err), secrets);
@@ -187,7 +182,7 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
   let dbPath: string | null = null;
   let store: Store | null = null;
   try {
-    dbPath = defaultDbPath();
+    dbPath = defaultDbPath(config.local.dbPath);
     // the app's own connection only records threads and delivery states: a process crash loses
     // none of them, and no fsync per answer holds up the event loop (the workers append the
     // checks themselves with the store's default, fsynced, durability)
@@ -215,7 +210,7 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
         })
       : new InlineEngine(store);
   const queue = new ChannelQueue(config.queueLimit);
-  const limiter = new UserRateLimit(settings.userRate);
+  const limiter = new UserRateLimit({ ...USER_RATE_DEFAULTS, ...settings.userRate });
   const loopDelay = monitorEventLoopDelay({ resolution: 10 });
   loopDelay.enable();
 
@@ -445,9 +440,7 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
 
   let port: number | undefined;
   if (config.mode === 'http') {
-    const server = (await app.start(
-      (config.host ? { port: config.port, host: config.host } : { port: config.port }) as never,
-    )) as unknown as Server;
+    const server = (await app.start(config.host ? { port: config.port, host: config.host } : { port: config.port })) as unknown as Server;
     server.headersTimeout = HEADERS_TIMEOUT_MS;
     server.requestTimeout = REQUEST_TIMEOUT_MS;
     guardBodySize(server, settings.bodyLimit, log);

@@ -42,7 +42,7 @@ export function linkMessages(links: Answer['links']): Message[] {
 }
 
 /** Sends an ephemeral reply through the slash command's response URL. */
-export type Respond = (msg: { response_type: 'ephemeral'; replace_original: false; text: string; blocks: unknown[] }) => Promise<unknown>;
+export type Respond = (msg: { response_type: 'ephemeral'; replace_original: false; text: string; blocks: Block[] }) => Promise<unknown>;
 
 export interface Origin {
   source: 'command' | 'mention';
@@ -129,7 +129,7 @@ async function postAll(client: WebClient, channel: string, threadTs: string | un
     const r = await client.chat.postMessage({
       channel,
       text: m.text,
-      blocks: m.blocks as never,
+      blocks: m.blocks,
       ...(threadTs ? { thread_ts: threadTs } : {}),
       unfurl_links: false,
       unfurl_media: false,
@@ -159,7 +159,7 @@ export async function tellAsker(deps: DeliverDeps, origin: Origin, msgs: Message
           channel: origin.channel,
           user: origin.user,
           text: m.text,
-          blocks: m.blocks as never,
+          blocks: m.blocks,
           ...(origin.threadTs ? { thread_ts: origin.threadTs } : {}),
         });
         sent = true;
@@ -223,7 +223,7 @@ export async function deliver(
       anchorTs = ts[0];
     } else {
       const rm = rootMessage(origin.user, a.headline);
-      const root = await client.chat.postMessage({ channel, text: rm.text, blocks: rm.blocks as never, unfurl_links: false, unfurl_media: false });
+      const root = await client.chat.postMessage({ channel, text: rm.text, blocks: rm.blocks, unfurl_links: false, unfurl_media: false });
       threadTs = String(root.ts ?? '');
       anchorTs = threadTs;
       try {
@@ -266,7 +266,7 @@ export async function deliver(
         filename: logNumber !== undefined ? `kolmo-check-${logNumber}.png` : 'kolmo-chart.png',
         title: logNumber !== undefined ? `Check #${logNumber}` : 'Kolmo chart',
         alt_text: a.headline || 'Kolmo chart',
-      } as never);
+      });
     } catch (err) {
       outcome = 'answered-no-chart';
       const why = explainFailure(err, 'the chart');

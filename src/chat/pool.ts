@@ -25,6 +25,7 @@
 import { fork, type ChildProcess } from 'node:child_process';
 import { setPriority } from 'node:os';
 import { fileURLToPath } from 'node:url';
+import { SECRET_SETTINGS } from '../config.js';
 import type { Store } from '../verbs/ask.js';
 import { work, type Job, type WorkResult } from './work.js';
 
@@ -33,9 +34,6 @@ export interface Engine {
   close(): Promise<void>;
   readonly size: number;
 }
-
-/** never handed to a worker */
-const SECRET_ENV = ['SLACK_BOT_TOKEN', 'SLACK_APP_TOKEN', 'SLACK_SIGNING_SECRET'];
 
 export class EngineError extends Error {
   constructor(
@@ -123,7 +121,7 @@ export class WorkerPool implements Engine {
   private spawn(): void {
     if (this.closing) return;
     const env: NodeJS.ProcessEnv = { ...process.env, KOLMO_WORKER_DB: this.opts.dbPath ?? '' };
-    for (const k of SECRET_ENV) delete env[k];
+    for (const k of SECRET_SETTINGS) delete env[k]; // secrets are never handed to a worker
     const worker = fork(fileURLToPath(this.script), [], {
       env,
       serialization: 'advanced',

@@ -78,7 +78,7 @@ export function checkRowOf(e: LogEntryInput): Omit<CheckRow, 'number' | 'thread_
   const verb = shortText(e.verb, 'verb', LIMITS.verbChars);
   if (typeof e.text !== 'string') throw invalid('the request text is missing');
   // PostgreSQL's text cannot hold U+0000; both backends store the same replacement character
-  const text = cutBytes(e.text.replace(/\u0000/g, '\uFFFD'), LIMITS.textBytes);
+  const text = cutBytes(e.text.replaceAll('\u0000', '\uFFFD'), LIMITS.textBytes);
   const normalized = json(e.normalized);
   const summaryRecord = cleanSummary(e.summary);
   const summary = JSON.stringify(summaryRecord);
