@@ -1,7 +1,7 @@
 /** Legs: `QTY TYPE [STRIKE] [EXPIRY] [@ENTRY] [iv PCT]`, the leg's own terms in any order. */
 import { SAMPLE } from '../examples.js';
 import { LIMITS } from '../limits.js';
-import { NUMBER, PERCENT } from '../lex.js';
+import { NUMBER, PERCENT, type Tok } from '../lex.js';
 import type { LegSpec } from '../types.js';
 import { Cursor, isKeyword, isSpecToken, plainNumber, plainReject } from './cursor.js';
 import { fmtBig, fmtNum, insertAfter, insertBefore, replaceTok } from './errors.js';
@@ -12,6 +12,39 @@ export function isLegStart(c: Cursor): boolean {
   const a = c.peek();
   const b = c.peek(1);
   return !!a && !!b && NUMBER.test(a.text) && b.low in TYPE_WORDS;
+}
+
+/** `@ENTRY`: the entry price per share of the leg (the `@` is at the cursor). */
+function readEntry(c: Cursor, leg: LegSpec, legName: string, t: Tok): void {
+  if (leg.entry !== undefined) {
+    throw c.reject(t, `${legName} already has an entry price (@${fmtNum(leg.entry)}); keep one`);
+  }
+  c.next();
+  const v = c.peek();
+  if (!v || v.text === ';') throw c.missing(t, `@ needs the entry price per share, e.g. @3.10`, '3.10');
+  if (!NUMBER.test(v.text)) {
+    const plain = plainNumber(v);
+    if (plain !== undefined) throw plainReject(c, v, plain);
+    throw c.reject(
+      v,
+      PERCENT.test(v.text) ? `the entry price is money per share, not a percentage` : `@ needs the entry price per share, e.g. @3.10; found '${v.text}'`,
+      isKeyword(v.low) ? insertBefore(v, '3.10') : replaceTok(v, PERCENT.test(v.text) ? v.text.slice(0, -1) : '3.10'),
+    );
+  }
+  const e = Number(v.text);
+  if (!Number.isFinite(e) || e > LIMITS.price) {
+    throw c.reject(v, `the entry price ${v.text} is above the limit of ${fmtBig(LIMITS.price)}`, replaceTok(v, '3.10'));
+  }
+  if (e < 0) {
+    throw c.reject(
+      v,
+      `the entry price is what one share of the leg cost, never negative: the sign of the quantity says long or short`,
+      replaceTok(v, v.text.slice(1)),
+    );
+  }
+  c.next();
+  leg.entry = e;
+  leg.termsAt.entry = t.at;
 }
 
 export function readLeg(c: Cursor, index: number): LegSpec {
@@ -36,35 +69,7 @@ export function readLeg(c: Cursor, index: number): LegSpec {
     const t = c.peek();
     if (!t || t.text === ';' || isLegStart(c)) break;
     if (t.text === '@') {
-      if (leg.entry !== undefined) {
-        throw c.reject(t, `${legName} already has an entry price (@${fmtNum(leg.entry)}); keep one`);
-      }
-      c.next();
-      const v = c.peek();
-      if (!v || v.text === ';') throw c.missing(t, `@ needs the entry price per share, e.g. @3.10`, '3.10');
-      if (!NUMBER.test(v.text)) {
-        const plain = plainNumber(v);
-        if (plain !== undefined) throw plainReject(c, v, plain);
-        throw c.reject(
-          v,
-          PERCENT.test(v.text) ? `the entry price is money per share, not a percentage` : `@ needs the entry price per share, e.g. @3.10; found '${v.text}'`,
-          isKeyword(v.low) ? insertBefore(v, '3.10') : replaceTok(v, PERCENT.test(v.text) ? v.text.slice(0, -1) : '3.10'),
-        );
-      }
-      const e = Number(v.text);
-      if (!Number.isFinite(e) || e > LIMITS.price) {
-        throw c.reject(v, `the entry price ${v.text} is above the limit of ${fmtBig(LIMITS.price)}`, replaceTok(v, '3.10'));
-      }
-      if (e < 0) {
-        throw c.reject(
-          v,
-          `the entry price is what one share of the leg cost, never negative: the sign of the quantity says long or short`,
-          replaceTok(v, v.text.slice(1)),
-        );
-      }
-      c.next();
-      leg.entry = e;
-      leg.termsAt.entry = t.at;
+      readEntry(c, leg, legName, t);
       continue;
     }
     if (t.low === 'iv' && kind !== 'shares') {

@@ -23,16 +23,16 @@ export function legLabel(leg: CheckRequest['legs'][number], i: number): string {
   return `leg ${i + 1} (${q} ${leg.kind}${leg.strike !== undefined ? ` ${num(leg.strike)}` : ''})`;
 }
 
-function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedCheck {
-  const end = req.end ?? (ctx.text ? ctx.text.trimEnd().length : 0);
-  const R = new Resolver(ctx, 'check', end);
-  const { terms, termsAt } = req;
-  const base = resolveBase(R, terms, termsAt);
-  const { asof, spot, notes } = base;
+type Base = ReturnType<typeof resolveBase>;
+type Earliest = { date: string; days: number; leg: number } | undefined;
 
+/** Each leg's expiry (after asof), iv and strike (near spot); the earliest option expiry. */
+function resolveLegs(R: Resolver, req: CheckRequest, ctx: ResolveContext, base: Base) {
+  const { terms, termsAt } = req;
+  const { asof, spot } = base;
   const legs: LegInput[] = [];
   const legExpiries: (string | null)[] = [];
-  let earliest: { date: string; days: number; leg: number } | undefined;
+  let earliest: Earliest;
 
   req.legs.forEach((leg, i) => {
     const label = legLabel(leg, i);
@@ -67,7 +67,12 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     if (!earliest || days < earliest.days) earliest = { date, days, leg: i };
   });
 
-  // horizon
+  return { legs, legExpiries, earliest };
+}
+
+/** The horizon: written (on or before the earliest expiry), else the earliest expiry. */
+function resolveHorizon(R: Resolver, req: CheckRequest, asof: string, earliest: Earliest): { horizon: string; horizonDays: number } {
+  const { terms, termsAt } = req;
   let horizon: string;
   let horizonDays: number;
   if (terms.horizon) {
@@ -89,7 +94,13 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     throw R.missing('a check of shares alone has no expiry to measure at: give a horizon, e.g. horizon 3m', 'horizon 3m');
   }
 
-  // view vol
+  return { horizon, horizonDays };
+}
+
+/** The view's vol: written, else the mark's view, the position's iv, the mark's iv, the iv of the leg nearest the money. */
+function viewVol(R: Resolver, req: CheckRequest, base: Base, legs: LegInput[]): number {
+  const { terms } = req;
+  const { spot, notes } = base;
   let vol = terms.vol;
   if (vol === undefined && base.markView?.vol !== undefined) {
     vol = base.markView.vol;
@@ -121,6 +132,18 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     }
   }
 
+  return vol;
+}
+
+function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedCheck {
+  const end = req.end ?? (ctx.text ? ctx.text.trimEnd().length : 0);
+  const R = new Resolver(ctx, 'check', end);
+  const { terms } = req;
+  const base = resolveBase(R, terms, req.termsAt);
+  const { asof, spot, notes } = base;
+  const { legs, legExpiries, earliest } = resolveLegs(R, req, ctx, base);
+  const { horizon, horizonDays } = resolveHorizon(R, req, asof, earliest);
+  const vol = viewVol(R, req, base, legs);
   const dv = viewDrift(terms, base, notes);
   const drift = dv.drift;
 
