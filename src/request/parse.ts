@@ -53,9 +53,10 @@ function parseRequest(src: string): Request {
       throw rejectAt(semi, `';' separates the parts of a comparison: start the request with compare`, { at: 0, length: 0, text: 'compare ' }, 'compare');
     }
   }
-  if (verb) return verb.grammar(src, toks, 1);
+  // each verb's hook returns its own request, one member of the registry's union
+  if (verb) return verb.grammar(src, toks, 1) as Request;
   const c = new Cursor(src, toks, 0, toks.length, 'check');
-  if (isLegStart(c)) return verbNamed('check').grammar(src, toks, 0);
+  if (isLegStart(c)) return verbNamed('check').grammar(src, toks, 0) as Request;
   // not a verb, not a leg
   const plain = plainNumber(first);
   if (plain !== undefined) throw plainReject(c, first, plain);

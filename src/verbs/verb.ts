@@ -66,8 +66,7 @@ export interface CostContext {
 }
 
 /** One verb: everything the rest of Kolmo needs to know about it. `R` is its request. */
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
-export interface Verb<R extends AnyRequest = any> {
+export interface Verb<R extends AnyRequest = AnyRequest> {
   name: R['verb'];
   /** first words that start a request of this verb (the first is its name) */
   words: readonly string[];

@@ -3,7 +3,7 @@ import { SAMPLE } from '../examples.js';
 import { LIMITS } from '../limits.js';
 import { NUMBER, PERCENT, type Tok } from '../lex.js';
 import type { LegSpec } from '../types.js';
-import { Cursor, isKeyword, isSpecToken, plainNumber, plainReject } from './cursor.js';
+import { type Cursor, isKeyword, isSpecToken, plainNumber, plainReject } from './cursor.js';
 import { fmtBig, fmtNum, insertAfter, insertBefore, replaceTok } from './errors.js';
 import { readPercent, readPrice, specOf } from './values.js';
 import { SPAN_WORDS, TYPE_WORDS } from './words.js';

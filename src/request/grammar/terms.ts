@@ -4,7 +4,7 @@ import { SAMPLE } from '../examples.js';
 import { LIMITS } from '../limits.js';
 import { NUMBER, PER_YEAR, type Tok } from '../lex.js';
 import type { ExpirySpec, Terms } from '../types.js';
-import { Cursor, isKeyword } from './cursor.js';
+import { type Cursor, isKeyword } from './cursor.js';
 import { fmtBig, insertBefore, replaceTok, type Edit } from './errors.js';
 import { readPercent, readPrice, readSpec, readSymbol } from './values.js';
 import { closest, type AnyTerm } from './words.js';

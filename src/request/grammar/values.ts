@@ -3,7 +3,7 @@ import { checkDate, looksLikeDate } from '../dates.js';
 import { LIMITS, SPAN_MAX } from '../limits.js';
 import { NUMBER, PERCENT, SPAN, percentValue, type Tok } from '../lex.js';
 import type { ExpirySpec } from '../types.js';
-import { Cursor, isKeyword, plainNumber, plainReject } from './cursor.js';
+import { type Cursor, isKeyword, plainNumber, plainReject } from './cursor.js';
 import { Reject, fmtBig, fmtNum, insertBefore, replaceTok } from './errors.js';
 import { SPAN_WORDS, SYMBOL } from './words.js';
 

@@ -3,7 +3,7 @@ import { MAX_YEAR, checkDate, daysBetween, resolveSpec, yearOf } from '../dates.
 import { LIMITS } from '../limits.js';
 import type { CheckRequest, ExpirySpec } from '../types.js';
 import { SAMPLE } from '../examples.js';
-import { Resolver, pct2, num, type MarkTerms } from './context.js';
+import { type Resolver, pct2, num, type MarkTerms } from './context.js';
 import { DAY_MS } from '../../core/units.js';
 
 /** The drift's uncertainty as the view carries it: only when written and above zero (0 is a known drift). */
