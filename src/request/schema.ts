@@ -39,6 +39,20 @@ const jumps = z.strictObject({
   sd: z.number().min(0).max(LIMITS.jumpSdMax),
 });
 
+/**
+ * An exit level as written (`target +400`, `stop -300`, `target 50%`): money P&L of the whole
+ * position, or a percentage of the position's |cost| (`pct`, as a decimal: 50% → 0.5). `signed`
+ * says whether a sign was written; unsigned, a target is a profit and a stop a loss. `at` and
+ * `len` are the value's token (for a caret once the position's P&L is known).
+ */
+export const exitLevel = z.strictObject({
+  value: z.number().refine((v) => v !== 0 && Number.isFinite(v)),
+  pct: z.boolean(),
+  signed: z.boolean(),
+  at: pos,
+  len: z.number().int().min(1),
+});
+
 /** Terms that may follow the legs, in any order. All optional; the resolver fills defaults. */
 export const termsSchema = z.strictObject({
   spot: price.optional(),
@@ -56,10 +70,12 @@ export const termsSchema = z.strictObject({
   style: z.enum(['american', 'european']).optional(),
   jumps: jumps.optional(),
   on: symbol.optional(),
+  target: exitLevel.optional(),
+  stop: exitLevel.optional(),
 });
 
 /** The term names, in the order help lists them. */
-export const TERM_NAMES = ['spot', 'rate', 'yield', 'iv', 'exp', 'drift', 'vol', 'horizon', 'asof', 'mult', 'style', 'jumps', 'on'] as const;
+export const TERM_NAMES = ['spot', 'rate', 'yield', 'iv', 'exp', 'drift', 'vol', 'horizon', 'asof', 'mult', 'style', 'jumps', 'on', 'target', 'stop'] as const;
 
 /** The character index of each named part that was written (so later checks can put a caret on it). */
 function positions<K extends string>(names: readonly [K, ...K[]]) {

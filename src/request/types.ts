@@ -9,6 +9,7 @@ import type {
   againSchema,
   checkSchema,
   compareSchema,
+  exitLevel,
   expirySpec,
   helpSchema,
   historySchema,
@@ -22,6 +23,7 @@ import type {
 import type { Request } from '../verbs/registry.js';
 
 export type ExpirySpec = z.infer<typeof expirySpec>;
+export type ExitLevelSpec = z.infer<typeof exitLevel>;
 export type LegSpec = z.infer<typeof legSchema>;
 export type Terms = z.infer<typeof termsSchema>;
 export type TermName = keyof Terms;

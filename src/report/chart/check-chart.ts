@@ -2,7 +2,7 @@
 import type { ChartConfiguration, ChartDataset } from 'chart.js';
 import type { CheckCore, CheckInput, Curves } from '../../core/types.js';
 import { describeView, fmtChance, fmtMoney, fmtPrice, isNum } from '../format.js';
-import { type ChartMarker, type KolmoPluginOptions, type ChartInput, type ChartSize, DEFAULT_SIZE, VIEW_LINE, VIEW_FILL, RN_LINE, PNL_LINE, PROFIT_BAND, MAX_POINTS } from './style.js';
+import { type ChartMarker, type KolmoPluginOptions, type ChartInput, type ChartSize, DEFAULT_SIZE, VIEW_LINE, VIEW_FILL, RN_LINE, PNL_LINE, PROFIT_BAND, TARGET_LINE, STOP_LINE, MAX_POINTS } from './style.js';
 import { niceRange, trapezoid, sampledQuantiles, thinIndices } from './scale.js';
 import { baseOptions, chartPlugins, densityAxis, emptyPluginOptions, profitBands, valueAxis } from './axes.js';
 
@@ -95,12 +95,13 @@ function windowSamples(c: CleanCurves, xMin: number, xMax: number, lv: Levels, e
 }
 
 /** Axes: densities from zero with headroom; P&L nicely rounded, always holding zero. */
-function yRanges(w: ReturnType<typeof windowSamples>, xMin: number, xMax: number) {
+function yRanges(w: ReturnType<typeof windowSamples>, xMin: number, xMax: number, exits: ChartInput['exits']) {
   const inRange = w.keep.filter((i) => w.sx[i] >= xMin && w.sx[i] <= xMax);
   const dMax = Math.max(0, ...inRange.map((i) => Math.max(w.sv[i], w.sr[i])));
   const pVals = inRange.map((i) => w.sp[i]);
-  const pLo = Math.min(0, ...pVals);
-  const pHi = Math.max(0, ...pVals);
+  const levels = [exits?.target, exits?.stop].filter((v): v is number => isNum(v));
+  const pLo = Math.min(0, ...pVals, ...levels);
+  const pHi = Math.max(0, ...pVals, ...levels);
   const allZero = pVals.length > 0 && pVals.every((v) => v === 0);
   const span = pHi - pLo;
   const pr = span > 0 ? niceRange(pLo - span * 0.03, pHi + span * 0.06, 8) : niceRange(-1, 1, 4);
@@ -118,7 +119,7 @@ function levelMarkers(lv: Levels): ChartMarker[] {
 
 type Points = { x: number; y: number }[];
 
-function checkDatasets(pts: (ys: number[]) => Points, w: ReturnType<typeof windowSamples>, view: ChartInput['view'] | undefined): ChartDataset<'line', Points>[] {
+function checkDatasets(pts: (ys: number[]) => Points, w: ReturnType<typeof windowSamples>, view: ChartInput['view'] | undefined, exits: ChartInput['exits']): ChartDataset<'line', Points>[] {
   const datasets: ChartDataset<'line', Points>[] = [
     {
       label: isNum(view?.driftSe) && view.driftSe > 0 ? 'your view: predictive spot density (drift uncertain)' : 'your view: spot density',
@@ -162,10 +163,26 @@ function checkDatasets(pts: (ys: number[]) => Points, w: ReturnType<typeof windo
       order: 4,
     },
   ];
+  // legend entries of the exit levels (the lines themselves are the plugin's)
+  for (const [name, v, color] of [
+    ['target', exits?.target, TARGET_LINE],
+    ['stop', exits?.stop, STOP_LINE],
+  ] as const) {
+    if (!isNum(v)) continue;
+    datasets.push({ label: `${name} (P&L level, right axis)`, data: [], yAxisID: 'yPnl', borderColor: color, backgroundColor: 'rgba(0,0,0,0)', borderWidth: 1.8, borderDash: [7, 4], fill: false, order: 5 });
+  }
   for (const d of datasets) {
     Object.assign(d, { parsing: false, normalized: true, pointRadius: 0, pointHoverRadius: 0, tension: 0, spanGaps: false });
   }
   return datasets;
+}
+
+/** A target and a stop as labelled levels on the P&L axis. */
+function exitLines(exits: ChartInput['exits'], cur: string | undefined): KolmoPluginOptions['hlines'] {
+  return [
+    ...(isNum(exits?.target) ? [{ axis: 'yPnl', y: exits.target, color: TARGET_LINE, dash: [7, 4], width: 1.8, label: `target ${fmtMoney(exits.target, cur)}` }] : []),
+    ...(isNum(exits?.stop) ? [{ axis: 'yPnl', y: exits.stop, color: STOP_LINE, dash: [7, 4], width: 1.8, label: `stop ${fmtMoney(exits.stop, cur)}` }] : []),
+  ];
 }
 
 /**
@@ -204,12 +221,12 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
   const { xMin, xMax, step } = xWindow(c, lv, areas, empty);
   const w = windowSamples(c, xMin, xMax, lv, empty);
   const pts = (ys: number[]) => w.keep.map((i) => ({ x: w.sx[i], y: ys[i] }));
-  const { dMax, pr, allZero } = yRanges(w, xMin, xMax);
+  const { dMax, pr, allZero } = yRanges(w, xMin, xMax, input.exits);
   const plugin: KolmoPluginOptions = {
     ...emptyPluginOptions(size),
     markers: levelMarkers(lv),
     bands: empty ? [] : profitBands(w.sx, w.sp, lv.breakevens),
-    hlines: [{ axis: 'yPnl', y: 0, color: '#7a7a7a', dash: [], width: 1.2 }],
+    hlines: [{ axis: 'yPnl', y: 0, color: '#7a7a7a', dash: [], width: 1.2 }, ...exitLines(input.exits, cur)],
     labelStrip: 56,
     ...(empty ? { empty } : {}),
   };
@@ -217,7 +234,7 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
   const { title, subtitle } = checkTitles(input, size, cur, allZero);
   return {
     type: 'line',
-    data: { datasets: checkDatasets(pts, w, input.view) },
+    data: { datasets: checkDatasets(pts, w, input.view, input.exits) },
     options: {
       ...baseOptions(),
       scales: {

@@ -45,7 +45,7 @@ function glyphText(chart: Chart): void {
 }
 
 /** The profit bands and the horizontal lines, under the datasets. */
-function drawBands(chart: Chart): void {
+function drawBands(chart: Chart, family: string): void {
   const o = pluginOptions(chart);
   const x = chart.scales.x;
   if (!o || !x) return;
@@ -73,6 +73,13 @@ function drawBands(chart: Chart): void {
     ctx.moveTo(a.left, py);
     ctx.lineTo(a.right, py);
     ctx.stroke();
+    if (h.label) {
+      ctx.font = `12px "${family}"`;
+      ctx.fillStyle = h.color;
+      ctx.textAlign = 'right';
+      ctx.textBaseline = 'bottom';
+      ctx.fillText(h.label, a.right - 4, py - 3);
+    }
   }
   ctx.restore();
 }
@@ -212,7 +219,7 @@ export function makePlugin(family: string): Plugin {
   return {
     id: 'kolmo',
     beforeDraw: glyphText,
-    beforeDatasetsDraw: drawBands,
+    beforeDatasetsDraw: (chart) => drawBands(chart, family),
     afterDatasetsDraw(chart) {
       const o = pluginOptions(chart);
       if (!o || !chart.scales.x) return;

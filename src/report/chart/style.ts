@@ -36,8 +36,8 @@ export interface KolmoPluginOptions {
   /** x-intervals shaded across the plot height (the profit region) */
   bands: { from: number; to: number }[];
   bandColor: string;
-  /** horizontal reference lines (the P&L zero line) */
-  hlines: { axis: string; y: number; color: string; dash: number[]; width: number }[];
+  /** horizontal reference lines (the P&L zero line; a target and a stop, labelled at the right) */
+  hlines: { axis: string; y: number; color: string; dash: number[]; width: number; label?: string }[];
   /** point masses of a distribution, drawn as stems with a dot */
   stems: ChartStem[];
   /** height in pixels reserved above the plot area for marker labels */
@@ -81,6 +81,8 @@ export interface ChartInput {
   curves: Curves;
   /** the underlying's currency, e.g. "USD" (optional; used in axis titles and money) */
   currency?: string;
+  /** a target and a stop (money P&L), drawn as levels on the P&L axis */
+  exits?: { target: number | null; stop: number | null };
 }
 
 /** One check of a comparison. */
@@ -117,6 +119,9 @@ export const VIEW_FILL = 'rgba(0,114,178,0.22)';
 export const RN_LINE = OKABE_ITO.vermillion;
 export const PNL_LINE = '#111111';
 export const PROFIT_BAND = 'rgba(0,158,115,0.14)';
+/** exit levels on the P&L axis: a target in the profit band's green, a stop in orange, both dashed */
+export const TARGET_LINE = OKABE_ITO.bluishGreen;
+export const STOP_LINE = OKABE_ITO.orange;
 
 /** Colour and dash of each check in a comparison (up to six). */
 export const COMPARE_STYLES: { color: string; dash: number[] }[] = [

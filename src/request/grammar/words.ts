@@ -30,6 +30,8 @@ export const TERM_WORDS: Record<string, TermName> = {
   style: 'style',
   jumps: 'jumps',
   on: 'on',
+  target: 'target',
+  stop: 'stop',
 };
 
 /** Extra terms of particular verbs. */

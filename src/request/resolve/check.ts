@@ -3,7 +3,7 @@ import type { CheckInput, LegInput } from '../../core/types.js';
 import { hasJumps, jumpVariance } from '../../core/jumps.js';
 import { SAMPLE } from '../examples.js';
 import { LIMITS } from '../limits.js';
-import type { CheckRequest, ParseError } from '../types.js';
+import type { CheckRequest, ExitLevelSpec, ParseError } from '../types.js';
 import { checkStrike, dateAfterAsof, resolveBase, viewDrift } from './base.js';
 import { Resolver, endOf, guard, num, pct, pct2, tokLen, type ResolveContext } from './context.js';
 
@@ -15,6 +15,13 @@ export interface ResolvedCheck {
   legExpiries: (string | null)[];
   notes: string[];
   symbol?: string;
+  /**
+   * the market walk's vol (DESIGN.md §4 `marketVol`): the request's iv, else the mark's, else the
+   * iv of the option leg nearest the money; a check of shares alone: the view's vol
+   */
+  marketVol: number;
+  /** exit levels as written (`target`, `stop`); made money once the position is valued */
+  exits?: { target?: ExitLevelSpec; stop?: ExitLevelSpec };
 }
 
 /** An implied-vol question for the core (src/core/models.ts), with its dates. */
@@ -156,7 +163,25 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     view: { ...(terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol }), ...dv.se },
   };
   checkSpread(R, input, req.termsAt);
-  return { asof, horizon, input, legExpiries, notes, symbol: base.symbol };
+  const exits = terms.target || terms.stop ? { ...(terms.target ? { target: terms.target } : {}), ...(terms.stop ? { stop: terms.stop } : {}) } : undefined;
+  return { asof, horizon, input, legExpiries, notes, symbol: base.symbol, marketVol: marketVolOf(terms, base, legs, vol), ...(exits ? { exits } : {}) };
+}
+
+/** The market walk's vol: the request's iv, else the mark's, else the iv of the option leg nearest the money, else the view's. */
+function marketVolOf(terms: CheckRequest['terms'], base: Base, legs: LegInput[], vol: number): number {
+  let marketVol = terms.iv ?? base.markIv;
+  if (marketVol === undefined) {
+    let bestD = Infinity;
+    for (const l of legs) {
+      if (l.kind === 'shares') continue;
+      const d = Math.abs(Math.log(l.strike / base.spot));
+      if (d < bestD) {
+        bestD = d;
+        marketVol = l.iv;
+      }
+    }
+  }
+  return marketVol ?? vol;
 }
 
 /**
