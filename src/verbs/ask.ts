@@ -17,14 +17,13 @@
  * - an entry of another channel is answered exactly like a number that does not exist.
  */
 import { parse } from '../request/parse.js';
-import type { Request } from '../request/types.js';
 import type { Answer, Rejection, Reply } from '../reply.js';
 import { StoreError } from '../store/store.js';
 import { budgetRejection, COMPUTE_BUDGET_DEFAULT } from './budget.js';
 import { verbNamed, verbs } from './registry.js';
 import { workingExample } from './working-example.js';
 import { markRecord } from './marks.js';
-import { envOf, reject, Refused, type AskContext, type Cost, type CostContext, type Outcome, type VerbEnv } from './verb.js';
+import { envOf, reject, Refused, type AnyRequest, type AskContext, type Cost, type CostContext, type Outcome, type VerbEnv } from './verb.js';
 
 export type { AskContext } from './verb.js';
 export { COMPUTE_BUDGET_DEFAULT } from './budget.js';
@@ -32,7 +31,7 @@ export { COMPUTE_BUDGET_DEFAULT } from './budget.js';
 export { CLOSES_FILE_BYTES } from '../request/closes.js';
 
 /** Units a parsed request would need (null: its work is small). */
-function costOf(req: Request, text: string, ctx: Omit<CostContext, 'costOf'>): Cost | null {
+function costOf(req: AnyRequest, text: string, ctx: Omit<CostContext, 'costOf'>): Cost | null {
   const v = verbNamed(req.verb);
   return v.cost ? v.cost(req as never, text, { ...ctx, costOf: (r, t) => costOf(r, t, ctx) }) : null;
 }
@@ -129,7 +128,7 @@ export function askSync(typed: string, ctx: AskContext): Reply {
   // every Example: of a rejection is a request this channel would answer (./working-example.ts)
   // a check, comparison, iv or touch example is run for real (within the budget, nothing logged),
   // because some of their refusals (targets and stops) come only once the position is valued
-  const runs = (ex: string, req: Request): boolean => {
+  const runs = (ex: string, req: AnyRequest): boolean => {
     if (!['check', 'compare', 'iv', 'touch'].includes(req.verb)) return true;
     if (budgetRejection(ex, costOf(req, ex, costContext(ctx, env.now)), ctx.budget ?? COMPUTE_BUDGET_DEFAULT)) return false;
     try {

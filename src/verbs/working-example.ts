@@ -9,14 +9,14 @@ import { EXAMPLES } from '../request/examples.js';
 import { parse } from '../request/parse.js';
 import { resolveCheck, resolveIv, resolveTouch } from '../request/resolve.js';
 import type { Rejection } from '../reply.js';
-import type { Request } from '../request/types.js';
+import type { AnyRequest } from './verb.js';
 import { termsOfMark } from './marks.js';
 import type { AskContext } from './verb.js';
 
 /** Most checks in one comparison the seam answers. */
 const COMPARE_MAX = 6;
 
-export function answersHere(example: string, ctx: AskContext, today: string, nowIso: string, runs?: (ex: string, req: Request) => boolean): boolean {
+export function answersHere(example: string, ctx: AskContext, today: string, nowIso: string, runs?: (ex: string, req: AnyRequest) => boolean): boolean {
   try {
     const p = parse(example);
     if (!p.ok) return false;
@@ -66,7 +66,7 @@ export function answersHere(example: string, ctx: AskContext, today: string, now
   }
 }
 
-export function workingExample(r: Rejection, ctx: AskContext, today: string, nowIso: string, runs?: (ex: string, req: Request) => boolean): Rejection {
+export function workingExample(r: Rejection, ctx: AskContext, today: string, nowIso: string, runs?: (ex: string, req: AnyRequest) => boolean): Rejection {
   const lines = r.message.split('\n');
   const last = lines[lines.length - 1];
   if (!last.startsWith('Example: ')) return r;
