@@ -153,7 +153,7 @@ describe('checkChartConfig: x range, densities, P&L', () => {
     expect(sub).toContain('chance of profit 42%');
     expect(sub).toContain('+123 USD');
     const withJumps = checkChartConfig(inputFor(callSpread, G, { view: { drift: 0.09, vol: 0.26, jumps: { intensity: 0.5, mean: -0.05, sd: 0.1 } } }));
-    expect((withJumps.options!.plugins!.title as { text: string }).text).toContain('jumps 0.5/yr mean −5% sd 10%');
+    expect((withJumps.options!.plugins!.title as { text: string }).text).toContain('jumps 0.5/yr mean -5% sd 10%');
   });
 
   it('splits a long title into position and horizon/view lines, each fitting the width', () => {
