@@ -79,6 +79,6 @@ export function targetOf(url: string): Target {
   const u = new URL(url);
   const socketDir = u.searchParams.get('host');
   const port = Number(u.port || 5432);
-  if (socketDir && socketDir.startsWith('/')) return { path: `${socketDir}/.s.PGSQL.${port}` };
+  if (socketDir?.startsWith('/')) return { path: `${socketDir}/.s.PGSQL.${port}` };
   return { host: socketDir || u.hostname, port };
 }
