@@ -13,7 +13,7 @@
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { createInterface } from 'node:readline';
-import { askSync, COMPUTE_BUDGET_DEFAULT, openStore, defaultDbPath, type AskContext, type Store } from './verbs/ask.js';
+import { ask, COMPUTE_BUDGET_DEFAULT, openDatabase, databaseFromEnv, type AskContext, type AsyncStore } from './verbs/ask.js';
 import type { Reply } from './reply.js';
 import { renderAnswerChart } from './report/answer-chart.js';
 
@@ -52,10 +52,11 @@ export function parseArgs(argv: string[]): CliOptions | { error: string } {
   return o;
 }
 
-function openStoreQuietly(enabled: boolean): { store: Store | null; warning?: string } {
+/** The log of the environment (KOLMO_DATABASE_URL, else the SQLite file); without it the answer still comes, with a warning. */
+async function openStoreQuietly(enabled: boolean): Promise<{ store: AsyncStore | null; warning?: string }> {
   if (!enabled) return { store: null };
   try {
-    return { store: openStore(defaultDbPath()) };
+    return { store: await openDatabase(databaseFromEnv()) };
   } catch (err) {
     return { store: null, warning: `the log is unavailable (${err instanceof Error ? err.message : String(err)}); answering without it` };
   }
@@ -67,8 +68,8 @@ function budgetOf(env = process.env): number {
 }
 
 /** One request from the command line or the console: the seam, with the compute budget of the environment. */
-export function answerLocal(text: string, ctx: AskContext): Reply {
-  return askSync(text, { budget: budgetOf(), ...ctx });
+export function answerLocal(text: string, ctx: AskContext): Promise<Reply> {
+  return ask(text, { budget: budgetOf(), ...ctx });
 }
 
 /** The text a terminal shows for a reply (answer, caution, warnings) — also used by the console. */
@@ -99,10 +100,10 @@ export async function runCli(argv: string[], out = process.stdout, err = process
     out.write(`${USAGE}\n`);
     return 0;
   }
-  const { store, warning } = openStoreQuietly(o.log);
+  const { store, warning } = await openStoreQuietly(o.log);
   try {
     const ctx: AskContext = { channel: o.channel ?? 'cli', user: process.env.USER || 'local', store };
-    const r = answerLocal(o.request, ctx);
+    const r = await answerLocal(o.request, ctx);
     if (warning && r.kind === 'answer') r.warnings.push(warning);
     let chartNote: string | null = null;
     if (o.chart && r.kind === 'answer') chartNote = await writeChart(r, o.chart);
@@ -116,7 +117,7 @@ export async function runCli(argv: string[], out = process.stdout, err = process
     }
     return r.kind === 'rejected' ? 2 : 0;
   } finally {
-    store?.close();
+    await store?.close();
   }
 }
 
@@ -140,12 +141,12 @@ export async function runConsole(
   const input = opts.input ?? process.stdin;
   const outDir = opts.outDir ?? process.env.KOLMO_OUT ?? 'out';
   const channel = opts.channel ?? 'console';
-  const { store, warning } = openStoreQuietly(true);
+  const { store, warning } = await openStoreQuietly(true);
   const say = (s: string) => output.write(s + '\n');
   if (store) {
     for (const m of DEMO_MARKS) {
-      if (!store.getMark(channel, m.symbol)) {
-        store.putMark({ channel, symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, user: 'demo', at: new Date().toISOString() });
+      if (!(await store.getMark(channel, m.symbol).catch(() => undefined))) {
+        await store.putMark({ channel, symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, user: 'demo', at: new Date().toISOString() }).catch(() => undefined);
       }
     }
   }
@@ -167,7 +168,7 @@ export async function runConsole(
           return;
         }
         if (text) {
-          const r = answerLocal(text, { channel, user: process.env.USER || 'local', store });
+          const r = await answerLocal(text, { channel, user: process.env.USER || 'local', store });
           say(replyText(r));
           if (r.kind === 'answer' && r.chart) {
             n++;
@@ -183,5 +184,5 @@ export async function runConsole(
       chain.then(() => done(), () => done());
     });
   });
-  store?.close();
+  await store?.close();
 }

@@ -9,12 +9,15 @@
  *   answer, no headline → the answer as a message in the channel (or the asker's thread)
  *
  * After posting, the log entry records its thread and permalink and whether it was delivered.
+ * Each part that reached the platform (root line, answer, chart) is reported to `onProgress`
+ * before the next is sent; a request taken over after its instance died passes what was already
+ * posted (`resume`) and only the rest is sent, so an answer is not posted twice.
  * Every platform failure becomes a clear ephemeral message; a failed chart never holds back the
  * text answer.
  */
 import type { webApi } from '@slack/bolt';
 import type { Reply, Answer } from '../reply.js';
-import type { Store } from '../verbs/ask.js';
+import type { LogStore, Progress } from '../verbs/ask.js';
 import { scrub } from '../log.js';
 import { answerMessages, escapeMrkdwn, monoNotice, plainNotice, rootMessage, SECTION_TEXT_MAX, type Block, type Message } from './blocks.js';
 
@@ -118,7 +121,7 @@ export function explainFailure(err: unknown, what: string): string {
 
 export interface DeliverDeps {
   client: WebClient;
-  store: Store | null;
+  store: LogStore | null;
   /** told about failures that could not even reach the asker */
   onLost?: (what: string, err: unknown) => void;
 }
@@ -175,13 +178,20 @@ export async function tellAsker(deps: DeliverDeps, origin: Origin, msgs: Message
   return all;
 }
 
-function record(deps: DeliverDeps, fn: (s: Store) => void, failures: string[]): void {
+async function record(deps: DeliverDeps, fn: (s: LogStore) => Promise<unknown>, failures: string[]): Promise<void> {
   if (!deps.store) return;
   try {
-    fn(deps.store);
+    await fn(deps.store);
   } catch (err) {
     failures.push(`the log could not record the delivery (${err instanceof Error ? err.message : String(err)})`);
   }
+}
+
+export interface Resume {
+  /** what an earlier attempt already posted */
+  progress?: Progress;
+  /** told after each part reaches the platform */
+  onProgress?: (p: Progress) => Promise<unknown>;
 }
 
 /**
@@ -193,16 +203,27 @@ export async function deliver(
   origin: Origin,
   reply: Reply,
   chart: { png?: Uint8Array; note?: string } = {},
+  resume: Resume = {},
 ): Promise<Delivery> {
   const failures: string[] = [];
+  const done = resume.progress ?? {};
+  const mark = async (p: Progress) => {
+    try {
+      await resume.onProgress?.(p);
+    } catch {
+      /* a progress record lost costs at most a repeat after a take-over */
+    }
+  };
   if (reply.kind === 'rejected') {
-    await tellAsker(deps, origin, monoNotice(reply.message));
+    if (!done.answered) await tellAsker(deps, origin, monoNotice(reply.message));
+    await mark({ answered: true });
     return { outcome: 'rejected', failures };
   }
   const a: Answer = reply;
   const notes = [...a.warnings];
   if (a.ephemeral) {
-    await tellAsker(deps, origin, [...monoNotice(a.text, [a.caution, ...notes].filter(Boolean).join(' · ')), ...linkMessages(a.links)]);
+    if (!done.answered) await tellAsker(deps, origin, [...monoNotice(a.text, [a.caution, ...notes].filter(Boolean).join(' · ')), ...linkMessages(a.links)]);
+    await mark({ answered: true });
     return { outcome: 'ephemeral', failures };
   }
 
@@ -212,22 +233,34 @@ export async function deliver(
   let threadTs: string | undefined;
   let anchorTs: string | undefined;
   try {
-    if (a.headline.trim() === '') {
+    if (done.answered) {
+      // an earlier attempt posted the answer; only what came after it is left
+      threadTs = done.rootTs ?? origin.threadTs;
+      anchorTs = done.rootTs;
+    } else if (a.headline.trim() === '') {
       // nothing for the channel root: the answer itself goes where it was asked
       const ts = await postAll(client, channel, origin.threadTs, [...answerMessages(a), ...linkMessages(a.links)]);
       anchorTs = ts[0];
       threadTs = origin.threadTs ?? anchorTs;
+      await mark({ answered: true, ...(anchorTs ? { rootTs: anchorTs } : {}) });
     } else if (origin.threadTs) {
       threadTs = origin.threadTs;
       const ts = await postAll(client, channel, threadTs, [...answerMessages(a, rootMessage(origin.user, a.headline)), ...linkMessages(a.links)]);
       anchorTs = ts[0];
+      await mark({ answered: true, ...(anchorTs ? { rootTs: anchorTs } : {}) });
     } else {
-      const rm = rootMessage(origin.user, a.headline);
-      const root = await client.chat.postMessage({ channel, text: rm.text, blocks: rm.blocks as never, unfurl_links: false, unfurl_media: false });
-      threadTs = String(root.ts ?? '');
+      if (done.rootTs) {
+        threadTs = done.rootTs;
+      } else {
+        const rm = rootMessage(origin.user, a.headline);
+        const root = await client.chat.postMessage({ channel, text: rm.text, blocks: rm.blocks as never, unfurl_links: false, unfurl_media: false });
+        threadTs = String(root.ts ?? '');
+        await mark({ rootTs: threadTs });
+      }
       anchorTs = threadTs;
       try {
         await postAll(client, channel, threadTs, [...answerMessages(a), ...linkMessages(a.links)]);
+        await mark({ answered: true });
       } catch (err) {
         // the root line is in the channel but the answer is not: say so in the thread if possible
         failures.push(explainFailure(err, 'the answer in the thread'));
@@ -237,14 +270,14 @@ export async function deliver(
   } catch (err) {
     const why = failures[0] ?? explainFailure(err, 'the answer');
     if (failures.length === 0) failures.push(why);
-    if (logNumber !== undefined) record(deps, (s) => s.setDelivery(channel, logNumber, 'undelivered'), failures);
+    if (logNumber !== undefined) await record(deps, (s) => s.setDelivery(channel, logNumber, 'undelivered'), failures);
     // told once: the reason and the answer itself in one ephemeral message (more only if the
     // answer is longer than one message holds)
     await tellAsker(deps, origin, answerMessages(a, plainNotice(`${why}${logNumber !== undefined ? ` (The check is in the log as #${logNumber}.)` : ''}`)));
     return { outcome: 'undelivered', threadTs, failures };
   }
 
-  if (logNumber !== undefined && threadTs) {
+  if (logNumber !== undefined && threadTs && !done.chart) {
     let permalink: string | null = null;
     try {
       const p = await client.chat.getPermalink({ channel, message_ts: anchorTs ?? threadTs });
@@ -253,11 +286,13 @@ export async function deliver(
       permalink = null; // the link is a convenience; the thread is recorded without it
     }
     const ts = threadTs;
-    record(deps, (s) => s.setThread(channel, logNumber, ts, permalink), failures);
+    await record(deps, (s) => s.setThread(channel, logNumber, ts, permalink), failures);
   }
 
   let outcome: Outcome = 'answered';
-  if (chart.png) {
+  if (chart.png && done.chart) {
+    // uploaded by an earlier attempt
+  } else if (chart.png) {
     try {
       await client.files.uploadV2({
         channel_id: channel,
@@ -267,6 +302,7 @@ export async function deliver(
         title: logNumber !== undefined ? `Check #${logNumber}` : 'Kolmo chart',
         alt_text: a.headline || 'Kolmo chart',
       } as never);
+      await mark({ chart: true });
     } catch (err) {
       outcome = 'answered-no-chart';
       const why = explainFailure(err, 'the chart');
@@ -277,7 +313,7 @@ export async function deliver(
     outcome = 'answered-no-chart';
     notes.push(`The chart was not drawn: ${chart.note}. The text answer is in the thread.`);
   }
-  if (logNumber !== undefined) record(deps, (s) => s.setDelivery(channel, logNumber, 'delivered'), failures);
+  if (logNumber !== undefined) await record(deps, (s) => s.setDelivery(channel, logNumber, 'delivered'), failures);
   for (const f of failures.filter((f) => f.startsWith('the log'))) notes.push(f);
   if (notes.length > 0) await tellAsker(deps, { ...origin, threadTs }, [plainNotice(notes.join('\n'))]);
   return { outcome, threadTs, failures };

@@ -7,6 +7,9 @@
  *   KOLMO_BODY_LIMIT        largest HTTP request body in bytes              (default 262144)
  *   KOLMO_COMPUTE_BUDGET    compute units one request may need (budget.ts)  (default 6000)
  *   KOLMO_SHUTDOWN_GRACE    seconds SIGTERM waits for answers in progress   (default 10)
+ *   KOLMO_OPS_PORT          Socket Mode: port of /healthz and /metrics      (default none; in
+ *                           HTTP mode they are served on PORT beside /slack/events)
+ *   KOLMO_OPS_HOST          the address KOLMO_OPS_PORT listens on           (default 127.0.0.1)
  */
 import { USER_RATE_DEFAULTS, type UserRateOptions } from './ratelimit.js';
 import { COMPUTE_BUDGET_DEFAULT } from '../verbs/ask.js';
@@ -17,6 +20,10 @@ export interface ChatSettings {
   bodyLimit: number;
   computeBudget: number;
   shutdownGraceMs: number;
+  /** Socket Mode: the port /healthz and /metrics are served on (HTTP mode serves them on PORT) */
+  opsPort?: number;
+  /** the address the ops port listens on (default 127.0.0.1; KOLMO_OPS_HOST) */
+  opsHost?: string;
 }
 
 export const BODY_LIMIT_DEFAULT = 256 * 1024;
@@ -49,9 +56,17 @@ export function chatSettings(env: Env = process.env): { ok: true; settings: Chat
   const bodyLimit = int(env, 'KOLMO_BODY_LIMIT', BODY_LIMIT_DEFAULT, 4096, 16 * 1024 * 1024, errors);
   const computeBudget = int(env, 'KOLMO_COMPUTE_BUDGET', COMPUTE_BUDGET_DEFAULT, 1, 10_000_000, errors);
   const grace = int(env, 'KOLMO_SHUTDOWN_GRACE', SHUTDOWN_GRACE_DEFAULT_S, 0, 600, errors);
+  const opsPort = env.KOLMO_OPS_PORT?.trim() ? int(env, 'KOLMO_OPS_PORT', 0, 0, 65535, errors) : undefined;
   if (errors.length > 0) return { ok: false, errors };
   return {
     ok: true,
-    settings: { userRate: { ...USER_RATE_DEFAULTS, burst, perMinute }, bodyLimit, computeBudget, shutdownGraceMs: grace * 1000 },
+    settings: {
+      userRate: { ...USER_RATE_DEFAULTS, burst, perMinute },
+      bodyLimit,
+      computeBudget,
+      shutdownGraceMs: grace * 1000,
+      ...(opsPort !== undefined ? { opsPort } : {}),
+      ...(env.KOLMO_OPS_HOST?.trim() ? { opsHost: env.KOLMO_OPS_HOST.trim() } : {}),
+    },
   };
 }

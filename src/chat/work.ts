@@ -7,7 +7,7 @@
  * previous process can have logged it and died before posting — so its log entry is found again
  * instead of being appended twice (see `onceOnly`).
  */
-import { ask, type LogEntry, type LogEntryInput, type Store } from '../verbs/ask.js';
+import { ask, type LogEntry, type LogEntryInput, type LogStore } from '../verbs/ask.js';
 import type { Reply } from '../reply.js';
 import { renderAnswerChart } from '../report/answer-chart.js';
 
@@ -41,19 +41,19 @@ const RESUME_LOOKBACK = 500;
  * A store whose appendCheck returns the channel's existing entry for the same request (same
  * user, same arrival time to the millisecond, same parsed request) instead of appending another.
  */
-export function onceOnly(store: Store): Store {
-  const find = (e: LogEntryInput): LogEntry | undefined =>
-    store.recent(e.channel, RESUME_LOOKBACK).find((x) => x.user === e.user && x.at === e.at && x.normalized === e.normalized);
+export function onceOnly(store: LogStore): LogStore {
+  const find = async (e: LogEntryInput): Promise<LogEntry | undefined> =>
+    (await store.recent(e.channel, RESUME_LOOKBACK)).find((x) => x.user === e.user && x.at === e.at && x.normalized === e.normalized);
   return new Proxy(store, {
     get(target, prop, receiver) {
-      if (prop === 'appendCheck') return (e: LogEntryInput) => find(e) ?? target.appendCheck(e);
+      if (prop === 'appendCheck') return async (e: LogEntryInput) => (await find(e)) ?? target.appendCheck(e);
       const v = Reflect.get(target, prop, receiver) as unknown;
       return typeof v === 'function' ? (v as (...a: unknown[]) => unknown).bind(target) : v;
     },
   });
 }
 
-export async function work(job: Job, store: Store | null): Promise<WorkResult> {
+export async function work(job: Job, store: LogStore | null): Promise<WorkResult> {
   const t0 = performance.now();
   const s = store && job.resumed ? onceOnly(store) : store;
   const reply = await ask(job.text, { channel: job.channel, user: job.user, now: new Date(job.now), store: s, inWorkspace: true, budget: job.budget });
