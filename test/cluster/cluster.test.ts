@@ -16,6 +16,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { FakeWebApi, FAKE_BOT } from '../chat/fake-web-api.js';
 import { mentionBody, slashBody } from '../chat/harness.js';
 import { signedPost, until } from '../robust/harness.js';
+import pg from 'pg';
 import { openDatabase } from '../../src/verbs/ask.js';
 import { freshDatabase } from '../support/pg.js';
 import { chartTitles, clusterCheck, roots, startCluster, threadSpots, type Instance } from './harness.js';
@@ -188,6 +189,21 @@ describe('three instances on one PostgreSQL database, HTTP mode', () => {
       expect(m).toMatch(/^kolmo_takeovers_total \d+/m);
     }
   });
+  it('holds one small pool of connections per instance, none per worker (the workers reach the store through their instance)', async () => {
+    const c = new pg.Client({ connectionString: db.url });
+    await c.connect();
+    try {
+      const r = await c.query<{ app: string; n: number }>(
+        "SELECT application_name AS app, COUNT(*)::int AS n FROM pg_stat_activity WHERE datname = current_database() AND pid <> pg_backend_pid() GROUP BY application_name",
+      );
+      // every connection is an instance's (named after its owner id), at most 6 each
+      expect(r.rows.every((x) => x.app.startsWith('kolmo '))).toBe(true);
+      expect(r.rows.length).toBeLessThanOrEqual(cluster.instances.length);
+      for (const x of r.rows) expect(x.n).toBeLessThanOrEqual(6);
+    } finally {
+      await c.end();
+    }
+  });
 });
 
 describe('three instances on one PostgreSQL database, Socket Mode (one connection each)', () => {
@@ -197,7 +213,7 @@ describe('three instances on one PostgreSQL database, Socket Mode (one connectio
   beforeAll(async () => {
     fake = await FakeWebApi.start();
     db = await freshDatabase('cluster_socket');
-    cluster = await startCluster({ fake, databaseUrl: db.url, mode: 'socket', count: 3 });
+    cluster = await startCluster({ fake, databaseUrl: db.url, mode: 'socket', count: 3, env: { KOLMO_OPS_PORT: '0' } });
     await until(() => ['i0', 'i1', 'i2'].every((t) => fake.socketTagList.includes(t)), WAIT, 'three Socket Mode connections');
   });
   afterAll(async () => {
@@ -232,5 +248,17 @@ describe('three instances on one PostgreSQL database, Socket Mode (one connectio
     await afterBurst(fake, cluster.instances, db.url, b, async (to, c, id) => {
       expect(await envelope(to, { type: 'slash_commands', accepts_response_payload: true, payload: Object.fromEntries(new URLSearchParams(logBody(fake, c, id))) })).toBe(true);
     });
+  });
+
+  it('serves /healthz and /metrics on KOLMO_OPS_PORT in Socket Mode', async () => {
+    for (const x of cluster.instances) {
+      const port = x.app.lines.find((l) => l.msg === 'connected')?.opsPort;
+      expect(typeof port).toBe('number');
+      const h = await fetch(`http://127.0.0.1:${port}/healthz`);
+      expect(h.status).toBe(200);
+      expect(await h.json()).toMatchObject({ ready: true, database: 'ok', workers: 'ok', queue: 'ok' });
+      expect(await (await fetch(`http://127.0.0.1:${port}/metrics`)).text()).toMatch(/^# TYPE kolmo_requests_total counter/m);
+      expect((await fetch(`http://127.0.0.1:${port}/elsewhere`)).status).toBe(404);
+    }
   });
 });
