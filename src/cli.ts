@@ -5,15 +5,17 @@
  *   kolmo "<request>"                 text answer (exit 0; 2 on a rejected request)
  *   kolmo --json "<request>"          one JSON object (DESIGN.md §4)
  *   kolmo "<request>" --chart F.png   also writes the chart
+ *   kolmo "history SYM" --file F.csv  closes from a CSV/TSV file (date, close)
  *   kolmo                             the local console (a prompt)
  *
  * The command line is channel `cli` in the store, the console channel `console` (override with
  * --channel); --no-log answers without touching the store.
  */
-import { mkdirSync, writeFileSync } from 'node:fs';
-import { dirname, join, resolve } from 'node:path';
+import { mkdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
+import { basename, dirname, join, resolve } from 'node:path';
+import { DEMO_HISTORY, DEMO_HISTORY_SYMBOL } from './demo/history.js';
 import { createInterface } from 'node:readline';
-import { ask, COMPUTE_BUDGET_DEFAULT, openDatabase, databaseFromEnv, type AskContext, type AsyncStore } from './verbs/ask.js';
+import { ask, CLOSES_FILE_BYTES, COMPUTE_BUDGET_DEFAULT, openDatabase, databaseFromEnv, type AskContext, type AsyncStore } from './verbs/ask.js';
 import type { Reply } from './reply.js';
 import { renderAnswerChart } from './report/answer-chart.js';
 
@@ -21,12 +23,14 @@ export interface CliOptions {
   json: boolean;
   chart?: string;
   channel?: string;
+  /** a CSV/TSV file of closes for `history` */
+  file?: string;
   log: boolean;
   help: boolean;
   request: string;
 }
 
-const USAGE = `usage: kolmo [--json] [--chart FILE.png] [--channel NAME] [--no-log] "<request>"
+const USAGE = `usage: kolmo [--json] [--chart FILE.png] [--channel NAME] [--no-log] [--file CLOSES.csv] "<request>"
        kolmo                      (no request: the local console)
        kolmo help                 (the request grammar)`;
 
@@ -38,12 +42,14 @@ export function parseArgs(argv: string[]): CliOptions | { error: string } {
     if (a === '--json') o.json = true;
     else if (a === '--no-log') o.log = false;
     else if (a === '--help' || a === '-h') o.help = true;
-    else if (a === '--chart' || a === '--channel') {
+    else if (a === '--chart' || a === '--channel' || a === '--file') {
       const v = argv[++i];
       if (v === undefined || v.startsWith('--')) return { error: `${a} needs a value` };
       if (a === '--chart') o.chart = v;
+      else if (a === '--file') o.file = v;
       else o.channel = v;
     } else if (a.startsWith('--chart=')) o.chart = a.slice(8);
+    else if (a.startsWith('--file=')) o.file = a.slice(7);
     else if (a.startsWith('--channel=')) o.channel = a.slice(10);
     else if (a.startsWith('--') && !/^--?\d/.test(a)) return { error: `unknown option ${a}` };
     else words.push(a);
@@ -100,9 +106,21 @@ export async function runCli(argv: string[], out = process.stdout, err = process
     out.write(`${USAGE}\n`);
     return 0;
   }
+  let files: AskContext['files'];
+  if (o.file !== undefined) {
+    try {
+      const st = statSync(o.file);
+      if (!st.isFile()) throw new Error('not a regular file');
+      if (st.size > CLOSES_FILE_BYTES) throw new Error(`${st.size} bytes; at most ${CLOSES_FILE_BYTES} are read`);
+      files = [{ name: basename(o.file), base64: readFileSync(o.file).toString('base64') }];
+    } catch (e) {
+      err.write(`kolmo: --file ${o.file}: ${e instanceof Error ? e.message : String(e)}\n`);
+      return 2;
+    }
+  }
   const { store, warning } = await openStoreQuietly(o.log);
   try {
-    const ctx: AskContext = { channel: o.channel ?? 'cli', user: process.env.USER || 'local', store };
+    const ctx: AskContext = { channel: o.channel ?? 'cli', user: process.env.USER || 'local', store, ...(files ? { files } : {}) };
     const r = await answerLocal(o.request, ctx);
     if (warning && r.kind === 'answer') r.warnings.push(warning);
     let chartNote: string | null = null;
@@ -132,6 +150,7 @@ export const CONSOLE_EXAMPLES = [
   'check +2 call 90 2027-03-19 @3.10 -2 call 100 2027-03-19 @1.05 on FERNWK drift 9% vol 28% asof 2027-01-04',
   'touch 160 by 2027-06-18 on QUORVEL drift 12% asof 2027-01-04',
   'iv put 22 2027-04-16 price 0.85 on BRISAND asof 2027-01-04',
+  'history FERNWK save',
 ];
 
 export async function runConsole(
@@ -148,6 +167,14 @@ export async function runConsole(
       if (!(await store.getMark(channel, m.symbol).catch(() => undefined))) {
         await store.putMark({ channel, symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, user: 'demo', at: new Date().toISOString() }).catch(() => undefined);
       }
+    }
+    // an invented year of closes (src/demo/history.ts), so `history FERNWK` answers at once
+    try {
+      if ((await store.getCloses(channel, DEMO_HISTORY_SYMBOL)).length === 0) {
+        await store.putCloses(channel, DEMO_HISTORY_SYMBOL, DEMO_HISTORY.map(([date, close]) => ({ date, close })));
+      }
+    } catch {
+      /* the demo history is a convenience: the console works without it */
     }
   }
   say('Kolmo local console — the same engine as the chat app. Type a request, `help`, or `quit`.');

@@ -39,7 +39,8 @@ export interface CheckJson {
   horizon: string;
   horizonYears: number;
   market: { spot: number; rate: number; yield: number };
-  view: { drift: number; vol: number; model: 'lognormal' | 'merton-jumps'; jumps?: Jumps };
+  /** `driftSe`: the drift's uncertainty; the view's outcome is then under the predictive law */
+  view: { drift: number; vol: number; model: 'lognormal' | 'merton-jumps'; jumps?: Jumps; driftSe?: number };
   style: ExerciseStyle;
   mult: number;
   notes: string[];
@@ -47,6 +48,8 @@ export interface CheckJson {
   position: PositionTotals;
   outcome: Outcome;
   outcomeRiskNeutral: RiskNeutralOutcome;
+  /** with a drift uncertainty: the same figures with the drift taken as known, for comparison */
+  knownDrift?: { probProfit: number; pnlQuantiles: { p05: number; p95: number } };
 }
 
 export interface CheckAssembly {

@@ -58,6 +58,7 @@ import { EngineError, InlineEngine, WorkerPool, type Engine } from './pool.js';
 import { ChannelQueue } from './queue.js';
 import { UserRateLimit } from './ratelimit.js';
 import { CHAT_DEFAULTS, type ChatSettings } from './settings.js';
+import { downloadFile, fileRefsOf, type FileRef } from './files.js';
 
 const { App, HTTPReceiver, SocketModeReceiver } = bolt;
 type WebClientOptions = webApi.WebClientOptions;
@@ -361,12 +362,30 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
     r: QueuedRequest,
     resumed: boolean,
     resume: { progress?: Progress; onProgress?: (p: Progress) => Promise<unknown> } = {},
-  ): Promise<{ outcome: Outcome | 'error' | 'closed'; verb: string; computeMs?: number; logNumber?: number; failures: number }> => {
+  ): Promise<{ outcome: Outcome | 'error' | 'closed' | 'file-unreadable'; verb: string; computeMs?: number; logNumber?: number; failures: number }> => {
     const origin = originOf(r);
     const text = r.text.trim() === '' ? 'help' : r.text;
     let verb = verbOf(text);
+    // files shared with a `history` mention: downloaded by the instance that answers
+    let files: { name: string; base64: string }[] | undefined;
+    if (r.files?.length) {
+      try {
+        files = await Promise.all(r.files.map((f) => downloadFile(f, config.botToken, config.apiUrl)));
+      } catch (err) {
+        await tellAsker(deps, origin, [plainNotice(`Kolmo could not read the file shared with this request: ${errText(err)}. Nothing was posted.`)]).catch(() => false);
+        return { outcome: 'file-unreadable', verb, failures: 0 };
+      }
+    }
     try {
-      const result = await engine.run({ text, channel: r.channel, user: r.user, now: r.now, budget: settings.computeBudget, ...(resumed ? { resumed } : {}) });
+      const result = await engine.run({
+        text,
+        channel: r.channel,
+        user: r.user,
+        now: r.now,
+        budget: settings.computeBudget,
+        ...(resumed ? { resumed } : {}),
+        ...(files ? { files } : {}),
+      });
       let logNumber: number | undefined;
       if (result.reply.kind === 'answer') {
         verb = result.reply.verb;
@@ -514,7 +533,10 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
     const ev = body.event as { type?: string; user?: string; channel?: string; text?: string; ts?: string; thread_ts?: string } | undefined;
     if (body.type === 'event_callback' && ev?.type === 'app_mention' && ev.user && ev.channel) {
       const key = eventKey(typeof body.event_id === 'string' ? body.event_id : undefined, `${ev.channel}\n${ev.ts}`);
-      return { key, source: 'mention', channel: ev.channel, user: ev.user, ...(ev.thread_ts ? { threadTs: ev.thread_ts } : {}), text: stripMention(ev.text ?? '', botUserId), now };
+      const text = stripMention(ev.text ?? '', botUserId);
+      // only a `history` request reads the files attached to its message
+      const files = verbOf(text) === 'history' ? fileRefsOf((ev as { files?: unknown }).files) : [];
+      return { key, source: 'mention', channel: ev.channel, user: ev.user, ...(ev.thread_ts ? { threadTs: ev.thread_ts } : {}), text, now, ...(files.length ? { files } : {}) };
     }
     return null;
   };

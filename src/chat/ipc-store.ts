@@ -20,6 +20,8 @@ export const LOG_METHODS = [
   'listMarks',
   'countRejected',
   'rejectedCount',
+  'getCloses',
+  'putCloses',
   'ping',
 ] as const;
 export type LogMethod = (typeof LOG_METHODS)[number];

@@ -21,6 +21,8 @@ export interface Job {
   budget?: number;
   /** answered once before by a process that stopped before finishing: log it at most once */
   resumed?: boolean;
+  /** files shared with the request (downloaded by the app), for `history` */
+  files?: { name: string; base64: string }[];
 }
 
 export interface WorkResult {
@@ -56,7 +58,15 @@ export function onceOnly(store: LogStore): LogStore {
 export async function work(job: Job, store: LogStore | null): Promise<WorkResult> {
   const t0 = performance.now();
   const s = store && job.resumed ? onceOnly(store) : store;
-  const reply = await ask(job.text, { channel: job.channel, user: job.user, now: new Date(job.now), store: s, inWorkspace: true, budget: job.budget });
+  const reply = await ask(job.text, {
+    channel: job.channel,
+    user: job.user,
+    now: new Date(job.now),
+    store: s,
+    inWorkspace: true,
+    budget: job.budget,
+    ...(job.files && job.files.length ? { files: job.files } : {}),
+  });
   if (reply.kind !== 'answer' || reply.chart === undefined || reply.chart === null) {
     return { reply, ms: performance.now() - t0 };
   }

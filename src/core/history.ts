@@ -247,3 +247,20 @@ export function estimateHistory(closes: readonly Close[], yieldRate = 0): Histor
     warnings,
   };
 }
+
+/**
+ * The stored history with new closes appended (`history SYMBOL …` keeps what it was given).
+ * Dated: the stored closes dated before the first new one, then the new ones (a re-sent stretch
+ * replaces the stored one instead of repeating it). Undated: the new closes after the stored ones.
+ * A dated list and an undated one cannot be joined: null.
+ */
+export function appendCloses(stored: readonly Close[], added: readonly Close[]): Close[] | null {
+  if (stored.length === 0) return [...added];
+  if (added.length === 0) return [...stored];
+  const sd = stored[0].date !== undefined;
+  const ad = added[0].date !== undefined;
+  if (sd !== ad) return null;
+  if (!ad) return [...stored, ...added];
+  const first = added[0].date!;
+  return [...stored.filter((c) => c.date! < first), ...added];
+}

@@ -17,6 +17,7 @@ import { cdf as spotCdf, sf as spotSf, walkDistribution } from './dist.js';
 import { impliedVol, type IvResult } from './iv.js';
 import { mertonImpliedVol } from './merton.js';
 import { probBeyondAtEnd, touchProb } from './touch.js';
+import { probBeyondAtEndPredictive, touchProbPredictive } from './predictive.js';
 import { touchProbJumps } from './touch-jumps.js';
 import type { ExerciseStyle, Jumps, OptionKind } from './types.js';
 
@@ -67,19 +68,29 @@ export interface TouchFigures {
   paths?: number;
 }
 
-/** Touching and ending beyond a level under a walk of the given drift (the view's, or the rate). */
-export function touchFigures(t: TouchQuestion, drift: number): TouchFigures {
+/**
+ * Touching and ending beyond a level under a walk of the given drift (the view's, or the rate).
+ * `driftSe` > 0: the drift is uncertain, μ ~ N(drift, driftSe²) (predictive.ts): the closed form
+ * is averaged over μ; the Monte Carlo draws μ per path; ending beyond is exact either way.
+ */
+export function touchFigures(t: TouchQuestion, drift: number, driftSe = 0): TouchFigures {
   const jumps = activeJumps(t.jumps);
+  const tau = driftSe > 0 ? driftSe : 0;
   if (!jumps) {
-    return {
-      touch: touchProb(t.S, t.level, t.T, drift, t.q, t.vol),
-      beyond: probBeyondAtEnd(t.S, t.level, t.T, drift, t.q, t.vol),
-    };
+    return tau > 0
+      ? {
+          touch: touchProbPredictive(t.S, t.level, t.T, drift, tau, t.q, t.vol),
+          beyond: probBeyondAtEndPredictive(t.S, t.level, t.T, drift, tau, t.q, t.vol),
+        }
+      : {
+          touch: touchProb(t.S, t.level, t.T, drift, t.q, t.vol),
+          beyond: probBeyondAtEnd(t.S, t.level, t.T, drift, t.q, t.vol),
+        };
   }
   // first passage with jumps has no closed form: a seeded Monte Carlo with its standard error;
   // the chance of ending beyond is exact from the Poisson mixture of lognormals
-  const mc = touchProbJumps(t.S, t.level, t.T, drift, t.q, t.vol, jumps, { paths: TOUCH_MC_PATHS, seed: TOUCH_MC_SEED });
-  const d = walkDistribution(t.S, t.T, t.q, { drift, vol: t.vol, jumps });
+  const mc = touchProbJumps(t.S, t.level, t.T, drift, t.q, t.vol, jumps, { paths: TOUCH_MC_PATHS, seed: TOUCH_MC_SEED, ...(tau > 0 ? { driftSe: tau } : {}) });
+  const d = walkDistribution(t.S, t.T, t.q, { drift, vol: t.vol, jumps, ...(tau > 0 ? { driftSe: tau } : {}) });
   const beyond = t.level >= t.S ? spotSf(d, t.level) : spotCdf(d, t.level);
   return { touch: mc.prob, beyond, stderr: mc.stderr, paths: mc.paths };
 }

@@ -24,7 +24,9 @@
  */
 import { normCdf, normPdf } from './normal.js';
 import { GL8 } from './numeric/gauss-legendre.js';
+import { runCheck } from './outcome.js';
 import { touchProb } from './touch.js';
+import type { CheckInput } from './types.js';
 
 /** A drift with its weight in the mixture over μ. */
 export interface DriftNode {
@@ -137,9 +139,21 @@ export function probBeyondAtEndPredictive(
   return normCdf((nt - a) / sd);
 }
 
-/** The s.d. of ln S_h under the predictive law without jumps: √(σ²h + τ²h²). */
-export function predictiveLogSd(vol: number, driftSe: number, h: number): number {
-  const t = h > 0 ? h : 0;
-  const tau = driftSe > 0 ? driftSe : 0;
-  return Math.sqrt(vol * vol * t + tau * tau * t * t);
+/** The view's figures the uncertainty widens, for the line that sets them beside the known-drift ones. */
+export interface SpreadFigures {
+  probProfit: number;
+  p05: number;
+  p95: number;
+}
+
+/**
+ * The same check with the drift taken as known (τ = 0): chance of profit and the P&L's p05 and p95,
+ * to show how much the drift's uncertainty widens the outcome. null when the view has no
+ * uncertainty. (One more run of the outcome engine, without the risk-neutral column.)
+ */
+export function knownDriftFigures(input: CheckInput): SpreadFigures | null {
+  if (!(input.view.driftSe !== undefined && input.view.driftSe > 0)) return null;
+  const { driftSe: _drop, ...view } = input.view;
+  const o = runCheck({ ...input, view }, { riskNeutralFigures: false }).outcome;
+  return { probProfit: o.probProfit, p05: o.pnlQuantiles.p05, p95: o.pnlQuantiles.p95 };
 }

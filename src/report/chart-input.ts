@@ -10,7 +10,7 @@ export function checkChartInput(a: CheckAssembly) {
   return {
     title: positionWords(c),
     horizon: c.horizon,
-    view: { drift: c.view.drift, vol: c.view.vol, ...(c.view.jumps ? { jumps: c.view.jumps } : {}) },
+    view: { drift: c.view.drift, vol: c.view.vol, ...(c.view.jumps ? { jumps: c.view.jumps } : {}), ...(c.view.driftSe ? { driftSe: c.view.driftSe } : {}) },
     spot: c.market.spot,
     strikes: [...new Set(c.legs.filter((l) => l.strike !== null).map((l) => l.strike as number))].sort((x, y) => x - y),
     breakevens: c.outcome.breakevens,

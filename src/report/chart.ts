@@ -81,7 +81,7 @@ export interface ChartInput {
   /** the horizon, ISO date */
   horizon: string;
   /** the view: expected total return and volatility (decimals), jumps if any */
-  view: { drift: number; vol: number; jumps?: Jumps };
+  view: { drift: number; vol: number; jumps?: Jumps; driftSe?: number };
   /** today's spot */
   spot: number;
   /** strikes of the option legs (any order; duplicates allowed) */
@@ -350,7 +350,8 @@ export function fmtChance(p: number): string {
 
 /** "drift 9%, vol 26%, jumps 0.5/yr mean −5% sd 10%" */
 export function describeView(view: ChartInput['view']): string {
-  let s = `drift ${fmtPct(view.drift)}, vol ${fmtPct(view.vol)}`;
+  const se = isNum(view.driftSe) && view.driftSe > 0 ? ` ± ${fmtPct(view.driftSe)}` : '';
+  let s = `drift ${fmtPct(view.drift)}${se}, vol ${fmtPct(view.vol)}`;
   const j = view.jumps;
   if (j && isNum(j.intensity) && j.intensity > 0) {
     s += `, jumps ${fmtPrice(j.intensity)}/yr mean ${fmtPct(j.mean)} sd ${fmtPct(j.sd)}`;
@@ -545,7 +546,7 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
 
   const datasets: ChartDataset<'line', { x: number; y: number }[]>[] = [
     {
-      label: 'your view: spot density',
+      label: isNum(input.view?.driftSe) && input.view.driftSe > 0 ? 'your view: predictive spot density (drift uncertain)' : 'your view: spot density',
       data: pts(sv),
       yAxisID: 'yDensity',
       borderColor: VIEW_LINE,

@@ -52,6 +52,10 @@ export interface MarkShown {
   iv?: number;
   yield?: number;
   rate?: number;
+  /** the view a mark may carry */
+  vol?: number;
+  drift?: number;
+  driftSe?: number;
   user: string;
   at: string;
 }
@@ -144,7 +148,13 @@ export function logText(entries: LoggedCheck[], asked: number, linksInline: bool
 /** The channel's marks, with their age and a stale flag. */
 export function marksText(marks: MarkShown[], now: Date): string {
   if (marks.length === 0) return 'No marks in this channel yet. Record one with `mark FERNWK spot 84.20 iv 31% yield 1.2%`.';
-  const rows: string[][] = [['symbol', 'spot', 'iv', 'yield', 'rate', 'by', 'age']];
+  // a view column (vol, drift ± its uncertainty) only when some mark carries one
+  const views = marks.some((m) => m.vol !== undefined || m.drift !== undefined);
+  const viewOf = (m: MarkShown) =>
+    [m.vol !== undefined ? `vol ${rate(m.vol)}` : '', m.drift !== undefined ? `drift ${rate(m.drift)}${m.driftSe ? ` ± ${rate(m.driftSe)}` : ''}` : '']
+      .filter(Boolean)
+      .join(' ') || '–';
+  const rows: string[][] = [['symbol', 'spot', 'iv', 'yield', 'rate', ...(views ? ['view'] : []), 'by', 'age']];
   for (const m of marks) {
     const age = now.getTime() - Date.parse(m.at);
     rows.push([
@@ -153,15 +163,17 @@ export function marksText(marks: MarkShown[], now: Date): string {
       m.iv === undefined ? '–' : rate(m.iv),
       m.yield === undefined ? '–' : rate(m.yield),
       m.rate === undefined ? '–' : rate(m.rate),
+      ...(views ? [viewOf(m)] : []),
       cut(m.user, 12),
       ageWords(age) + (isStale(m.at, now) ? ' STALE' : ''),
     ]);
   }
   return [
     `Marks in this channel (${marks.length}; age at ${whenUtc(now.toISOString())} UTC):`,
-    ...table(rows, [0, 5, 6]),
+    ...table(rows, views ? [0, 5, 6, 7] : [0, 5, 6]),
     '',
     'Checks that say `on SYMBOL` take spot, iv, yield and rate from the mark; terms written in the request override it.',
+    ...(views ? ['A mark with a view also gives the view its vol and drift (± its uncertainty) where the request writes none.'] : []),
     ...(marks.some((m) => isStale(m.at, now)) ? ['STALE: recorded more than a day ago.'] : []),
   ].join('\n');
 }

@@ -21,7 +21,7 @@ export function positionWords(c: CheckJson): string {
 export function viewWords(c: Pick<CheckJson, 'view'>): string {
   const v = c.view;
   const j = v.jumps && v.jumps.intensity > 0 ? `, jumps ${num(v.jumps.intensity, 2)}/yr ${rate(v.jumps.mean)} ±${rate(v.jumps.sd)}` : '';
-  return `drift ${rate(v.drift)}, vol ${rate(v.vol)}${j}`;
+  return `drift ${rate(v.drift)}${v.driftSe ? ` ± ${rate(v.driftSe)}` : ''}, vol ${rate(v.vol)}${j}`;
 }
 
 export function assumptionsLine(c: CheckJson): string {
@@ -88,6 +88,13 @@ export function checkText(c: CheckJson): string {
     ['worst-5% average', s(o.tailMean05), s(rn.tailMean05)],
   ];
   lines.push(...table(rows));
+  if (c.knownDrift && c.view.driftSe) {
+    const k = c.knownDrift;
+    lines.push(
+      `drift ${rate(c.view.drift)} ± ${rate(c.view.driftSe)}: P&L p05–p95 ${s(o.pnlQuantiles.p05)} … ${s(o.pnlQuantiles.p95)}, chance of profit ${pct(o.probProfit)}` +
+        ` (drift known: ${s(k.pnlQuantiles.p05)} … ${s(k.pnlQuantiles.p95)}, ${pct(k.probProfit)})`,
+    );
+  }
   const be = o.breakevens.length ? o.breakevens.map((b) => level(Number(b.toFixed(2)))).join(', ') : 'none';
   lines.push(`breakevens: ${be}`);
   lines.push(

@@ -14,6 +14,9 @@ export const EXAMPLES = {
   log: 'log 20',
   again: 'again 17 spot 102',
   help: 'help check',
+  history:
+    'history FERNWK 2026-01-05:84.10 2026-01-06:84.95 2026-01-07:85.40 2026-01-08:84.70 2026-01-09:85.90 2026-01-12:86.25 ' +
+    '2026-01-13:85.80 2026-01-14:86.90 2026-01-15:87.35 2026-01-16:86.60 2026-01-19:87.80 2026-01-20:88.15',
   jumps: '+1 put 80 3m iv 30% spot 84.20 jumps 0.5/yr -8% 12% on FERNWK',
   american: '-1 put 95 6w iv 27% spot 100 rate 4.5% style american',
 } as const;

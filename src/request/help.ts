@@ -2,6 +2,7 @@
  * Help: the grammar, the terms and their units, and examples per verb (invented symbols only).
  * Every example here parses (tested in test/request/help.test.ts).
  */
+import { EXAMPLES } from './examples.js';
 
 export const HELP_TOPICS = [
   'check',
@@ -11,6 +12,8 @@ export const HELP_TOPICS = [
   'mark',
   'log',
   'again',
+  'history',
+  'uncertainty',
   'jumps',
   'american',
   'units',
@@ -34,7 +37,7 @@ const SECTIONS: Record<HelpTopic, Section> = {
       '       EXPIRY yyyy-mm-dd or 30d / 6w / 3m / 1y from asof; ENTRY price per share;',
       '       terms right after a leg (strike, expiry, @entry, iv) belong to that leg.',
       'TERMS (any order, each once): spot P · rate PCT · yield PCT · iv PCT (legs without one) ·',
-      '       exp DATE|SPAN (legs without one) · drift PCT · vol PCT (the view) ·',
+      '       exp DATE|SPAN (legs without one) · drift PCT [± PCT] · vol PCT (the view) ·',
       '       horizon DATE|SPAN · asof DATE|today · mult N · style american|european ·',
       '       jumps RATE/yr MEAN% SD% · on SYMBOL (market terms from the channel\'s mark)',
       'Defaults: asof today · rate and yield 0% (said in the notes) · horizon the earliest expiry',
@@ -74,7 +77,7 @@ const SECTIONS: Record<HelpTopic, Section> = {
   touch: {
     title: 'touch — the chance that the stock touches a level by a date',
     lines: [
-      'touch LEVEL by DATE|SPAN [spot P] [drift PCT] [vol PCT | iv PCT] [rate PCT] [yield PCT] [jumps …] [asof DATE] [on SYMBOL]',
+      'touch LEVEL by DATE|SPAN [spot P] [drift PCT [± PCT]] [vol PCT | iv PCT] [rate PCT] [yield PCT] [jumps …] [asof DATE] [on SYMBOL]',
       'Both the view (your drift and vol) and the risk-neutral walk (drift = rate) are shown.',
     ],
     examples: ['touch 120 by 2027-03-19 spot 100 drift 8% vol 25%', 'touch 70 by 2m on FERNWK vol 34%'],
@@ -82,8 +85,9 @@ const SECTIONS: Record<HelpTopic, Section> = {
   mark: {
     title: 'mark — store the market for a symbol in this channel',
     lines: [
-      'mark SYMBOL [spot P] [iv PCT] [yield PCT] [rate PCT]   ·   mark   (lists the channel\'s marks)',
-      'Later requests say on SYMBOL; terms written in the request override the mark.',
+      'mark SYMBOL [spot P] [iv PCT] [yield PCT] [rate PCT] [vol PCT] [drift PCT [± PCT]]   ·   mark   (lists the channel\'s marks)',
+      'Later requests say on SYMBOL; terms written in the request override the mark. A mark\'s vol and',
+      'drift (± its uncertainty) are the view where a request writes none (history … save sets them).',
       'A mark older than a day is flagged as stale in the answer.',
     ],
     examples: ['mark FERNWK spot 84.20 iv 31% yield 1.2%', 'mark QUILLOP spot 41.05 iv 36% rate 4.25%', 'mark'],
@@ -99,6 +103,36 @@ const SECTIONS: Record<HelpTopic, Section> = {
       'again N [TERMS or LEGS]   (terms override; legs replace the logged legs)',
     ],
     examples: ['again 17', 'again 17 spot 102 drift 5%', 'again 4 asof today'],
+  },
+  history: {
+    title: 'history — vol and drift, with their standard errors, from past closes',
+    lines: [
+      'history SYMBOL [CLOSE …] [yield PCT] [save]',
+      'CLOSE: a price (84.10: closes without dates are consecutive trading days, 252 a year) or',
+      '       DATE:PRICE (2026-01-05:84.10), oldest first; at least 10 closes, at most 20 years.',
+      'Or share a CSV/TSV file of date, close with the request (`kolmo "history SYM" --file F.csv`',
+      'on the command line). The closes are kept for the channel: `history SYMBOL` alone re-reads',
+      'them, and new closes append. vol = s.d. of log returns scaled to a year of calendar days/365',
+      '(the 252-trading-day figure beside it as a check), ± vol/√(2·returns); drift = price drift +',
+      'vol²/2 (+ yield) ± vol/√(years). save stores vol and drift ± s.e. into the mark SYMBOL.',
+    ],
+    examples: [
+      EXAMPLES.history,
+      'history QUILLOP 41.05 41.30 40.85 41.60 42.10 41.75 42.40 42.15 42.90 43.35 43.05 43.60 yield 2% save',
+    ],
+  },
+  uncertainty: {
+    title: 'drift PCT ± PCT — a drift you are not sure of',
+    lines: [
+      'drift 9% ± 6% (also 9%±6%, 9% +/- 6%): the drift is uncertain, normal with that mean and',
+      'standard error. The view\'s outcome then averages over it (the predictive law): wider',
+      'quantiles, and one line sets p05–p95 and the chance of profit beside those with the drift',
+      'known. The risk-neutral column does not change. Works in check, compare, touch, again, mark.',
+    ],
+    examples: [
+      '+1 call 90 2027-12-17 iv 30% spot 84.20 rate 4.5% drift 9% ± 30% asof 2027-01-04',
+      'touch 100 by 2027-12-17 spot 84.20 drift 9% +/- 30% vol 30% asof 2027-01-04',
+    ],
   },
   jumps: {
     title: 'jumps — Merton jump diffusion',
@@ -156,6 +190,7 @@ export function helpText(topic?: string): string {
     '  iv …             implied vol of an option price',
     '  touch L by D …   chance of touching a level by a date',
     '  mark SYMBOL …    store spot, iv, yield, rate for later `on SYMBOL`',
+    '  history SYM …    vol and drift ± standard errors from past closes (save: into the mark)',
     '  log [N]          past checks · again N [changes]  rerun one',
     '  help [topic]     topics: ' + HELP_TOPICS.join(', '),
     '',

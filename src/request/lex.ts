@@ -1,6 +1,6 @@
 /**
- * Tokens of a request: whitespace-separated words, with `;` and `@` always standing alone
- * (`@3.10` is `@` `3.10`), a lone `%` joined to the number before it (`28 %` reads as `28%`),
+ * Tokens of a request: whitespace-separated words, with `;`, `@` and `±` always standing alone
+ * (`@3.10` is `@` `3.10`, `9%±6%` is `9%` `±` `6%`), a lone `%` joined to the number before it (`28 %` reads as `28%`),
  * and one trailing comma dropped (`spot 100, rate 4.5%`). Each token keeps its character index
  * and length in the original text, so errors can put a caret under it.
  *
@@ -34,13 +34,13 @@ export function tokenize(src: string): Tok[] {
       i++;
       continue;
     }
-    if (c === ';' || c === '@') {
+    if (c === ';' || c === '@' || c === '±') {
       push(i, i + 1);
       i++;
       continue;
     }
     let j = i;
-    while (j < n && !SPACE.test(src[j]) && src[j] !== ';' && src[j] !== '@') j++;
+    while (j < n && !SPACE.test(src[j]) && src[j] !== ';' && src[j] !== '@' && src[j] !== '±') j++;
     let end = j;
     // one trailing comma is punctuation, not part of the token
     if (end - i > 1 && src[end - 1] === ',') end--;

@@ -27,6 +27,8 @@ export const LIMITS = {
   /** drift (expected total return per year): −200% … 200% */
   driftMin: -2,
   driftMax: 2,
+  /** the drift's uncertainty (`drift 9% ± 6%`): 0% … 200% */
+  driftSeMax: 2,
   /** contract multiplier, a whole number */
   multMin: 1,
   multMax: 1_000_000,

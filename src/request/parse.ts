@@ -179,7 +179,7 @@ const ALLOWED: Record<'check' | 'iv' | 'touch' | 'mark' | 'again', readonly AnyT
   check: ALL_TERMS,
   iv: ['price', 'spot', 'rate', 'yield', 'asof', 'on', 'style', 'jumps'],
   touch: ['by', 'spot', 'rate', 'yield', 'drift', 'vol', 'iv', 'asof', 'on', 'jumps'],
-  mark: ['spot', 'iv', 'yield', 'rate'],
+  mark: ['spot', 'iv', 'yield', 'rate', 'vol', 'drift'],
   again: [...ALL_TERMS, 'price', 'by'],
 };
 
@@ -312,12 +312,13 @@ function readPrice(c: Cursor, term: Tok, label: string, sample: string): number 
   return v;
 }
 
-type PctKind = 'vol' | 'rate' | 'drift' | 'jumpMean' | 'jumpSd';
+type PctKind = 'vol' | 'rate' | 'drift' | 'driftSe' | 'jumpMean' | 'jumpSd';
 
 const PCT_RANGE: Record<PctKind, [number, number]> = {
   vol: [LIMITS.volMin, LIMITS.volMax],
   rate: [LIMITS.rateMin, LIMITS.rateMax],
   drift: [LIMITS.driftMin, LIMITS.driftMax],
+  driftSe: [0, LIMITS.driftSeMax],
   jumpMean: [LIMITS.jumpMeanMin, LIMITS.jumpMeanMax],
   jumpSd: [0, LIMITS.jumpSdMax],
 };
@@ -326,6 +327,7 @@ const PCT_SAMPLE: Record<PctKind, string> = {
   vol: '25%',
   rate: '4.5%',
   drift: '9%',
+  driftSe: '6%',
   jumpMean: '-8%',
   jumpSd: '12%',
 };
@@ -349,6 +351,9 @@ function readPercent(c: Cursor, term: Tok, name: string, kind: PctKind): number 
     const [lo, hi] = PCT_RANGE[kind];
     if (kind === 'vol' && v <= 0) {
       throw c.reject(t, `${name} must be positive, not ${t.text}`, replaceTok(t, v < 0 ? t.text.slice(1) : sample));
+    }
+    if (kind === 'driftSe' && v < 0) {
+      throw c.reject(t, `the drift's uncertainty is a standard error and must not be negative, not ${t.text}`, replaceTok(t, t.text.slice(1)));
     }
     if (kind === 'jumpSd' && v < 0) {
       throw c.reject(t, `the jump s.d. must not be negative, not ${t.text}`, replaceTok(t, t.text.slice(1)));
@@ -476,9 +481,16 @@ function readTermValue(c: Cursor, name: AnyTerm, t: Tok, into: Collected): void 
     case 'vol':
       terms.vol = readPercent(c, t, 'vol', 'vol');
       return;
-    case 'drift':
+    case 'drift': {
       terms.drift = readPercent(c, t, 'drift', 'drift');
+      // `drift 9% ± 6%` (also `9%±6%`, `9% +/- 6%`): the drift's uncertainty, part of the drift term
+      const pm = c.peek();
+      if (pm && (pm.text === '±' || pm.low === '+/-')) {
+        c.next();
+        terms.driftSe = readPercent(c, pm, `the drift's uncertainty after ${pm.text}`, 'driftSe');
+      }
       return;
+    }
     case 'exp':
       terms.exp = readSpec(c, t, 'exp', SAMPLE.exp);
       return;
@@ -849,6 +861,8 @@ export function mergeCheck(prev: CheckRequest, next: CheckRequest): CheckRequest
       termsAt[k] = next.termsAt[k];
     }
   }
+  // a drift written again replaces the drift term whole, its uncertainty included
+  if (next.terms.drift !== undefined && next.terms.driftSe === undefined) delete terms.driftSe;
   return {
     verb: 'check',
     legs: next.legs.length ? next.legs : prev.legs,
@@ -1005,8 +1019,11 @@ export function parseMark(src: string, toks: Tok[]): MarkRequest {
   }
   const symbol = readSymbol(c, toks[0], sTok, 'mark');
   const body = readBody(c, 'mark', false);
-  const { spot, iv, yield: q, rate } = body.terms;
+  const { spot, iv, yield: q, rate, vol, drift, driftSe } = body.terms;
   const terms: MarkRequest['terms'] = {};
+  if (vol !== undefined) terms.vol = vol;
+  if (drift !== undefined) terms.drift = drift;
+  if (driftSe !== undefined) terms.driftSe = driftSe;
   if (spot !== undefined) terms.spot = spot;
   if (iv !== undefined) terms.iv = iv;
   if (q !== undefined) terms.yield = q;

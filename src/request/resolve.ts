@@ -35,6 +35,10 @@ export interface MarkTerms {
   iv?: number;
   yield?: number;
   rate?: number;
+  /** the view a mark may carry (`mark … drift 9% ± 6% vol 28%`, or `history … save`) */
+  vol?: number;
+  drift?: number;
+  driftSe?: number;
   /** ISO time the mark was recorded */
   at: string;
   symbol: string;
@@ -81,7 +85,7 @@ export interface ResolvedTouch {
   S: number;
   T: number;
   q: number;
-  view: { drift: number; vol: number; jumps?: Jumps };
+  view: { drift: number; vol: number; jumps?: Jumps; driftSe?: number };
   rate: number;
   by: string;
   asof: string;
@@ -89,10 +93,36 @@ export interface ResolvedTouch {
 
 type Fail = { ok: false; error: ParseError };
 
+/** The drift's uncertainty as the view carries it: only when written and above zero (0 is a known drift). */
+function driftSeOf(terms: { drift?: number; driftSe?: number }): { driftSe?: number } {
+  return terms.drift !== undefined && terms.driftSe !== undefined && terms.driftSe > 0 ? { driftSe: terms.driftSe } : {};
+}
+
+/**
+ * The view's drift and its uncertainty: the request's (a drift written without ± is known), else
+ * the mark's (with its uncertainty), else the rate.
+ */
+function viewDrift(terms: { drift?: number; driftSe?: number }, base: Base, notes: string[]): { drift: number; se: { driftSe?: number } } {
+  if (terms.drift !== undefined) return { drift: terms.drift, se: driftSeOf(terms) };
+  const m = base.markView;
+  if (m?.drift !== undefined) {
+    const se = m.driftSe !== undefined && m.driftSe > 0 ? { driftSe: m.driftSe } : {};
+    notes.push(`drift not given: the view uses the mark's drift, ${pct2(m.drift)}${se.driftSe ? ` ± ${pct2(se.driftSe)}` : ''}`);
+    return { drift: m.drift, se };
+  }
+  notes.push('drift not given: the view uses the rate, so the outcome is the risk-neutral one');
+  return { drift: base.rate, se: {} };
+}
+
 const DAY_MS = 86_400_000;
 
 function pct(v: number): string {
   return `${Number((v * 100).toPrecision(10))}%`;
+}
+
+/** A decimal as a percentage with at most two decimals (estimates stored in a mark carry more digits than they deserve). */
+function pct2(v: number): string {
+  return `${Number((v * 100).toFixed(2))}%`;
 }
 
 function num(v: number): string {
@@ -173,6 +203,8 @@ interface Base {
   rate: number;
   yield: number;
   markIv?: number;
+  /** the mark's view, used where the request gives no vol or drift */
+  markView?: { vol?: number; drift?: number; driftSe?: number };
   notes: string[];
   symbol?: string;
 }
@@ -210,7 +242,11 @@ function resolveBase(
           ? 'rate'
           : !within(m.yield, LIMITS.rateMin, LIMITS.rateMax)
             ? 'yield'
-            : undefined;
+            : !within(m.vol, LIMITS.volMin, LIMITS.volMax)
+              ? 'vol'
+              : !within(m.drift, LIMITS.driftMin, LIMITS.driftMax) || !within(m.driftSe, 0, LIMITS.driftSeMax)
+                ? 'drift'
+                : undefined;
     if (bad) throw R.term(termsAt.on, `the mark for ${sym} has an unusable ${bad}: record it again with mark ${sym} ${bad} …`);
   }
 
@@ -254,7 +290,8 @@ function resolveBase(
     q = 0;
     notes.push('yield not given: 0% used');
   }
-  return { asof, spot, rate, yield: q, markIv, notes, symbol: terms.on?.toUpperCase() };
+  const markView = mark && (mark.vol !== undefined || mark.drift !== undefined) ? { vol: mark.vol, drift: mark.drift, driftSe: mark.driftSe } : undefined;
+  return { asof, spot, rate, yield: q, markIv, ...(markView ? { markView } : {}), notes, symbol: terms.on?.toUpperCase() };
 }
 
 /** A date from a spec, checked to lie after asof and within LIMITS.expiryYears. */
@@ -364,6 +401,10 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
 
   // view vol
   let vol = terms.vol;
+  if (vol === undefined && base.markView?.vol !== undefined) {
+    vol = base.markView.vol;
+    notes.push(`vol not given: the view uses the mark's vol, ${pct2(vol)}`);
+  }
   if (vol === undefined) {
     if (terms.iv !== undefined) {
       vol = terms.iv;
@@ -390,11 +431,8 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     }
   }
 
-  let drift = terms.drift;
-  if (drift === undefined) {
-    drift = base.rate;
-    notes.push('drift not given: the view uses the rate, so the outcome is the risk-neutral one');
-  }
+  const dv = viewDrift(terms, base, notes);
+  const drift = dv.drift;
 
   const input: CheckInput = {
     market: { spot, rate: base.rate, yield: base.yield },
@@ -402,7 +440,7 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     mult: terms.mult ?? 100,
     style: terms.style ?? 'european',
     horizonYears: horizonDays / 365,
-    view: terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol },
+    view: { ...(terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol }), ...dv.se },
   };
   checkSpread(R, input, req.termsAt);
   return { asof, horizon, input, legExpiries, notes, symbol: base.symbol };
@@ -417,7 +455,8 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
 function checkSpread(R: Resolver, input: CheckInput, termsAt: CheckRequest['termsAt']): void {
   const j = input.view.jumps;
   const jumpVar = j && j.intensity > 0 ? j.intensity * (j.mean * j.mean + j.sd * j.sd) : 0;
-  let worst = input.view.vol * input.view.vol * input.horizonYears + jumpVar * input.horizonYears;
+  const tau = input.view.driftSe ?? 0;
+  let worst = input.view.vol * input.view.vol * input.horizonYears + jumpVar * input.horizonYears + tau * tau * input.horizonYears * input.horizonYears;
   for (const l of input.legs) if (l.kind !== 'shares') worst = Math.max(worst, (l.iv * l.iv + jumpVar) * l.years);
   if (worst > LIMITS.maxLogVariance) {
     const sd = Math.sqrt(worst);
@@ -535,22 +574,23 @@ export function resolveTouch(
     checkStrike(R, req.level, base.spot, termsAt.level, 'the level');
     const notes = base.notes;
     let vol = terms.vol;
+    if (vol === undefined && base.markView?.vol !== undefined) {
+      vol = base.markView.vol;
+      notes.push(`vol not given: the view uses the mark's vol, ${pct2(vol)}`);
+    }
     if (vol === undefined) {
       vol = terms.iv ?? base.markIv;
       if (vol === undefined) throw R.missing('vol missing: touch needs the view\'s vol, e.g. vol 25%', `vol ${SAMPLE.vol}`);
       notes.push(`vol not given: the view uses the ${terms.iv !== undefined ? "request's" : "mark's"} iv, ${pct(vol)}`);
     }
-    let drift = terms.drift;
-    if (drift === undefined) {
-      drift = base.rate;
-      notes.push('drift not given: the view uses the rate, so the outcome is the risk-neutral one');
-    }
+    const dv = viewDrift(terms, base, notes);
+    const drift = dv.drift;
     const touch: ResolvedTouch = {
       level: req.level,
       S: base.spot,
       T: days / 365,
       q: base.yield,
-      view: terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol },
+      view: { ...(terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol }), ...dv.se },
       rate: base.rate,
       by: date,
       asof: base.asof,

@@ -6,6 +6,7 @@
 import { z } from 'zod';
 import { LIMITS, SPAN_MAX } from './limits.js';
 import { MAX_YEAR, MIN_YEAR } from './dates.js';
+import { CLOSES_MAX } from './closes.js';
 
 const pos = z.number().int().min(0);
 
@@ -39,6 +40,7 @@ export const termsSchema = z.strictObject({
   iv: vol.optional(),
   exp: expirySpec.optional(),
   drift: z.number().min(LIMITS.driftMin).max(LIMITS.driftMax).optional(),
+  driftSe: z.number().min(0).max(LIMITS.driftSeMax).optional(),
   vol: vol.optional(),
   horizon: expirySpec.optional(),
   asof: z.union([isoDate, z.literal('today')]).optional(),
@@ -100,7 +102,15 @@ export const requestSchema = z.discriminatedUnion('verb', [
   z.strictObject({
     verb: z.literal('mark'),
     symbol: symbol.optional(),
-    terms: z.strictObject({ spot: price.optional(), iv: vol.optional(), yield: rate.optional(), rate: rate.optional() }),
+    terms: z.strictObject({
+      spot: price.optional(),
+      iv: vol.optional(),
+      yield: rate.optional(),
+      rate: rate.optional(),
+      vol: vol.optional(),
+      drift: z.number().min(LIMITS.driftMin).max(LIMITS.driftMax).optional(),
+      driftSe: z.number().min(0).max(LIMITS.driftSeMax).optional(),
+    }),
   }),
   z.strictObject({ verb: z.literal('log'), count: z.number().int().min(1).max(LIMITS.logMax) }),
   z.strictObject({
@@ -110,4 +120,22 @@ export const requestSchema = z.discriminatedUnion('verb', [
     restAt: pos,
   }),
   z.strictObject({ verb: z.literal('help'), topic: z.string().optional() }),
+  z.strictObject({
+    verb: z.literal('history'),
+    symbol,
+    symbolAt: pos,
+    closes: z
+      .array(
+        z.strictObject({
+          date: z.string().regex(/^\d{4}-\d{2}-\d{2}$/).optional(),
+          close: z.number().positive().finite(),
+          at: pos,
+          len: pos,
+        }),
+      )
+      .max(CLOSES_MAX),
+    yield: rate.optional(),
+    yieldAt: pos.optional(),
+    save: z.boolean(),
+  }),
 ]);

@@ -34,6 +34,8 @@ export interface Terms {
   iv?: number;
   exp?: ExpirySpec;
   drift?: number;
+  /** the drift's uncertainty (`drift 9% ± 6%`), part of the drift term: written only after a drift */
+  driftSe?: number;
   vol?: number;
   horizon?: ExpirySpec;
   /** ISO date, or 'today' (`asof today`: the resolver's today) */
@@ -82,7 +84,7 @@ export interface MarkRequest {
   verb: 'mark';
   /** absent: list the channel's marks */
   symbol?: string;
-  terms: Pick<Terms, 'spot' | 'iv' | 'yield' | 'rate'>;
+  terms: Pick<Terms, 'spot' | 'iv' | 'yield' | 'rate' | 'vol' | 'drift' | 'driftSe'>;
 }
 
 export interface LogRequest {
@@ -114,7 +116,11 @@ export interface HelpRequest {
   topic?: string;
 }
 
+import type { HistoryRequest } from './history.js';
+export type { HistoryRequest };
+
 export type Request =
+  | HistoryRequest
   | CheckRequest
   | IvRequest
   | TouchRequest

@@ -15,7 +15,7 @@ import { openPostgres, redactUrl } from './postgres.js';
 
 export { redactUrl };
 import { defaultDbPath, openStore, type SqliteStore } from './sqlite.js';
-import type { LogEntry, LogEntryInput, Mark, OpenOptions } from './store.js';
+import type { LogEntry, LogEntryInput, Mark, OpenOptions, StoredClose } from './store.js';
 
 /** A request as the app acknowledged it: what the queue keeps until it is answered. */
 export interface QueuedRequest {
@@ -30,6 +30,8 @@ export interface QueuedRequest {
   text: string;
   /** ISO time the request arrived (the engine's "now", so a request taken over means the same) */
   now: string;
+  /** files shared with the message (a `history` mention): where to download them, in whichever instance answers */
+  files?: { name: string; url: string; size?: number }[];
 }
 
 /** What of an answer has reached the channel, so an instance taking the request over posts only the rest. */
@@ -110,6 +112,10 @@ export interface AsyncStore extends RequestQueue, RateBuckets {
   recent(channel: string, n: number): Promise<LogEntry[]>;
   /** Stores the mark, replacing the channel's previous mark for that symbol as a whole. */
   putMark(m: Mark): Promise<void>;
+  /** The channel's stored price history for a symbol, oldest first ([] when none). */
+  getCloses(channel: string, symbol: string): Promise<StoredClose[]>;
+  /** Replaces the channel's stored price history for a symbol as a whole (in one transaction). */
+  putCloses(channel: string, symbol: string, closes: StoredClose[]): Promise<void>;
   getMark(channel: string, symbol: string): Promise<Mark | undefined>;
   /** The channel's marks in symbol order. */
   listMarks(channel: string): Promise<Mark[]>;
@@ -124,7 +130,21 @@ export interface AsyncStore extends RequestQueue, RateBuckets {
 /** What the engine (the verbs) may use: the log and the marks, not the queue. */
 export type LogStore = Pick<
   AsyncStore,
-  'backend' | 'where' | 'appendCheck' | 'setThread' | 'setDelivery' | 'get' | 'recent' | 'putMark' | 'getMark' | 'listMarks' | 'countRejected' | 'rejectedCount' | 'ping'
+  | 'backend'
+  | 'where'
+  | 'appendCheck'
+  | 'setThread'
+  | 'setDelivery'
+  | 'get'
+  | 'recent'
+  | 'putMark'
+  | 'getMark'
+  | 'listMarks'
+  | 'countRejected'
+  | 'rejectedCount'
+  | 'getCloses'
+  | 'putCloses'
+  | 'ping'
 >;
 
 /** The SQLite backend through the async interface. */
@@ -139,6 +159,8 @@ export function asyncOf(s: SqliteStore, where: string): AsyncStore {
     get: async (c, n) => s.get(c, n),
     recent: async (c, n) => s.recent(c, n),
     putMark: async (m) => s.putMark(m),
+    getCloses: async (c, sym) => s.getCloses(c, sym),
+    putCloses: async (c, sym, closes) => s.putCloses(c, sym, closes),
     getMark: async (c, sym) => s.getMark(c, sym),
     listMarks: async (c) => s.listMarks(c),
     countRejected: async (c) => s.countRejected(c),

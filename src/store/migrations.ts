@@ -123,6 +123,38 @@ export const MIGRATIONS: readonly Migration[] = [
   },
   {
     version: 3,
+    description: "a mark's view (vol, drift and its uncertainty) and each channel's price histories",
+    up(db) {
+      db.exec(`
+        ALTER TABLE marks ADD COLUMN vol REAL;
+        ALTER TABLE marks ADD COLUMN drift REAL;
+        ALTER TABLE marks ADD COLUMN drift_se REAL;
+        CREATE TABLE closes (
+          channel TEXT NOT NULL,
+          symbol  TEXT NOT NULL,
+          seq     INTEGER NOT NULL CHECK (seq >= 0),
+          day     TEXT,
+          close   REAL NOT NULL,
+          PRIMARY KEY (channel, symbol, seq)
+        );
+      `);
+    },
+    postgres: `
+      ALTER TABLE marks ADD COLUMN vol DOUBLE PRECISION;
+      ALTER TABLE marks ADD COLUMN drift DOUBLE PRECISION;
+      ALTER TABLE marks ADD COLUMN drift_se DOUBLE PRECISION;
+      CREATE TABLE closes (
+        channel TEXT NOT NULL,
+        symbol  TEXT NOT NULL,
+        seq     INTEGER NOT NULL CHECK (seq >= 0),
+        day     TEXT,
+        close   DOUBLE PRECISION NOT NULL,
+        PRIMARY KEY (channel, symbol, seq)
+      );
+    `,
+  },
+  {
+    version: 4,
     description: 'shared request queue (inbox, per-channel order, leases) and per-user rate buckets',
     up(db) {
       db.exec(`
@@ -142,6 +174,7 @@ export const MIGRATIONS: readonly Migration[] = [
           lease_ms     INTEGER,
           attempts     INTEGER NOT NULL DEFAULT 0,
           progress     TEXT NOT NULL DEFAULT '{}',
+          files        TEXT,
           finished_ms  INTEGER
         );
         CREATE INDEX requests_open ON requests (channel, seq) WHERE state <> 'done';
@@ -172,6 +205,7 @@ export const MIGRATIONS: readonly Migration[] = [
         lease_ms     BIGINT,
         attempts     INTEGER NOT NULL DEFAULT 0,
         progress     TEXT NOT NULL DEFAULT '{}',
+        files        TEXT,
         finished_ms  BIGINT
       );
       CREATE INDEX requests_open ON requests (channel, seq) WHERE state <> 'done';

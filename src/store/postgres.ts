@@ -21,6 +21,7 @@ import { StoreError, pgStoreError, type StoreOp } from './errors.js';
 import { MIGRATIONS, plan, SCHEMA_VERSION, type Migration } from './migrations.js';
 import {
   checkRowOf,
+  closeRowsOf,
   deliveryArgsOf,
   id,
   isEntryNumber,
@@ -28,17 +29,19 @@ import {
   recentLimitOf,
   threadArgsOf,
   toEntry,
+  toClose,
   toMark,
   requestRowOf,
   toClaimed,
   checkRate,
   rateDecision,
   type CheckRow,
+  type CloseRow,
   type MarkRow,
   type RequestRow,
 } from './rows.js';
 import type { ClaimedRequest, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
-import type { LogEntry, LogEntryInput, Mark } from './store.js';
+import type { LogEntry, LogEntryInput, Mark, StoredClose } from './store.js';
 import type { AsyncStore, DatabaseOptions } from './async.js';
 
 /** key of the advisory lock the migrations hold (any fixed number; "KOLMO" in ASCII) */
@@ -140,10 +143,10 @@ export async function openPostgres(url: string, opts: DatabaseOptions = {}): Pro
 
 /** the database's clock in ms since the epoch (one value per statement): leases and buckets use one clock for every host */
 const NOW_MS = '(extract(epoch from now()) * 1000)::bigint';
-const REQUEST_COLUMNS = 'seq, key, source, channel, "user", thread_ts, response_url, text, now, received_ms, attempts, progress';
+const REQUEST_COLUMNS = 'seq, key, source, channel, "user", thread_ts, response_url, text, now, received_ms, attempts, progress, files';
 
 const CHECK_COLUMNS = 'channel, number, "user", at, verb, text, normalized, summary, thread_ts, permalink, delivered';
-const MARK_COLUMNS = 'channel, symbol, spot, iv, yield, rate, "user", at';
+const MARK_COLUMNS = 'channel, symbol, spot, iv, yield, rate, vol, drift, drift_se, "user", at';
 
 class PgStore implements AsyncStore {
   readonly backend = 'postgres' as const;
@@ -216,12 +219,42 @@ class PgStore implements AsyncStore {
     const row = markRowOf(m);
     await this.q(
       'write',
-      `INSERT INTO marks (${MARK_COLUMNS}) VALUES ($1, $2, $3, $4, $5, $6, $7, $8)
+      `INSERT INTO marks (${MARK_COLUMNS}) VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11)
        ON CONFLICT (channel, symbol) DO UPDATE SET
          spot = excluded.spot, iv = excluded.iv, yield = excluded.yield, rate = excluded.rate,
+         vol = excluded.vol, drift = excluded.drift, drift_se = excluded.drift_se,
          "user" = excluded."user", at = excluded.at`,
-      [row.channel, row.symbol, row.spot, row.iv, row.yield, row.rate, row.user, row.at],
+      [row.channel, row.symbol, row.spot, row.iv, row.yield, row.rate, row.vol, row.drift, row.drift_se, row.user, row.at],
     );
+  }
+
+  async getCloses(channel: string, sym: string): Promise<StoredClose[]> {
+    if (typeof channel !== 'string' || typeof sym !== 'string') return [];
+    const r = await this.q<CloseRow>('read', 'SELECT seq, day, close FROM closes WHERE channel = $1 AND symbol = $2 ORDER BY seq', [channel, sym.trim().toUpperCase()]);
+    return r.rows.map(toClose);
+  }
+
+  async putCloses(channel: string, sym: string, closes: StoredClose[]): Promise<void> {
+    const r = closeRowsOf(channel, sym, closes);
+    if (this.closed) throw new StoreError('unavailable', 'write', 'the log has been closed');
+    // the old history goes and the new one comes in one transaction
+    let client: pg.PoolClient | undefined;
+    try {
+      client = await this.pool.connect();
+      await client.query('BEGIN');
+      await client.query('DELETE FROM closes WHERE channel = $1 AND symbol = $2', [r.channel, r.symbol]);
+      await client.query(
+        `INSERT INTO closes (channel, symbol, seq, day, close)
+         SELECT $1, $2, t.seq, t.day, t.close FROM unnest($3::int[], $4::text[], $5::float8[]) AS t(seq, day, close)`,
+        [r.channel, r.symbol, r.rows.map((x) => x.seq), r.rows.map((x) => x.day), r.rows.map((x) => x.close)],
+      );
+      await client.query('COMMIT');
+    } catch (e) {
+      await client?.query('ROLLBACK').catch(() => undefined);
+      throw pgStoreError(e, 'write', this.where);
+    } finally {
+      client?.release();
+    }
   }
 
   async getMark(channel: string, sym: string): Promise<Mark | undefined> {
@@ -253,10 +286,10 @@ class PgStore implements AsyncStore {
     const row = requestRowOf(r);
     const res = await this.q(
       'write',
-      `INSERT INTO requests (key, source, channel, "user", thread_ts, response_url, text, now, received_ms, state, finished_ms)
-       VALUES ($1, $2, $3, $4, $5, $6, $7, $8, ${NOW_MS}, $9, CASE WHEN $9 = 'done' THEN ${NOW_MS} END)
+      `INSERT INTO requests (key, source, channel, "user", thread_ts, response_url, text, now, files, received_ms, state, finished_ms)
+       VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $10, ${NOW_MS}, $9, CASE WHEN $9 = 'done' THEN ${NOW_MS} END)
        ON CONFLICT (key) DO NOTHING`,
-      [row.key, row.source, row.channel, row.user, row.thread_ts, row.response_url, row.text, row.now, done ? 'done' : 'queued'],
+      [row.key, row.source, row.channel, row.user, row.thread_ts, row.response_url, row.text, row.now, done ? 'done' : 'queued', row.files],
     );
     return res.rowCount === 1;
   }

@@ -4,7 +4,7 @@
  * of stored rows back to records.
  */
 import { StoreError } from './errors.js';
-import type { CheckSummary, DeliveryState, LogEntry, LogEntryInput, Mark } from './store.js';
+import type { CheckSummary, DeliveryState, LogEntry, LogEntryInput, Mark, StoredClose } from './store.js';
 import type { ClaimedRequest, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
 
 /**
@@ -32,6 +32,8 @@ export const LIMITS = {
   permalinkChars: 2048,
   /** most entries `recent` returns */
   recentMax: 1000,
+  /** most closes kept for one symbol in one channel (20 years of trading days with room) */
+  closesMax: 6000,
 } as const;
 
 
@@ -56,8 +58,17 @@ export interface MarkRow {
   iv: number | null;
   yield: number | null;
   rate: number | null;
+  vol: number | null;
+  drift: number | null;
+  drift_se: number | null;
   user: string;
   at: string;
+}
+
+export interface CloseRow {
+  seq: number;
+  day: string | null;
+  close: number;
 }
 
 /** A check ready to be stored (everything but its number), or a StoreError 'invalid'. */
@@ -87,6 +98,9 @@ export function markRowOf(m: Mark): MarkRow {
     iv: finiteOrNull(m.iv, 'iv'),
     yield: finiteOrNull(m.yield, 'yield'),
     rate: finiteOrNull(m.rate, 'rate'),
+    vol: finiteOrNull(m.vol, 'vol'),
+    drift: finiteOrNull(m.drift, 'drift'),
+    drift_se: finiteOrNull(m.driftSe, 'drift uncertainty'),
     user: id(m.user, 'user'),
     at: isoTime(m.at),
   };
@@ -246,7 +260,28 @@ export function toMark(r: MarkRow): Mark {
   if (r.iv !== null) m.iv = r.iv;
   if (r.yield !== null) m.yield = r.yield;
   if (r.rate !== null) m.rate = r.rate;
+  if (r.vol !== null && r.vol !== undefined) m.vol = r.vol;
+  if (r.drift !== null && r.drift !== undefined) m.drift = r.drift;
+  if (r.drift_se !== null && r.drift_se !== undefined) m.driftSe = r.drift_se;
   return m;
+}
+
+/** A price history ready to be stored (rows in order), or a StoreError 'invalid'. */
+export function closeRowsOf(channel: string, sym: string, closes: StoredClose[]): { channel: string; symbol: string; rows: CloseRow[] } {
+  const ch = id(channel, 'channel');
+  const s = symbol(sym);
+  if (!Array.isArray(closes)) throw invalid('the closes must be a list');
+  if (closes.length > LIMITS.closesMax) throw invalid(`at most ${LIMITS.closesMax} closes are kept for a symbol (got ${closes.length})`);
+  const rows = closes.map((c, seq) => {
+    if (!(typeof c?.close === 'number' && Number.isFinite(c.close) && c.close > 0)) throw invalid(`close ${seq + 1} is not a positive number`);
+    if (c.date !== undefined && !(typeof c.date === 'string' && /^\d{4}-\d{2}-\d{2}$/.test(c.date))) throw invalid(`close ${seq + 1} has no ISO date`);
+    return { seq, day: c.date ?? null, close: c.close };
+  });
+  return { channel: ch, symbol: s, rows };
+}
+
+export function toClose(r: CloseRow): StoredClose {
+  return r.day !== null ? { date: r.day, close: r.close } : { close: r.close };
 }
 
 // ---- the request queue and rate buckets ----------------------------------------------------
@@ -264,6 +299,7 @@ export interface RequestRow {
   received_ms: number | string;
   attempts: number;
   progress: string;
+  files: string | null;
 }
 
 /** A request ready to be queued (identifiers checked, the text kept whole up to the request limit). */
@@ -281,7 +317,20 @@ export function requestRowOf(r: QueuedRequest) {
     // a request longer than the log keeps is refused by the grammar anyway; keep what it needs to say so
     text: cutBytes(r.text.replaceAll('\u0000', '\uFFFD'), 64 * 1024),
     now: isoTime(r.now),
+    files: filesJson(r.files),
   };
+}
+
+/** The shared files' references as JSON (at most 5, each a name and an http(s) URL), or null. */
+function filesJson(files: QueuedRequest['files']): string | null {
+  if (files === undefined || files.length === 0) return null;
+  if (!Array.isArray(files) || files.length > 5) throw invalid('at most 5 shared files are kept with a request');
+  const clean = files.map((f) => ({
+    name: shortText(f?.name, 'file name', 200),
+    url: shortText(f.url, 'file URL', LIMITS.permalinkChars),
+    ...(typeof f.size === 'number' && Number.isFinite(f.size) ? { size: f.size } : {}),
+  }));
+  return JSON.stringify(clean);
 }
 
 export function progressOf(json: string): Progress {
@@ -307,6 +356,7 @@ export function toClaimed(r: RequestRow): ClaimedRequest {
     attempts: r.attempts,
     receivedMs: Number(r.received_ms),
     progress: progressOf(r.progress),
+    ...(r.files ? { files: JSON.parse(r.files) as NonNullable<QueuedRequest['files']> } : {}),
   };
 }
 

@@ -27,6 +27,7 @@ import { StoreError, toStoreError, type StoreOp } from './errors.js';
 import { migrate, schemaVersion, SCHEMA_VERSION } from './migrations.js';
 import {
   checkRowOf,
+  closeRowsOf,
   deliveryArgsOf,
   id,
   isEntryNumber,
@@ -34,17 +35,19 @@ import {
   recentLimitOf,
   threadArgsOf,
   toEntry,
+  toClose,
   toMark,
   requestRowOf,
   toClaimed,
   checkRate,
   rateDecision,
   type CheckRow,
+  type CloseRow,
   type MarkRow,
   type RequestRow,
 } from './rows.js';
 import type { ClaimedRequest, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
-import type { LogEntry, LogEntryInput, Mark, OpenOptions, Store } from './store.js';
+import type { LogEntry, LogEntryInput, Mark, OpenOptions, Store, StoredClose } from './store.js';
 
 export { LIMITS, cutBytes } from './rows.js';
 
@@ -119,6 +122,7 @@ export function openStore(path: string, opts: OpenOptions = {}): SqliteStore {
 }
 
 const CHECK_COLUMNS = 'channel, number, user, at, verb, text, normalized, summary, thread_ts, permalink, delivered';
+const MARK_COLUMNS = 'channel, symbol, spot, iv, yield, rate, vol, drift, drift_se, user, at';
 
 /** The SQLite store: the synchronous face plus the request queue and rate buckets (used through asyncOf). */
 export class SqliteStore implements Store {
@@ -146,14 +150,18 @@ export class SqliteStore implements Store {
       get: db.prepare(`SELECT ${CHECK_COLUMNS} FROM checks WHERE channel = ? AND number = ?`),
       recent: db.prepare(`SELECT ${CHECK_COLUMNS} FROM checks WHERE channel = ? ORDER BY number DESC LIMIT ?`),
       putMark: db.prepare(
-        `INSERT INTO marks (channel, symbol, spot, iv, yield, rate, user, at)
-         VALUES (@channel, @symbol, @spot, @iv, @yield, @rate, @user, @at)
+        `INSERT INTO marks (channel, symbol, spot, iv, yield, rate, vol, drift, drift_se, user, at)
+         VALUES (@channel, @symbol, @spot, @iv, @yield, @rate, @vol, @drift, @drift_se, @user, @at)
          ON CONFLICT (channel, symbol) DO UPDATE SET
            spot = excluded.spot, iv = excluded.iv, yield = excluded.yield, rate = excluded.rate,
+           vol = excluded.vol, drift = excluded.drift, drift_se = excluded.drift_se,
            user = excluded.user, at = excluded.at`,
       ),
-      getMark: db.prepare('SELECT channel, symbol, spot, iv, yield, rate, user, at FROM marks WHERE channel = ? AND symbol = ?'),
-      listMarks: db.prepare('SELECT channel, symbol, spot, iv, yield, rate, user, at FROM marks WHERE channel = ? ORDER BY symbol'),
+      getMark: db.prepare(`SELECT ${MARK_COLUMNS} FROM marks WHERE channel = ? AND symbol = ?`),
+      listMarks: db.prepare(`SELECT ${MARK_COLUMNS} FROM marks WHERE channel = ? ORDER BY symbol`),
+      getCloses: db.prepare('SELECT seq, day, close FROM closes WHERE channel = ? AND symbol = ? ORDER BY seq'),
+      dropCloses: db.prepare('DELETE FROM closes WHERE channel = ? AND symbol = ?'),
+      putClose: db.prepare('INSERT INTO closes (channel, symbol, seq, day, close) VALUES (?, ?, ?, ?, ?)'),
       countRejected: db.prepare(
         'INSERT INTO rejected (channel, count) VALUES (?, 1) ON CONFLICT (channel) DO UPDATE SET count = count + 1',
       ),
@@ -227,6 +235,20 @@ export class SqliteStore implements Store {
     return this.guard('read', () => this.s.listMarks.all(channel) as MarkRow[]).map(toMark);
   }
 
+  getCloses(channel: string, sym: string): StoredClose[] {
+    if (typeof channel !== 'string' || typeof sym !== 'string') return [];
+    return this.guard('read', () => this.s.getCloses.all(channel, sym.trim().toUpperCase()) as CloseRow[]).map(toClose);
+  }
+
+  putCloses(channel: string, sym: string, closes: StoredClose[]): void {
+    const r = closeRowsOf(channel, sym, closes);
+    const tx = this.db.transaction(() => {
+      this.s.dropCloses.run(r.channel, r.symbol);
+      for (const row of r.rows) this.s.putClose.run(r.channel, r.symbol, row.seq, row.day, row.close);
+    });
+    this.guard('write', () => tx.immediate());
+  }
+
   countRejected(channel: string): void {
     const ch = id(channel, 'channel');
     this.guard('write', () => this.s.countRejected.run(ch));
@@ -252,8 +274,8 @@ export class SqliteStore implements Store {
   accept(r: QueuedRequest, done = false): boolean {
     const row = requestRowOf(r);
     const t = Date.now();
-    const st = this.q('write', `INSERT INTO requests (key, source, channel, user, thread_ts, response_url, text, now, received_ms, state, finished_ms)
-      VALUES (@key, @source, @channel, @user, @thread_ts, @response_url, @text, @now, @t, @state, @finished) ON CONFLICT (key) DO NOTHING`);
+    const st = this.q('write', `INSERT INTO requests (key, source, channel, user, thread_ts, response_url, text, now, files, received_ms, state, finished_ms)
+      VALUES (@key, @source, @channel, @user, @thread_ts, @response_url, @text, @now, @files, @t, @state, @finished) ON CONFLICT (key) DO NOTHING`);
     return this.guard('write', () => st.run({ ...row, t, state: done ? 'done' : 'queued', finished: done ? t : null }).changes === 1);
   }
 
@@ -263,7 +285,7 @@ export class SqliteStore implements Store {
         AND NOT EXISTS (SELECT 1 FROM requests e WHERE e.channel = h.channel AND e.state <> 'done' AND e.seq < h.seq)
       ORDER BY h.seq LIMIT 1`);
     const take = this.q('write', `UPDATE requests SET state = 'running', owner = @owner, lease_ms = @until, attempts = attempts + 1
-      WHERE key = @key RETURNING seq, key, source, channel, user, thread_ts, response_url, text, now, received_ms, attempts, progress`);
+      WHERE key = @key RETURNING seq, key, source, channel, user, thread_ts, response_url, text, now, received_ms, attempts, progress, files`);
     const tx = this.db.transaction(() => {
       const t = Date.now();
       const key = pick.pluck().get({ t }) as string | undefined;

@@ -50,8 +50,18 @@ export interface Mark {
   iv?: number;
   yield?: number;
   rate?: number;
+  /** the view a mark may carry: vol, drift and the drift's uncertainty (`drift 9% ± 6%`, or `history … save`) */
+  vol?: number;
+  drift?: number;
+  driftSe?: number;
   user: string;
   at: string;
+}
+
+/** One close of a stored price history (`history SYMBOL`): an ISO day, or none for undated closes. */
+export interface StoredClose {
+  date?: string;
+  close: number;
 }
 
 export interface Store {
@@ -70,6 +80,10 @@ export interface Store {
   recent(channel: string, n: number): LogEntry[];
   /** Stores the mark, replacing the channel's previous mark for that symbol as a whole. */
   putMark(m: Mark): void;
+  /** The channel's stored price history for a symbol, oldest first ([] when none). */
+  getCloses(channel: string, symbol: string): StoredClose[];
+  /** Replaces the channel's stored price history for a symbol as a whole. */
+  putCloses(channel: string, symbol: string, closes: StoredClose[]): void;
   getMark(channel: string, symbol: string): Mark | undefined;
   /** The channel's marks in symbol order. */
   listMarks(channel: string): Mark[];

@@ -26,6 +26,8 @@ import { envOf, reject, Refused, type AskContext, type Cost, type CostContext, t
 
 export type { AskContext } from './verb.js';
 export { COMPUTE_BUDGET_DEFAULT } from './budget.js';
+/** the largest file of closes a shell hands to `history` (read by the shells before they read it) */
+export { CLOSES_FILE_BYTES } from '../request/closes.js';
 
 /** Units a parsed request would need (null: its work is small). */
 function costOf(req: Request, text: string, ctx: Omit<CostContext, 'costOf'>): Cost | null {

@@ -33,6 +33,8 @@ export const JUMP_PER_TERM = 0.1;
 export const JUMP_HORIZON_BASE = 30;
 export const JUMP_HORIZON_PER_TERM = 0.2;
 export const JUMP_SD_WEIGHT = 20;
+/** a check with a drift uncertainty runs the engine twice: measured 1.0× (European) to 1.6× (American, two legs) the time; 2 bounds both */
+export const DRIFT_UNCERTAINTY_FACTOR = 2;
 
 const DAY_MS = 86_400_000;
 
@@ -68,6 +70,9 @@ export function checkCost(c: CheckRequest, now: Date = new Date()): number {
     }
     units += u;
   }
+  // a drift uncertainty runs the outcome once more with the drift known (for the line that sets
+  // the two side by side): the legs are revalued again, so the cost doubles
+  if (c.terms.driftSe !== undefined && c.terms.driftSe > 0) units *= DRIFT_UNCERTAINTY_FACTOR;
   return Math.max(1, Math.ceil(units));
 }
 

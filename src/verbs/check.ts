@@ -4,6 +4,7 @@
  * is logged with its headline figures.
  */
 import { runCheck } from '../core/outcome.js';
+import { knownDriftFigures } from '../core/predictive.js';
 import { activeJumps } from '../core/jumps.js';
 import { parseCheckVerb } from '../request/parse.js';
 import { resolveCheck, type ResolvedCheck } from '../request/resolve.js';
@@ -54,7 +55,13 @@ export function computeCheck(rc: ResolvedCheck): CheckAssembly {
     horizon: rc.horizon,
     horizonYears: input.horizonYears,
     market: { spot: input.market.spot, rate: input.market.rate, yield: input.market.yield },
-    view: { drift: input.view.drift, vol: input.view.vol, model: jumps ? 'merton-jumps' : 'lognormal', ...(jumps ? { jumps } : {}) },
+    view: {
+      drift: input.view.drift,
+      vol: input.view.vol,
+      model: jumps ? 'merton-jumps' : 'lognormal',
+      ...(jumps ? { jumps } : {}),
+      ...(input.view.driftSe ? { driftSe: input.view.driftSe } : {}),
+    },
     style: input.style,
     mult: input.mult,
     notes: [...rc.notes, ...core.notes.map(checkNoteText)],
@@ -68,6 +75,9 @@ export function computeCheck(rc: ResolvedCheck): CheckAssembly {
       tailMean05: rn.tailMean05,
     },
   };
+  // with a drift uncertainty, the same figures with the drift known, for the line that compares them
+  const known = knownDriftFigures(input);
+  if (known) json.knownDrift = { probProfit: known.probProfit, pnlQuantiles: { p05: known.p05, p95: known.p95 } };
   return { json, curves: core.curves };
 }
 

@@ -55,7 +55,7 @@ async function runMark(text: string, req: MarkRequest, env: VerbEnv): Promise<Ou
   const symAt = Math.max(0, text.toUpperCase().indexOf(sym));
   const prev = await storeCall(text, 'the marks of this channel could not be read', symAt, () => store.getMark(channel, sym));
   const t = req.terms;
-  if (t.spot === undefined && t.iv === undefined && t.yield === undefined && t.rate === undefined) {
+  if (t.spot === undefined && t.iv === undefined && t.yield === undefined && t.rate === undefined && t.vol === undefined && t.drift === undefined) {
     // `mark SYMBOL` alone shows that mark
     if (!prev) {
       throw refuseFact(text, { message: `no mark for ${sym} in this channel: record one with spot, iv, yield or rate`, at: symAt, length: sym.length, example: `mark ${sym} spot 84.20 iv 31% yield 1.2%` });
@@ -69,6 +69,8 @@ async function runMark(text: string, req: MarkRequest, env: VerbEnv): Promise<Ou
     ...(t.iv !== undefined ? { iv: t.iv } : {}),
     ...(t.yield !== undefined ? { yield: t.yield } : {}),
     ...(t.rate !== undefined ? { rate: t.rate } : {}),
+    ...(t.vol !== undefined ? { vol: t.vol } : {}),
+    ...(t.drift !== undefined ? { drift: t.drift, ...(t.driftSe ? { driftSe: t.driftSe } : {}) } : {}),
     user: env.ctx.user,
     at: env.nowIso,
   };

@@ -10,7 +10,7 @@ import { StoreError, type Mark } from '../store/store.js';
 import { refuseFact, type VerbEnv } from './verb.js';
 
 export function termsOfMark(m: Mark): MarkTerms {
-  return { symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, at: m.at };
+  return { symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, vol: m.vol, drift: m.drift, driftSe: m.driftSe, at: m.at };
 }
 
 /**
@@ -78,15 +78,27 @@ export function staleWords(mark: Mark | undefined, now: Date): string {
   return mark && isStale(mark.at, now) ? ` · mark ${mark.symbol} stale` : '';
 }
 
-export function markTermsWords(m: Pick<Mark, 'spot' | 'iv' | 'yield' | 'rate'>): string {
+export function markTermsWords(m: Pick<Mark, 'spot' | 'iv' | 'yield' | 'rate' | 'vol' | 'drift' | 'driftSe'>): string {
   const w: string[] = [];
   if (m.spot !== undefined) w.push(`spot ${level(m.spot)}`);
   if (m.iv !== undefined) w.push(`iv ${rate(m.iv)}`);
   if (m.yield !== undefined) w.push(`yield ${rate(m.yield)}`);
   if (m.rate !== undefined) w.push(`rate ${rate(m.rate)}`);
+  if (m.vol !== undefined) w.push(`vol ${rate(m.vol)}`);
+  if (m.drift !== undefined) w.push(`drift ${rate(m.drift)}${m.driftSe ? ` ± ${rate(m.driftSe)}` : ''}`);
   return w.join(' · ');
 }
 
 export function markRecord(m: Mark) {
-  return { symbol: m.symbol, spot: m.spot ?? null, iv: m.iv ?? null, yield: m.yield ?? null, rate: m.rate ?? null, user: m.user, at: m.at };
+  return {
+    symbol: m.symbol,
+    spot: m.spot ?? null,
+    iv: m.iv ?? null,
+    yield: m.yield ?? null,
+    rate: m.rate ?? null,
+    ...(m.vol !== undefined ? { vol: m.vol } : {}),
+    ...(m.drift !== undefined ? { drift: m.drift, driftSe: m.driftSe ?? 0 } : {}),
+    user: m.user,
+    at: m.at,
+  };
 }

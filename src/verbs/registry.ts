@@ -12,6 +12,7 @@ import { again } from './again.js';
 import { check } from './check.js';
 import { compare } from './compare.js';
 import { help } from './help.js';
+import { history } from './history.js';
 import { iv } from './iv.js';
 import { log } from './log.js';
 import { mark } from './mark.js';
@@ -20,7 +21,7 @@ import type { Verb } from './verb.js';
 
 /** Every verb, in the order help and the "unknown verb" message list them. */
 export function verbs(): readonly Verb[] {
-  return [check, compare, iv, touch, mark, log, again, help] as readonly Verb[];
+  return [check, compare, iv, touch, mark, log, again, history, help] as readonly Verb[];
 }
 
 /** A verb's name (the `verb` of its request and of its answer). */

@@ -21,7 +21,7 @@ function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
   const jumps = activeJumps(t.view.jumps);
   const dir = t.level >= t.S ? 'above' : 'below';
   const q = { S: t.S, level: t.level, T: t.T, q: t.q, vol: t.view.vol, jumps };
-  const view = touchFigures(q, t.view.drift);
+  const view = touchFigures(q, t.view.drift, t.view.driftSe ?? 0);
   const rn = touchFigures(q, t.rate);
   const [pv, prn, bv, brn] = [view.touch, rn.touch, view.beyond, rn.beyond];
   const mc = view.paths !== undefined ? { view: view.stderr!, riskNeutral: rn.stderr!, paths: view.paths } : undefined;
@@ -33,7 +33,7 @@ function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
     years: t.T,
     asof: t.asof,
     market: { spot: t.S, rate: t.rate, yield: t.q },
-    view: { drift: t.view.drift, vol: t.view.vol, model, ...(jumps ? { jumps } : {}) },
+    view: { drift: t.view.drift, vol: t.view.vol, model, ...(jumps ? { jumps } : {}), ...(t.view.driftSe ? { driftSe: t.view.driftSe } : {}) },
     probTouchView: pv,
     probTouchRiskNeutral: prn,
     probBeyondAtEndView: bv,
@@ -49,7 +49,7 @@ function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
     `chance of touching  ${pm(pv, mc?.view).padStart(7)}  ${pm(prn, mc?.riskNeutral).padStart(13)}`,
     `chance ending ${dir === 'above' ? 'above' : 'below'} ${pct(bv).padStart(7)}  ${pct(brn).padStart(13)}`,
     '',
-    `Assumptions: asof ${t.asof} · view drift ${rate(t.view.drift)}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''} · rate ${rate(t.rate)} · yield ${rate(t.q)} · ${jumps ? 'Merton jump diffusion' : 'lognormal walk'}, continuous monitoring.`,
+    `Assumptions: asof ${t.asof} · view drift ${rate(t.view.drift)}${t.view.driftSe ? ` ± ${rate(t.view.driftSe)} (view figures averaged over the uncertain drift)` : ''}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''} · rate ${rate(t.rate)} · yield ${rate(t.q)} · ${jumps ? 'Merton jump diffusion' : 'lognormal walk'}, continuous monitoring.`,
     ...(mc ? [`Note: touching under jumps by Monte Carlo (${mc.paths.toLocaleString('en-US')} paths, seed ${TOUCH_MC_SEED}; ± is one standard error); ending beyond is exact.`] : []),
     ...r.notes.map((n) => `Note: ${n}`),
     ...(mark ? [markLine(mark, env.now)] : []),

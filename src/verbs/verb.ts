@@ -23,6 +23,8 @@ export interface AskContext {
   inWorkspace?: boolean;
   /** compute units this request may use (default COMPUTE_BUDGET_DEFAULT, ./budget.ts) */
   budget?: number;
+  /** files shared with the request (a workspace upload, or `--file` on the command line): read by `history` */
+  files?: { name: string; base64: string }[];
 }
 
 /** A verb's work as the seam hands it over: the request's time and day, once, and the store. */

@@ -234,6 +234,28 @@ describe('mentions', () => {
     expect(completes(channel)[0].body.thread_ts).toBe(rootTs);
   });
 
+  it('history with a CSV shared in the mention: the file is downloaded with the bot token and the estimates answered in the thread', async () => {
+    const channel = 'CDESKHIST1';
+    const rows = ['date,close', ...Array.from({ length: 40 }, (_, i) => `${new Date(Date.UTC(2026, 0, 5 + i)).toISOString().slice(0, 10)},${(84 + Math.sin(i) * 2).toFixed(2)}`)];
+    const file = fake.shareFile('fernwk-closes.csv', rows.join('\n'));
+    const sent = await post(app.port, mentionBody({ text: 'history FERNWK save', channel, ts: '1798700400.000100', botUserId: FAKE_BOT.user_id, files: [file] }), 'application/json');
+    expect(sent.status).toBe(200);
+    await answered(channel, 'the history answer');
+    const dl = fake.okCallsOf('download');
+    expect(dl.length).toBeGreaterThan(0);
+    expect(dl[dl.length - 1].authorization).toBe(`Bearer ${BOT_TOKEN}`);
+    const thread = inChannel('chat.postMessage', channel).map((p) => JSON.stringify(p.body)).join('\n');
+    expect(thread).toMatch(/History FERNWK \(fernwk-closes\.csv\): 40 closes, 2026-01-05/);
+    expect(thread).toMatch(/Saved into the mark FERNWK/);
+    // a file that is not text: the asker is told, nothing is posted in the channel
+    const channel2 = 'CDESKHIST2';
+    const png = fake.shareFile('chart.png', Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, 0, 0, 0, 13]), 'image/png');
+    await post(app.port, mentionBody({ text: 'history FERNWK', channel: channel2, ts: '1798700500.000100', botUserId: FAKE_BOT.user_id, files: [png] }), 'application/json');
+    await fake.waitFor(() => inChannel('chat.postEphemeral', channel2).length > 0, WAIT, 'the refusal of a file that is not text');
+    expect(JSON.stringify(inChannel('chat.postEphemeral', channel2)[0].body)).toMatch(/not text/);
+    expect(inChannel('chat.postMessage', channel2)).toHaveLength(0);
+  });
+
   it('a mention inside an existing thread answers in that thread', async () => {
     const channel = 'CDESKTHRD1';
     const threadTs = '1798700000.000050';
@@ -335,6 +357,8 @@ describe('modes and settings', () => {
       'files.getUploadURLExternal': 'files:write',
       'files.completeUploadExternal': 'files:write',
       'apps.connections.open': null,
+      // a file shared with a `history` mention, fetched from its url_private_download
+      download: 'files:read',
     };
     const used = new Set<string>(['commands' /* /kolmo was received */, 'app_mentions:read' /* app_mention was received */]);
     for (const c of fake.calls) {

@@ -6,6 +6,9 @@
  *
  * Also served on the same port:
  *   POST /upload/<file id>     the byte upload of files.uploadV2 (step 2 of 3)
+ *   GET  /download/<id>/<name> a file shared in the workspace (`url_private_download`; the bot
+ *                              token in `Authorization: Bearer`, as the platform's file reference
+ *                              says; without it 403), recorded as method 'download'
  *   POST /response/<id>        slash-command response URLs (ephemeral replies)
  *   GET  /socket (WebSocket)   Socket Mode: sends {"type":"hello"}, then whatever envelopes a test sends
  *
@@ -118,6 +121,8 @@ export class FakeWebApi {
   readonly messages = new Map<string, HeldMessage>();
   /** files uploaded and not deleted */
   readonly files = new Set<string>();
+  /** files shared by users (served at /download/…) */
+  private readonly shared = new Map<string, Buffer>();
   /** views by id */
   readonly views = new Map<string, HeldView>();
   /** channels the app is not a member of */
@@ -153,6 +158,18 @@ export class FakeWebApi {
   /** tags of the open Socket Mode connections */
   get socketTagList(): string[] {
     return [...this.socketTags.entries()].filter(([ws]) => ws.readyState === ws.OPEN).map(([, t]) => t);
+  }
+
+  /**
+   * A file a user shared in the workspace: returns the file object an event carries (id, name,
+   * size, mimetype, url_private_download), served with the bot token at /download/….
+   */
+  shareFile(name: string, bytes: Buffer | string, mimetype = 'text/csv'): Record<string, unknown> {
+    const id = `F0SHARED${String(++this.fileNo).padStart(4, '0')}`;
+    const b = typeof bytes === 'string' ? Buffer.from(bytes, 'utf8') : bytes;
+    this.shared.set(id, b);
+    const url = `http://127.0.0.1:${this.port}/download/${id}/${encodeURIComponent(name)}`;
+    return { id, name, title: name, mimetype, filetype: name.split('.').pop() ?? '', size: b.length, url_private: url, url_private_download: url };
   }
 
   responseUrl(id: string): string {
@@ -296,6 +313,9 @@ export class FakeWebApi {
         method = 'upload';
         const i = raw.indexOf(PNG_SIGNATURE);
         body = { file_id: decodeURIComponent(path.slice(8)), bytes: raw.length, png: i >= 0, pngOffset: i };
+      } else if (path.startsWith('/download/')) {
+        method = 'download';
+        body = { file_id: decodeURIComponent(path.slice(10).split('/')[0] ?? '') };
       } else if (path.startsWith('/response/')) {
         method = 'response';
         try {
@@ -331,6 +351,16 @@ export class FakeWebApi {
       }
 
       if (method.startsWith('unknown:')) return send(404, 'not found');
+      if (method === 'download') {
+        if (!/^Bearer xox/.test(String(req.headers.authorization ?? ''))) return send(403, 'forbidden');
+        const file = this.shared.get(String(body.file_id));
+        if (!file) return send(404, 'not found');
+        call.status = 200;
+        res.writeHead(200, { 'content-type': 'application/octet-stream', 'content-length': String(file.length) });
+        res.end(file);
+        this.notify();
+        return;
+      }
       if (method !== 'upload' && method !== 'response' && !/^Bearer (xox|xapp)/.test(String(req.headers.authorization ?? ''))) {
         return send(200, { ok: false, error: 'not_authed' });
       }

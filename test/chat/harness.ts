@@ -107,7 +107,7 @@ export function sendSlash(port: number, o: SlashOpts, sig: Parameters<typeof pos
 
 let eventNo = 0;
 /** An app_mention event callback (application/json). */
-export function mentionBody(o: { text: string; channel?: string; user?: string; ts: string; threadTs?: string; botUserId: string }): string {
+export function mentionBody(o: { text: string; channel?: string; user?: string; ts: string; threadTs?: string; botUserId: string; files?: unknown[] }): string {
   eventNo++;
   return JSON.stringify({
     token: 'deprecated-verification-token',
@@ -125,6 +125,7 @@ export function mentionBody(o: { text: string; channel?: string; user?: string; 
       channel: o.channel ?? 'CDESKOPTS1',
       event_ts: o.ts,
       ...(o.threadTs ? { thread_ts: o.threadTs } : {}),
+      ...(o.files ? { files: o.files } : {}),
     },
   });
 }

@@ -3,7 +3,7 @@
  * child process, as a desk member or a script would run it.
  */
 import { execFileSync, spawnSync } from 'node:child_process';
-import { mkdtempSync, readFileSync, existsSync } from 'node:fs';
+import { mkdtempSync, readFileSync, existsSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -136,5 +136,57 @@ describe('kolmo text answer and chart', () => {
   it('runs through npx from the checkout', () => {
     const out = execFileSync('npx', ['--no-install', 'kolmo', '--json', `+1 put 90 30d iv 35% ${MARKET}`], { cwd: root, env, encoding: 'utf8' });
     expect(JSON.parse(out).kind).toBe('check');
+  });
+});
+
+describe('kolmo history --file', () => {
+  it('reads a TSV of date, close, keeps it for the channel, and writes the history chart', () => {
+    // an invented walk of 60 weekday closes
+    const lines = ['date\tclose'];
+    let t = Date.UTC(2026, 2, 2);
+    let x = 50;
+    for (let i = 0; lines.length <= 60; i++, t += 86_400_000) {
+      const d = new Date(t);
+      if (d.getUTCDay() === 0 || d.getUTCDay() === 6) continue;
+      x *= Math.exp(0.015 * Math.sin(i * 1.7));
+      lines.push(`${d.toISOString().slice(0, 10)}\t${x.toFixed(2)}`);
+    }
+    const file = join(tmp, 'quillop.tsv');
+    writeFileSync(file, lines.join('\n'));
+    const h = json(['--channel', 'hist', 'history QUILLOP yield 2%', '--file', file]);
+    expect(h).toMatchObject({ kind: 'history', symbol: 'QUILLOP', n: 60, first: '2026-03-02', source: 'quillop.tsv', kept: 60 });
+    expect(h.drift - h.priceDrift - 0.5 * h.vol ** 2).toBeCloseTo(0.02, 12);
+    const again = json(['--channel', 'hist', 'history QUILLOP']);
+    expect(again.vol).toBe(h.vol);
+    const chart = join(tmp, 'out', 'history.png');
+    const r = kolmo(['--channel', 'hist', 'history QUILLOP', '--chart', chart]);
+    expect(r.code, r.stderr).toBe(0);
+    expect(readFileSync(chart).subarray(0, 4).toString('hex')).toBe('89504e47');
+  });
+  it('a missing file or one that is not text: a clear error, exit 2', () => {
+    const miss = kolmo(['history QUILLOP', '--file', join(tmp, 'nope.csv')]);
+    expect(miss.code).toBe(2);
+    expect(miss.stderr).toMatch(/--file .*nope\.csv/);
+    const bin2 = join(tmp, 'x.bin');
+    writeFileSync(bin2, Buffer.from([0, 1, 2, 3, 255]));
+    const r = kolmo(['history QUILLOP', '--file', bin2]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/not text/);
+  });
+});
+
+describe('the local console', () => {
+  it('ships an invented year of FERNWK closes: `history FERNWK` answers from a fresh database', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'kolmo-console-'));
+    const r = spawnSync(process.execPath, [join(root, 'bin', 'kolmo-main.js')], {
+      env: { PATH: process.env.PATH ?? '', HOME: dir, KOLMO_DB: join(dir, 'k.db'), KOLMO_OUT: join(dir, 'out') },
+      input: 'history FERNWK save\n+1 call 90 2027-12-17 iv 30% on FERNWK asof 2027-01-04\nquit\n',
+      encoding: 'utf8',
+      timeout: 60_000,
+    });
+    expect(r.status, r.stderr).toBe(0);
+    expect(r.stdout).toMatch(/History FERNWK \(the channel's stored history\): 260 closes, 2026-01-02 → 2026-12-31/);
+    expect(r.stdout).toMatch(/Saved into the mark FERNWK/);
+    expect(r.stdout).toMatch(/the view uses the mark's drift/);
   });
 });

@@ -3,7 +3,7 @@
  * and the coverage of the stated standard errors on seeded synthetic walks.
  */
 import { describe, expect, it } from 'vitest';
-import { checkCloses, dayNumber, estimateHistory, type Close } from '../../src/core/history.js';
+import { appendCloses, checkCloses, dayNumber, estimateHistory, type Close } from '../../src/core/history.js';
 import { normals } from '../support/rng.js';
 
 // Hull, Options, Futures, and Other Derivatives, "Estimating volatility from historical data"
@@ -163,5 +163,20 @@ describe('stated standard errors hold at the right frequency (seeded synthetic w
     const c = coverage({ K: 600, m: 365, dt: 1 / 365, dated: true, mu: -0.05, sigma: 0.45, q: 0, seed: 77 });
     expect(Math.abs(c.vol - 0.95)).toBeLessThan(c.band);
     expect(Math.abs(c.drift - 0.95)).toBeLessThan(c.band);
+  });
+});
+
+describe('appending closes to a stored history', () => {
+  const d = (date: string, close: number) => ({ date, close });
+  it('dated: a re-sent stretch replaces the stored one; later closes extend it', () => {
+    const stored = [d('2026-01-05', 1), d('2026-01-06', 2), d('2026-01-07', 3)];
+    expect(appendCloses(stored, [d('2026-01-07', 3.5), d('2026-01-08', 4)])).toEqual([d('2026-01-05', 1), d('2026-01-06', 2), d('2026-01-07', 3.5), d('2026-01-08', 4)]);
+    expect(appendCloses(stored, [d('2026-01-09', 5)])).toEqual([...stored, d('2026-01-09', 5)]);
+    expect(appendCloses([], stored)).toEqual(stored);
+    expect(appendCloses(stored, [])).toEqual(stored);
+  });
+  it('undated closes follow the stored ones; dated and undated do not mix', () => {
+    expect(appendCloses([{ close: 1 }], [{ close: 2 }])).toEqual([{ close: 1 }, { close: 2 }]);
+    expect(appendCloses([{ close: 1 }], [d('2026-01-05', 2)])).toBeNull();
   });
 });

@@ -395,3 +395,15 @@ describe('compareChartConfig', () => {
     }
   });
 });
+
+describe('a view with an uncertain drift', () => {
+  it('the title states drift ± its uncertainty and the legend names the predictive density', () => {
+    const plain = checkChartConfig(inputFor(callSpread));
+    const unsure = checkChartConfig(inputFor(callSpread, G, { view: { drift: 0.09, vol: 0.26, driftSe: 0.06 } }));
+    const title = (c: Cfg) => JSON.stringify(c.options!.plugins!.title!.text);
+    expect(title(plain)).not.toMatch(/±/);
+    expect(title(unsure)).toMatch(/drift 9(\.0)?% ± 6(\.0)?%/);
+    expect(unsure.data.datasets[0].label).toMatch(/predictive/);
+    expect(plain.data.datasets[0].label).not.toMatch(/predictive/);
+  });
+});

@@ -62,7 +62,8 @@ describe('words', () => {
     const e = bad('touch 120 by 3m horizon 2m spot 100', 'horizon', /horizon does not apply to touch/);
     expect(e.example).toBe('touch 120 by 3m spot 100');
     bad('iv call 105 3m price 3.10 drift 9%', 'drift', /drift does not apply to iv/);
-    bad('mark FERNWK drift 9%', 'drift', /drift does not apply to mark/);
+    // a mark may carry a view (drift ± its uncertainty, vol) since issue 14, but not a horizon
+    bad('mark FERNWK horizon 2m', 'horizon', /horizon does not apply to mark/);
   });
 
   it('a verb in the middle', () => {

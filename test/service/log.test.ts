@@ -1,5 +1,5 @@
 /**
- * The channel's log through the engine seam (askSync) on a real SQLite file: numbering, what is
+ * The channel's log through the engine seam (ask) on a real SQLite file: numbering, what is
  * logged, `log [N]`, isolation between channels, thread links.
  *
  * What the checks rest on: the behaviour a user expects of a numbered per-channel log (common

@@ -178,6 +178,38 @@ describe.each(backends)('the store contract on $name', (backend) => {
     expect(await s.listMarks('C0DESKB')).toEqual([]);
   });
 
+  it("a mark's view (vol, drift and its uncertainty) round-trips; an old mark has none", async () => {
+    const { s } = await open();
+    const at = '2027-01-04T15:00:00Z';
+    await s.putMark({ channel: 'C0DESKA', symbol: 'FERNWK', spot: 84.2, vol: 0.28, drift: 0.09, driftSe: 0.06, user: 'U0MAYA', at });
+    expect(await s.getMark('C0DESKA', 'FERNWK')).toEqual({ channel: 'C0DESKA', symbol: 'FERNWK', spot: 84.2, vol: 0.28, drift: 0.09, driftSe: 0.06, user: 'U0MAYA', at });
+    await s.putMark({ channel: 'C0DESKA', symbol: 'FERNWK', spot: 85, user: 'U0MAYA', at });
+    expect(await s.getMark('C0DESKA', 'FERNWK')).toEqual({ channel: 'C0DESKA', symbol: 'FERNWK', spot: 85, user: 'U0MAYA', at });
+    expect((await storeError(s.putMark({ channel: 'C0DESKA', symbol: 'FERNWK', driftSe: Number.NaN, user: 'U0MAYA', at }))).code).toBe('invalid');
+  });
+
+  it('price histories: replaced whole, kept in order, per channel and symbol (upper case), refused when bad', async () => {
+    const { s, place } = await open();
+    const dated = Array.from({ length: 300 }, (_, i) => ({ date: new Date(Date.UTC(2026, 0, 2 + i)).toISOString().slice(0, 10), close: 80 + Math.sin(i) }));
+    await s.putCloses('C0DESKA', 'fernwk', dated);
+    expect(await s.getCloses('C0DESKA', 'FERNWK')).toEqual(dated);
+    await s.putCloses('C0DESKA', 'FERNWK', [{ close: 1 }, { close: 2.5 }]);
+    expect(await s.getCloses('C0DESKA', 'Fernwk')).toEqual([{ close: 1 }, { close: 2.5 }]);
+    expect(await s.getCloses('C0DESKB', 'FERNWK')).toEqual([]);
+    expect(await s.getCloses('C0DESKA', 'QUILLOP')).toEqual([]);
+    for (const bad of [[{ close: 0 }], [{ close: Number.NaN }], [{ date: '5 Jan', close: 1 }]]) {
+      expect((await storeError(s.putCloses('C0DESKA', 'FERNWK', bad))).code).toBe('invalid');
+    }
+    expect((await storeError(s.putCloses('C0DESKA', 'FERNWK', Array.from({ length: LIMITS.closesMax + 1 }, () => ({ close: 1 }))))).code).toBe('invalid');
+    // a refused history leaves the stored one as it was, also after reopening
+    await s.close();
+    const again = await openDatabase(place);
+    opened.push(again);
+    expect(await again.getCloses('C0DESKA', 'FERNWK')).toEqual([{ close: 1 }, { close: 2.5 }]);
+    await again.putCloses('C0DESKA', 'FERNWK', []);
+    expect(await again.getCloses('C0DESKA', 'FERNWK')).toEqual([]);
+  });
+
   it('refuses bad marks and bad entries with the same StoreError words, storing nothing and using up no number', async () => {
     const { s } = await open();
     const base = { channel: 'C0DESKA', symbol: 'FERNWK', user: 'U0MAYA', at: '2027-01-04T15:00:00Z' };

@@ -486,6 +486,10 @@ describe('migrations', () => {
     expect(s.get('C0DESKA', 2)!.delivered).toBe('pending');
     expect(s.get('C0DESKB', 1)!.text).toBe('check -1 put 90');
     expect(s.getMark('C0DESKA', 'FERNWK')).toMatchObject({ spot: 84.2, iv: 0.31 });
+    // version 3: an old mark carries no view, and the channel has no stored price history yet
+    const m = s.getMark('C0DESKA', 'FERNWK')!;
+    expect([m.vol, m.drift, m.driftSe]).toEqual([undefined, undefined, undefined]);
+    expect(s.getCloses('C0DESKA', 'FERNWK')).toEqual([]);
     expect(s.appendCheck(input('C0DESKA')).number).toBe(3);
     expect(s.appendCheck(input('C0DESKB')).number).toBe(2);
     const check = new Database(path, { readonly: true });
