@@ -158,7 +158,7 @@ describe('a PostgreSQL database that goes away mid-run', () => {
 
     proxy.restore();
     let back = await health();
-    for (let k = 0; k < 40 && back.status !== 200; k++) {
+    for (let k = 0; k < 120 && back.status !== 200; k++) {
       await new Promise((r) => setTimeout(r, 250));
       back = await health();
     }
