@@ -25,6 +25,8 @@ export interface HistoryReportInput {
   kept?: number;
   /** the mark after `save` */
   saved?: { vol: number; drift: number; driftSe: number; spot?: number };
+  /** why `save` stored nothing */
+  notSaved?: string;
 }
 
 export function historyHeadline(r: HistoryReportInput): string {
@@ -59,6 +61,8 @@ export function historyText(r: HistoryReportInput): string {
       `Saved into the mark ${r.symbol}: vol ${p1(r.saved.vol)}, drift ${p1(r.saved.drift)} ± ${p1(r.saved.driftSe)}` +
         `${r.saved.spot !== undefined ? `, spot ${r.saved.spot}` : ''}; checks \`on ${r.symbol}\` use them.`,
     );
+  } else if (r.notSaved) {
+    lines.push(`Not saved into the mark ${r.symbol}: ${r.notSaved}.`);
   } else {
     lines.push(`Add \`save\` to store these estimates into the mark ${r.symbol}.`);
   }
@@ -89,5 +93,6 @@ export function historyJson(r: HistoryReportInput): Record<string, unknown> {
     notes: r.notes,
     ...(r.kept !== undefined ? { kept: r.kept } : {}),
     ...(r.saved ? { saved: r.saved } : {}),
+    ...(r.notSaved ? { notSaved: r.notSaved } : {}),
   };
 }

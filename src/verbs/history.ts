@@ -13,6 +13,7 @@
 import { appendCloses, checkCloses, estimateHistory, HISTORY_LIMITS, type Close } from '../core/history.js';
 import { fileText, readClosesText } from '../request/closes.js';
 import { EXAMPLES } from '../request/examples.js';
+import { LIMITS } from '../request/limits.js';
 import type { HistoryRequest } from '../request/history.js';
 import { historyChartInput, type HistoryChartInput } from '../report/history-chart.js';
 import { historyHeadline, historyJson, historyText, type HistoryReportInput } from '../report/history.js';
@@ -168,6 +169,7 @@ export async function runHistory(text: string, req: HistoryRequest, env: History
   // keep the history, and save the estimates when asked
   let kept: number | undefined;
   let saved: HistoryReportInput['saved'];
+  let notSaved: string | undefined;
   if (store && given.length > 0) {
     try {
       await store.putCloses(env.channel, sym, closes);
@@ -180,15 +182,35 @@ export async function runHistory(text: string, req: HistoryRequest, env: History
     if (!store) {
       return refusal('save needs the channel\'s store, and this session has none', symAt, sym.length, `history ${sym}`, true);
     }
-    try {
-      const spot = closes[closes.length - 1].close;
-      const m = await store.saveEstimates(env.channel, sym, { vol: est.vol, drift: est.drift, driftSe: est.driftSe, spot }, env.user, env.nowIso);
-      saved = { vol: est.vol, drift: est.drift, driftSe: est.driftSe, ...(m.spot !== undefined ? { spot: m.spot } : {}) };
-    } catch (err) {
-      warnings.push(`the estimates were not saved into the mark ${sym}: ${why(err)}`);
+    // a mark must hold a view a check can use: estimates outside the request limits are not saved
+    const off =
+      !(est.vol >= LIMITS.volMin && est.vol <= LIMITS.volMax)
+        ? `vol ${pct1(est.vol)} is outside ${pct1(LIMITS.volMin)} … ${pct1(LIMITS.volMax)}`
+        : !(est.drift >= LIMITS.driftMin && est.drift <= LIMITS.driftMax)
+          ? `drift ${pct1(est.drift)} is outside ${pct1(LIMITS.driftMin)} … ${pct1(LIMITS.driftMax)}`
+          : !(est.driftSe <= LIMITS.driftSeMax)
+            ? `the drift's standard error ${pct1(est.driftSe)} is above ${pct1(LIMITS.driftSeMax)}`
+            : null;
+    if (off) notSaved = `${off}; a longer history narrows it`;
+    else {
+      try {
+        const spot = closes[closes.length - 1].close;
+        const m = await store.saveEstimates(env.channel, sym, { vol: est.vol, drift: est.drift, driftSe: est.driftSe, spot }, env.user, env.nowIso);
+        saved = { vol: est.vol, drift: est.drift, driftSe: est.driftSe, ...(m.spot !== undefined ? { spot: m.spot } : {}) };
+      } catch (err) {
+        notSaved = why(err);
+      }
     }
   }
-  const rep: HistoryReportInput = { symbol: sym, est, source, notes, ...(kept !== undefined ? { kept } : {}), ...(saved ? { saved } : {}) };
+  const rep: HistoryReportInput = {
+    symbol: sym,
+    est,
+    source,
+    notes,
+    ...(kept !== undefined ? { kept } : {}),
+    ...(saved ? { saved } : {}),
+    ...(notSaved ? { notSaved } : {}),
+  };
   return {
     refused: false,
     headline: historyHeadline(rep),
@@ -198,6 +220,11 @@ export async function runHistory(text: string, req: HistoryRequest, env: History
     summary: { position: `history ${sym} (${est.n} closes)`, vol: est.vol, volSe: est.volSe, drift: est.drift, driftSe: est.driftSe, n: est.n },
     warnings,
   };
+}
+
+function pct1(x: number): string {
+  const v = Number((x * 100).toFixed(1));
+  return `${v < 0 ? '−' : ''}${Math.abs(v).toLocaleString('en-US')}%`;
 }
 
 function why(err: unknown): string {

@@ -124,3 +124,19 @@ describe('history', () => {
     expect(r.message).toMatch(/at most 20 are taken/);
   });
 });
+
+describe('history save', () => {
+  it('estimates a check could not use (beyond the request limits) are not saved, and the answer says why', async () => {
+    const dd = desk();
+    try {
+      // ten closes doubling every day: a drift far beyond 200% a year
+      const wild = `history FERNWK ${Array.from({ length: 10 }, (_, i) => (10 * 2 ** i * (1 + 0.02 * (-1) ** i)).toFixed(2)).join(" ")} save`;
+      const a = answered(await ask(dd.store, wild));
+      expect(a.text).toMatch(/Not saved into the mark FERNWK: drift .* is outside −?200% … 200%/);
+      expect((a.json as J).notSaved).toBeDefined();
+      expect(dd.store.getMark('C0DESKA', 'FERNWK')).toBeUndefined();
+    } finally {
+      dd.close();
+    }
+  });
+});
