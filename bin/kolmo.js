@@ -4,7 +4,7 @@ import { runCli, runConsole } from '../dist/src/cli.js';
 
 const args = process.argv.slice(2);
 if (args.length === 0) {
-  await runConsole();
+  process.exitCode = await runConsole();
 } else {
   process.exitCode = await runCli(args);
 }

@@ -15,7 +15,8 @@ import { mkdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
 import { basename, dirname, join, resolve } from 'node:path';
 import { DEMO_HISTORY, DEMO_HISTORY_SYMBOL } from './demo/history.js';
 import { createInterface } from 'node:readline';
-import { ask, CLOSES_FILE_BYTES, COMPUTE_BUDGET_DEFAULT, openDatabase, databaseFromEnv, type AskContext, type AsyncStore } from './verbs/ask.js';
+import { ask, CLOSES_FILE_BYTES, COMPUTE_BUDGET_DEFAULT, databaseFromEnv, defaultDbPath, openDatabase, type AskContext, type AsyncStore } from './verbs/ask.js';
+import { localSettings, type LocalSettings } from './config.js';
 import type { Reply } from './reply.js';
 import { renderAnswerChart } from './report/answer-chart.js';
 
@@ -58,24 +59,29 @@ export function parseArgs(argv: string[]): CliOptions | { error: string } {
   return o;
 }
 
-/** The log of the environment (KOLMO_DATABASE_URL, else the SQLite file); without it the answer still comes, with a warning. */
-async function openStoreQuietly(enabled: boolean): Promise<{ store: AsyncStore | null; warning?: string }> {
+/** The log of the settings: KOLMO_DATABASE_URL (PostgreSQL), else the SQLite file; without it the answer still comes, with a warning. */
+async function openStoreQuietly(enabled: boolean, dbPath: string | undefined): Promise<{ store: AsyncStore | null; warning?: string }> {
   if (!enabled) return { store: null };
   try {
-    return { store: await openDatabase(databaseFromEnv()) };
+    const choice = databaseFromEnv();
+    return { store: await openDatabase(choice.backend === 'postgres' ? choice : { backend: 'sqlite', path: defaultDbPath(dbPath) }) };
   } catch (err) {
     return { store: null, warning: `the log is unavailable (${err instanceof Error ? err.message : String(err)}); answering without it` };
   }
 }
 
-function budgetOf(env = process.env): number {
-  const v = Number(env.KOLMO_COMPUTE_BUDGET);
-  return Number.isFinite(v) && v > 0 ? v : COMPUTE_BUDGET_DEFAULT;
+/** The settings of the command line and the console (src/config.ts); null after reporting a bad one. */
+function settingsOr(say: (line: string) => void): LocalSettings | null {
+  const s = localSettings();
+  if (s.ok) return s.settings;
+  say('kolmo: fix these settings:');
+  for (const e of s.errors) say(`  - ${e}`);
+  return null;
 }
 
-/** One request from the command line or the console: the seam, with the compute budget of the environment. */
+/** One request from the command line or the console: the seam, with the compute budget of the settings (ctx.budget). */
 export function answerLocal(text: string, ctx: AskContext): Promise<Reply> {
-  return ask(text, { budget: budgetOf(), ...ctx });
+  return ask(text, { budget: COMPUTE_BUDGET_DEFAULT, ...ctx });
 }
 
 /** The text a terminal shows for a reply (answer, caution, warnings) — also used by the console. */
@@ -106,6 +112,8 @@ export async function runCli(argv: string[], out = process.stdout, err = process
     out.write(`${USAGE}\n`);
     return 0;
   }
+  const settings = settingsOr((line) => err.write(line + '\n'));
+  if (!settings) return 2;
   let files: AskContext['files'];
   if (o.file !== undefined) {
     try {
@@ -118,9 +126,9 @@ export async function runCli(argv: string[], out = process.stdout, err = process
       return 2;
     }
   }
-  const { store, warning } = await openStoreQuietly(o.log);
+  const { store, warning } = await openStoreQuietly(o.log, settings.dbPath);
   try {
-    const ctx: AskContext = { channel: o.channel ?? 'cli', user: process.env.USER || 'local', store, ...(files ? { files } : {}) };
+    const ctx: AskContext = { channel: o.channel ?? 'cli', user: settings.user, store, budget: settings.computeBudget, ...(files ? { files } : {}) };
     const r = await answerLocal(o.request, ctx);
     if (warning && r.kind === 'answer') r.warnings.push(warning);
     let chartNote: string | null = null;
@@ -155,13 +163,15 @@ export const CONSOLE_EXAMPLES = [
 
 export async function runConsole(
   opts: { input?: NodeJS.ReadableStream; output?: NodeJS.WritableStream; channel?: string; outDir?: string } = {},
-): Promise<void> {
+): Promise<number> {
   const output = opts.output ?? process.stdout;
   const input = opts.input ?? process.stdin;
-  const outDir = opts.outDir ?? process.env.KOLMO_OUT ?? 'out';
-  const channel = opts.channel ?? 'console';
-  const { store, warning } = await openStoreQuietly(true);
   const say = (s: string) => output.write(s + '\n');
+  const settings = settingsOr(say);
+  if (!settings) return 2;
+  const outDir = opts.outDir ?? settings.outDir;
+  const channel = opts.channel ?? 'console';
+  const { store, warning } = await openStoreQuietly(true, settings.dbPath);
   if (store) {
     for (const m of DEMO_MARKS) {
       if (!(await store.getMark(channel, m.symbol).catch(() => undefined))) {
@@ -195,7 +205,7 @@ export async function runConsole(
           return;
         }
         if (text) {
-          const r = await answerLocal(text, { channel, user: process.env.USER || 'local', store });
+          const r = await answerLocal(text, { channel, user: settings.user, store, budget: settings.computeBudget });
           say(replyText(r));
           if (r.kind === 'answer' && r.chart) {
             n++;
@@ -212,4 +222,5 @@ export async function runConsole(
     });
   });
   await store?.close();
+  return 0;
 }

@@ -7,7 +7,7 @@
  */
 import pino from 'pino';
 type PinoLogger = pino.Logger;
-import type { Logger as BoltLogger, LogLevel as BoltLogLevel } from '@slack/logger';
+import type { Logger as BoltLogger, LogLevel as BoltLogLevel } from '@slack/bolt';
 import type { LogLevel } from './config.js';
 
 export type Log = PinoLogger;

@@ -10,7 +10,6 @@ import { fileURLToPath } from 'node:url';
 import { loadConfig } from './config.js';
 import { createLog } from './log.js';
 import { startChatApp, type ChatApp } from './chat/app.js';
-import { chatSettings } from './chat/settings.js';
 
 /** Exit code for a configuration problem (EX_CONFIG). */
 export const EXIT_CONFIG = 78;
@@ -23,16 +22,9 @@ export async function main(env: Record<string, string | undefined> = process.env
     return EXIT_CONFIG;
   }
   const config = r.config;
-  const cs = config.mode === 'console' ? null : chatSettings(env);
-  if (cs && !cs.ok) {
-    process.stderr.write('kolmo: cannot start; fix these settings:\n');
-    for (const e of cs.errors) process.stderr.write(`  - ${e}\n`);
-    return EXIT_CONFIG;
-  }
   if (config.mode === 'console') {
     const { runConsole } = await import('./cli.js');
-    await runConsole();
-    return 0;
+    return runConsole();
   }
 
   const log = createLog({ level: config.logLevel, secrets: [config.botToken, config.mode === 'http' ? config.signingSecret : config.appToken] });
@@ -41,7 +33,7 @@ export async function main(env: Record<string, string | undefined> = process.env
   });
   let app: ChatApp;
   try {
-    app = await startChatApp(config, log, cs?.ok ? { settings: cs.settings } : {});
+    app = await startChatApp(config, log);
   } catch (err) {
     log.fatal({ err: err instanceof Error ? err.message : String(err) }, 'could not start');
     process.stderr.write(`kolmo: could not start: ${err instanceof Error ? err.message : String(err)}\n`);
@@ -50,7 +42,7 @@ export async function main(env: Record<string, string | undefined> = process.env
   // SIGTERM/SIGINT: stop listening, let answers in progress finish within the grace period, hand
   // back the rest (the request queue keeps them for another instance or the next start), flush and close the log. A second
   // signal, or the grace period and 10 s more, ends the process at once.
-  const grace = cs?.ok ? cs.settings.shutdownGraceMs : 10000;
+  const grace = config.chat.shutdownGraceMs;
   const shutdown = (signal: string) => {
     log.info({ signal }, 'stopping');
     const force = setTimeout(() => process.exit(1), grace + 10000);

@@ -56,9 +56,8 @@ import { deliver, tellAsker, type DeliverDeps, type Origin, type Outcome, type R
 import { DEDUPE_WINDOW_MS, MAX_ATTEMPTS, MemoryInbox, RESUME_WINDOW_MS } from './inbox.js';
 import { EngineError, InlineEngine, WorkerPool, type Engine } from './pool.js';
 import { ChannelQueue } from './queue.js';
-import { UserRateLimit } from './ratelimit.js';
-import { CHAT_DEFAULTS, type ChatSettings } from './settings.js';
-import { downloadFile, fileRefsOf, type FileRef } from './files.js';
+import { USER_RATE_DEFAULTS, UserRateLimit } from './ratelimit.js';
+import { downloadFile, fileRefsOf } from './files.js';
 
 const { App, HTTPReceiver, SocketModeReceiver } = bolt;
 type WebClientOptions = webApi.WebClientOptions;
@@ -183,13 +182,9 @@ export function guardBodySize(server: Server, limit: number, log: Log): void {
   });
 }
 
-export interface StartOptions {
-  settings?: ChatSettings;
-}
-
 /** Starts the app in the configured mode. Throws with a clear message when it cannot start. */
-export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, opts: StartOptions = {}): Promise<ChatApp> {
-  const settings = opts.settings ?? CHAT_DEFAULTS;
+export async function startChatApp(config: HttpConfig | SocketConfig, log: Log): Promise<ChatApp> {
+  const settings = config.chat;
   const secrets = secretsOf(config);
   const clientOptions = clientOptionsOf(config, log);
   const errText = (err: unknown): string => scrub(err instanceof Error ? err.message : String(err), secrets);
@@ -255,7 +250,7 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
   // the in-memory path: without a store, or while it fails
   const local = new ChannelQueue(config.queueLimit);
   const localInbox = new MemoryInbox();
-  const limiter = new UserRateLimit(settings.userRate);
+  const limiter = new UserRateLimit({ ...USER_RATE_DEFAULTS, ...settings.userRate });
   const loopDelay = monitorEventLoopDelay({ resolution: 10 });
   loopDelay.enable();
 
@@ -545,7 +540,7 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
   const admit = async (r: QueuedRequest): Promise<Intake> => {
     if (!counted || stopping) return { kind: 'local' };
     try {
-      const rate = await counted.take(r.user, settings.userRate);
+      const rate = await counted.take(r.user, { ...USER_RATE_DEFAULTS, ...settings.userRate });
       const depth = rate.ok ? await counted.depth() : 0;
       const busy = rate.ok && depth >= config.queueLimit;
       const fresh = await counted.accept(r, !rate.ok || busy);
@@ -612,9 +607,7 @@ export async function startChatApp(config: HttpConfig | SocketConfig, log: Log, 
   let port: number | undefined;
   let opsServer: Server | undefined;
   if (config.mode === 'http') {
-    const server = (await app.start(
-      (config.host ? { port: config.port, host: config.host } : { port: config.port }) as never,
-    )) as unknown as Server;
+    const server = (await app.start(config.host ? { port: config.port, host: config.host } : { port: config.port })) as unknown as Server;
     server.headersTimeout = HEADERS_TIMEOUT_MS;
     server.requestTimeout = REQUEST_TIMEOUT_MS;
     guardBodySize(server, settings.bodyLimit, log);

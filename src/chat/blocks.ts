@@ -8,6 +8,7 @@
  * row, and across several messages when it needs more than 50 blocks. Every message carries a
  * plain `text` fallback for notifications and clients without Block Kit.
  */
+import type { ContextBlock, DividerBlock, SectionBlock, TextObject } from '@slack/types';
 import type { Answer } from '../reply.js';
 
 export const SECTION_TEXT_MAX = 3000;
@@ -21,14 +22,15 @@ export const MESSAGE_BLOCK_CHARS_MAX = 12000;
 /** the fallback `text` is kept well under the platform's 40000-character cap */
 export const FALLBACK_TEXT_MAX = 3000;
 
-export interface TextObject {
-  type: 'mrkdwn' | 'plain_text';
-  text: string;
-}
-export type Block =
-  | { type: 'section'; text: TextObject }
-  | { type: 'context'; elements: TextObject[] }
-  | { type: 'divider' };
+export type { TextObject };
+/**
+ * The blocks Kolmo sends: the platform's own Block Kit types (`@slack/types`), narrowed to what
+ * Kolmo uses (a section always has text; a context line holds text only), so every message is
+ * passed to the Web API as it is, without casts.
+ */
+export type Section = Omit<SectionBlock, 'text'> & { type: 'section'; text: TextObject };
+export type Context = Omit<ContextBlock, 'elements'> & { type: 'context'; elements: TextObject[] };
+export type Block = Section | Context | DividerBlock;
 
 export interface Message {
   text: string;
@@ -140,15 +142,15 @@ export function packMessages(blocks: Block[], plain: (bs: Block[]) => string): M
   return out;
 }
 
-function unescape(s: string): string {
+function unescapeMrkdwn(s: string): string {
   return s.replace(/&lt;/g, '<').replace(/&gt;/g, '>').replace(/&amp;/g, '&');
 }
 
 function plainOf(bs: Block[]): string {
   return bs
     .map((b) => {
-      if (b.type === 'section') return unescape(b.text.text.replace(/^```\n?/, '').replace(/\n?```$/, ''));
-      if (b.type === 'context') return b.elements.map((e) => unescape(e.text)).join(' ');
+      if (b.type === 'section') return unescapeMrkdwn(b.text.text.replace(/^```\n?/, '').replace(/\n?```$/, ''));
+      if (b.type === 'context') return b.elements.map((e) => unescapeMrkdwn(e.text)).join(' ');
       return '';
     })
     .filter((s) => s !== '')

@@ -45,7 +45,7 @@ export function linkMessages(links: Answer['links']): Message[] {
 }
 
 /** Sends an ephemeral reply through the slash command's response URL. */
-export type Respond = (msg: { response_type: 'ephemeral'; replace_original: false; text: string; blocks: unknown[] }) => Promise<unknown>;
+export type Respond = (msg: { response_type: 'ephemeral'; replace_original: false; text: string; blocks: Block[] }) => Promise<unknown>;
 
 export interface Origin {
   source: 'command' | 'mention';
@@ -132,7 +132,7 @@ async function postAll(client: WebClient, channel: string, threadTs: string | un
     const r = await client.chat.postMessage({
       channel,
       text: m.text,
-      blocks: m.blocks as never,
+      blocks: m.blocks,
       ...(threadTs ? { thread_ts: threadTs } : {}),
       unfurl_links: false,
       unfurl_media: false,
@@ -162,7 +162,7 @@ export async function tellAsker(deps: DeliverDeps, origin: Origin, msgs: Message
           channel: origin.channel,
           user: origin.user,
           text: m.text,
-          blocks: m.blocks as never,
+          blocks: m.blocks,
           ...(origin.threadTs ? { thread_ts: origin.threadTs } : {}),
         });
         sent = true;
@@ -253,7 +253,7 @@ export async function deliver(
         threadTs = done.rootTs;
       } else {
         const rm = rootMessage(origin.user, a.headline);
-        const root = await client.chat.postMessage({ channel, text: rm.text, blocks: rm.blocks as never, unfurl_links: false, unfurl_media: false });
+        const root = await client.chat.postMessage({ channel, text: rm.text, blocks: rm.blocks, unfurl_links: false, unfurl_media: false });
         threadTs = String(root.ts ?? '');
         await mark({ rootTs: threadTs });
       }
@@ -292,7 +292,7 @@ export async function deliver(
   let outcome: Outcome = 'answered';
   if (chart.png && done.chart) {
     // uploaded by an earlier attempt
-  } else if (chart.png) {
+  } else if (chart.png && threadTs) {
     try {
       await client.files.uploadV2({
         channel_id: channel,
@@ -301,7 +301,7 @@ export async function deliver(
         filename: logNumber !== undefined ? `kolmo-check-${logNumber}.png` : 'kolmo-chart.png',
         title: logNumber !== undefined ? `Check #${logNumber}` : 'Kolmo chart',
         alt_text: a.headline || 'Kolmo chart',
-      } as never);
+      });
       await mark({ chart: true });
     } catch (err) {
       outcome = 'answered-no-chart';

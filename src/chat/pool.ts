@@ -25,6 +25,7 @@
 import { fork, type ChildProcess } from 'node:child_process';
 import { setPriority } from 'node:os';
 import { fileURLToPath } from 'node:url';
+import { SECRET_SETTINGS } from '../config.js';
 import type { LogStore } from '../verbs/ask.js';
 import { serveStoreCall, type StoreCall } from './ipc-store.js';
 import { work, type Job, type WorkResult } from './work.js';
@@ -36,9 +37,6 @@ export interface Engine {
   /** workers whose process is up (the inline engine: 1) */
   readonly alive: number;
 }
-
-/** never handed to a worker */
-const SECRET_ENV = ['SLACK_BOT_TOKEN', 'SLACK_APP_TOKEN', 'SLACK_SIGNING_SECRET'];
 
 export class EngineError extends Error {
   constructor(
@@ -141,7 +139,7 @@ export class WorkerPool implements Engine {
       KOLMO_WORKER_DB: db?.kind === 'file' ? db.path : '',
       KOLMO_WORKER_STORE: db?.kind === 'parent' ? `${db.store.backend} ${db.store.where}` : '',
     };
-    for (const k of SECRET_ENV) delete env[k];
+    for (const k of SECRET_SETTINGS) delete env[k]; // secrets are never handed to a worker
     const worker = fork(fileURLToPath(this.script), [], {
       env,
       serialization: 'advanced',

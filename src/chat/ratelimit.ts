@@ -8,6 +8,7 @@
  * and beyond `maxUsers` tracked users the longest-idle ones are forgotten (at worst such a user
  * gets a fresh burst).
  */
+import { USER_BURST_DEFAULT, USER_PER_MINUTE_DEFAULT } from '../config.js';
 
 export interface UserRateOptions {
   burst: number;
@@ -16,7 +17,7 @@ export interface UserRateOptions {
   maxUsers: number;
 }
 
-export const USER_RATE_DEFAULTS: UserRateOptions = { burst: 20, perMinute: 30, noticeEverySeconds: 30, maxUsers: 20_000 };
+export const USER_RATE_DEFAULTS: UserRateOptions = { burst: USER_BURST_DEFAULT, perMinute: USER_PER_MINUTE_DEFAULT, noticeEverySeconds: 30, maxUsers: 20_000 };
 
 export type RateDecision = { ok: true } | { ok: false; retryInSeconds: number; notify: boolean };
 

@@ -65,7 +65,7 @@ export async function work(job: Job, store: LogStore | null): Promise<WorkResult
     store: s,
     inWorkspace: true,
     budget: job.budget,
-    ...(job.files && job.files.length ? { files: job.files } : {}),
+    ...(job.files?.length ? { files: job.files } : {}),
   });
   if (reply.kind !== 'answer' || reply.chart === undefined || reply.chart === null) {
     return { reply, ms: performance.now() - t0 };

@@ -187,3 +187,37 @@ export function probItm(
   const d2 = m / sd - 0.5 * sd;
   return kind === 'call' ? normCdf(d2) : normCdf(-d2);
 }
+
+/**
+ * One European option seen across spots, for the same strike, life, rate, yield and vol: the
+ * constants (discount factors, σ√T, ln K) taken once, so that each spot costs one exponential
+ * (φ(d1)) and the two Φ (bsmAcrossValue). T > 0.
+ */
+export interface BsmAcross {
+  /** +1 call, −1 put */
+  w: number;
+  sd: number;
+  dq: number;
+  /** K e^{−rT} */
+  fK: number;
+  /** (r − q)T − ln K */
+  shift: number;
+}
+
+export function bsmAcross(kind: OptionKind, K: number, T: number, r: number, q: number, sigma: number): BsmAcross {
+  return { w: kind === 'call' ? 1 : -1, sd: sigma * sqrt(T), dq: exp(-q * T), fK: K * exp(-r * T), shift: (r - q) * T - log(K) };
+}
+
+/** Value at x = ln S (and S): the formula, limits and clamp of bsmValue. */
+export function bsmAcrossValue(c: BsmAcross, x: number, S: number): number {
+  const { w, sd, fK } = c;
+  const fS = S * c.dq;
+  const fwd = w * (fS - fK);
+  if (!(sd > TINY_SD)) return max(fwd, 0);
+  const d1 = (x + c.shift) / sd + 0.5 * sd;
+  const d2 = d1 - sd;
+  const p1 = normPdf(d1);
+  const p2 = pdfD2(p1, fS / fK, d2);
+  const v = w * (fS * normCdfWithPdf(w * d1, p1) - fK * normCdfWithPdf(w * d2, p2));
+  return max(v, fwd, 0);
+}

@@ -29,7 +29,7 @@ import { sanitize } from './outcome/sanitize.js';
 import { SmoothEngine } from './outcome/smooth-engine.js';
 import { splitDist, type SplitDist } from './outcome/split-dist.js';
 import { expiresBy, type LegModel } from './pricer.js';
-import type { CheckCore, CheckInput, CheckNote, Outcome, Walk } from './types.js';
+import type { CheckCore, CheckInput, CheckNote, Curves, Outcome, Walk } from './types.js';
 
 export interface RunOptions {
   /**
@@ -39,7 +39,14 @@ export interface RunOptions {
   refine?: number;
   /** also compute chance of profit, quantiles and worst-5% average under the risk-neutral twin (default true) */
   riskNeutralFigures?: boolean;
+  /**
+   * also sample the curves the chart draws (default true); false leaves them empty, for a caller
+   * that draws no chart (and the benchmark of the figures alone)
+   */
+  curves?: boolean;
 }
+
+const NO_CURVES = (): Curves => ({ spot: [], densityView: [], densityRiskNeutral: [], pnl: [], pnlDensity: { x: [], density: [], atoms: [] } });
 
 /** How the P&L is integrated: exact segments at expiry, else the smooth engine's live legs. */
 type EnginePlan = { segs: Segment[] } | { live: LiveInfo[]; ext: [number, number]; kinks: number[]; refine: number };
@@ -120,7 +127,8 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   // the same figures under the risk-neutral twin (same P&L function, no second revaluation)
   let outcomeRiskNeutral: CheckCore['outcomeRiskNeutral'];
   if (options.riskNeutralFigures !== false) {
-    const fr = walkFigures(engineFor(plan, sRn, sRn, pf), seeds, pf.scale);
+    const twin = eng instanceof SmoothEngine ? eng.twin() : engineFor(plan, sRn, sRn, pf);
+    const fr = walkFigures(twin, seeds, pf.scale);
     outcomeRiskNeutral = { probProfit: fr.probProfit, expectedPnl: expectedPnlRiskNeutral, pnlQuantiles: quantileRecord(fr.qs), tailMean05: fr.tailMean05 };
   }
 
@@ -136,7 +144,7 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
     maxGain: ext.max,
     maxLoss: ext.min,
   };
-  const curves = buildCurves({ dView, dRn, pnl: pf.f, strikes: strikesOf(input), breakevens, spot, eng, figures: fv, tolY: 1e-9 * pf.scale });
+  const curves = options.curves === false ? NO_CURVES() : buildCurves({ dView, dRn, pnlAt: pf.fAt, strikes: strikesOf(input), breakevens, spot, eng, figures: fv, tolY: 1e-9 * pf.scale });
   const result: CheckCore = { legs: today.legs, position: today.position, outcome, curves, notes, ...(outcomeRiskNeutral ? { outcomeRiskNeutral } : {}) };
   if (sanitize(result)) notes.push({ code: 'not-finite' });
   return result;

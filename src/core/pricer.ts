@@ -9,7 +9,7 @@
  *   leg, interpolated across spots.
  */
 import { americanGreeks, americanValueCurve } from './american.js';
-import { bsmGreeks, bsmValue } from './bsm.js';
+import { bsmAcross, bsmAcrossValue, bsmGreeks, type BsmAcross } from './bsm.js';
 import { mertonGreeks, mertonValue } from './merton.js';
 import type { ExerciseStyle, Greeks, Jumps, LegInput, Market } from './types.js';
 import { activeJumps } from './jumps.js';
@@ -67,7 +67,19 @@ export function legValuer(leg: LegInput, m: LegModel, horizonYears: number): (sp
   const atZero = kind === 'call' ? 0 : K * Math.exp(-rate * tau);
   const j = jumpsOf(m);
   if (j) return (s) => (s > 0 ? mertonValue(kind, s, K, tau, rate, q, iv, j) : atZero);
-  return (s) => (s > 0 ? bsmValue(kind, s, K, tau, rate, q, iv) : atZero);
+  const c = bsmAcross(kind, K, tau, rate, q, iv);
+  return (s) => (s > 0 ? bsmAcrossValue(c, Math.log(s), s) : atZero);
+}
+
+/**
+ * The horizon value of a live leg in the form the outcome engine evaluates fastest, where the
+ * model has one: Black-Scholes-Merton without jumps, its constants taken once (bsmAcross; the
+ * value at a spot is bsmAcrossValue, equal to legValuer's). Null otherwise.
+ */
+export function legAcross(leg: LegInput, m: LegModel, horizonYears: number): BsmAcross | null {
+  if (leg.kind === 'shares' || expiresBy(leg, horizonYears) || m.style === 'american' || jumpsOf(m)) return null;
+  const { rate, yield: q } = m.market;
+  return bsmAcross(leg.kind, leg.strike, leg.years - horizonYears, rate, q, leg.iv);
 }
 
 /**

@@ -74,7 +74,7 @@ interface PartFigures {
 export function entryFigures(e: LoggedCheck): { chance: string; pnl: string } {
   const s = e.summary;
   const parts = Array.isArray(s.parts) ? (s.parts as PartFigures[]) : null;
-  if (parts && parts.length) {
+  if (parts?.length) {
     const ps = parts.map((p) => num(p.probProfit)).filter((x): x is number => x !== undefined);
     const es = parts.map((p) => num(p.expectedPnl)).filter((x): x is number => x !== undefined);
     const span = (xs: number[], f: (x: number) => string) => {

@@ -10,6 +10,7 @@
  * StoreError codes (errors.ts), so a shell answers "Not logged: …" the same way whichever runs.
  * Every query is scoped to one channel, as in the synchronous face (store.ts).
  */
+import { setting } from '../config.js';
 import { StoreError } from './errors.js';
 import { openPostgres, redactUrl } from './postgres.js';
 
@@ -202,9 +203,9 @@ export interface DatabaseOptions extends OpenOptions {
  * than silently falling back to the file: instances meant to share a memory must not each keep
  * their own.
  */
-export function databaseFromEnv(env: NodeJS.ProcessEnv = process.env): DatabaseChoice {
-  const raw = env.KOLMO_DATABASE_URL?.trim();
-  if (!raw) return { backend: 'sqlite', path: defaultDbPath() };
+export function databaseFromEnv(env?: Record<string, string | undefined>): DatabaseChoice {
+  const raw = setting('KOLMO_DATABASE_URL', env);
+  if (!raw) return { backend: 'sqlite', path: defaultDbPath(setting('KOLMO_DB', env)) };
   return { backend: 'postgres', url: checkPostgresUrl(raw) };
 }
 

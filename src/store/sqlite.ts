@@ -23,6 +23,7 @@ import Database from 'better-sqlite3';
 type BetterStatement<T> = Database.Statement<unknown[], T>;
 import { existsSync, mkdirSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
+import { setting as readSetting } from '../config.js';
 import { StoreError, toStoreError, type StoreOp } from './errors.js';
 import { migrate, schemaVersion, SCHEMA_VERSION } from './migrations.js';
 import {
@@ -53,10 +54,9 @@ export { LIMITS, cutBytes } from './rows.js';
 
 const DEFAULT_BUSY_TIMEOUT_MS = 5000;
 
-/** KOLMO_DB if set, else ./data/kolmo.db under the working folder; the folder is created. */
-export function defaultDbPath(): string {
-  const env = process.env.KOLMO_DB?.trim();
-  const path = env ? resolve(env) : resolve('data', 'kolmo.db');
+/** `setting` (KOLMO_DB) if set, else ./data/kolmo.db under the working folder; the folder is created. */
+export function defaultDbPath(setting: string | undefined = readSetting('KOLMO_DB')): string {
+  const path = setting ? resolve(setting) : resolve('data', 'kolmo.db');
   try {
     mkdirSync(dirname(path), { recursive: true });
   } catch (e) {

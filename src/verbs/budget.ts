@@ -26,7 +26,7 @@ import type { CheckRequest, ExpirySpec } from '../request/types.js';
 import type { Rejection } from '../reply.js';
 import type { Cost } from './verb.js';
 
-export const COMPUTE_BUDGET_DEFAULT = 6000;
+export { COMPUTE_BUDGET_DEFAULT } from '../config.js';
 export const EARLY_EXERCISE_UNITS = 14;
 export const JUMP_BASE = 30;
 export const JUMP_PER_TERM = 0.1;

@@ -1,7 +1,8 @@
 /**
  * Outcome engine (src/core/outcome.ts): median time of one check of a four-leg position at expiry
  * (exact closed forms) and before expiry (numerical integration), as ratios against a baseline
- * of one four-leg Black-Scholes-Merton revaluation in the same process; and the integration error
+ * of one four-leg Black-Scholes-Merton revaluation in the same process: the view's figures, then
+ * with the market column, then with the chart's curves (what the service asks for); and the integration error
  * before expiry against a 10× finer mesh (RunOptions.refine = 10).
  */
 import { bsmValue } from '../../src/core/bsm.js';
@@ -74,18 +75,24 @@ export function run(): void {
     return t;
   }, 1000);
   report(base);
-  // the view's outcome alone (what the goals are set for), then with the risk-neutral column the
-  // answers also show (chance of profit, quantiles and worst-5% average under the twin walk)
-  const viewOnly = { riskNeutralFigures: false };
-  const m1 = measure('runCheck four legs at expiry', () => runCheck(atExpiry, viewOnly), 1);
-  report(m1, base, '≤ 0.2 ms');
-  report(measure('  + risk-neutral column', () => runCheck(atExpiry), 1), m1);
-  const m2 = measure('runCheck four legs before expiry', () => runCheck(beforeExpiry, viewOnly), 1);
-  report(m2, base, '≤ 2 ms');
-  report(measure('  + risk-neutral column', () => runCheck(beforeExpiry), 1), m2);
-  const m3 = measure('runCheck two expiring + two live legs', () => runCheck(mixed, viewOnly), 1);
-  report(m3, base, '≤ 2 ms');
-  report(measure('  + risk-neutral column', () => runCheck(mixed), 1), m3);
+  // the view's figures alone; then with the market (risk-neutral) column the answers also show
+  // (chance of profit, quantiles and worst-5% average under the twin walk); then with the curves
+  // the chart draws, as the service calls it
+  const figuresOnly = { riskNeutralFigures: false, curves: false };
+  const withMarket = { curves: false };
+  const m1 = measure('runCheck four legs at expiry: figures', () => runCheck(atExpiry, figuresOnly), 1);
+  report(m1, base, '≤ 30 µs');
+  const m1b = measure('  + market column', () => runCheck(atExpiry, withMarket), 1);
+  report(m1b, m1, '≤ 30 µs');
+  report(measure('  + chart curves (all)', () => runCheck(atExpiry), 1), m1);
+  const m2 = measure('runCheck four legs before expiry: figures', () => runCheck(beforeExpiry, figuresOnly), 1);
+  report(m2, base);
+  report(measure('  + market column', () => runCheck(beforeExpiry, withMarket), 1), m2, '≤ 400 µs');
+  report(measure('  + chart curves (all)', () => runCheck(beforeExpiry), 1), m2, '≤ 400 µs');
+  const m3 = measure('runCheck two expiring + two live legs: figures', () => runCheck(mixed, figuresOnly), 1);
+  report(m3, base);
+  report(measure('  + market column', () => runCheck(mixed, withMarket), 1), m3);
+  report(measure('  + chart curves (all)', () => runCheck(mixed), 1), m3);
 
   for (const [name, input] of [['before expiry', beforeExpiry], ['mixed', mixed]] as const) {
     const scale = input.legs.reduce((s, l) => s + Math.abs(l.qty) * input.mult, 0) * input.market.spot;

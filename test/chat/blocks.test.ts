@@ -18,7 +18,7 @@ import {
   type Block,
 } from '../../src/chat/blocks.js';
 
-const unescape = (s: string) => s.replace(/&lt;/g, '<').replace(/&gt;/g, '>').replace(/&amp;/g, '&');
+const unescapeMrkdwn = (s: string) => s.replace(/&lt;/g, '<').replace(/&gt;/g, '>').replace(/&amp;/g, '&');
 
 function sectionBodies(blocks: Block[]): string[] {
   return blocks.filter((b) => b.type === 'section').map((b) => (b as { text: { text: string } }).text.text);
@@ -28,7 +28,7 @@ function sectionBodies(blocks: Block[]): string[] {
 function inner(text: string): string {
   expect(text.startsWith('```\n')).toBe(true);
   expect(text.endsWith('\n```')).toBe(true);
-  return unescape(text.slice(4, -4));
+  return unescapeMrkdwn(text.slice(4, -4));
 }
 
 const row = fc.stringMatching(/^[ -~]{0,120}$/); // printable ASCII rows, as tables are

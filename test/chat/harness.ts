@@ -176,8 +176,7 @@ export async function launch(dir: string, env: Record<string, string>, timeoutMs
     out += s;
     all += s;
     partial += s;
-    let i: number;
-    while ((i = partial.indexOf('\n')) >= 0) {
+    for (let i = partial.indexOf('\n'); i >= 0; i = partial.indexOf('\n')) {
       const line = partial.slice(0, i);
       partial = partial.slice(i + 1);
       try {

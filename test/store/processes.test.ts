@@ -2,8 +2,9 @@
  * Several processes on one log file, and a process killed with SIGKILL in the middle of writing.
  *
  * The child processes run the real store code: fixtures/compile.ts compiles src/store/*.ts with
- * the project's TypeScript compiler into a temporary folder before the tests (Node 20 cannot run
- * .ts itself, and dist/ is only fresh after `npm test`'s build step). The child is
+ * the project's TypeScript compiler into a temporary folder that every user can read, with the
+ * packages it loads copied in, before the tests (Node 20 cannot run .ts itself, and dist/ is only
+ * fresh after `npm test`'s build step; the checkout may sit in a folder only its owner can enter). The child is
  * fixtures/writer.mjs; it prints "ACK <channel> <number> <seq>" after each appendCheck returned.
  *
  * What the checks rest on:
@@ -25,7 +26,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { createInterface } from 'node:readline';
 import { openStore, type Store } from '../../src/store/store.js';
-import { compileStore, writerScript, type CompiledStore } from './fixtures/compile.js';
+import { compileStore, type CompiledStore } from './fixtures/compile.js';
 
 let compiled: CompiledStore;
 beforeAll(() => {
@@ -71,7 +72,8 @@ interface WriterConfig {
 }
 
 function startWriter(cfg: WriterConfig, as?: { uid: number; gid: number }): Writer {
-  const child = spawn(process.execPath, [writerScript, compiled.storeUrl, JSON.stringify(cfg)], { stdio: 'pipe', ...as });
+  // the child runs from the staged folder, which every user can read (not from the checkout)
+  const child = spawn(process.execPath, [compiled.writerScript, compiled.storeUrl, JSON.stringify(cfg)], { stdio: 'pipe', cwd: compiled.dir, ...as });
   let err = '';
   child.stderr.on('data', (d: Buffer) => (err += d.toString()));
   const w: Writer = { child, acks: [], errors: [], ready: Promise.resolve(), done: Promise.resolve(0), stderr: () => err };
@@ -255,7 +257,8 @@ describe('a writer killed with SIGKILL mid-burst', () => {
 describe('a log file made read-only with chmod 0444', () => {
   // Root ignores file permissions, so when the tests run as root the writer is started as the
   // unprivileged user nobody (uid 65534) through child_process's uid/gid options; otherwise it runs
-  // as the current user. The compiled store and the test folder are made readable for it.
+  // as the current user. The compiled store is staged where it can read it (fixtures/compile.ts),
+  // and the test folder is made readable for it.
   const isRoot = process.getuid?.() === 0;
   const as = isRoot ? { uid: 65534, gid: 65534 } : undefined;
 
@@ -268,7 +271,6 @@ describe('a log file made read-only with chmod 0444', () => {
         text: 'check +1 call 105 2027-03-19', normalized: '{}', summary: { position: 'long call' },
       });
       s.close();
-      chmodSync(compiled.dir, 0o755);
       chmodSync(path, 0o444);
       // root owns the folder, so 0755 keeps nobody from writing in it; a non-root owner needs 0555
       chmodSync(dir, folder === 'writable' ? 0o777 : isRoot ? 0o755 : 0o555);

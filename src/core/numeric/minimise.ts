@@ -18,7 +18,7 @@ export function brentMin(f: (x: number) => number, a: number, b: number, tol: nu
     if (Math.abs(x - xm) <= tol2 - 0.5 * (b - a)) break;
     let useGolden = true;
     if (Math.abs(e) > tol1) {
-      let r = (x - w) * (fx - fv);
+      const r = (x - w) * (fx - fv);
       let q = (x - v) * (fx - fw);
       let p = (x - v) * q - (x - w) * r;
       q = 2 * (q - r);

@@ -3,12 +3,21 @@
 /** Finite values of `xs`, ascending, with values within 1e-12 (relative, at least absolute) of the previous one dropped. */
 export function dedupe(xs: number[]): number[] {
   // a typed array sorts numerically without a comparator call per comparison
-  const s = Float64Array.from(xs.filter((x) => Number.isFinite(x))).sort();
+  const s = new Float64Array(xs.length);
+  let n = 0;
+  let sorted = true;
+  for (const x of xs) {
+    if (!Number.isFinite(x)) continue;
+    if (n > 0 && x < s[n - 1]) sorted = false;
+    s[n++] = x;
+  }
+  const v = n < xs.length ? s.subarray(0, n) : s;
+  if (!sorted) v.sort();
   const out: number[] = [];
-  for (const x of s) {
+  for (let i = 0; i < n; i++) {
+    const x = v[i];
     if (out.length && Math.abs(x - out[out.length - 1]) <= 1e-12 * Math.max(1, Math.abs(x))) continue;
     out.push(x);
   }
   return out;
 }
-

@@ -3,7 +3,7 @@
  * the horizon, and the P&L density under the view (a histogram of its continuous part between
  * the 0.5% and 99.5% quantiles, atoms listed apart).
  */
-import { density as spotDensity, quantile as spotQuantile, type SpotDist } from '../dist.js';
+import { logDensity, quantile as spotQuantile, type SpotDist } from '../dist.js';
 import { dedupe } from '../numeric/sorted.js';
 import type { Curves } from '../types.js';
 import type { Atom, PnlEngine } from './engine.js';
@@ -17,7 +17,8 @@ const PNL_BINS = 120;
 export interface CurvesInput {
   dView: SpotDist;
   dRn: SpotDist;
-  pnl: (s: number) => number;
+  /** the P&L at S, with x = ln S given too */
+  pnlAt: (x: number, s: number) => number;
   strikes: number[];
   breakevens: number[];
   spot: number;
@@ -49,10 +50,11 @@ function spotPoints(c: CurvesInput): number[] {
 /** P&L density under the view: histogram of the continuous part, atoms listed apart */
 function pnlDensity(c: CurvesInput): Curves['pnlDensity'] {
   const { eng, tolY } = c;
-  const { atoms, cache, Q } = c.figures;
+  const { atoms, cache } = c.figures;
   const listed = atoms.filter((a: Atom) => a.prob >= ATOM_LIST_MIN);
-  let ya = Q(0.005);
-  let yb = Q(0.995);
+  // the chart's outer quantiles need not be as tight as the reported ones (1e-7 of the scale)
+  let ya = c.figures.quantile(0.005, 100 * tolY);
+  let yb = c.figures.quantile(0.995, 100 * tolY);
   if (!(yb - ya > 1e-9 * Math.max(1, Math.abs(ya), Math.abs(yb)))) {
     const w = 0.01 * Math.max(1, Math.abs(ya));
     ya -= w;
@@ -87,12 +89,18 @@ function pnlDensity(c: CurvesInput): Curves['pnlDensity'] {
 }
 
 export function buildCurves(c: CurvesInput): Curves {
-  const spotPts = spotPoints(c);
-  return {
-    spot: spotPts,
-    densityView: spotPts.map((s) => spotDensity(c.dView, s)),
-    densityRiskNeutral: spotPts.map((s) => spotDensity(c.dRn, s)),
-    pnl: spotPts.map(c.pnl),
-    pnlDensity: pnlDensity(c),
-  };
+  const spot = spotPoints(c);
+  const n = spot.length;
+  const densityView: number[] = new Array(n);
+  const densityRiskNeutral: number[] = new Array(n);
+  const pnl: number[] = new Array(n);
+  for (let i = 0; i < n; i++) {
+    // one logarithm per point for both densities and the P&L (density(d, x) is logDensity(d, ln x)/x)
+    const s = spot[i];
+    const x = Math.log(s);
+    densityView[i] = s > 0 && s !== Infinity ? logDensity(c.dView, x) / s : 0;
+    densityRiskNeutral[i] = s > 0 && s !== Infinity ? logDensity(c.dRn, x) / s : 0;
+    pnl[i] = c.pnlAt(x, s);
+  }
+  return { spot, densityView, densityRiskNeutral, pnl, pnlDensity: pnlDensity(c) };
 }

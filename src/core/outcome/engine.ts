@@ -24,6 +24,10 @@ export interface PnlEngine {
 /** The P&L at the horizon as a function of the spot then, with its behaviour for a large spot. */
 export interface PnlFn {
   f: (s: number) => number;
+  /** the same P&L at x = ln S (cheaper where a leg's model has a log-spot form) */
+  fx: (x: number) => number;
+  /** the P&L at S with x = ln S given too (equal to f(S) to the last digit) */
+  fAt: (x: number, s: number) => number;
   /** P&L(S) ≈ A + B·S as S → ∞ */
   A: number;
   B: number;

@@ -16,8 +16,8 @@ export interface WalkFigures {
   atoms: Atom[];
   /** the P&L cdf's evaluations so far (brackets later quantile solves) */
   cache: CdfCache;
-  /** lower quantile of the P&L */
-  Q: (p: number) => number;
+  /** lower quantile of the P&L, to `tol` (money) */
+  quantile: (p: number, tol: number) => number;
   probProfit: number;
   /** quantiles at 5, 25, 50, 75 and 95% */
   qs: number[];
@@ -41,12 +41,13 @@ export function walkFigures(e: PnlEngine, seeds: number[], scale: number): WalkF
   cache.at(yLo);
   cache.at(yHi);
   for (const y of dedupe([...atomLevels, ...seeds])) if (y > yLo && y < yHi) cache.at(y);
-  const Q = (p: number): number => lowerQuantile(cache, p, tolY, atomLevels);
+  const quantile = (p: number, tol: number): number => lowerQuantile(cache, p, tol, atomLevels);
+  const Q = (p: number): number => quantile(p, tolY);
   const probProfit = Math.min(1, Math.max(0, 1 - cache.at(1e-14 * scale)));
   const qs = LEVELS.map(Q);
   const q05 = qs[0];
   const tailMean05 = (e.expectBelow(q05, true) + q05 * (ALPHA - e.probBelow(q05, true))) / ALPHA;
-  return { atoms, cache, Q, probProfit, qs, tailMean05 };
+  return { atoms, cache, quantile, probProfit, qs, tailMean05 };
 }
 
 /** The five quantiles as the result record names them. */

@@ -3,7 +3,8 @@
  * P&L(S_h) = Σ qty × mult × (V_leg(S_h) − entry), with V_leg from the pricer seam (pricer.ts).
  * Identical legs are merged first, so that exact offsets vanish.
  */
-import { legAsymptote, legValuer, type LegModel } from '../pricer.js';
+import { bsmAcrossValue } from '../bsm.js';
+import { legAcross, legAsymptote, legValuer, type LegModel } from '../pricer.js';
 import type { LegInput } from '../types.js';
 import type { PnlFn } from './engine.js';
 
@@ -41,12 +42,19 @@ export function positionPnl(legs: LegInput[], coefs: number[], entries: number[]
     absCoef += Math.abs(coefs[i]);
   });
   const active = groupLegs(legs, coefs);
-  const terms = active.map((g) => ({ coef: g.coef, v: legValuer(g.leg, model, h) }));
+  const terms = active.map((g) => ({ coef: g.coef, v: legValuer(g.leg, model, h), bsm: legAcross(g.leg, model, h) }));
   const f = (s: number): number => {
     let t = c0;
     for (const x of terms) t += x.coef * x.v(s);
     return t;
   };
+  // the same sum with x = ln S known: log-spot valuers take it, the others S
+  const fAt = (x: number, s: number): number => {
+    let t = c0;
+    for (const term of terms) t += term.coef * (term.bsm ? bsmAcrossValue(term.bsm, x, s) : term.v(s));
+    return t;
+  };
+  const fx = (x: number): number => fAt(x, Math.exp(x));
   let A = c0;
   let B = 0;
   for (const g of active) {
@@ -55,5 +63,5 @@ export function positionPnl(legs: LegInput[], coefs: number[], entries: number[]
     B += g.coef * as.slope;
   }
   const scale = absCoef > 0 ? absCoef * model.market.spot : Math.max(1, Math.abs(c0));
-  return { pf: { f, A, B, tolB: 1e-12 * Math.max(absCoef, 1e-300), scale }, active, c0 };
+  return { pf: { f, fx, fAt, A, B, tolB: 1e-12 * Math.max(absCoef, 1e-300), scale }, active, c0 };
 }

@@ -22,23 +22,36 @@ export interface SmoothInput extends MeshInput {
   pf: PnlFn;
 }
 
-/** Chart-grade root in a sample cell of g = fx − y: one evaluation, then inverse quadratic interpolation. */
-function quickRoot(g: (x: number) => number, a: number, b: number, fa: number, fb: number): number {
-  if (fa === fb) return a;
-  const m = a + ((b - a) * fa) / (fa - fb);
-  if (!(m > a && m < b)) return m;
-  const fm = g(m);
-  const r =
-    (a * fm * fb) / ((fa - fm) * (fa - fb)) + (m * fa * fb) / ((fm - fa) * (fm - fb)) + (b * fa * fm) / ((fb - fa) * (fb - fm));
-  const [u, v, fu, fv] = fa * fm <= 0 ? [a, m, fa, fm] : [m, b, fm, fb];
-  if (r >= u && r <= v && Number.isFinite(r)) return r;
-  return fu === fv ? u : u + ((v - u) * fu) / (fu - fv);
+/** What the engine of one walk and its twin share: the mesh, the samples and the panel integrals. */
+interface Sampled {
+  pa: number[];
+  pb: number[];
+  X0: number;
+  X1: number;
+  quad: Quadrature;
+  sx: number[];
+  sfv: number[];
+  /** prefix sums of the panel integrals under the view ([0]) and the risk-neutral walk ([1]) */
+  pref: [Float64Array, Float64Array];
+  runs: number[];
+  /** P&L evaluations inside sample cells (SmoothEngine.crossing) */
+  cells: Map<number, { x: number[]; f: number[] }>;
+}
+
+function sampleAll(input: SmoothInput): Sampled {
+  const fx = input.pf.fx;
+  const mesh = buildMesh(input);
+  const quad = new Quadrature(input.view, input.rn, fx);
+  const s = sampleMesh(mesh, quad, fx);
+  addLocalExtrema(s.sx, s.sfv, fx, 1e-13 * input.pf.scale);
+  return { pa: mesh.pa, pb: mesh.pb, X0: mesh.X0, X1: mesh.X1, quad, sx: s.sx, sfv: s.sfv, pref: [s.prefV, s.prefR], runs: monotoneRuns(s.sfv), cells: new Map() };
 }
 
 export class SmoothEngine implements PnlEngine {
   readonly exact = false;
   private readonly f: (s: number) => number;
   private readonly fx: (x: number) => number;
+  /** the walk whose figures this engine gives ("view" in PnlEngine), and the other one */
   private readonly view: SplitDist;
   private readonly rn: SplitDist;
   private readonly pf: PnlFn;
@@ -52,27 +65,41 @@ export class SmoothEngine implements PnlEngine {
   private readonly prefV: Float64Array;
   private readonly prefR: Float64Array;
   private readonly runs: number[];
+  /** 0: the primary walk is the view of the quadrature, 1: its risk-neutral walk */
+  private readonly side: 0 | 1;
 
-  constructor(input: SmoothInput) {
-    const f = input.pf.f;
-    this.f = f;
-    this.fx = (x: number): number => f(Math.exp(x));
-    this.view = input.view;
-    this.rn = input.rn;
+  /** the engine of the view (side 0), or of the risk-neutral walk sharing `shared` (side 1) */
+  constructor(input: SmoothInput, side: 0 | 1 = 0, shared?: Sampled) {
+    const sm = shared ?? sampleAll(input);
+    this.side = side;
+    this.f = input.pf.f;
+    this.fx = input.pf.fx;
+    this.view = side === 0 ? input.view : input.rn;
+    this.rn = side === 0 ? input.rn : input.view;
     this.pf = input.pf;
-    const mesh = buildMesh(input);
-    this.pa = mesh.pa;
-    this.pb = mesh.pb;
-    this.X0 = mesh.X0;
-    this.X1 = mesh.X1;
-    this.quad = new Quadrature(input.view, input.rn, this.fx);
-    const s = sampleMesh(mesh, this.quad, this.fx);
-    addLocalExtrema(s.sx, s.sfv, this.fx, 1e-13 * input.pf.scale);
-    this.sx = s.sx;
-    this.sfv = s.sfv;
-    this.prefV = s.prefV;
-    this.prefR = s.prefR;
-    this.runs = monotoneRuns(s.sfv);
+    this.pa = sm.pa;
+    this.pb = sm.pb;
+    this.X0 = sm.X0;
+    this.X1 = sm.X1;
+    this.quad = sm.quad;
+    this.sx = sm.sx;
+    this.sfv = sm.sfv;
+    this.prefV = sm.pref[side];
+    this.prefR = sm.pref[1 - side];
+    this.runs = sm.runs;
+    this.input = input;
+    this.sampled = sm;
+  }
+
+  private readonly input: SmoothInput;
+  private readonly sampled: Sampled;
+
+  /**
+   * The engine of the risk-neutral walk on the same samples: no second revaluation (the mesh
+   * already follows both walks' scales).
+   */
+  twin(): SmoothEngine {
+    return new SmoothEngine(this.input, this.side === 0 ? 1 : 0, this.sampled);
   }
 
   private panelOf(x: number): number {
@@ -91,7 +118,7 @@ export class SmoothEngine implements PnlEngine {
   private panelPart(u: number, v: number, k: number): number {
     if (!(v > u)) return 0;
     if (u === this.pa[k] && v === this.pb[k]) return this.prefV[k + 1] - this.prefV[k];
-    return this.quad.panel(u, v)[0];
+    return this.quad.panel(u, v)[this.side];
   }
 
   /** ∫ P&L · f_view over ln S ∈ [xa, xb] */
@@ -105,12 +132,58 @@ export class SmoothEngine implements PnlEngine {
     return this.panelPart(a, this.pb[i], i) + (this.prefV[j] - this.prefV[i + 1]) + this.panelPart(this.pa[j], b, j);
   }
 
+  /**
+   * The P&L evaluations made inside each sample cell (keyed by the cell's left sample index),
+   * ascending in x, starting with the two samples: later solves in the same cell start from the
+   * tightest bracket known, and chart-grade crossings interpolate in it without evaluating.
+   */
+  private get cells(): Map<number, { x: number[]; f: number[] }> {
+    return this.sampled.cells;
+  }
+
+  private cellOf(lo: number): { x: number[]; f: number[] } {
+    let c = this.cells.get(lo);
+    if (!c) {
+      c = { x: [this.sx[lo], this.sx[lo + 1]], f: [this.sfv[lo], this.sfv[lo + 1]] };
+      this.cells.set(lo, c);
+    }
+    return c;
+  }
+
+  /** The crossing of level y in the cell starting at sample lo (the P&L is monotone there). */
+  private crossing(lo: number, y: number, precise: boolean): number {
+    const c = this.cellOf(lo);
+    // the P&L is monotone in the cell: the last point on the first point's side of y, by bisection
+    const s0 = c.f[0] - y;
+    let i = 0;
+    let j = c.x.length - 1;
+    while (j - i > 1) {
+      const m = (i + j) >> 1;
+      if ((c.f[m] - y) * s0 > 0) i = m;
+      else j = m;
+    }
+    const xa = c.x[i];
+    const xb = c.x[i + 1];
+    const fa = c.f[i] - y;
+    const fb = c.f[i + 1] - y;
+    if (!precise) return fa === fb ? xa : xa + ((xb - xa) * fa) / (fa - fb);
+    const g = (x: number): number => {
+      const v = this.fx(x);
+      let k = i + 1;
+      while (k < c.x.length && c.x[k] < x) k++;
+      while (k > 0 && c.x[k - 1] > x) k--;
+      c.x.splice(k, 0, x);
+      c.f.splice(k, 0, v);
+      return v - y;
+    };
+    return brentRoot(g, xa, xb, fa, fb, TOL_X);
+  }
+
   /** ln-spot intervals where P&L ≤ y (strict: < y), ends at ±Infinity beyond the samples */
   private below(y: number, strict: boolean, precise: boolean): [number, number][] {
-    const { sx, sfv, runs } = this;
+    const { sfv, runs } = this;
     const out: [number, number][] = [];
     const isIn = (v: number): boolean => (strict ? v < y : v <= y);
-    const g = (x: number): number => this.fx(x) - y;
     let inside = isIn(sfv[0]);
     let start = -Infinity;
     for (let k = 0; k < runs.length; k += 2) {
@@ -123,9 +196,7 @@ export class SmoothEngine implements PnlEngine {
         if (isIn(sfv[mid]) === a) lo = mid;
         else hi = mid;
       }
-      const fa = sfv[lo] - y;
-      const fb = sfv[hi] - y;
-      const r = precise ? brentRoot(g, sx[lo], sx[hi], fa, fb, TOL_X) : quickRoot(g, sx[lo], sx[hi], fa, fb);
+      const r = this.crossing(lo, y, precise);
       if (inside) out.push([start, r]);
       else start = r;
       inside = !inside;
@@ -162,7 +233,7 @@ export class SmoothEngine implements PnlEngine {
 
   breakevens(): number[] {
     const out: number[] = [];
-    const { f, sx, sfv } = this;
+    const { f, sfv } = this;
     // left tail (0, e^{X0}]
     const f0 = f(0);
     if (this.sgn(f0) * this.sgn(sfv[0]) < 0) {
