@@ -32,6 +32,37 @@ export interface RiskNeutralOutcome {
   tailMean05: number;
 }
 
+/** Exit figures under one walk (DESIGN.md §4 `exits`). */
+export interface ExitFiguresJson {
+  probTarget: number;
+  probStop: number;
+  probNeither: number;
+  /** expected P&L when closed at the first level reached, else at the horizon (money) */
+  expectedPnl: number;
+  /** median time to exit (years from asof) when it falls before the horizon, else null */
+  medianExitYears: number | null;
+  /** 'finite-differences' (no jumps) or 'monte-carlo' (jumps; with standard errors) */
+  method: 'finite-differences' | 'monte-carlo';
+  paths?: number;
+  stderr?: { probTarget: number; probStop: number; probNeither: number; expectedPnl: number };
+}
+
+/** Targets and stops: the levels in money, the P&L now, and the figures under both walks. */
+export interface ExitsJson {
+  /** money P&L of the whole position; null when not given */
+  target: number | null;
+  stop: number | null;
+  /** the levels as written: money, or a percentage of the position's |cost| (0.5 = 50%) */
+  written: { target?: { value: number; pct: boolean }; stop?: { value: number; pct: boolean } };
+  /** the P&L now (position value − cost), where every path starts */
+  currentPnl: number;
+  /** the market walk's vol (the request's iv, else the mark's, else the iv of the option leg nearest the money) */
+  marketVol: number;
+  monitoring: 'continuous';
+  view: ExitFiguresJson;
+  market: ExitFiguresJson;
+}
+
 export interface CheckJson {
   kind: 'check';
   symbol?: string;
@@ -50,6 +81,8 @@ export interface CheckJson {
   outcomeRiskNeutral: RiskNeutralOutcome;
   /** with a drift uncertainty: the same figures with the drift taken as known, for comparison */
   knownDrift?: { probProfit: number; pnlQuantiles: { p05: number; p95: number } };
+  /** targets and stops, when the request gives one */
+  exits?: ExitsJson;
 }
 
 export interface CheckAssembly {

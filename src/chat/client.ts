@@ -3,7 +3,7 @@
  * bounded.
  *
  * - Connection failures, timeouts and 5xx answers: retried by the library's own policy
- *   (RETRY_CONFIG in app.ts: 3 retries, 0.2 s … 2 s apart), each call cut off after API_TIMEOUT_MS.
+ *   (RETRY_CONFIG in platform.ts: 3 retries, 0.2 s … 2 s apart), each call cut off after API_TIMEOUT_MS.
  * - 429 with Retry-After: the library, left to itself, pauses *every* call of the client for as
  *   long as the header says — one channel's rate limit would hold up all channels, and a
  *   `Retry-After: 3600` would hold them for an hour. Here the library is told to reject rate-limited

@@ -44,7 +44,7 @@ const K_STOP = 2;
  */
 export function exitFiguresMc(input: CheckInput, levels: Levels, walk: Walk, opts: ExitMcOptions = {}, regionWalks?: Walk[]): ExitFigures {
   const paths = Math.max(2, Math.floor(opts.paths ?? 20000));
-  const nt = Math.max(4, Math.floor(opts.nt ?? 100));
+  const nt = Math.max(4, Math.floor(opts.nt ?? 48));
   const reg = exitRegion(input, levels, regionWalks ?? [walk], { ...opts, nt });
   const { t, segs, surface, x0 } = reg;
   const M = t.length - 1;
@@ -55,7 +55,7 @@ export function exitFiguresMc(input: CheckInput, levels: Levels, walk: Walk, opt
   const jm = j ? j.mean : 0;
   const jsd = j ? j.sd : 0;
   const kappa = j ? jumpCompensator(j) : 0;
-  const nu = walk.drift - q - 0.5 * sig * sig - lam * kappa;
+  const nu0 = walk.drift - q - 0.5 * sig * sig - lam * kappa;
   const s2 = sig * sig;
   const tv = levels.target ?? 0;
   const sv = levels.stop ?? 0;
@@ -101,7 +101,10 @@ export function exitFiguresMc(input: CheckInput, levels: Levels, walk: Walk, opt
       stderr: { probTarget: 0, probStop: 0, probNeither: 0, expectedPnl: 0 },
     };
   }
+  // a drift uncertainty (μ ~ N(μ₀, τ²), fixed over the path): μ drawn per path, the exact mixture
+  const tau = walk.driftSe !== undefined && walk.driftSe > 0 ? walk.driftSe : 0;
   for (let p = 0; p < paths; p++) {
+    const nu = tau > 0 ? nu0 + tau * rng.normal() : nu0;
     let x = x0;
     let w = 1;
     let eT = 0;
@@ -228,6 +231,7 @@ export function exitFiguresMc(input: CheckInput, levels: Levels, walk: Walk, opt
     expectedPnl: sE / n,
     medianExitYears: medianFromSurvival(t, surv),
     method: 'monte-carlo',
+    paths: n,
     stderr: { probTarget: se(sT, sT2), probStop: se(sS, sS2), probNeither: se(sN, sN2), expectedPnl: se(sE, sE2) },
   };
 }

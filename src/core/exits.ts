@@ -49,6 +49,8 @@ export interface ExitFigures {
   medianExitYears: number | null;
   /** 'pde': finite differences on the backward equation; 'monte-carlo': seeded simulation */
   method: 'pde' | 'monte-carlo';
+  /** paths simulated (Monte Carlo only) */
+  paths?: number;
   /** standard errors (Monte Carlo only) */
   stderr?: { probTarget: number; probStop: number; probNeither: number; expectedPnl: number };
 }

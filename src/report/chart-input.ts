@@ -17,5 +17,6 @@ export function checkChartInput(a: CheckAssembly) {
     probProfit: c.outcome.probProfit,
     expectedPnl: c.outcome.expectedPnl,
     curves: a.curves,
+    ...(c.exits ? { exits: { target: c.exits.target, stop: c.exits.stop } } : {}),
   };
 }

@@ -51,8 +51,8 @@ export interface KolmoPluginOptions {
   /** x-intervals shaded across the plot height (the profit region) */
   bands: { from: number; to: number }[];
   bandColor: string;
-  /** horizontal reference lines (the P&L zero line) */
-  hlines: { axis: string; y: number; color: string; dash: number[]; width: number }[];
+  /** horizontal reference lines (the P&L zero line; a target and a stop, labelled at the right) */
+  hlines: { axis: string; y: number; color: string; dash: number[]; width: number; label?: string }[];
   /** point masses of a distribution, drawn as stems with a dot */
   stems: ChartStem[];
   /** height in pixels reserved above the plot area for marker labels */
@@ -96,6 +96,8 @@ export interface ChartInput {
   curves: Curves;
   /** the underlying's currency, e.g. "USD" (optional; used in axis titles and money) */
   currency?: string;
+  /** a target and a stop (money P&L), drawn as levels on the P&L axis */
+  exits?: { target: number | null; stop: number | null };
 }
 
 /** One check of a comparison. */
@@ -132,6 +134,9 @@ const VIEW_FILL = 'rgba(0,114,178,0.22)';
 const RN_LINE = OKABE_ITO.vermillion;
 const PNL_LINE = '#111111';
 const PROFIT_BAND = 'rgba(0,158,115,0.14)';
+/** exit levels on the P&L axis: a target in the profit band's green, a stop in orange, both dashed */
+const TARGET_LINE = OKABE_ITO.bluishGreen;
+const STOP_LINE = OKABE_ITO.orange;
 
 /** Colour and dash of each check in a comparison (up to six). */
 export const COMPARE_STYLES: { color: string; dash: number[] }[] = [
@@ -521,8 +526,9 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
   const inRange = keep.filter((i) => sx[i] >= xMin && sx[i] <= xMax);
   const dMax = Math.max(0, ...inRange.map((i) => Math.max(sv[i], sr[i])));
   const pVals = inRange.map((i) => sp[i]);
-  const pLo = Math.min(0, ...pVals);
-  const pHi = Math.max(0, ...pVals);
+  const levels = [input.exits?.target, input.exits?.stop].filter((v): v is number => isNum(v));
+  const pLo = Math.min(0, ...pVals, ...levels);
+  const pHi = Math.max(0, ...pVals, ...levels);
   const allZero = pVals.length > 0 && pVals.every((v) => v === 0);
   const span = pHi - pLo;
   const pr = span > 0 ? niceRange(pLo - span * 0.03, pHi + span * 0.06, 8) : niceRange(-1, 1, 4);
@@ -539,7 +545,11 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
     ...emptyPluginOptions(size),
     markers,
     bands,
-    hlines: [{ axis: 'yPnl', y: 0, color: '#7a7a7a', dash: [], width: 1.2 }],
+    hlines: [
+      { axis: 'yPnl', y: 0, color: '#7a7a7a', dash: [], width: 1.2 },
+      ...(isNum(input.exits?.target) ? [{ axis: 'yPnl', y: input.exits.target, color: TARGET_LINE, dash: [7, 4], width: 1.8, label: `target ${fmtMoney(input.exits.target, cur)}` }] : []),
+      ...(isNum(input.exits?.stop) ? [{ axis: 'yPnl', y: input.exits.stop, color: STOP_LINE, dash: [7, 4], width: 1.8, label: `stop ${fmtMoney(input.exits.stop, cur)}` }] : []),
+    ],
     labelStrip: 56,
     ...(empty ? { empty } : {}),
   };
@@ -587,6 +597,14 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
       order: 4,
     },
   ];
+  // legend entries of the exit levels (the lines themselves are the plugin's)
+  for (const [name, v, color] of [
+    ['target', input.exits?.target, TARGET_LINE],
+    ['stop', input.exits?.stop, STOP_LINE],
+  ] as const) {
+    if (!isNum(v)) continue;
+    datasets.push({ label: `${name} (P&L level, right axis)`, data: [], yAxisID: 'yPnl', borderColor: color, backgroundColor: 'rgba(0,0,0,0)', borderWidth: 1.8, borderDash: [7, 4], fill: false, order: 5 });
+  }
   for (const d of datasets) {
     Object.assign(d, { parsing: false, normalized: true, pointRadius: 0, pointHoverRadius: 0, tension: 0, spanGaps: false });
   }

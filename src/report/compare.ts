@@ -75,9 +75,21 @@ export function compareText(parts: ComparePart[]): string {
     ['worst-5% average', ...o((c) => m(c.outcome.tailMean05))],
     ['max loss', ...o((c) => (c.outcome.maxLoss === null ? 'unbounded' : m(c.outcome.maxLoss)))],
   ];
+  if (parts.some((p) => p.json.exits)) {
+    // targets and stops (view; monitoring is continuous)
+    const e = (f: (x: NonNullable<CheckJson['exits']>) => string) => o((c) => (c.exits ? f(c.exits) : '—'));
+    rows.push(
+      ['target', ...e((x) => (x.target === null ? 'none' : m(x.target)))],
+      ['stop', ...e((x) => (x.stop === null ? 'none' : m(x.stop)))],
+      ['target first', ...e((x) => pct(x.view.probTarget))],
+      ['stop first', ...e((x) => pct(x.view.probStop))],
+      ['expected P&L at exit', ...e((x) => m(x.view.expectedPnl))],
+    );
+  }
   lines.push(...table(rows));
   lines.push('');
   const common = [...same, 'P&L at each horizon, undiscounted, no financing'];
+  if (parts.some((p) => p.json.exits)) common.push('targets and stops under the view, monitoring is continuous');
   if (parts.some((p) => p.json.legs.some((l) => l.type === 'shares'))) common.push('dividends on shares left out of P&L');
   lines.push(`Same in every check: ${common.join(' · ')}.`);
   // notes: once when every part has it, else with the part's number

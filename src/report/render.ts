@@ -185,6 +185,13 @@ function makePlugin(family: string): Plugin {
         ctx.moveTo(a.left, py);
         ctx.lineTo(a.right, py);
         ctx.stroke();
+        if (h.label) {
+          ctx.font = `12px "${family}"`;
+          ctx.fillStyle = h.color;
+          ctx.textAlign = 'right';
+          ctx.textBaseline = 'bottom';
+          ctx.fillText(h.label, a.right - 4, py - 3);
+        }
       }
       ctx.restore();
     },

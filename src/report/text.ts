@@ -4,6 +4,7 @@
  */
 import type { CheckJson } from '../result.js';
 import { describePosition } from './describe.js';
+import { exitsLine } from './exits.js';
 import { level, money, num, pct, rate, shortDate, table } from './format.js';
 
 function daysBetween(a: string, b: string): number {
@@ -100,6 +101,7 @@ export function checkText(c: CheckJson): string {
   lines.push(
     `max gain: ${o.maxGain === null ? 'unbounded' : s(o.maxGain)} · max loss: ${o.maxLoss === null ? 'unbounded' : s(o.maxLoss)}`,
   );
+  if (c.exits) lines.push(exitsLine(c.exits));
   lines.push('');
   lines.push(assumptionsLine(c));
   for (const n of c.notes) lines.push(`Note: ${n}`);

@@ -66,7 +66,10 @@ function sameCheck(a: CheckRequest, b: CheckRequest): boolean {
   const strip = (c: CheckRequest) => {
     const { style, ...rest } = c.terms;
     const terms = style === 'european' ? rest : c.terms;
-    const sorted = Object.fromEntries(Object.entries(terms).sort(([x], [y]) => x.localeCompare(y)));
+    // an exit level keeps where its value was written: not part of its meaning
+    const meaning = ([k, v]: [string, unknown]): [string, unknown] =>
+      (k === 'target' || k === 'stop') && v && typeof v === 'object' ? [k, { ...(v as object), at: 0, len: 0 }] : [k, v];
+    const sorted = Object.fromEntries(Object.entries(terms).map(meaning).sort(([x], [y]) => x.localeCompare(y)));
     return JSON.stringify({ legs: c.legs.map(({ at: _a, termsAt: _t, ...l }) => l), terms: sorted });
   };
   return strip(a) === strip(b);

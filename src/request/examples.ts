@@ -38,6 +38,8 @@ export const SAMPLE: Record<string, string> = {
   style: 'american',
   jumps: '0.5/yr -8% 12%',
   on: 'FERNWK',
+  target: '+400',
+  stop: '-300',
   price: '3.10',
   by: '2027-03-19',
   strike: '100',

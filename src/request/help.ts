@@ -16,6 +16,7 @@ export const HELP_TOPICS = [
   'uncertainty',
   'jumps',
   'american',
+  'exits',
   'units',
 ] as const;
 
@@ -39,7 +40,8 @@ const SECTIONS: Record<HelpTopic, Section> = {
       'TERMS (any order, each once): spot P · rate PCT · yield PCT · iv PCT (legs without one) ·',
       '       exp DATE|SPAN (legs without one) · drift PCT [± PCT] · vol PCT (the view) ·',
       '       horizon DATE|SPAN · asof DATE|today · mult N · style american|european ·',
-      '       jumps RATE/yr MEAN% SD% · on SYMBOL (market terms from the channel\'s mark)',
+      '       jumps RATE/yr MEAN% SD% · on SYMBOL (market terms from the channel\'s mark) ·',
+      '       target MONEY|PCT · stop MONEY|PCT (exit levels; see help exits)',
       'Defaults: asof today · rate and yield 0% (said in the notes) · horizon the earliest expiry',
       '       (required for shares alone) · vol the position\'s iv, else the iv of the leg nearest',
       '       the money · drift the rate (then the outcome is the risk-neutral one) · mult 100 ·',
@@ -144,6 +146,26 @@ const SECTIONS: Record<HelpTopic, Section> = {
       'total return stays the drift or the rate.',
     ],
     examples: ['+1 put 80 3m iv 30% spot 84.20 jumps 0.5/yr -8% 12%', 'touch 60 by 6m spot 84.20 vol 28% jumps 1/yr -10% 15%'],
+  },
+  exits: {
+    title: 'target and stop — the chance of closing at a profit level or a loss level first',
+    lines: [
+      'target P&L · stop P&L, on a check, a comparison or again; either may be given alone.',
+      'In money for the whole position (target +400 stop -300; unsigned, a target is a profit and',
+      'a stop a loss) or in % of the position\'s cost (target 50% stop 100%).',
+      'The answer gives, under your view and under the market walk (drift = rate, the market vol):',
+      'the chance that the P&L reaches the target first, the stop first, or neither by the horizon;',
+      'the expected P&L when closed at the first level reached (else at the horizon); and the median',
+      'time to exit when it falls before the horizon. Every leg is revalued along the way; monitoring',
+      'is continuous. With jumps a jump can pass a level and closes where it lands (Monte Carlo,',
+      'with its standard error). A target must lie above the P&L now, a stop below it and not below',
+      'the maximum loss. European exercise only.',
+    ],
+    examples: [
+      '+1 put 72 45d @0.55 iv 34% -1 put 78 45d @1.40 iv 31% -1 call 90 45d @1.25 iv 28% +1 call 96 45d @0.45 iv 27% spot 84.20 rate 4.5% yield 1.2% drift 10% target +80 stop -200',
+      '+1 call 90 3m @3.10 iv 30% spot 84.20 rate 4.5% drift 12% target 50% stop 40%',
+      '100 shares @84.20 spot 84.20 vol 25% drift 8% horizon 3m target +800 stop 500',
+    ],
   },
   american: {
     title: 'style american — early exercise',

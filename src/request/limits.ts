@@ -50,6 +50,10 @@ export const LIMITS = {
   expiryYears: 30,
   /** (resolver) strike / spot must lie in [1/strikeToSpot, strikeToSpot] */
   strikeToSpot: 100,
+  /** a target or stop in money: |level| at most this (Σ |qty| × mult × price is below 1e17) */
+  exitMoneyMax: 1e15,
+  /** a target or stop in % of the position's |cost|: at most 10,000% */
+  exitPctMax: 100,
 } as const;
 
 /** Largest span per unit (from LIMITS.spanYears). */

@@ -27,6 +27,7 @@ import { NUMBER, PERCENT, PER_YEAR, SPAN, percentValue, tokenize, type Tok } fro
 import { requestSchema } from './schema.js';
 import { verbNamed, verbNames, verbOfWord } from '../verbs/registry.js';
 import type {
+  ExitLevelSpec,
   AgainRequest,
   CheckRequest,
   CompareRequest,
@@ -153,6 +154,8 @@ const TERM_WORDS: Record<string, TermName> = {
   style: 'style',
   jumps: 'jumps',
   on: 'on',
+  target: 'target',
+  stop: 'stop',
 };
 
 /** Extra terms of particular verbs. */
@@ -173,6 +176,8 @@ const ALL_TERMS: readonly TermName[] = [
   'style',
   'jumps',
   'on',
+  'target',
+  'stop',
 ];
 
 const ALLOWED: Record<'check' | 'iv' | 'touch' | 'mark' | 'again', readonly AnyTerm[]> = {
@@ -551,7 +556,42 @@ function readTermValue(c: Cursor, name: AnyTerm, t: Tok, into: Collected): void 
     case 'price':
       into.price = readPrice(c, t, 'price', SAMPLE.price);
       return;
+    case 'target':
+    case 'stop':
+      terms[name] = readExitLevel(c, t, name);
+      return;
   }
+}
+
+/**
+ * An exit level: money P&L of the whole position (`target +400`, `stop -300`; unsigned, a target
+ * is a profit and a stop a loss) or a percentage of the position's |cost| (`target 50%`,
+ * `stop 100%`). Whether it makes sense for the position (above or below the P&L now, within the
+ * maximum loss) is checked once the position is valued.
+ */
+function readExitLevel(c: Cursor, term: Tok, name: 'target' | 'stop'): ExitLevelSpec {
+  const t = c.peek();
+  const sample = name === 'target' ? SAMPLE.target : SAMPLE.stop;
+  const form = `${name} needs a P&L in money (${name} ${sample}) or a percentage of the position's cost (${name} ${name === 'target' ? '50%' : '100%'})`;
+  if (!t || t.text === ';') throw c.missing(term, form, sample);
+  const pct = PERCENT.test(t.text);
+  if (!pct && !NUMBER.test(t.text)) {
+    if (isKeyword(t.low) || t.text === '@') throw c.reject(t, `${form}, before '${t.text}'`, insertBefore(t, sample));
+    throw c.reject(t, `${form}; found '${t.text}'`, replaceTok(t, sample));
+  }
+  const v = pct ? percentValue(t) : Number(t.text);
+  const signed = /^[+-]/.test(t.text);
+  if (!Number.isFinite(v)) throw c.reject(t, `${t.text} is too large for ${name}`, replaceTok(t, sample));
+  if (v === 0) throw c.reject(t, `a ${name} of ${t.text} is the P&L of a position entered at fair value: give a level away from zero`, replaceTok(t, sample));
+  if (pct ? Math.abs(v) > LIMITS.exitPctMax : Math.abs(v) > LIMITS.exitMoneyMax) {
+    throw c.reject(
+      t,
+      `${name} ${t.text} is beyond the limit of ${pct ? `${fmtNum(LIMITS.exitPctMax * 100)}% of the cost` : fmtBig(LIMITS.exitMoneyMax)}`,
+      replaceTok(t, pct ? (name === 'target' ? '50%' : '100%') : sample),
+    );
+  }
+  c.next();
+  return { value: v, pct, signed, at: t.at, len: t.len };
 }
 
 function readJumps(c: Cursor, term: Tok): Jumps {

@@ -28,7 +28,7 @@ import { MAX_YEAR, checkDate, daysBetween, resolveSpec, yearOf } from './dates.j
 import { EXAMPLES, SAMPLE, type ExampleKey } from './examples.js';
 import { LIMITS } from './limits.js';
 import { Reject, parse, toParseError, type Edit } from './parse.js';
-import type { CheckRequest, ExpirySpec, IvRequest, ParseError, TouchRequest } from './types.js';
+import type { CheckRequest, ExitLevelSpec, ExpirySpec, IvRequest, ParseError, TouchRequest } from './types.js';
 
 export interface MarkTerms {
   spot?: number;
@@ -63,6 +63,13 @@ export interface ResolvedCheck {
   legExpiries: (string | null)[];
   notes: string[];
   symbol?: string;
+  /**
+   * the market walk's vol (DESIGN.md §4 `marketVol`): the request's iv, else the mark's, else the
+   * iv of the option leg nearest the money; a check of shares alone: the view's vol
+   */
+  marketVol: number;
+  /** exit levels as written (`target`, `stop`); made money once the position is valued */
+  exits?: { target?: ExitLevelSpec; stop?: ExitLevelSpec };
 }
 
 export interface ResolvedIv {
@@ -443,7 +450,20 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     view: { ...(terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol }), ...dv.se },
   };
   checkSpread(R, input, req.termsAt);
-  return { asof, horizon, input, legExpiries, notes, symbol: base.symbol };
+  let marketVol = terms.iv ?? base.markIv;
+  if (marketVol === undefined) {
+    let bestD = Infinity;
+    for (const l of legs) {
+      if (l.kind === 'shares') continue;
+      const d = Math.abs(Math.log(l.strike / spot));
+      if (d < bestD) {
+        bestD = d;
+        marketVol = l.iv;
+      }
+    }
+  }
+  const exits = terms.target || terms.stop ? { ...(terms.target ? { target: terms.target } : {}), ...(terms.stop ? { stop: terms.stop } : {}) } : undefined;
+  return { asof, horizon, input, legExpiries, notes, symbol: base.symbol, marketVol: marketVol ?? vol, ...(exits ? { exits } : {}) };
 }
 
 /**

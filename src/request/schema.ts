@@ -33,6 +33,14 @@ const jumps = z.strictObject({
   sd: z.number().min(0).max(LIMITS.jumpSdMax),
 });
 
+const exitLevel = z.strictObject({
+  value: z.number().refine((v) => v !== 0 && Number.isFinite(v)),
+  pct: z.boolean(),
+  signed: z.boolean(),
+  at: pos,
+  len: z.number().int().min(1),
+});
+
 export const termsSchema = z.strictObject({
   spot: price.optional(),
   rate: rate.optional(),
@@ -48,6 +56,8 @@ export const termsSchema = z.strictObject({
   style: z.enum(['american', 'european']).optional(),
   jumps: jumps.optional(),
   on: symbol.optional(),
+  target: exitLevel.optional(),
+  stop: exitLevel.optional(),
 });
 
 const termsAt = z.record(z.string(), pos);

@@ -26,6 +26,20 @@ export interface LegSpec {
   termsAt: Partial<Record<'strike' | 'expiry' | 'entry' | 'iv', number>>;
 }
 
+/**
+ * An exit level as written (`target +400`, `stop -300`, `target 50%`): money P&L of the whole
+ * position, or a percentage of the position's |cost| (`pct`, as a decimal: 50% → 0.5). `signed`
+ * says whether a sign was written; unsigned, a target is a profit and a stop a loss.
+ */
+export interface ExitLevelSpec {
+  value: number;
+  pct: boolean;
+  signed: boolean;
+  /** index and length of the value's token (for a caret once the position's P&L is known) */
+  at: number;
+  len: number;
+}
+
 /** Terms that may follow the legs, in any order. All optional; the resolver fills defaults. */
 export interface Terms {
   spot?: number;
@@ -44,6 +58,10 @@ export interface Terms {
   style?: ExerciseStyle;
   jumps?: Jumps;
   on?: string;
+  /** close the position when its P&L reaches this level (a profit level) */
+  target?: ExitLevelSpec;
+  /** close the position when its P&L falls to this level (a loss level) */
+  stop?: ExitLevelSpec;
 }
 
 export type TermName = keyof Terms;

@@ -16,6 +16,7 @@ import { checkNoteText } from '../report/notes.js';
 import { money, pct, pts } from '../report/format.js';
 import type { CheckSummary } from '../store/store.js';
 import { checkCost } from './budget.js';
+import { computeExits, exitLevels } from './exits.js';
 import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
 import { answer, defineVerb, refuse, type Outcome, type VerbEnv } from './verb.js';
 
@@ -81,6 +82,17 @@ export function computeCheck(rc: ResolvedCheck): CheckAssembly {
   return { json, curves: core.curves };
 }
 
+/**
+ * Adds the exit figures of a check with a target or a stop (./exits.ts); a level that makes no
+ * sense for the position is refused with a caret under it (`part` names the comparison's part).
+ */
+export function addExits(text: string, rc: ResolvedCheck, asm: CheckAssembly, part?: number): void {
+  if (!rc.exits) return;
+  const lv = exitLevels(rc, asm.json, text);
+  if (!lv.ok) throw refuse(text, part === undefined ? lv.error : { ...lv.error, message: `part ${part} of the comparison: ${lv.error.message}` });
+  asm.json.exits = computeExits(rc, lv.levels);
+}
+
 /** What the log keeps of a check: its position in words, headline figures and inputs. */
 export function checkSummary(c: CheckJson): CheckSummary {
   return {
@@ -125,6 +137,7 @@ function runCheckVerb(text: string, req: CheckRequest, env: VerbEnv): Outcome {
   const r = resolveCheck(req, resolveContext(text, env, mark));
   if (!r.ok) throw refuse(text, r.error);
   const asm = computeCheck(r.check);
+  addExits(text, r.check, asm);
   const a = answer({
     verb: 'check',
     headline: checkHeadline(asm.json) + staleWords(mark, env.now),
@@ -141,6 +154,6 @@ export const check = defineVerb({
   grammar: parseCheckVerb,
   rerunnable: true,
   run: runCheckVerb,
-  cost: (req, _text, ctx) => ({ units: checkCost(req, ctx.now), at: req.termsAt.jumps ?? req.termsAt.style ?? 0, what: 'check' }),
+  cost: (req, _text, ctx) => ({ units: checkCost(req, ctx.now), at: req.termsAt.jumps ?? req.termsAt.style ?? req.termsAt.target ?? req.termsAt.stop ?? 0, what: 'check' }),
   figureChanges: checkFigureChanges,
 });

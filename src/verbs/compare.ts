@@ -12,7 +12,7 @@ import { isStale } from '../report/log.js';
 import { positionWords } from '../report/text.js';
 import type { Mark } from '../store/store.js';
 import { checkCost } from './budget.js';
-import { checkSummary, computeCheck } from './check.js';
+import { addExits, checkSummary, computeCheck } from './check.js';
 import { markFor, markJson, markLine, resolveContext } from './marks.js';
 import { answer, defineVerb, refuse, type Outcome, type VerbEnv } from './verb.js';
 
@@ -30,6 +30,7 @@ function runCompare(text: string, req: CompareRequest, env: VerbEnv): Outcome {
     const r = resolveCheck(c, resolveContext(text, env, mark));
     if (!r.ok) throw refuse(text, { ...r.error, message: `part ${k + 1} of the comparison: ${r.error.message}` });
     const asm = computeCheck(r.check);
+    addExits(text, r.check, asm, k + 1);
     asms.push(asm);
     parts.push({ label: req.parts[k].text, json: asm.json });
   });

@@ -4,7 +4,7 @@
  * against the outcome engine's check of the same position in the same process; the convergence
  * table of the finite differences against a much finer grid; and the Monte Carlo used with jumps.
  */
-import { exitChances } from '../../src/core/exit-chances.js';
+import { exitChances } from '../../src/core/models.js';
 import { exitFiguresPde, exitGrid } from '../../src/core/exits.js';
 import { runCheck } from '../../src/core/outcome.js';
 import type { CheckInput, Walk } from '../../src/core/types.js';

@@ -4,7 +4,7 @@
  * Brownian-bridge correction, optional stopping of martingales and the horizon outcome.
  */
 import { describe, expect, it } from 'vitest';
-import { exitChances } from '../../src/core/exit-chances.js';
+import { exitChances } from '../../src/core/models.js';
 import { pnlSurface, segmentsAt } from '../../src/core/exit-region.js';
 import { exitFiguresMc } from '../../src/core/exits-mc.js';
 import { exitFiguresPde, exitGrid, solveExitBackward, solveExitForward } from '../../src/core/exits.js';
@@ -281,5 +281,30 @@ describe('optional stopping (a fact of the trade: a price discounted at the rate
     expect(ex.view.stderr).toBeDefined();
     expect(Math.abs(ex.view.expectedPnl - ex.current)).toBeLessThan(4 * ex.view.stderr!.expectedPnl);
     expect(Math.abs(ex.view.probTarget + ex.view.probStop + ex.view.probNeither - 1)).toBeLessThan(1e-9);
+  });
+});
+
+describe('a drift uncertainty (μ ~ N(μ₀, τ²), fixed over the path): the exit figures are a mixture over μ', () => {
+  const uncertain: CheckInput = { ...condor, view: { drift: 0.1, vol: 0.3, driftSe: 0.3 } };
+  const lv = { target: 80, stop: -200 };
+
+  it('the composite Gauss-Legendre rule agrees with one of twice the panels', () => {
+    const a = exitChances(uncertain, lv, marketWalk);
+    const b = exitChances(uncertain, lv, marketWalk, { driftPanels: 6 });
+    expect(Math.abs(a.view.probTarget - b.view.probTarget)).toBeLessThan(1e-6);
+    expect(Math.abs(a.view.expectedPnl - b.view.expectedPnl)).toBeLessThan(1e-3);
+    // the market walk does not carry the view's uncertainty (the same up to the grid, which
+    // reaches further for the extreme drifts)
+    const fixed = exitChances(condor, lv, marketWalk).market;
+    expect(Math.abs(a.market.probTarget - fixed.probTarget)).toBeLessThan(1e-4);
+  });
+
+  it('agrees with the Monte Carlo that draws μ per path (4 standard errors), and τ = 0 is the fixed drift exactly', () => {
+    const a = exitChances(uncertain, lv, marketWalk);
+    const m = exitFiguresMc(uncertain, lv, uncertain.view, { paths: 20000, seed: 9 });
+    expect(Math.abs(a.view.probTarget - m.probTarget)).toBeLessThan(4 * m.stderr!.probTarget);
+    expect(Math.abs(a.view.expectedPnl - m.expectedPnl)).toBeLessThan(4 * m.stderr!.expectedPnl);
+    const zero = exitChances({ ...condor, view: { ...condor.view, driftSe: 0 } }, lv, marketWalk);
+    expect(zero.view).toEqual(exitChances(condor, lv, marketWalk).view);
   });
 });

@@ -1,17 +1,41 @@
 /** The lower quantile of a nondecreasing function known by its evaluations. */
 
-/** Evaluations of a nondecreasing function G (a P&L cdf), kept sorted to bracket later solves. */
+/**
+ * Evaluations of a nondecreasing function G (a P&L cdf), kept sorted to bracket later solves:
+ * ys[0 … n) ascending with gs = G(ys), in arrays that grow by doubling (no reallocation per
+ * evaluation).
+ */
 export class CdfCache {
-  readonly ys: number[] = [];
-  readonly gs: number[] = [];
+  ys = new Float64Array(64);
+  gs = new Float64Array(64);
+  n = 0;
   constructor(private readonly G: (y: number) => number) {}
   at(y: number): number {
     const g = this.G(y);
-    let i = this.ys.length;
-    while (i > 0 && this.ys[i - 1] > y) i--;
-    this.ys.splice(i, 0, y);
-    this.gs.splice(i, 0, g);
+    const n = this.n;
+    if (n === this.ys.length) {
+      const ys = new Float64Array(2 * n);
+      const gs = new Float64Array(2 * n);
+      ys.set(this.ys);
+      gs.set(this.gs);
+      this.ys = ys;
+      this.gs = gs;
+    }
+    const { ys, gs } = this;
+    let i = n;
+    while (i > 0 && ys[i - 1] > y) i--;
+    ys.copyWithin(i + 1, i, n);
+    gs.copyWithin(i + 1, i, n);
+    ys[i] = y;
+    gs[i] = g;
+    this.n = n + 1;
     return g;
+  }
+  /** index of the last evaluation below y, or −1 */
+  lastBelow(y: number): number {
+    let i = this.n - 1;
+    while (i >= 0 && !(this.ys[i] < y)) i--;
+    return i;
   }
 }
 
@@ -21,13 +45,13 @@ export class CdfCache {
  * bracket of width `tol`; a jump (atom) inside the final bracket is returned exactly.
  */
 export function lowerQuantile(cache: CdfCache, p: number, tol: number, atoms: number[]): number {
-  const { ys, gs } = cache;
+  const { ys, gs, n } = cache;
   // tightest bracket among the known evaluations (the first and last are the outer bracket)
   let lo = ys[0];
   let glo = gs[0] - p;
-  let hi = ys[ys.length - 1];
-  let ghi = gs[gs.length - 1] - p;
-  for (let i = 0; i < ys.length; i++) {
+  let hi = ys[n - 1];
+  let ghi = gs[n - 1] - p;
+  for (let i = 0; i < n; i++) {
     if (gs[i] < p) {
       lo = ys[i];
       glo = gs[i] - p;

@@ -73,7 +73,7 @@ function pnlDensity(c: CurvesInput): Curves['pnlDensity'] {
   // the 0.5% quantile is known to a bracket (lo, ya]: start from P&L ≤ lo so that a near-atom
   // squeezed inside the bracket lands in the first bin
   let gPrev = Gc(ya, true);
-  const below = cache.ys.findLastIndex((y) => y < ya);
+  const below = cache.lastBelow(ya);
   if (below >= 0 && ya - cache.ys[below] <= tolY) {
     gPrev = cache.gs[below];
     for (const a of listed) if ((a.lo ?? a.x) <= cache.ys[below]) gPrev -= a.prob;
