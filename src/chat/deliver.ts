@@ -9,9 +9,6 @@
  *   answer, no headline → the answer as a message in the channel (or the asker's thread)
  *
  * After posting, the log entry records its thread and permalink and whether it was delivered.
- * Each part that reached the platform (root line, answer, chart) is reported to `onProgress`
- * before the next is sent; a request taken over after its instance died passes what was already
- * posted (`resume`) and only the rest is sent, so an answer is not posted twice.
  * Every platform failure becomes a clear ephemeral message; a failed chart never holds back the
  * text answer.
  */
@@ -19,7 +16,7 @@ import type { webApi } from '@slack/bolt';
 import type { Reply, Answer } from '../reply.js';
 import type { LogStore, Progress } from '../verbs/ask.js';
 import { scrub } from '../log.js';
-import { answerMessages, escapeMrkdwn, monoNotice, plainNotice, rootMessage, SECTION_TEXT_MAX, type Block, type Message } from './blocks.js';
+import { answerMessages, BLOCKS_PER_MESSAGE_MAX, escapeMrkdwn, monoNotice, plainNotice, rootMessage, SECTION_TEXT_MAX, type Block, type Message } from './blocks.js';
 
 type WebClient = webApi.WebClient;
 
@@ -48,9 +45,16 @@ export function linkMessages(links: Answer['links']): Message[] {
 export type Respond = (msg: { response_type: 'ephemeral'; replace_original: false; text: string; blocks: Block[] }) => Promise<unknown>;
 
 export interface Origin {
-  source: 'command' | 'mention';
+  source: 'command' | 'mention' | 'dm' | 'action' | 'form';
+  /** the conversation the answer is posted in */
   channel: string;
   user: string;
+  /** the log the check is numbered in when it is not the conversation's own (a person's private log) */
+  log?: string;
+  /** the person's messages with the app: the answer is posted as plain messages, no root line, no thread */
+  flat?: boolean;
+  /** where notices for the asker go instead of an ephemeral in `channel` (their messages with the app) */
+  tellIn?: string;
   /** the thread the request was asked in (mentions inside a thread) */
   threadTs?: string;
   /** for slash commands: the response URL, which reaches the asker even where Kolmo is not a member */
@@ -63,6 +67,8 @@ export interface Delivery {
   outcome: Outcome;
   /** the thread the answer went to */
   threadTs?: string;
+  /** every message posted (ts) and the chart file, in order */
+  posted?: { ts: string[]; files: string[] };
   /** platform failures met on the way (already told to the asker) */
   failures: string[];
 }
@@ -145,6 +151,16 @@ async function postAll(client: WebClient, channel: string, threadTs: string | un
 /** Sends messages only the asker sees: the response URL first (slash commands), else chat.postEphemeral. */
 export async function tellAsker(deps: DeliverDeps, origin: Origin, msgs: Message[]): Promise<boolean> {
   let all = true;
+  if (origin.flat || origin.tellIn) {
+    // the person's own messages with the app: a plain message is theirs alone
+    try {
+      await postAll(deps.client, origin.tellIn ?? origin.channel, origin.tellIn ? undefined : origin.threadTs, msgs);
+      return true;
+    } catch (err) {
+      deps.onLost?.('reply in the person’s messages with the app', err);
+      return false;
+    }
+  }
   for (const m of msgs) {
     let sent = false;
     let lastErr: unknown;
@@ -187,13 +203,6 @@ async function record(deps: DeliverDeps, fn: (s: LogStore) => Promise<unknown>, 
   }
 }
 
-export interface Resume {
-  /** what an earlier attempt already posted */
-  progress?: Progress;
-  /** told after each part reaches the platform */
-  onProgress?: (p: Progress) => Promise<unknown>;
-}
-
 /**
  * Delivers one reply. Never throws: every failure is told to the asker (when the platform lets
  * Kolmo reach them) and returned.
@@ -203,13 +212,20 @@ export async function deliver(
   origin: Origin,
   reply: Reply,
   chart: { png?: Uint8Array; note?: string } = {},
-  resume: Resume = {},
+  opts: {
+    buttons?: (a: Answer) => Block | undefined;
+    /** what an earlier attempt already posted (a request taken over after its instance died) */
+    progress?: Progress;
+    /** told after each part reaches the platform, before the next is sent */
+    onProgress?: (p: Progress) => Promise<unknown>;
+  } = {},
 ): Promise<Delivery> {
   const failures: string[] = [];
-  const done = resume.progress ?? {};
+  const log = origin.log ?? origin.channel;
+  const done = opts.progress ?? {};
   const mark = async (p: Progress) => {
     try {
-      await resume.onProgress?.(p);
+      await opts.onProgress?.(p);
     } catch {
       /* a progress record lost costs at most a repeat after a take-over */
     }
@@ -232,20 +248,39 @@ export async function deliver(
   const logNumber = a.logNumber;
   let threadTs: string | undefined;
   let anchorTs: string | undefined;
+  const sent: string[] = [];
+  const files: string[] = [];
+  // the buttons go under the last message of the answer
+  const withButtons = (msgs: Message[]): Message[] => {
+    const b = opts.buttons?.(a);
+    if (!b || msgs.length === 0) return msgs;
+    const last = msgs[msgs.length - 1];
+    if (last.blocks.length >= BLOCKS_PER_MESSAGE_MAX) return [...msgs, { text: 'Actions', blocks: [b] }];
+    return [...msgs.slice(0, -1), { ...last, blocks: [...last.blocks, b] }];
+  };
   try {
     if (done.answered) {
       // an earlier attempt posted the answer; only what came after it is left
       threadTs = done.rootTs ?? origin.threadTs;
       anchorTs = done.rootTs;
+    } else if (origin.flat) {
+      // the person's messages with the app: the headline first, then the answer, no thread
+      const ts = await postAll(client, channel, origin.threadTs, withButtons([...answerMessages(a, a.headline.trim() ? rootMessage(origin.user, a.headline) : undefined), ...linkMessages(a.links)]));
+      sent.push(...ts);
+      anchorTs = ts[0];
+      threadTs = origin.threadTs ?? anchorTs;
+      await mark({ answered: true, ...(anchorTs ? { rootTs: anchorTs } : {}) });
     } else if (a.headline.trim() === '') {
       // nothing for the channel root: the answer itself goes where it was asked
-      const ts = await postAll(client, channel, origin.threadTs, [...answerMessages(a), ...linkMessages(a.links)]);
+      const ts = await postAll(client, channel, origin.threadTs, withButtons([...answerMessages(a), ...linkMessages(a.links)]));
+      sent.push(...ts);
       anchorTs = ts[0];
       threadTs = origin.threadTs ?? anchorTs;
       await mark({ answered: true, ...(anchorTs ? { rootTs: anchorTs } : {}) });
     } else if (origin.threadTs) {
       threadTs = origin.threadTs;
-      const ts = await postAll(client, channel, threadTs, [...answerMessages(a, rootMessage(origin.user, a.headline)), ...linkMessages(a.links)]);
+      const ts = await postAll(client, channel, threadTs, withButtons([...answerMessages(a, rootMessage(origin.user, a.headline)), ...linkMessages(a.links)]));
+      sent.push(...ts);
       anchorTs = ts[0];
       await mark({ answered: true, ...(anchorTs ? { rootTs: anchorTs } : {}) });
     } else {
@@ -257,9 +292,10 @@ export async function deliver(
         threadTs = String(root.ts ?? '');
         await mark({ rootTs: threadTs });
       }
+      sent.push(threadTs);
       anchorTs = threadTs;
       try {
-        await postAll(client, channel, threadTs, [...answerMessages(a), ...linkMessages(a.links)]);
+        sent.push(...(await postAll(client, channel, threadTs, withButtons([...answerMessages(a), ...linkMessages(a.links)]))));
         await mark({ answered: true });
       } catch (err) {
         // the root line is in the channel but the answer is not: say so in the thread if possible
@@ -270,14 +306,15 @@ export async function deliver(
   } catch (err) {
     const why = failures[0] ?? explainFailure(err, 'the answer');
     if (failures.length === 0) failures.push(why);
-    if (logNumber !== undefined) await record(deps, (s) => s.setDelivery(channel, logNumber, 'undelivered'), failures);
+    if (logNumber !== undefined) await record(deps, (s) => s.setDelivery(log, logNumber, 'undelivered'), failures);
+    if (logNumber !== undefined && sent.length > 0) await record(deps, (s) => s.setPosted(log, logNumber, { channel, ts: sent, files: [] }), failures);
     // told once: the reason and the answer itself in one ephemeral message (more only if the
     // answer is longer than one message holds)
     await tellAsker(deps, origin, answerMessages(a, plainNotice(`${why}${logNumber !== undefined ? ` (The check is in the log as #${logNumber}.)` : ''}`)));
     return { outcome: 'undelivered', threadTs, failures };
   }
 
-  if (logNumber !== undefined && threadTs && !done.chart) {
+  if (logNumber !== undefined && threadTs) {
     let permalink: string | null = null;
     try {
       const p = await client.chat.getPermalink({ channel, message_ts: anchorTs ?? threadTs });
@@ -286,7 +323,9 @@ export async function deliver(
       permalink = null; // the link is a convenience; the thread is recorded without it
     }
     const ts = threadTs;
-    await record(deps, (s) => s.setThread(channel, logNumber, ts, permalink), failures);
+    await record(deps, (s) => s.setThread(log, logNumber, ts, permalink), failures);
+    // recorded now, before the chart: a delete pressed meanwhile finds the messages
+    await record(deps, (s) => s.setPosted(log, logNumber, { channel, ts: sent, files: [] }), failures);
   }
 
   let outcome: Outcome = 'answered';
@@ -294,7 +333,7 @@ export async function deliver(
     // uploaded by an earlier attempt
   } else if (chart.png && threadTs) {
     try {
-      await client.files.uploadV2({
+      const up = await client.files.uploadV2({
         channel_id: channel,
         thread_ts: threadTs,
         file: Buffer.from(chart.png.buffer, chart.png.byteOffset, chart.png.byteLength),
@@ -302,6 +341,7 @@ export async function deliver(
         title: logNumber !== undefined ? `Check #${logNumber}` : 'Kolmo chart',
         alt_text: a.headline || 'Kolmo chart',
       });
+      files.push(...fileIdsOf(up));
       await mark({ chart: true });
     } catch (err) {
       outcome = 'answered-no-chart';
@@ -313,8 +353,42 @@ export async function deliver(
     outcome = 'answered-no-chart';
     notes.push(`The chart was not drawn: ${chart.note}. The text answer is in the thread.`);
   }
-  if (logNumber !== undefined) await record(deps, (s) => s.setDelivery(channel, logNumber, 'delivered'), failures);
+  if (logNumber !== undefined) {
+    await record(deps, (s) => s.setDelivery(log, logNumber, 'delivered'), failures);
+    await record(deps, (s) => s.setPosted(log, logNumber, { channel, ts: sent, files }), failures);
+    // deleted while the chart was on its way: the chart goes too
+    let gone = false;
+    await record(
+      deps,
+      async (s) => {
+        gone = !!(await s.get(log, logNumber))?.deletedAt;
+      },
+      failures,
+    );
+    if (gone) {
+      for (const file of files) await client.files.delete({ file }).catch(() => undefined);
+      for (const t of sent) await client.chat.delete({ channel, ts: t }).catch(() => undefined);
+      return { outcome, threadTs, failures, posted: { ts: sent, files } };
+    }
+  }
   for (const f of failures.filter((f) => f.startsWith('the log'))) notes.push(f);
   if (notes.length > 0) await tellAsker(deps, { ...origin, threadTs }, [plainNotice(notes.join('\n'))]);
-  return { outcome, threadTs, failures };
+  return { outcome, threadTs, failures, posted: { ts: sent, files } };
+}
+
+/** The file ids in a files.uploadV2 answer ({ files: [{ files: [{ id }] }] }, or flatter). */
+export function fileIdsOf(up: unknown): string[] {
+  const out: string[] = [];
+  const walk = (v: unknown, depth: number): void => {
+    if (depth > 4 || !v || typeof v !== 'object') return;
+    if (Array.isArray(v)) {
+      for (const x of v) walk(x, depth + 1);
+      return;
+    }
+    const o = v as Record<string, unknown>;
+    if (typeof o.id === 'string' && /^F[A-Z0-9]+$/.test(o.id)) out.push(o.id);
+    if (o.files) walk(o.files, depth + 1);
+  };
+  walk(up, 0);
+  return [...new Set(out)];
 }

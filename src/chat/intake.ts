@@ -19,6 +19,8 @@ import type { Log } from '../log.js';
 import { verbOfText, StoreError, type AsyncStore, type ClaimedRequest, type Progress, type QueuedRequest, type RateDecision } from '../verbs/ask.js';
 import type { ChatSettings } from '../config.js';
 import { plainNotice } from './blocks.js';
+import { buttonsFor } from './actions/buttons.js';
+import { privateLog } from './interactive.js';
 import { deliver, tellAsker, type DeliverDeps, type Origin, type Outcome } from './deliver.js';
 import type { Claim, Dispatcher } from './dispatch.js';
 import { downloadFile, fileRefsOf } from './files.js';
@@ -34,6 +36,24 @@ import { responder } from './response-url.js';
 
 /** The verb a request text starts with, for the log line (the engine decides what it means). */
 export const verbOf = verbOfText;
+
+/** A request from the interactive listeners (buttons, the check form, my desk). */
+export interface Incoming {
+  origin: Origin;
+  text: string;
+  /** performance.now() when it arrived */
+  t0: number;
+  /** its delivery key */
+  key: string;
+  /** ISO time it arrived: the request's "today" */
+  now: string;
+  /** files shared with it (a `history` mention) */
+  fileRefs?: { name: string; url: string; size?: number }[];
+  /** a button's variation (or an edit) of this check of the same log */
+  variedFrom?: number;
+  /** a line before the answer: what the button or the form did, and the request typed out */
+  preface?: string;
+}
 
 export interface RetryInfo {
   retryNum?: number;
@@ -67,7 +87,16 @@ export function createIntake(d: IntakeDeps) {
   const line = (r: Pick<QueuedRequest, 'channel' | 'user' | 'source'>, extra: Record<string, unknown> = {}) => ({ channel: r.channel, user: r.user, source: r.source, ...extra });
   const originOf = (r: QueuedRequest): Origin => {
     const respond = responder(r.responseUrl);
-    return { source: r.source, channel: r.channel, user: r.user, ...(r.threadTs ? { threadTs: r.threadTs } : {}), ...(respond ? { respond } : {}) };
+    // a request written to the app in the person's messages with it: answered there, in their private log
+    const dm = /^D/.test(r.channel);
+    return {
+      source: r.source,
+      channel: r.channel,
+      user: r.user,
+      ...(dm ? { log: privateLog(r.user), flat: true } : {}),
+      ...(r.threadTs ? { threadTs: r.threadTs } : {}),
+      ...(respond ? { respond } : {}),
+    };
   };
 
   /** The engine, then the delivery; the outcome for the log line and the metrics. */
@@ -75,8 +104,9 @@ export function createIntake(d: IntakeDeps) {
     r: QueuedRequest,
     resumed: boolean,
     resume: { progress?: Progress; onProgress?: (p: Progress) => Promise<unknown> } = {},
+    extra: { origin?: Origin; variedFrom?: number; preface?: string } = {},
   ): Promise<{ outcome: Outcome | 'error' | 'closed' | 'file-unreadable'; verb: string; computeMs?: number; logNumber?: number; failures: number }> => {
-    const origin = originOf(r);
+    const origin = extra.origin ?? originOf(r);
     const text = r.text.trim() === '' ? 'help' : r.text;
     let verb = verbOf(text);
     // files shared with a `history` mention: downloaded by the instance that answers
@@ -92,10 +122,13 @@ export function createIntake(d: IntakeDeps) {
     try {
       const result = await engine.run({
         text,
-        channel: r.channel,
+        channel: origin.log ?? origin.channel,
         user: r.user,
         now: r.now,
         budget: settings.computeBudget,
+        defaults: true,
+        ...(extra.variedFrom !== undefined ? { variedFrom: extra.variedFrom } : {}),
+        ...(extra.preface ? { preface: extra.preface } : {}),
         ...(resumed ? { resumed } : {}),
         ...(files ? { files } : {}),
       });
@@ -104,7 +137,7 @@ export function createIntake(d: IntakeDeps) {
         verb = result.reply.verb;
         logNumber = result.reply.logNumber;
       }
-      const d = await deliver(deps, origin, result.reply, { png: result.png, note: result.chartNote }, resume);
+      const d = await deliver(deps, origin, result.reply, { png: result.png, note: result.chartNote }, { buttons: (a) => buttonsFor(a, origin), ...resume });
       return { outcome: d.outcome, verb, computeMs: Math.round(result.ms), logNumber, failures: d.failures.length };
     } catch (err) {
       if (stopping && err instanceof EngineError && err.reason === 'closed') return { outcome: 'closed', verb, failures: 0 };
@@ -230,6 +263,8 @@ export function createIntake(d: IntakeDeps) {
     const now = new Date().toISOString();
     if (body.command === COMMAND && typeof body.channel_id === 'string' && typeof body.user_id === 'string') {
       const text = typeof body.text === 'string' ? body.text : '';
+      // `/kolmo` alone opens the check form (registerCommands): nothing to record
+      if (text.trim() === '' && typeof body.trigger_id === 'string' && body.trigger_id) return null;
       const responseUrl = typeof body.response_url === 'string' && body.response_url ? body.response_url : undefined;
       const key = commandKey(typeof body.trigger_id === 'string' ? body.trigger_id : undefined, responseUrl, `${body.channel_id}\n${body.user_id}\n${text}\n${now}`);
       return { key, source: 'command', channel: body.channel_id, user: body.user_id, ...(responseUrl ? { responseUrl } : {}), text, now };
@@ -303,8 +338,43 @@ export function createIntake(d: IntakeDeps) {
   };
 
 
+  /**
+   * The interactive listeners' way in (buttons, the check form, my desk): a delivery key seen
+   * before in this process is a re-sent one. Their requests are answered from memory (the
+   * in-process line), not through the shared queue.
+   */
+  const admitLocal = (e: { key: string; channel: string; user: string; source: string }, retry: RetryInfo): boolean => {
+    if (localInbox.accept(e.key)) return true;
+    counts.duplicate++;
+    metrics.requests.inc({ verb: 'unknown', outcome: 'duplicate' });
+    log.info({ channel: e.channel, user: e.user, source: e.source, outcome: 'duplicate', retryNum: retry.retryNum, retryReason: retry.retryReason }, 'request');
+    return false;
+  };
+
+  const submit = (req: Incoming): void => {
+    const r: QueuedRequest = {
+      key: req.key,
+      source: req.origin.source === 'mention' ? 'mention' : 'command',
+      channel: req.origin.channel,
+      user: req.origin.user,
+      ...(req.origin.threadTs ? { threadTs: req.origin.threadTs } : {}),
+      text: req.text,
+      now: req.now,
+      ...(req.fileRefs?.length ? { files: req.fileRefs } : {}),
+    };
+    const extra = { origin: req.origin, ...(req.variedFrom !== undefined ? { variedFrom: req.variedFrom } : {}), ...(req.preface ? { preface: req.preface } : {}) };
+    const accepted = local.offer(r.channel, async () => {
+      const got = await answer(r, false, {}, extra);
+      metrics.requests.inc({ verb: got.verb, outcome: got.outcome === 'closed' ? 'dropped' : got.outcome });
+      log.info(line(r, { verb: got.verb, outcome: got.outcome, ms: Math.round(performance.now() - req.t0), computeMs: got.computeMs, logNumber: got.logNumber, failures: got.failures }), 'request');
+    });
+    if (!accepted) turnAway(r, { kind: 'busy', depth: local.size }, req.t0);
+  };
+
   return {
     counts,
+    admit: admitLocal,
+    submit,
     recordFirst,
     after,
     handle,

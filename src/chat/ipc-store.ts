@@ -22,6 +22,12 @@ export const LOG_METHODS = [
   'rejectedCount',
   'getCloses',
   'putCloses',
+  'setVariedFrom',
+  'setPosted',
+  'tombstone',
+  'recentOfUser',
+  'getDefaults',
+  'putDefaults',
   'ping',
 ] as const;
 export type LogMethod = (typeof LOG_METHODS)[number];

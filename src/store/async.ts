@@ -16,7 +16,7 @@ import { openPostgres, redactUrl } from './postgres.js';
 
 export { redactUrl };
 import { defaultDbPath, openStore, type SqliteStore } from './sqlite.js';
-import type { LogEntry, LogEntryInput, Mark, OpenOptions, StoredClose } from './store.js';
+import type { LogEntry, LogEntryInput, Mark, OpenOptions, Posted, StoredClose, UserDefaults } from './store.js';
 
 /** A request as the app acknowledged it: what the queue keeps until it is answered. */
 export interface QueuedRequest {
@@ -123,6 +123,16 @@ export interface AsyncStore extends RequestQueue, RateBuckets {
   /** Counts one rejected request (nothing else of it is stored). */
   countRejected(channel: string): Promise<void>;
   rejectedCount(channel: string): Promise<number>;
+  /** Records the check (same log) this one is a variation of; false when there is no such entry. */
+  setVariedFrom(channel: string, number: number, from: number): Promise<boolean>;
+  /** Records the messages and files the answer posted (replacing what was recorded). */
+  setPosted(channel: string, number: number, posted: Posted): Promise<boolean>;
+  /** Deletes a check's content and keeps its number (a tombstone); false when none or already one. */
+  tombstone(channel: string, number: number, at: string): Promise<boolean>;
+  /** A person's last `n` checks across every log, newest first, tombstones left out. */
+  recentOfUser(user: string, n: number): Promise<LogEntry[]>;
+  getDefaults(user: string): Promise<UserDefaults>;
+  putDefaults(user: string, d: UserDefaults, at: string): Promise<void>;
   /** Resolves when the memory answers a read; rejects with a StoreError otherwise. */
   ping(): Promise<void>;
   close(): Promise<void>;
@@ -145,6 +155,12 @@ export type LogStore = Pick<
   | 'rejectedCount'
   | 'getCloses'
   | 'putCloses'
+  | 'setVariedFrom'
+  | 'setPosted'
+  | 'tombstone'
+  | 'recentOfUser'
+  | 'getDefaults'
+  | 'putDefaults'
   | 'ping'
 >;
 
@@ -166,6 +182,12 @@ export function asyncOf(s: SqliteStore, where: string): AsyncStore {
     listMarks: async (c) => s.listMarks(c),
     countRejected: async (c) => s.countRejected(c),
     rejectedCount: async (c) => s.rejectedCount(c),
+    setVariedFrom: async (c, n, from) => s.setVariedFrom(c, n, from),
+    setPosted: async (c, n, p) => s.setPosted(c, n, p),
+    tombstone: async (c, n, at) => s.tombstone(c, n, at),
+    recentOfUser: async (u, n) => s.recentOfUser(u, n),
+    getDefaults: async (u) => s.getDefaults(u),
+    putDefaults: async (u, d, at) => s.putDefaults(u, d, at),
     ping: async () => s.ping(),
     accept: async (r, done) => s.accept(r, done),
     claim: async (owner, leaseMs) => s.claim(owner, leaseMs),
