@@ -17,12 +17,11 @@
  * - an entry of another channel is answered exactly like a number that does not exist.
  */
 import { parse } from '../request/parse.js';
-import type { Request } from '../request/types.js';
 import type { Answer, Rejection, Reply } from '../reply.js';
 import { StoreError } from '../store/store.js';
 import { budgetRejection, COMPUTE_BUDGET_DEFAULT } from './budget.js';
 import { verbNamed, verbs } from './registry.js';
-import { envOf, reject, Refused, type AskContext, type Cost, type CostContext, type Outcome, type VerbEnv } from './verb.js';
+import { envOf, reject, Refused, type AnyRequest, type AskContext, type Cost, type CostContext, type Outcome, type VerbEnv } from './verb.js';
 
 export type { AskContext } from './verb.js';
 export { COMPUTE_BUDGET_DEFAULT } from './budget.js';
@@ -30,7 +29,7 @@ export { COMPUTE_BUDGET_DEFAULT } from './budget.js';
 export { CLOSES_FILE_BYTES } from '../request/closes.js';
 
 /** Units a parsed request would need (null: its work is small). */
-function costOf(req: Request, text: string, ctx: Omit<CostContext, 'costOf'>): Cost | null {
+function costOf(req: AnyRequest, text: string, ctx: Omit<CostContext, 'costOf'>): Cost | null {
   const v = verbNamed(req.verb);
   return v.cost ? v.cost(req as never, text, { ...ctx, costOf: (r, t) => costOf(r, t, ctx) }) : null;
 }
@@ -39,18 +38,19 @@ function costOf(req: Request, text: string, ctx: Omit<CostContext, 'costOf'>): C
  * The cost context of a request: for `again N`, the logged text of check N is read first (the
  * budget needs it before the verb runs; an unreadable log just leaves the cost unknown).
  */
-async function costContext(ctx: AskContext, now: Date, req: Request): Promise<Omit<CostContext, 'costOf'>> {
+async function costContext(ctx: AskContext, now: Date, req: AnyRequest): Promise<Omit<CostContext, 'costOf'>> {
   const { store, channel } = ctx;
-  if (req.verb !== 'again' || !store) return { now };
-  const entry = await store.get(channel, req.number).catch(() => undefined);
-  return { now, logged: (n) => (n === req.number ? entry?.text : undefined) };
+  const n = req.verb === 'again' ? (req as { number?: unknown }).number : undefined;
+  if (typeof n !== 'number' || !store) return { now };
+  const entry = await store.get(channel, n).catch(() => undefined);
+  return { now, logged: (k) => (k === n ? entry?.text : undefined) };
 }
 
 /**
  * Reads the channel's marks once before the verb runs, when the request may use one (`on SYMBOL`,
  * or `again`, whose rerun may): the verbs resolve marks without I/O (VerbEnv.marks).
  */
-async function withMarks(env: VerbEnv, text: string, req: Request): Promise<void> {
+async function withMarks(env: VerbEnv, text: string, req: AnyRequest): Promise<void> {
   const store = env.ctx.store;
   if (!store || !(req.verb === 'again' || /\bon\b/i.test(text))) return;
   try {
