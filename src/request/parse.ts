@@ -1,5 +1,5 @@
 /**
- * The request grammar (DESIGN.md §2): text → typed request, or an error with the character index
+ * The request grammar (docs/design.md §2): text → typed request, or an error with the character index
  * of the first bad token, what was expected and one corrected example.
  *
  * `parse` is pure and never throws: a catch-all at the top turns anything unexpected into an
@@ -272,7 +272,7 @@ function isSpecToken(t: Tok): boolean {
 
 /** Is the word a keyword of the grammar (so it cannot be a value)? */
 function isKeyword(low: string): boolean {
-  return low in TERM_WORDS || low in TYPE_WORDS || verbNames().includes(low as never) || low === 'price' || low === 'by';
+  return low in TERM_WORDS || low in TYPE_WORDS || (verbNames() as readonly string[]).includes(low) || low === 'price' || low === 'by';
 }
 
 /**
@@ -814,7 +814,7 @@ function stray(c: Cursor, t: Tok, verb: BodyVerb, allowed: readonly AnyTerm[], l
     if (!legsOk) return c.reject(t, `${verb} takes no legs; it takes ${list}`);
     return c.reject(t, `a leg starts with its quantity: +1 ${t.text} (long) or -1 ${t.text} (short)`, insertBefore(t, '+1'));
   }
-  if (verbNames().includes(low as never)) {
+  if ((verbNames() as readonly string[]).includes(low)) {
     return c.reject(t, `'${t.text}' is a verb and goes at the start of a request`);
   }
   const words = SPAN_WORDS.exec(t.text);

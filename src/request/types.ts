@@ -1,6 +1,6 @@
 /**
  * Typed requests: what the parser (src/request/parse.ts) makes of the text of a request
- * (grammar: ../shared/DESIGN.md §2). Values are in core units: percentages already divided by
+ * (grammar: docs/design.md §2). Values are in core units: percentages already divided by
  * 100 (iv 28% → 0.28), dates as ISO strings (yyyy-mm-dd). Relative expiries (`30d`, `6w`, `3m`,
  * `1y`) are kept relative here and turned into dates against `asof` by the resolver.
  *
