@@ -117,7 +117,7 @@ export async function startChatApp(config: WorkspaceConfig, log: Log): Promise<C
   });
 
   const app = createBoltApp(config, settings, clientOptions, bot, log);
-  registerListeners({ app, intake, botUserId: bot.botUserId });
+  registerListeners({ app, intake, botUserId: bot.botUserId, store, delivery, log, budget: settings.computeBudget, forms: {} });
   app.error(async (err) => {
     log.error({ err: errText(err), code: (err as { code?: string }).code }, 'listener error');
   });

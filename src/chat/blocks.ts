@@ -8,7 +8,7 @@
  * row, and across several messages when it needs more than 50 blocks. Every message carries a
  * plain `text` fallback for notifications and clients without Block Kit.
  */
-import type { ContextBlock, DividerBlock, SectionBlock, TextObject } from '@slack/types';
+import type { ActionsBlock, ContextBlock, DividerBlock, SectionBlock, TextObject } from '@slack/types';
 import type { Answer } from '../reply.js';
 
 export const SECTION_TEXT_MAX = 3000;
@@ -30,7 +30,8 @@ export type { TextObject };
  */
 export type Section = Omit<SectionBlock, 'text'> & { type: 'section'; text: TextObject };
 export type Context = Omit<ContextBlock, 'elements'> & { type: 'context'; elements: TextObject[] };
-export type Block = Section | Context | DividerBlock;
+/** buttons (src/chat/actions/buttons.ts): no text of their own */
+export type Block = Section | Context | DividerBlock | ActionsBlock;
 
 export interface Message {
   text: string;

@@ -16,7 +16,7 @@ import type { webApi } from '@slack/bolt';
 import type { Reply, Answer } from '../reply.js';
 import type { Store } from '../verbs/ask.js';
 import { scrub } from '../log.js';
-import { answerMessages, escapeMrkdwn, monoNotice, plainNotice, rootMessage, SECTION_TEXT_MAX, type Block, type Message } from './blocks.js';
+import { answerMessages, BLOCKS_PER_MESSAGE_MAX, escapeMrkdwn, monoNotice, plainNotice, rootMessage, SECTION_TEXT_MAX, type Block, type Message } from './blocks.js';
 
 type WebClient = webApi.WebClient;
 
@@ -45,9 +45,16 @@ export function linkMessages(links: Answer['links']): Message[] {
 export type Respond = (msg: { response_type: 'ephemeral'; replace_original: false; text: string; blocks: Block[] }) => Promise<unknown>;
 
 export interface Origin {
-  source: 'command' | 'mention';
+  source: 'command' | 'mention' | 'dm' | 'action' | 'form';
+  /** the conversation the answer is posted in */
   channel: string;
   user: string;
+  /** the log the check is numbered in when it is not the conversation's own (a person's private log) */
+  log?: string;
+  /** the person's messages with the app: the answer is posted as plain messages, no root line, no thread */
+  flat?: boolean;
+  /** where notices for the asker go instead of an ephemeral in `channel` (their messages with the app) */
+  tellIn?: string;
   /** the thread the request was asked in (mentions inside a thread) */
   threadTs?: string;
   /** for slash commands: the response URL, which reaches the asker even where Kolmo is not a member */
@@ -60,6 +67,8 @@ export interface Delivery {
   outcome: Outcome;
   /** the thread the answer went to */
   threadTs?: string;
+  /** every message posted (ts) and the chart file, in order */
+  posted?: { ts: string[]; files: string[] };
   /** platform failures met on the way (already told to the asker) */
   failures: string[];
 }
@@ -142,6 +151,16 @@ async function postAll(client: WebClient, channel: string, threadTs: string | un
 /** Sends messages only the asker sees: the response URL first (slash commands), else chat.postEphemeral. */
 export async function tellAsker(deps: DeliverDeps, origin: Origin, msgs: Message[]): Promise<boolean> {
   let all = true;
+  if (origin.flat || origin.tellIn) {
+    // the person's own messages with the app: a plain message is theirs alone
+    try {
+      await postAll(deps.client, origin.tellIn ?? origin.channel, origin.tellIn ? undefined : origin.threadTs, msgs);
+      return true;
+    } catch (err) {
+      deps.onLost?.('reply in the person’s messages with the app', err);
+      return false;
+    }
+  }
   for (const m of msgs) {
     let sent = false;
     let lastErr: unknown;
@@ -193,8 +212,10 @@ export async function deliver(
   origin: Origin,
   reply: Reply,
   chart: { png?: Uint8Array; note?: string } = {},
+  opts: { buttons?: (a: Answer) => Block | undefined } = {},
 ): Promise<Delivery> {
   const failures: string[] = [];
+  const log = origin.log ?? origin.channel;
   if (reply.kind === 'rejected') {
     await tellAsker(deps, origin, monoNotice(reply.message));
     return { outcome: 'rejected', failures };
@@ -211,23 +232,42 @@ export async function deliver(
   const logNumber = a.logNumber;
   let threadTs: string | undefined;
   let anchorTs: string | undefined;
+  const sent: string[] = [];
+  const files: string[] = [];
+  // the buttons go under the last message of the answer
+  const withButtons = (msgs: Message[]): Message[] => {
+    const b = opts.buttons?.(a);
+    if (!b || msgs.length === 0) return msgs;
+    const last = msgs[msgs.length - 1];
+    if (last.blocks.length >= BLOCKS_PER_MESSAGE_MAX) return [...msgs, { text: 'Actions', blocks: [b] }];
+    return [...msgs.slice(0, -1), { ...last, blocks: [...last.blocks, b] }];
+  };
   try {
-    if (a.headline.trim() === '') {
+    if (origin.flat) {
+      // the person's messages with the app: the headline first, then the answer, no thread
+      const ts = await postAll(client, channel, origin.threadTs, withButtons([...answerMessages(a, a.headline.trim() ? rootMessage(origin.user, a.headline) : undefined), ...linkMessages(a.links)]));
+      sent.push(...ts);
+      anchorTs = ts[0];
+      threadTs = origin.threadTs ?? anchorTs;
+    } else if (a.headline.trim() === '') {
       // nothing for the channel root: the answer itself goes where it was asked
-      const ts = await postAll(client, channel, origin.threadTs, [...answerMessages(a), ...linkMessages(a.links)]);
+      const ts = await postAll(client, channel, origin.threadTs, withButtons([...answerMessages(a), ...linkMessages(a.links)]));
+      sent.push(...ts);
       anchorTs = ts[0];
       threadTs = origin.threadTs ?? anchorTs;
     } else if (origin.threadTs) {
       threadTs = origin.threadTs;
-      const ts = await postAll(client, channel, threadTs, [...answerMessages(a, rootMessage(origin.user, a.headline)), ...linkMessages(a.links)]);
+      const ts = await postAll(client, channel, threadTs, withButtons([...answerMessages(a, rootMessage(origin.user, a.headline)), ...linkMessages(a.links)]));
+      sent.push(...ts);
       anchorTs = ts[0];
     } else {
       const rm = rootMessage(origin.user, a.headline);
       const root = await client.chat.postMessage({ channel, text: rm.text, blocks: rm.blocks, unfurl_links: false, unfurl_media: false });
       threadTs = String(root.ts ?? '');
+      sent.push(threadTs);
       anchorTs = threadTs;
       try {
-        await postAll(client, channel, threadTs, [...answerMessages(a), ...linkMessages(a.links)]);
+        sent.push(...(await postAll(client, channel, threadTs, withButtons([...answerMessages(a), ...linkMessages(a.links)]))));
       } catch (err) {
         // the root line is in the channel but the answer is not: say so in the thread if possible
         failures.push(explainFailure(err, 'the answer in the thread'));
@@ -237,7 +277,8 @@ export async function deliver(
   } catch (err) {
     const why = failures[0] ?? explainFailure(err, 'the answer');
     if (failures.length === 0) failures.push(why);
-    if (logNumber !== undefined) record(deps, (s) => s.setDelivery(channel, logNumber, 'undelivered'), failures);
+    if (logNumber !== undefined) record(deps, (s) => s.setDelivery(log, logNumber, 'undelivered'), failures);
+    if (logNumber !== undefined && sent.length > 0) record(deps, (s) => s.setPosted(log, logNumber, { channel, ts: sent, files: [] }), failures);
     // told once: the reason and the answer itself in one ephemeral message (more only if the
     // answer is longer than one message holds)
     await tellAsker(deps, origin, answerMessages(a, plainNotice(`${why}${logNumber !== undefined ? ` (The check is in the log as #${logNumber}.)` : ''}`)));
@@ -253,13 +294,15 @@ export async function deliver(
       permalink = null; // the link is a convenience; the thread is recorded without it
     }
     const ts = threadTs;
-    record(deps, (s) => s.setThread(channel, logNumber, ts, permalink), failures);
+    record(deps, (s) => s.setThread(log, logNumber, ts, permalink), failures);
+    // recorded now, before the chart: a delete pressed meanwhile finds the messages
+    record(deps, (s) => s.setPosted(log, logNumber, { channel, ts: sent, files: [] }), failures);
   }
 
   let outcome: Outcome = 'answered';
   if (chart.png) {
     try {
-      await client.files.uploadV2({
+      const up = await client.files.uploadV2({
         channel_id: channel,
         thread_ts: threadTs,
         file: Buffer.from(chart.png.buffer, chart.png.byteOffset, chart.png.byteLength),
@@ -267,6 +310,7 @@ export async function deliver(
         title: logNumber !== undefined ? `Check #${logNumber}` : 'Kolmo chart',
         alt_text: a.headline || 'Kolmo chart',
       });
+      files.push(...fileIdsOf(up));
     } catch (err) {
       outcome = 'answered-no-chart';
       const why = explainFailure(err, 'the chart');
@@ -277,8 +321,42 @@ export async function deliver(
     outcome = 'answered-no-chart';
     notes.push(`The chart was not drawn: ${chart.note}. The text answer is in the thread.`);
   }
-  if (logNumber !== undefined) record(deps, (s) => s.setDelivery(channel, logNumber, 'delivered'), failures);
+  if (logNumber !== undefined) {
+    record(deps, (s) => s.setDelivery(log, logNumber, 'delivered'), failures);
+    record(deps, (s) => s.setPosted(log, logNumber, { channel, ts: sent, files }), failures);
+    // deleted while the chart was on its way: the chart goes too
+    let gone = false;
+    record(
+      deps,
+      (s) => {
+        gone = !!s.get(log, logNumber)?.deletedAt;
+      },
+      failures,
+    );
+    if (gone) {
+      for (const file of files) await client.files.delete({ file }).catch(() => undefined);
+      for (const t of sent) await client.chat.delete({ channel, ts: t }).catch(() => undefined);
+      return { outcome, threadTs, failures, posted: { ts: sent, files } };
+    }
+  }
   for (const f of failures.filter((f) => f.startsWith('the log'))) notes.push(f);
   if (notes.length > 0) await tellAsker(deps, { ...origin, threadTs }, [plainNotice(notes.join('\n'))]);
-  return { outcome, threadTs, failures };
+  return { outcome, threadTs, failures, posted: { ts: sent, files } };
+}
+
+/** The file ids in a files.uploadV2 answer ({ files: [{ files: [{ id }] }] }, or flatter). */
+export function fileIdsOf(up: unknown): string[] {
+  const out: string[] = [];
+  const walk = (v: unknown, depth: number): void => {
+    if (depth > 4 || !v || typeof v !== 'object') return;
+    if (Array.isArray(v)) {
+      for (const x of v) walk(x, depth + 1);
+      return;
+    }
+    const o = v as Record<string, unknown>;
+    if (typeof o.id === 'string' && /^F[A-Z0-9]+$/.test(o.id)) out.push(o.id);
+    if (o.files) walk(o.files, depth + 1);
+  };
+  walk(up, 0);
+  return [...new Set(out)];
 }

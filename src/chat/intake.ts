@@ -18,6 +18,8 @@ import type { ChatSettings } from '../config.js';
 import type { Log } from '../log.js';
 import { verbOfText } from '../verbs/ask.js';
 import { plainNotice } from './blocks.js';
+import { buttonsFor } from './actions/buttons.js';
+import { privateLog } from './interactive.js';
 import { deliver, tellAsker, type DeliverDeps, type Origin, type Outcome } from './deliver.js';
 import { downloadFile, type FileRef } from './files.js';
 import type { Inbox, InboxEntry } from './inbox.js';
@@ -57,6 +59,10 @@ export interface Incoming {
   resumed?: boolean;
   /** files shared with it (a `history` mention) */
   fileRefs?: FileRef[];
+  /** a button's variation (or an edit) of this check of the same log */
+  variedFrom?: number;
+  /** a line before the answer: what the button or the form did, and the request typed out */
+  preface?: string;
 }
 
 export interface RetryInfo {
@@ -149,7 +155,16 @@ export class Intake {
       for (const e of resume) {
         this.counts.resumed++;
         const respond = responder(e.responseUrl);
-        const origin: Origin = { source: e.source, channel: e.channel, user: e.user, ...(e.threadTs ? { threadTs: e.threadTs } : {}), ...(respond ? { respond } : {}) };
+        // a request written to the app in the person's messages with it: answered there, in their private log
+        const dm = /^D/.test(e.channel);
+        const origin: Origin = {
+          source: e.source,
+          channel: e.channel,
+          user: e.user,
+          ...(dm ? { log: privateLog(e.user), flat: true } : {}),
+          ...(e.threadTs ? { threadTs: e.threadTs } : {}),
+          ...(respond ? { respond } : {}),
+        };
         this.submit({ origin, text: e.text, t0: performance.now(), key: e.key, now: e.now, resumed: true });
       }
       if (resume.length + expired.length > 0) d.log.info({ resumed: resume.length, expired: expired.length }, 'picked up requests left by the previous run');
@@ -182,10 +197,13 @@ export class Intake {
       if (files === null) return;
       const result = await d.engine.run({
         text,
-        channel: origin.channel,
+        channel: origin.log ?? origin.channel,
         user: origin.user,
         now: r.now,
         budget: d.settings.computeBudget,
+        defaults: true,
+        ...(r.variedFrom !== undefined ? { variedFrom: r.variedFrom } : {}),
+        ...(r.preface ? { preface: r.preface } : {}),
         ...(r.resumed ? { resumed: r.resumed } : {}),
         ...(files ? { files } : {}),
       });
@@ -194,7 +212,7 @@ export class Intake {
         verb = result.reply.verb;
         logNumber = result.reply.logNumber;
       }
-      const dl = await deliver(d.delivery, origin, result.reply, { png: result.png, note: result.chartNote });
+      const dl = await deliver(d.delivery, origin, result.reply, { png: result.png, note: result.chartNote }, { buttons: (a) => buttonsFor(a, origin) });
       outcome = dl.outcome;
       failures = dl.failures.length;
       d.inbox.finish(key);

@@ -10,6 +10,7 @@
 import { ask, type LogEntry, type LogEntryInput, type Store } from '../verbs/ask.js';
 import type { Reply } from '../reply.js';
 import { renderAnswerChart } from '../report/answer-chart.js';
+import { applyDefaults } from './desk/defaults.js';
 
 export interface Job {
   text: string;
@@ -21,6 +22,12 @@ export interface Job {
   budget?: number;
   /** answered once before by a process that stopped before finishing: log it at most once */
   resumed?: boolean;
+  /** a button's variation of this check (same log): recorded with the new entry */
+  variedFrom?: number;
+  /** a line put before the answer (what the button or the form did, and the request typed out) */
+  preface?: string;
+  /** apply the asker's personal defaults (my desk) where the request leaves a term out */
+  defaults?: boolean;
   /** files shared with the request (downloaded by the app), for `history` */
   files?: { name: string; base64: string }[];
 }
@@ -58,15 +65,37 @@ export function onceOnly(store: Store): Store {
 export async function work(job: Job, store: Store | null): Promise<WorkResult> {
   const t0 = performance.now();
   const s = store && job.resumed ? onceOnly(store) : store;
-  const reply = await ask(job.text, {
-    channel: job.channel,
-    user: job.user,
-    now: new Date(job.now),
-    store: s,
-    inWorkspace: true,
-    budget: job.budget,
-    ...(job.files?.length ? { files: job.files } : {}),
-  });
+  let text = job.text;
+  let used: string[] = [];
+  if (job.defaults && store) {
+    try {
+      const d = store.getDefaults(job.user);
+      const markHas = (sym: string): ReadonlySet<string> => {
+        const m = store.getMark(job.channel, sym);
+        return new Set((['rate', 'yield'] as const).filter((k) => m?.[k] !== undefined));
+      };
+      const applied = applyDefaults(text, d, job.now.slice(0, 10), markHas);
+      text = applied.text;
+      used = applied.used;
+    } catch {
+      /* defaults that cannot be read leave the request as written */
+    }
+  }
+  let reply = await ask(text, { channel: job.channel, user: job.user, now: new Date(job.now), store: s, inWorkspace: true, budget: job.budget, ...(job.files?.length ? { files: job.files } : {}) });
+  if (reply.kind === 'answer') {
+    const lines = [
+      ...(job.preface ? [job.preface] : []),
+      ...(used.length ? [`Used your defaults (my desk): ${used.map((u) => u.replace(/^your default /, '')).join(', ')}. Request run: ${text}`] : []),
+    ];
+    if (lines.length) reply = { ...reply, text: `${lines.join('\n')}\n\n${reply.text}`, json: { ...reply.json, ...(used.length ? { defaultsUsed: used } : {}) } };
+    if (job.variedFrom !== undefined && reply.logNumber !== undefined && store) {
+      try {
+        store.setVariedFrom(job.channel, reply.logNumber, job.variedFrom);
+      } catch {
+        /* the new check stands; only its link to the one it came from is missing */
+      }
+    }
+  }
   if (reply.kind !== 'answer' || reply.chart === undefined || reply.chart === null) {
     return { reply, ms: performance.now() - t0 };
   }

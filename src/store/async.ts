@@ -16,7 +16,7 @@ import { openPostgres, redactUrl } from './postgres.js';
 
 export { redactUrl };
 import { defaultDbPath, openStore } from './sqlite.js';
-import type { LogEntry, LogEntryInput, Mark, OpenOptions, Store, StoredClose } from './store.js';
+import type { LogEntry, LogEntryInput, Mark, OpenOptions, Posted, Store, StoredClose, UserDefaults } from './store.js';
 
 export interface AsyncStore {
   readonly backend: 'sqlite' | 'postgres';
@@ -44,6 +44,16 @@ export interface AsyncStore {
   /** Counts one rejected request (nothing else of it is stored). */
   countRejected(channel: string): Promise<void>;
   rejectedCount(channel: string): Promise<number>;
+  /** Records the check (same log) this one is a variation of; false when there is no such entry. */
+  setVariedFrom(channel: string, number: number, from: number): Promise<boolean>;
+  /** Records the messages and files the answer posted (replacing what was recorded). */
+  setPosted(channel: string, number: number, posted: Posted): Promise<boolean>;
+  /** Deletes a check's content and keeps its number (a tombstone); false when none or already one. */
+  tombstone(channel: string, number: number, at: string): Promise<boolean>;
+  /** A person's last `n` checks across every log, newest first, tombstones left out. */
+  recentOfUser(user: string, n: number): Promise<LogEntry[]>;
+  getDefaults(user: string): Promise<UserDefaults>;
+  putDefaults(user: string, d: UserDefaults, at: string): Promise<void>;
   /** Resolves when the memory answers a read; rejects with a StoreError otherwise. */
   ping(): Promise<void>;
   close(): Promise<void>;
@@ -67,6 +77,12 @@ export function asyncOf(s: Store, where: string): AsyncStore {
     listMarks: async (c) => s.listMarks(c),
     countRejected: async (c) => s.countRejected(c),
     rejectedCount: async (c) => s.rejectedCount(c),
+    setVariedFrom: async (c, n, from) => s.setVariedFrom(c, n, from),
+    setPosted: async (c, n, p) => s.setPosted(c, n, p),
+    tombstone: async (c, n, at) => s.tombstone(c, n, at),
+    recentOfUser: async (u, n) => s.recentOfUser(u, n),
+    getDefaults: async (u) => s.getDefaults(u),
+    putDefaults: async (u, d, at) => s.putDefaults(u, d, at),
     ping: async () => s.ping(),
     close: async () => {
       if (!closed) s.close();

@@ -153,6 +153,40 @@ export const MIGRATIONS: readonly Migration[] = [
       );
     `,
   },
+  {
+    version: 4,
+    description: 'buttons and my desk: which check a variation came from, tombstones of deleted checks, the messages and files each answer posted, a person\'s checks across channels, personal defaults',
+    up(db) {
+      db.exec(`
+        ALTER TABLE checks ADD COLUMN varied_from INTEGER;
+        ALTER TABLE checks ADD COLUMN deleted_at TEXT;
+        ALTER TABLE checks ADD COLUMN posted TEXT;
+        CREATE INDEX checks_user_at ON checks (user, at);
+        CREATE TABLE user_defaults (
+          user    TEXT PRIMARY KEY NOT NULL,
+          rate    REAL,
+          yield   REAL,
+          mult    INTEGER,
+          horizon TEXT,
+          at      TEXT NOT NULL
+        );
+      `);
+    },
+    postgres: `
+      ALTER TABLE checks ADD COLUMN varied_from INTEGER;
+      ALTER TABLE checks ADD COLUMN deleted_at TEXT;
+      ALTER TABLE checks ADD COLUMN posted TEXT;
+      CREATE INDEX checks_user_at ON checks ("user", at);
+      CREATE TABLE user_defaults (
+        "user"  TEXT PRIMARY KEY,
+        rate    DOUBLE PRECISION,
+        yield   DOUBLE PRECISION,
+        mult    INTEGER,
+        horizon TEXT,
+        at      TEXT NOT NULL
+      );
+    `,
+  },
 ];
 
 /** The schema version this code reads and writes. */

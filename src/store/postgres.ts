@@ -34,8 +34,15 @@ import {
   type CheckRow,
   type CloseRow,
   type MarkRow,
+  postedJsonOf,
+  TOMBSTONE_SUMMARY,
+  isoTime,
+  toDefaults,
+  defaultsRowOf,
+  emptyDefaults,
+  type DefaultsRow,
 } from './rows.js';
-import type { LogEntry, LogEntryInput, Mark, StoredClose } from './store.js';
+import type { LogEntry, LogEntryInput, Mark, Posted, StoredClose, UserDefaults } from './store.js';
 import type { AsyncStore, DatabaseOptions } from './async.js';
 
 /** key of the advisory lock the migrations hold (any fixed number; "KOLMO" in ASCII) */
@@ -135,7 +142,7 @@ export async function openPostgres(url: string, opts: DatabaseOptions = {}): Pro
   return new PgStore(pool, where);
 }
 
-const CHECK_COLUMNS = 'channel, number, "user", at, verb, text, normalized, summary, thread_ts, permalink, delivered';
+const CHECK_COLUMNS = 'channel, number, "user", at, verb, text, normalized, summary, thread_ts, permalink, delivered, varied_from, deleted_at, posted';
 const MARK_COLUMNS = 'channel, symbol, spot, iv, yield, rate, vol, drift, drift_se, "user", at';
 
 class PgStore implements AsyncStore {
@@ -172,7 +179,7 @@ class PgStore implements AsyncStore {
       [row.channel, row.user, row.at, row.verb, row.text, row.normalized, row.summary],
     );
     const number = r.rows[0].number;
-    return { ...row, summary: summaryRecord, number, threadTs: null, permalink: null, delivered: 'pending' };
+    return { ...row, summary: summaryRecord, number, threadTs: null, permalink: null, delivered: 'pending', variedFrom: null, deletedAt: null, posted: null };
   }
 
   async setThread(channel: string, number: number, threadTs: string, permalink?: string | null): Promise<boolean> {
@@ -268,6 +275,61 @@ class PgStore implements AsyncStore {
     if (typeof channel !== 'string') return 0;
     const r = await this.q<{ count: number }>('read', 'SELECT count FROM rejected WHERE channel = $1', [channel]);
     return r.rows[0]?.count ?? 0;
+  }
+
+  async setVariedFrom(channel: string, number: number, from: number): Promise<boolean> {
+    const ch = id(channel, 'channel');
+    if (!isEntryNumber(number) || !isEntryNumber(from) || number > 2147483647 || from > 2147483647) return false;
+    const r = await this.q('write', 'UPDATE checks SET varied_from = $1 WHERE channel = $2 AND number = $3', [from, ch, number]);
+    return (r.rowCount ?? 0) > 0;
+  }
+
+  async setPosted(channel: string, number: number, posted: Posted): Promise<boolean> {
+    const ch = id(channel, 'channel');
+    if (!isEntryNumber(number) || number > 2147483647) return false;
+    const j = postedJsonOf(posted);
+    const r = await this.q('write', 'UPDATE checks SET posted = $1 WHERE channel = $2 AND number = $3 AND deleted_at IS NULL', [j, ch, number]);
+    return (r.rowCount ?? 0) > 0;
+  }
+
+  async tombstone(channel: string, number: number, at: string): Promise<boolean> {
+    const ch = id(channel, 'channel');
+    if (!isEntryNumber(number) || number > 2147483647) return false;
+    const when = isoTime(at);
+    const r = await this.q(
+      'write',
+      `UPDATE checks SET text = '', normalized = 'null', summary = $1, posted = NULL, permalink = NULL, deleted_at = $2
+       WHERE channel = $3 AND number = $4 AND deleted_at IS NULL`,
+      [TOMBSTONE_SUMMARY, when, ch, number],
+    );
+    return (r.rowCount ?? 0) > 0;
+  }
+
+  async recentOfUser(user: string, n: number): Promise<LogEntry[]> {
+    const limit = recentLimitOf(user, n);
+    if (limit === 0) return [];
+    const r = await this.q<CheckRow>('read', `SELECT ${CHECK_COLUMNS} FROM checks WHERE "user" = $1 AND deleted_at IS NULL ORDER BY at DESC, id DESC LIMIT $2`, [user, limit]);
+    return r.rows.map(toEntry);
+  }
+
+  async getDefaults(user: string): Promise<UserDefaults> {
+    if (typeof user !== 'string') return {};
+    const r = await this.q<DefaultsRow>('read', 'SELECT "user", rate, yield, mult, horizon, at FROM user_defaults WHERE "user" = $1', [user]);
+    return toDefaults(r.rows[0]);
+  }
+
+  async putDefaults(user: string, d: UserDefaults, at: string): Promise<void> {
+    const row = defaultsRowOf(user, d, at);
+    if (emptyDefaults(d)) {
+      await this.q('write', 'DELETE FROM user_defaults WHERE "user" = $1', [row.user]);
+      return;
+    }
+    await this.q(
+      'write',
+      `INSERT INTO user_defaults ("user", rate, yield, mult, horizon, at) VALUES ($1, $2, $3, $4, $5, $6)
+       ON CONFLICT ("user") DO UPDATE SET rate = excluded.rate, yield = excluded.yield, mult = excluded.mult, horizon = excluded.horizon, at = excluded.at`,
+      [row.user, row.rate, row.yield, row.mult, row.horizon, row.at],
+    );
   }
 
   async ping(): Promise<void> {

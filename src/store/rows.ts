@@ -4,7 +4,7 @@
  * of stored rows back to records.
  */
 import { StoreError } from './errors.js';
-import type { CheckSummary, DeliveryState, LogEntry, LogEntryInput, Mark, StoredClose } from './store.js';
+import type { CheckSummary, DeliveryState, LogEntry, LogEntryInput, Mark, Posted, StoredClose, UserDefaults } from './store.js';
 
 /**
  * Size limits. Identifiers are refused when too long (cutting a channel id could merge two
@@ -48,6 +48,9 @@ export interface CheckRow {
   thread_ts: string | null;
   permalink: string | null;
   delivered: DeliveryState;
+  varied_from?: number | null;
+  deleted_at?: string | null;
+  posted?: string | null;
 }
 
 export interface MarkRow {
@@ -71,7 +74,7 @@ export interface CloseRow {
 }
 
 /** A check ready to be stored (everything but its number), or a StoreError 'invalid'. */
-export function checkRowOf(e: LogEntryInput): Omit<CheckRow, 'number' | 'thread_ts' | 'permalink' | 'delivered'> & { summaryRecord: CheckSummary } {
+export function checkRowOf(e: LogEntryInput): Omit<CheckRow, 'number' | 'thread_ts' | 'permalink' | 'delivered' | 'varied_from' | 'deleted_at' | 'posted'> & { summaryRecord: CheckSummary } {
   const channel = id(e?.channel, 'channel');
   const user = id(e.user, 'user');
   const at = isoTime(e.at);
@@ -250,7 +253,78 @@ export function toEntry(r: CheckRow): LogEntry {
     threadTs: r.thread_ts,
     permalink: r.permalink,
     delivered: r.delivered,
+    variedFrom: r.varied_from ?? null,
+    deletedAt: r.deleted_at ?? null,
+    posted: postedOf(r.posted ?? null),
   };
+}
+
+function postedOf(s: string | null): Posted | null {
+  if (s === null) return null;
+  try {
+    const o = JSON.parse(s) as Posted;
+    if (typeof o.channel === 'string' && Array.isArray(o.ts) && Array.isArray(o.files)) {
+      return { channel: o.channel, ts: o.ts.filter((x) => typeof x === 'string'), files: o.files.filter((x) => typeof x === 'string') };
+    }
+  } catch {
+    /* unreadable: nothing recorded */
+  }
+  return null;
+}
+
+/** the most messages and files one answer's record keeps */
+export const POSTED_MAX = 200;
+
+/** A record of what an answer posted, checked, as JSON. */
+export function postedJsonOf(p: Posted): string {
+  const ch = id(p?.channel, 'channel');
+  const list = (v: unknown, what: string) => {
+    if (!Array.isArray(v) || v.length > POSTED_MAX) throw invalid(`the posted ${what} must be a list of at most ${POSTED_MAX}`);
+    return v.map((x) => shortText(x, what, LIMITS.threadTsChars));
+  };
+  return JSON.stringify({ channel: ch, ts: list(p.ts, 'message ts'), files: list(p.files, 'file id') });
+}
+
+/** the tombstone's stored summary: no figures */
+export const TOMBSTONE_SUMMARY = JSON.stringify({ position: 'deleted by the asker', deleted: true });
+
+export interface DefaultsRow {
+  user: string;
+  rate: number | null;
+  yield: number | null;
+  mult: number | null;
+  horizon: string | null;
+  at: string;
+}
+
+/** Personal defaults ready to be stored, or a StoreError 'invalid'. */
+export function defaultsRowOf(user: string, d: UserDefaults, at: string): DefaultsRow {
+  const mult = d?.mult;
+  if (mult !== undefined && !(Number.isSafeInteger(mult) && mult >= 1)) throw invalid(`the multiplier must be a whole number from 1, not ${String(mult)}`);
+  const horizon = d.horizon;
+  if (horizon !== undefined && !/^\d{1,5}[dwmy]$/.test(horizon)) throw invalid(`the default horizon must be a span such as 30d, not ${String(horizon).slice(0, 20)}`);
+  return {
+    user: id(user, 'user'),
+    rate: finiteOrNull(d.rate, 'rate'),
+    yield: finiteOrNull(d.yield, 'yield'),
+    mult: mult ?? null,
+    horizon: horizon ?? null,
+    at: isoTime(at),
+  };
+}
+
+export function toDefaults(r: DefaultsRow | undefined): UserDefaults {
+  const d: UserDefaults = {};
+  if (!r) return d;
+  if (r.rate !== null) d.rate = r.rate;
+  if (r.yield !== null) d.yield = r.yield;
+  if (r.mult !== null) d.mult = Number(r.mult);
+  if (r.horizon !== null) d.horizon = r.horizon;
+  return d;
+}
+
+export function emptyDefaults(d: UserDefaults): boolean {
+  return d.rate === undefined && d.yield === undefined && d.mult === undefined && d.horizon === undefined;
 }
 
 export function toMark(r: MarkRow): Mark {

@@ -39,8 +39,15 @@ import {
   type CheckRow,
   type CloseRow,
   type MarkRow,
+  postedJsonOf,
+  TOMBSTONE_SUMMARY,
+  isoTime,
+  toDefaults,
+  defaultsRowOf,
+  emptyDefaults,
+  type DefaultsRow,
 } from './rows.js';
-import type { LogEntry, LogEntryInput, Mark, OpenOptions, Store, StoredClose } from './store.js';
+import type { LogEntry, LogEntryInput, Mark, OpenOptions, Posted, Store, StoredClose, UserDefaults } from './store.js';
 
 export { LIMITS, cutBytes } from './rows.js';
 
@@ -113,7 +120,7 @@ export function openStore(path: string, opts: OpenOptions = {}): Store {
   }
 }
 
-const CHECK_COLUMNS = 'channel, number, user, at, verb, text, normalized, summary, thread_ts, permalink, delivered';
+const CHECK_COLUMNS = 'channel, number, user, at, verb, text, normalized, summary, thread_ts, permalink, delivered, varied_from, deleted_at, posted';
 const MARK_COLUMNS = 'channel, symbol, spot, iv, yield, rate, vol, drift, drift_se, user, at';
 
 class SqliteStore implements Store {
@@ -157,6 +164,19 @@ class SqliteStore implements Store {
         'INSERT INTO rejected (channel, count) VALUES (?, 1) ON CONFLICT (channel) DO UPDATE SET count = count + 1',
       ),
       rejectedCount: db.prepare('SELECT count FROM rejected WHERE channel = ?').pluck(),
+      setVariedFrom: db.prepare('UPDATE checks SET varied_from = ? WHERE channel = ? AND number = ?'),
+      setPosted: db.prepare('UPDATE checks SET posted = ? WHERE channel = ? AND number = ? AND deleted_at IS NULL'),
+      tombstone: db.prepare(
+        `UPDATE checks SET text = '', normalized = 'null', summary = ?, posted = NULL, permalink = NULL, deleted_at = ?
+         WHERE channel = ? AND number = ? AND deleted_at IS NULL`,
+      ),
+      recentOfUser: db.prepare(`SELECT ${CHECK_COLUMNS} FROM checks WHERE user = ? AND deleted_at IS NULL ORDER BY at DESC, id DESC LIMIT ?`),
+      getDefaults: db.prepare('SELECT user, rate, yield, mult, horizon, at FROM user_defaults WHERE user = ?'),
+      putDefaults: db.prepare(
+        `INSERT INTO user_defaults (user, rate, yield, mult, horizon, at) VALUES (@user, @rate, @yield, @mult, @horizon, @at)
+         ON CONFLICT (user) DO UPDATE SET rate = excluded.rate, yield = excluded.yield, mult = excluded.mult, horizon = excluded.horizon, at = excluded.at`,
+      ),
+      dropDefaults: db.prepare('DELETE FROM user_defaults WHERE user = ?'),
     };
     const s = this.s;
     this.allocTx = db.transaction((row: Omit<CheckRow, 'number' | 'thread_ts' | 'permalink' | 'delivered'>): number => {
@@ -181,7 +201,7 @@ class SqliteStore implements Store {
   appendCheck(e: LogEntryInput): LogEntry {
     const { summaryRecord, ...row } = checkRowOf(e);
     const number = this.guard('write', () => this.allocTx.immediate(row));
-    return { ...row, summary: summaryRecord, number, threadTs: null, permalink: null, delivered: 'pending' };
+    return { ...row, summary: summaryRecord, number, threadTs: null, permalink: null, delivered: 'pending', variedFrom: null, deletedAt: null, posted: null };
   }
 
   setThread(channel: string, number: number, threadTs: string, permalink?: string | null): boolean {
@@ -248,6 +268,43 @@ class SqliteStore implements Store {
   rejectedCount(channel: string): number {
     if (typeof channel !== 'string') return 0;
     return this.guard('read', () => (this.s.rejectedCount.get(channel) as number | undefined) ?? 0);
+  }
+
+  setVariedFrom(channel: string, number: number, from: number): boolean {
+    const ch = id(channel, 'channel');
+    if (!isEntryNumber(number) || !isEntryNumber(from)) return false;
+    return this.guard('write', () => this.s.setVariedFrom.run(from, ch, number).changes > 0);
+  }
+
+  setPosted(channel: string, number: number, posted: Posted): boolean {
+    const ch = id(channel, 'channel');
+    if (!isEntryNumber(number)) return false;
+    const j = postedJsonOf(posted);
+    return this.guard('write', () => this.s.setPosted.run(j, ch, number).changes > 0);
+  }
+
+  tombstone(channel: string, number: number, at: string): boolean {
+    const ch = id(channel, 'channel');
+    if (!isEntryNumber(number)) return false;
+    const when = isoTime(at);
+    return this.guard('write', () => this.s.tombstone.run(TOMBSTONE_SUMMARY, when, ch, number).changes > 0);
+  }
+
+  recentOfUser(user: string, n: number): LogEntry[] {
+    const limit = recentLimitOf(user, n);
+    if (limit === 0) return [];
+    return this.guard('read', () => this.s.recentOfUser.all(user, limit) as CheckRow[]).map(toEntry);
+  }
+
+  getDefaults(user: string): UserDefaults {
+    if (typeof user !== 'string') return {};
+    return toDefaults(this.guard('read', () => this.s.getDefaults.get(user) as DefaultsRow | undefined));
+  }
+
+  putDefaults(user: string, d: UserDefaults, at: string): void {
+    const row = defaultsRowOf(user, d, at);
+    if (emptyDefaults(d)) this.guard('write', () => this.s.dropDefaults.run(row.user));
+    else this.guard('write', () => this.s.putDefaults.run(row));
   }
 
   /** answers when the file can be read */

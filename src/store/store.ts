@@ -40,7 +40,30 @@ export interface LogEntry extends LogEntryInput {
   threadTs: string | null;
   permalink: string | null;
   delivered: DeliveryState;
+  /** the check (same log) this one is a variation of, pressed from its buttons */
+  variedFrom?: number | null;
+  /** when the asker deleted it: the entry is a tombstone (number kept, figures gone) */
+  deletedAt?: string | null;
+  /** the messages and files the answer posted, for deleting it */
+  posted?: Posted | null;
 }
+
+/** The messages (their ts, in `channel`) and chart files an answer posted. */
+export interface Posted {
+  channel: string;
+  ts: string[];
+  files: string[];
+}
+
+/** A person's own defaults (my desk). */
+export interface UserDefaults {
+  rate?: number;
+  yield?: number;
+  mult?: number;
+  /** a span: 30d, 6w, 3m, 1y */
+  horizon?: string;
+}
+
 
 /** A stored market snapshot for a symbol in a channel. The symbol is kept in upper case. */
 export interface Mark {
@@ -92,6 +115,21 @@ export interface Store {
   rejectedCount(channel: string): number;
   /** Runs `fn` in one write transaction: every change inside it is kept, or none is. */
   batch<T>(fn: () => T): T;
+  /** Records the check (same log) this one is a variation of; false when there is no such entry. */
+  setVariedFrom(channel: string, number: number, from: number): boolean;
+  /** Records the messages and files the answer posted (replacing what was recorded). */
+  setPosted(channel: string, number: number, posted: Posted): boolean;
+  /**
+   * Deletes a check's content and keeps its number (a tombstone: text, request and figures gone,
+   * `deletedAt` set). False when there is no such entry or it is already a tombstone.
+   */
+  tombstone(channel: string, number: number, at: string): boolean;
+  /** A person's last `n` checks across every log, newest first, tombstones left out. */
+  recentOfUser(user: string, n: number): LogEntry[];
+  /** A person's defaults (empty when none). */
+  getDefaults(user: string): UserDefaults;
+  /** Stores a person's defaults whole (an empty record removes them). */
+  putDefaults(user: string, d: UserDefaults, at: string): void;
   /** Returns when the log answers a read; a StoreError otherwise. */
   ping(): void;
   close(): void;

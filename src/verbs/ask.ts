@@ -136,7 +136,9 @@ export { verbOfText } from './registry.js';
 
 // What the shells may read of the grammar: they build request text (the check form, the buttons'
 // variations, personal defaults) and check it against the parser before it comes back here.
-export { parse, parseCheckPart } from '../request/parse.js';
+export { parse, parseCheckPart, formatError } from '../request/parse.js';
+export { resolveCheck, type MarkTerms } from '../request/resolve.js';
+export { termsOfMark } from './marks.js';
 export { LIMITS, SPAN_MAX } from '../request/limits.js';
 export { resolveSpec } from '../request/dates.js';
 export type { CheckRequest, ExpirySpec, Request } from '../request/types.js';

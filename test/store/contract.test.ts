@@ -129,6 +129,56 @@ describe.each(backends)('the store contract on $name', (backend) => {
     expect(await s.setDelivery('C0DESKA', 9, 'delivered')).toBe(false);
   });
 
+  it('buttons and my desk: a variation records its origin, a tombstone keeps its number and drops its figures', async () => {
+    const { s } = await open();
+    await s.appendCheck(input('C0DESKA'));
+    await s.appendCheck(input('C0DESKA'));
+    await s.appendCheck(input('C0DESKA'));
+    expect(await s.setVariedFrom('C0DESKA', 2, 1)).toBe(true);
+    expect(await s.setVariedFrom('C0DESKB', 2, 1)).toBe(false);
+    expect((await s.get('C0DESKA', 2))?.variedFrom).toBe(1);
+    expect((await s.get('C0DESKA', 1))?.variedFrom).toBeNull();
+    const posted = { channel: 'C0DESKA', ts: ['1799999999.000100', '1799999999.000101'], files: ['F0CHART1'] };
+    expect(await s.setPosted('C0DESKA', 2, posted)).toBe(true);
+    expect((await s.get('C0DESKA', 2))?.posted).toEqual(posted);
+    expect((await storeError(s.setPosted('C0DESKA', 2, { channel: 'C0DESKA', ts: ['x'.repeat(65)], files: [] }))).code).toBe('invalid');
+    expect(await s.tombstone('C0DESKA', 2, '2027-01-04T16:00:00.000Z')).toBe(true);
+    expect(await s.tombstone('C0DESKA', 2, '2027-01-04T16:00:01.000Z')).toBe(false);
+    expect(await s.tombstone('C0DESKA', 9, '2027-01-04T16:00:01.000Z')).toBe(false);
+    const t = (await s.get('C0DESKA', 2))!;
+    expect(t).toMatchObject({ number: 2, text: '', deletedAt: '2027-01-04T16:00:00.000Z', posted: null, permalink: null, variedFrom: 1 });
+    expect(t.summary).toEqual({ position: 'deleted by the asker', deleted: true });
+    // numbers stay contiguous: the next check is #4, and the listing still has #2
+    expect((await s.appendCheck(input('C0DESKA'))).number).toBe(4);
+    expect((await s.recent('C0DESKA', 10)).map((e) => e.number)).toEqual([4, 3, 2, 1]);
+    expect(await s.setPosted('C0DESKA', 2, posted)).toBe(false);
+  });
+
+  it("a person's checks across channels, newest first, without tombstones; personal defaults stored whole", async () => {
+    const { s } = await open();
+    await s.appendCheck(input('C0DESKA', { at: '2027-01-04T10:00:00.000Z' }));
+    await s.appendCheck(input('C0DESKB', { at: '2027-01-04T11:00:00.000Z' }));
+    await s.appendCheck(input('C0DESKA', { at: '2027-01-04T12:00:00.000Z', user: 'U0OTHER' }));
+    await s.appendCheck(input('im:U0MAYA', { at: '2027-01-04T13:00:00.000Z' }));
+    await s.tombstone('C0DESKA', 1, '2027-01-04T14:00:00.000Z');
+    expect((await s.recentOfUser('U0MAYA', 20)).map((e) => [e.channel, e.number])).toEqual([
+      ['im:U0MAYA', 1],
+      ['C0DESKB', 1],
+    ]);
+    expect(await s.recentOfUser('U0MAYA', 1)).toHaveLength(1);
+    expect(await s.recentOfUser('U0NOBODY', 20)).toEqual([]);
+    expect(await s.getDefaults('U0MAYA')).toEqual({});
+    await s.putDefaults('U0MAYA', { rate: 0.045, mult: 10, horizon: '30d' }, '2027-01-04T15:00:00.000Z');
+    expect(await s.getDefaults('U0MAYA')).toEqual({ rate: 0.045, mult: 10, horizon: '30d' });
+    await s.putDefaults('U0MAYA', { yield: 0.01 }, '2027-01-04T15:01:00.000Z');
+    expect(await s.getDefaults('U0MAYA')).toEqual({ yield: 0.01 });
+    expect(await s.getDefaults('U0OTHER')).toEqual({});
+    expect((await storeError(s.putDefaults('U0MAYA', { mult: 2.5 }, '2027-01-04T15:02:00.000Z'))).code).toBe('invalid');
+    expect((await storeError(s.putDefaults('U0MAYA', { horizon: '30 days' }, '2027-01-04T15:02:00.000Z'))).code).toBe('invalid');
+    await s.putDefaults('U0MAYA', {}, '2027-01-04T15:03:00.000Z');
+    expect(await s.getDefaults('U0MAYA')).toEqual({});
+  });
+
   it('recent returns the newest first and clamps n; get of a number that cannot exist is absent', async () => {
     const { s } = await open();
     for (let i = 0; i < 7; i++) await s.appendCheck(input('C0DESKA'));

@@ -9,6 +9,7 @@
  * signed payload too. Labels are Kolmo's own words.
  */
 import type { types } from '@slack/bolt';
+import type { Answer } from '../../reply.js';
 import type { Variation } from './variations.js';
 
 export const ACTION_PREFIX = 'kolmo_';
@@ -90,6 +91,20 @@ export function answerActions(a: AnswerActionsInput): types.ActionsBlock {
     }),
   );
   return { type: 'actions', block_id: ANSWER_ACTIONS_BLOCK, elements };
+}
+
+/** answers that carry buttons: logged checks of these verbs */
+const BUTTON_VERBS = new Set(['check', 'compare', 'iv', 'touch', 'again']);
+
+/** The buttons of a delivered answer, if it has any (a logged, non-ephemeral check). */
+export function buttonsFor(a: Answer, origin: { channel: string; log?: string }): types.ActionsBlock | undefined {
+  if (a.logNumber === undefined || a.ephemeral || !BUTTON_VERBS.has(a.verb)) return undefined;
+  return answerActions({
+    number: a.logNumber,
+    verb: a.verb,
+    usedMark: a.json.mark !== undefined || a.json.marks !== undefined,
+    private: (origin.log ?? origin.channel).startsWith('im:'),
+  });
 }
 
 export const POST_CALLBACK = 'kolmo_post_to_channel';

@@ -1,4 +1,4 @@
-/** Slash commands: `/kolmo <request>` (an empty one is `help`). */
+/** Slash commands: `/kolmo <request>` (an empty one opens the check form; `help` when it cannot). */
 import { createHash } from 'node:crypto';
 import type { Origin } from '../deliver.js';
 import type { RetryInfo } from '../intake.js';
@@ -13,7 +13,7 @@ export function commandKey(triggerId: string | undefined, responseUrl: string | 
   return `cmd:${createHash('sha256').update(id).digest('base64url').slice(0, 32)}`;
 }
 
-export function registerCommands({ app, intake }: ListenerContext): void {
+export function registerCommands({ app, intake, forms, log }: ListenerContext): void {
   app.command(COMMAND, async ({ command, ack, context }) => {
     const t0 = performance.now();
     const now = new Date().toISOString();
@@ -24,6 +24,12 @@ export function registerCommands({ app, intake }: ListenerContext): void {
     // the ack first (nothing may delay it), then the inbox in the same turn of the event loop —
     // as for events, which Bolt acknowledges before the listener runs
     await ack();
+    if (text.trim() === '' && command.trigger_id && forms.open) {
+      // `/kolmo` alone opens the check form; its trigger expires in 3 seconds, so nothing comes first
+      const opened = await forms.open(command.trigger_id, { legs: 2, channel: command.channel_id });
+      log.info({ channel: command.channel_id, user: command.user_id, source: 'command', verb: 'form', outcome: opened ? 'form-opened' : 'form-failed', ms: Math.round(performance.now() - t0) }, 'request');
+      if (opened) return;
+    }
     const fresh = intake.admit(
       { key, source: 'command', channel: origin.channel, user: origin.user, ...(command.response_url ? { responseUrl: command.response_url } : {}), text, now },
       context as RetryInfo,

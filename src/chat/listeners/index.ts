@@ -1,8 +1,9 @@
 /**
- * The app's listeners, registered by kind (commands, events; actions and views join here as
- * they are added): each kind is one small module that turns what the platform sent into a
+ * The app's listeners, registered by kind (commands, events, and the interactive ones: actions,
+ * views, shortcuts, my desk and direct messages): each kind turns what the platform sent into a
  * request for the intake.
  */
+import { registerInteractive } from '../interactive.js';
 import { registerCommands } from './commands.js';
 import type { ListenerContext } from './context.js';
 import { registerEvents } from './events.js';
@@ -12,6 +13,7 @@ export type { ListenerContext } from './context.js';
 export const LISTENERS: Record<string, (ctx: ListenerContext) => void> = {
   commands: registerCommands,
   events: registerEvents,
+  interactive: registerInteractive,
 };
 
 export function registerListeners(ctx: ListenerContext): void {
