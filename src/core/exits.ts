@@ -92,8 +92,10 @@ export interface ExitGrid {
 }
 
 const SCAN_STEP = 0.015;
-const DEFAULT_NX = 200;
-const DEFAULT_NT = 400;
+const DEFAULT_NX = 100;
+const DEFAULT_NT = 200;
+/** at least this many grid intervals to one standard deviation of ln S over the horizon */
+const NODES_PER_SD = 24;
 /** solver steps per surface level */
 const SUBSTEPS = 4;
 /** the forward solve's grid is this many times coarser in x */
@@ -290,7 +292,13 @@ export function exitGrid(input: CheckInput, levels: Levels, walks: Walk[], opts:
   const { surface, t, segs: sgv, pnls, at: edgesAt, hull: hl, x0, w } = reg;
   const segs = sgv;
   const ls = pnls.length;
-  const dx = (Math.min(hl[1], x0 + w) - Math.max(hl[0], x0 - w)) / nx;
+  // nx intervals across the region's hull, and never coarser than NODES_PER_SD to one standard
+  // deviation of ln S over the horizon under the calmest walk (a hull that is unbounded spans
+  // 2 × 7 s.d. and would otherwise get few nodes where the paths are)
+  const h = input.horizonYears;
+  const sd = Math.min(...walks.map((wk) => wk.vol)) * Math.sqrt(h);
+  const dx0 = (Math.min(hl[1], x0 + w) - Math.max(hl[0], x0 - w)) / nx;
+  const dx = sd > 0 ? Math.min(dx0, sd / NODES_PER_SD) : dx0;
   const grid = (d: number): { x: Float64Array; i0: number } => {
     const xl = Math.max(hl[0] - 2 * d, x0 - w);
     const xr = Math.min(hl[1] + 2 * d, x0 + w);

@@ -1,4 +1,13 @@
-/** Number formatting shared by the text answer, the headline and the chart titles. */
+/**
+ * Every number Kolmo writes, in one place: the text answer, the headline, the log and the charts.
+ * The text register keeps a fixed number of decimals (tables line up); the charts' register
+ * (fmt…) drops trailing zeros and needless decimals, and writes "–" for a missing value.
+ */
+import { hasJumps } from '../core/jumps.js';
+import type { Jumps } from '../core/types.js';
+
+/** A finite number (the one test every formatter and chart helper uses). */
+export const isNum = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
 
 const MINUS = '−';
 
@@ -79,4 +88,56 @@ export function table(rows: string[][], left: number[] = [0]): string[] {
       .join('  ')
       .trimEnd(),
   );
+}
+
+// ---------------------------------------------------------------------------------------------
+// The charts' register: fewer decimals, trailing zeros dropped, "–" for a missing value.
+
+function fmtNumber(v: number, decimals: number): string {
+  const s = Math.abs(v).toLocaleString('en-US', { minimumFractionDigits: decimals, maximumFractionDigits: decimals });
+  return (v < 0 && s.replace(/[0.,]/g, '') !== '' ? MINUS : '') + s;
+}
+
+/** Price-like number: up to 2 decimals, trailing zeros dropped. */
+export function fmtPrice(v: number): string {
+  if (!isNum(v)) return '–';
+  const d = Math.abs(v) >= 1000 ? 0 : 2;
+  const s = fmtNumber(v, d);
+  return d > 0 ? s.replace(/\.?0+$/, '') : s;
+}
+
+/** Money with an explicit sign: "+1,234", "−56.20", with the currency code after it if known. */
+export function fmtMoney(v: number, currency?: string): string {
+  if (!isNum(v)) return '–';
+  const d = Math.abs(v) >= 100 ? 0 : 2;
+  const body = fmtNumber(v, d);
+  const signed = v > 0 && body.replace(/[0.,]/g, '') !== '' ? `+${body}` : body;
+  return currency ? `${signed} ${currency}` : signed;
+}
+
+/** Percentage of a decimal: 0.09 → "9%", 0.265 → "26.5%", −0.05 → "−5%". */
+export function fmtPct(v: number): string {
+  if (!isNum(v)) return '–';
+  const p = v * 100;
+  const d = Math.abs(p - Math.round(p)) < 1e-9 ? 0 : Math.abs(p * 10 - Math.round(p * 10)) < 1e-6 ? 1 : 2;
+  return `${fmtNumber(p, d)}%`;
+}
+
+/** A chance as a percentage to 0.1%, never rounded to a certainty it is not: "< 0.1%", "> 99.9%". */
+export function fmtChance(p: number): string {
+  if (!isNum(p)) return '–';
+  if (p > 0 && p < 0.0005) return '< 0.1%';
+  if (p < 1 && p >= 0.9995) return '> 99.9%';
+  return fmtPct(Math.round(Math.min(1, Math.max(0, p)) * 1000) / 1000);
+}
+
+/** The view as a chart title says it: "drift 9%, vol 26%, jumps 0.5/yr mean −5% sd 10%" */
+export function describeView(view: { drift: number; vol: number; jumps?: Jumps; driftSe?: number }): string {
+  const se = isNum(view.driftSe) && view.driftSe > 0 ? ` ± ${fmtPct(view.driftSe)}` : '';
+  let s = `drift ${fmtPct(view.drift)}${se}, vol ${fmtPct(view.vol)}`;
+  const j = view.jumps;
+  if (j && isNum(j.intensity) && hasJumps(j)) {
+    s += `, jumps ${fmtPrice(j.intensity)}/yr mean ${fmtPct(j.mean)} sd ${fmtPct(j.sd)}`;
+  }
+  return s;
 }

@@ -5,7 +5,7 @@
 import { level, money, pct, rate, table } from './format.js';
 import { cut } from './compare.js';
 
-const DAY_MS = 86_400_000;
+import { DAY_MS } from '../core/units.js';
 
 /** "2027-01-04 14:02" (UTC) from an ISO time; the text itself when it does not read as a time. */
 export function whenUtc(iso: string): string {

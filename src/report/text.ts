@@ -3,12 +3,14 @@
  * Layout and labels are Kolmo's own (docs/design.md §1, §6).
  */
 import type { CheckJson } from '../result.js';
+import { hasJumps } from '../core/jumps.js';
+import { DAY_MS } from '../core/units.js';
 import { describePosition } from './describe.js';
 import { exitsLine } from './exits.js';
 import { level, money, num, pct, rate, shortDate, table } from './format.js';
 
 function daysBetween(a: string, b: string): number {
-  return Math.round((Date.parse(b + 'T00:00:00Z') - Date.parse(a + 'T00:00:00Z')) / 86_400_000);
+  return Math.round((Date.parse(b + 'T00:00:00Z') - Date.parse(a + 'T00:00:00Z')) / DAY_MS);
 }
 
 export function positionWords(c: CheckJson): string {
@@ -21,7 +23,7 @@ export function positionWords(c: CheckJson): string {
 /** The view in a few words: "drift 9% vol 26%" (+ jumps). */
 export function viewWords(c: Pick<CheckJson, 'view'>): string {
   const v = c.view;
-  const j = v.jumps && v.jumps.intensity > 0 ? `, jumps ${num(v.jumps.intensity, 2)}/yr ${rate(v.jumps.mean)} ±${rate(v.jumps.sd)}` : '';
+  const j = hasJumps(v.jumps) ? `, jumps ${num(v.jumps.intensity, 2)}/yr ${rate(v.jumps.mean)} ±${rate(v.jumps.sd)}` : '';
   return `drift ${rate(v.drift)}${v.driftSe ? ` ± ${rate(v.driftSe)}` : ''}, vol ${rate(v.vol)}${j}`;
 }
 

@@ -18,7 +18,7 @@ import type { ExpirySpec } from './types.js';
 export const MIN_YEAR = 1900;
 export const MAX_YEAR = 2200;
 
-const MS_PER_DAY = 86_400_000;
+import { DAY_MS as MS_PER_DAY } from '../core/units.js';
 
 export function isLeapYear(y: number): boolean {
   return (y % 4 === 0 && y % 100 !== 0) || y % 400 === 0;

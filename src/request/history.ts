@@ -19,15 +19,9 @@ export interface HistoryClose {
   len: number;
 }
 
-export interface HistoryRequest {
-  verb: 'history';
-  symbol: string;
-  symbolAt: number;
-  closes: HistoryClose[];
-  yield?: number;
-  yieldAt?: number;
-  save: boolean;
-}
+/** A history request (its shape and type: historySchema in ./schema.ts). */
+export type { HistoryRequest } from './types.js';
+import type { HistoryRequest } from './types.js';
 
 export interface HistoryGrammarError {
   message: string;

@@ -3,16 +3,24 @@
  * the inputs and the figures, and logs the rerun under the verb it ran, with the request it ran.
  * The rewriting of the logged text is in src/request/again.ts.
  */
+import { againSchema } from '../request/schema.js';
+import type { Tok } from '../request/lex.js';
+import { LIMITS } from '../request/limits.js';
+import { readBody } from '../request/grammar/body.js';
+import { Cursor } from '../request/grammar/cursor.js';
+import { rejectAt } from '../request/grammar/errors.js';
+import { readWholeNumber } from '../request/grammar/values.js';
+import { ALL_TERMS } from '../request/grammar/words.js';
 import { applyAgain } from '../request/again.js';
 import { EXAMPLES } from '../request/examples.js';
-import { parse, parseAgain } from '../request/parse.js';
+import { parse } from '../request/parse.js';
 import type { AgainRequest, Request } from '../request/types.js';
 import { level, num, rate } from '../report/format.js';
 import { cut } from '../report/compare.js';
 import { whenUtc } from '../report/log.js';
 import type { CheckSummary, LogEntry } from '../store/store.js';
 import { checkFigureChanges } from './check.js';
-import { defineVerb, isoDay, needStore, refuse, refuseFact, Refused, storeCall, type Outcome, type VerbEnv } from './verb.js';
+import { isoDay, needStore, refuse, refuseFact, Refused, storeCall, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 /** Start of the number in an `again N` request, for the caret. */
 function againNumberAt(text: string): number {
@@ -109,6 +117,10 @@ function rerunOf(text: string, req: AgainRequest, env: VerbEnv) {
     // the same words whether #n belongs to another channel or to none
     throw refuseFact(text, { message: `no check #${n} in this channel; \`log\` lists this channel's checks and their numbers`, at, length: String(n).length, example: 'log 20' });
   }
+  if (entry.deletedAt) {
+    // a tombstone keeps only its number (deleted by its asker from the answer's buttons)
+    throw refuseFact(text, { message: `check #${n} was deleted by the person who asked it; only its number is kept`, at, length: String(n).length, example: 'log 20' });
+  }
   const pinned = pinAsof(entry, env);
   const re = applyAgain(pinned.text, req, text);
   if (!re.ok) throw refuse(text, re.error);
@@ -154,8 +166,24 @@ function runAgain(text: string, req: AgainRequest, env: VerbEnv): Outcome {
   };
 }
 
-export const again = defineVerb({
+export function parseAgain(src: string, toks: Tok[]): AgainRequest {
+  const semi = toks.find((t) => t.text === ';');
+  if (semi) throw rejectAt(semi, `again takes overrides for one check; ';' belongs to compare`, undefined, 'again');
+  const c = new Cursor(src, toks, 1, toks.length, 'again');
+  const nTok = c.peek();
+  if (!nTok) throw c.missing(toks[0], 'again needs the number of a check in the log, e.g. again 17', '17');
+  const number = readWholeNumber(c, nTok, 'again', 1, LIMITS.againMax, '17');
+  const restTok = c.peek();
+  if (!restTok) return { verb: 'again', number, rest: '', restAt: src.length };
+  // validate the overrides now, so a typo is caught before the log is read
+  readBody(c, 'again');
+  return { verb: 'again', number, rest: src.slice(restTok.at, c.end()), restAt: restTok.at };
+}
+
+export const again: Verb<AgainRequest> = {
   name: 'again',
+  schema: againSchema,
+  body: { terms: [...ALL_TERMS, 'price', 'by'], legs: true },
   words: ['again'],
   grammar: parseAgain,
   readsSemicolons: true,
@@ -172,4 +200,4 @@ export const again = defineVerb({
     const c = ctx.costOf(q.request, merged.text);
     return { units: c ? c.units : 0, at: req.restAt, what: 'rerun' };
   },
-});
+};

@@ -17,12 +17,11 @@
  * - an entry of another channel is answered exactly like a number that does not exist.
  */
 import { parse } from '../request/parse.js';
-import type { Request } from '../request/types.js';
 import type { Answer, Rejection, Reply } from '../reply.js';
 import { StoreError } from '../store/store.js';
 import { budgetRejection, COMPUTE_BUDGET_DEFAULT } from './budget.js';
 import { verbNamed, verbs } from './registry.js';
-import { envOf, reject, Refused, type AskContext, type Cost, type CostContext, type Outcome, type VerbEnv } from './verb.js';
+import { envOf, reject, Refused, type AnyRequest, type AskContext, type Cost, type CostContext, type Outcome, type VerbEnv } from './verb.js';
 
 export type { AskContext } from './verb.js';
 export { COMPUTE_BUDGET_DEFAULT } from './budget.js';
@@ -30,7 +29,7 @@ export { COMPUTE_BUDGET_DEFAULT } from './budget.js';
 export { CLOSES_FILE_BYTES } from '../request/closes.js';
 
 /** Units a parsed request would need (null: its work is small). */
-function costOf(req: Request, text: string, ctx: Omit<CostContext, 'costOf'>): Cost | null {
+function costOf(req: AnyRequest, text: string, ctx: Omit<CostContext, 'costOf'>): Cost | null {
   const v = verbNamed(req.verb);
   return v.cost ? v.cost(req, text, { ...ctx, costOf: (r, t) => costOf(r, t, ctx) }) : null;
 }

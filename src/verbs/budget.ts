@@ -27,6 +27,8 @@
  * A request above the budget gets a clear rejection before any work is done; the worker pool's
  * per-request deadline (KOLMO_TASK_TIMEOUT) stays as the hard stop behind it.
  */
+import { hasJumps } from '../core/jumps.js';
+import { DAY_MS } from '../core/units.js';
 import { formatError } from '../request/parse.js';
 import type { CheckRequest, ExpirySpec } from '../request/types.js';
 import type { Rejection } from '../reply.js';
@@ -48,7 +50,6 @@ export const EXITS_JUMP_PER_LEG = 10;
 /** a drift uncertainty: the view's exit figures are solved at 24 drifts (src/core/models.ts) */
 export const EXITS_DRIFT_UNITS = 150;
 
-const DAY_MS = 86_400_000;
 
 /** Years from `asof` (ISO day) to an expiry as written; NaN when it cannot be read. */
 function yearsTo(spec: ExpirySpec | undefined, asofMs: number): number {
@@ -70,7 +71,7 @@ export function checkCost(c: CheckRequest, now: Date = new Date()): number {
   const earliest = years.length ? Math.min(...years) : 0;
   const h0 = yearsTo(c.terms.horizon, asofMs);
   const horizon = Number.isFinite(h0) && h0 > 0 ? Math.min(h0, earliest) : earliest;
-  const lambda = c.terms.jumps && c.terms.jumps.intensity > 0 ? c.terms.jumps.intensity : 0;
+  const lambda = hasJumps(c.terms.jumps) ? c.terms.jumps.intensity : 0;
   const sd = c.terms.jumps ? Math.abs(c.terms.jumps.sd) : 0;
   const american = c.terms.style === 'american';
   let units = 0;

@@ -3,22 +3,24 @@
  * Resolves against the channel's mark, runs the core, answers with the table and the chart, and
  * is logged with its headline figures.
  */
+import { checkSchema } from '../request/schema.js';
 import { runCheck } from '../core/outcome.js';
 import { knownDriftFigures } from '../core/predictive.js';
 import { activeJumps } from '../core/jumps.js';
-import { parseCheckVerb } from '../request/parse.js';
+import { parseCheckVerb } from '../request/grammar/body.js';
+import { ALL_TERMS } from '../request/grammar/words.js';
 import { resolveCheck, type ResolvedCheck } from '../request/resolve.js';
 import type { CheckRequest } from '../request/types.js';
 import type { CheckAssembly, CheckJson, LegJson } from '../result.js';
 import { checkHeadline, checkText, positionWords } from '../report/text.js';
 import { checkChartInput } from '../report/chart-input.js';
 import { checkNoteText } from '../report/notes.js';
-import { money, pct, pts } from '../report/format.js';
+import { money, pct, pts, isNum } from '../report/format.js';
 import type { CheckSummary } from '../store/store.js';
 import { checkCost } from './budget.js';
 import { computeExits, exitLevels } from './exits.js';
 import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
-import { answer, defineVerb, refuse, type Outcome, type VerbEnv } from './verb.js';
+import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 /** Runs the core for a resolved check and assembles the JSON result (docs/design.md §4). */
 export function computeCheck(rc: ResolvedCheck): CheckAssembly {
@@ -110,8 +112,6 @@ export function checkSummary(c: CheckJson): CheckSummary {
   };
 }
 
-const isNum = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
-
 /** "label a → b (Δ)" when both figures are there, else null. */
 export function figurePair(label: string, a: unknown, b: unknown, f: (x: number) => string, d: (x: number) => string): string | null {
   return isNum(a) && isNum(b) ? `${label} ${f(a)} → ${f(b)} (${d(b - a)})` : null;
@@ -148,12 +148,14 @@ function runCheckVerb(text: string, req: CheckRequest, env: VerbEnv): Outcome {
   return { answer: a, log: { verb: 'check', text, request: req, summary: checkSummary(asm.json) } };
 }
 
-export const check = defineVerb({
+export const check: Verb<CheckRequest> = {
   name: 'check',
+  schema: checkSchema,
+  body: { terms: ALL_TERMS, legs: true },
   words: ['check'],
   grammar: parseCheckVerb,
   rerunnable: true,
   run: runCheckVerb,
   cost: (req, _text, ctx) => ({ units: checkCost(req, ctx.now), at: req.termsAt.jumps ?? req.termsAt.style ?? req.termsAt.target ?? req.termsAt.stop ?? 0, what: 'check' }),
   figureChanges: checkFigureChanges,
-});
+};

@@ -2,7 +2,14 @@
  * `compare A ; B ; …`: several checks side by side, each part inheriting from the one before.
  * Logged as one entry whose summary keeps every part's.
  */
-import { parseCompare } from '../request/parse.js';
+import { compareSchema } from '../request/schema.js';
+import type { Tok } from '../request/lex.js';
+import { checkOf, readBody } from '../request/grammar/body.js';
+import { mergeCheck } from '../request/grammar/body.js';
+import { Cursor } from '../request/grammar/cursor.js';
+import { Reject, after, insertAfter, insertBefore, rejectAt } from '../request/grammar/errors.js';
+import { LIMITS } from '../request/limits.js';
+import type { CheckRequest } from '../request/types.js';
 import { resolveCheck } from '../request/resolve.js';
 import { EXAMPLES } from '../request/examples.js';
 import type { CompareRequest } from '../request/types.js';
@@ -14,7 +21,7 @@ import type { Mark } from '../store/store.js';
 import { checkCost } from './budget.js';
 import { addExits, checkSummary, computeCheck } from './check.js';
 import { markFor, markJson, markLine, resolveContext } from './marks.js';
-import { answer, defineVerb, refuse, type Outcome, type VerbEnv } from './verb.js';
+import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 function runCompare(text: string, req: CompareRequest, env: VerbEnv): Outcome {
   const checks = req.checks ?? [];
@@ -54,12 +61,75 @@ function runCompare(text: string, req: CompareRequest, env: VerbEnv): Outcome {
   return { answer: a, log: { verb: 'compare', text, request: req, summary } };
 }
 
-export const compare = defineVerb({
+export function parseCompare(src: string, toks: Tok[]): CompareRequest {
+  const head = toks[0];
+  // split on ';'
+  const groups: [number, number][] = [];
+  let start = 1;
+  for (let i = 1; i <= toks.length; i++) {
+    if (i === toks.length || toks[i].text === ';') {
+      if (i === start) {
+        const semi = toks[i] ?? toks[i - 1];
+        const msg = groups.length === 0 && i === 1 && toks.length === 1
+          ? 'compare needs checks separated by ;'
+          : 'an empty part: each part between ; needs a leg or a term (e.g. drift 0%)';
+        if (toks.length === 1) throw new Reject(msg, after(head), 1, insertAfter(head, EXAMPLES.compare.slice(8)), 'compare');
+        throw rejectAt(semi, msg, undefined, 'compare');
+      }
+      groups.push([start, i]);
+      start = i + 1;
+    }
+  }
+  if (groups.length > LIMITS.compareParts) {
+    const first = toks[groups[LIMITS.compareParts][0]];
+    const last = toks[groups[LIMITS.compareParts][1] - 1];
+    const kept = toks[groups[LIMITS.compareParts - 1][1] - 1];
+    throw new Reject(
+      `a comparison takes at most ${LIMITS.compareParts} checks and this one has ${groups.length}: drop the parts from here on, or split it into two comparisons`,
+      first.at,
+      last.at + last.len - first.at,
+      { at: kept.at + kept.len, length: src.length - kept.at - kept.len, text: '' },
+      'compare',
+    );
+  }
+  if (groups.length < 2) {
+    const last = toks[toks.length - 1];
+    throw new Reject(
+      'compare needs at least two parts separated by ; (each part inherits from the one before)',
+      after(last),
+      1,
+      insertAfter(last, '; drift 0%'),
+      'compare',
+    );
+  }
+  const parts: { text: string; at: number }[] = [];
+  const checks: CheckRequest[] = [];
+  groups.forEach(([from, to], k) => {
+    const first = toks[from];
+    const last = toks[to - 1];
+    parts.push({ text: src.slice(first.at, last.at + last.len), at: first.at });
+    const skip = first.low === 'check' ? 1 : 0;
+    const c = new Cursor(src, toks, from + skip, to, 'compare');
+    const body = readBody(c, 'check');
+    if (k === 0 && body.legs.length === 0) {
+      throw rejectAt(first, 'the first part of a comparison is a whole check and starts with a leg, e.g. +1 call 100 3m iv 30%', insertBefore(first, '+1 call 100 3m iv 30%'), 'compare');
+    }
+    if (from + skip === to) {
+      throw rejectAt(first, 'an empty part: give a leg or a term after check', undefined, 'compare');
+    }
+    const part = checkOf(body, c.end());
+    checks.push(k === 0 ? part : mergeCheck(checks[k - 1], part));
+  });
+  return { verb: 'compare', parts, checks };
+}
+
+export const compare: Verb<CompareRequest> = {
   name: 'compare',
+  schema: compareSchema,
   words: ['compare'],
   grammar: parseCompare,
   readsSemicolons: true,
   rerunnable: true,
   run: runCompare,
   cost: (req, _text, ctx) => ({ units: (req.checks ?? []).reduce((s, c) => s + checkCost(c, ctx.now), 0), at: 0, what: 'comparison' }),
-});
+};

@@ -2,15 +2,23 @@
  * `iv call|put STRIKE EXPIRY price P …`: the implied vol of one option price, under the model its
  * style and jumps call for (chosen in src/core/models.ts). Logged.
  */
+import { ivSchema } from '../request/schema.js';
+import { SAMPLE } from '../request/examples.js';
+import { NUMBER, type Tok } from '../request/lex.js';
+import { readBody } from '../request/grammar/body.js';
+import { Cursor, isSpecToken } from '../request/grammar/cursor.js';
+import { Reject, after, fmtNum, insertAfter, insertBefore } from '../request/grammar/errors.js';
+import { readPrice, specOf } from '../request/grammar/values.js';
+import { SPAN_WORDS, TYPE_WORDS } from '../request/grammar/words.js';
+import type { ExpirySpec } from '../request/types.js';
 import { solveImpliedVol, type IvMethod } from '../core/models.js';
-import { parseIv } from '../request/parse.js';
 import { resolveIv } from '../request/resolve.js';
 import type { IvRequest } from '../request/types.js';
-import { level, num, pct, pts, rate, shortDate } from '../report/format.js';
+import { level, num, pct, pts, rate, shortDate, isNum } from '../report/format.js';
 import type { CheckSummary } from '../store/store.js';
 import { figurePair, joinFigures } from './check.js';
 import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
-import { answer, defineVerb, refuse, type Outcome, type VerbEnv } from './verb.js';
+import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 /** The model an implied vol was solved under, in words. */
 const METHOD_WORDS: Record<IvMethod, string> = {
@@ -25,7 +33,7 @@ function runIv(text: string, req: IvRequest, env: VerbEnv): Outcome {
   const r = resolveIv(req, resolveContext(text, env, mark));
   if (!r.ok) throw refuse(text, r.error);
   const v = r.iv;
-  const { result: s, method } = solveImpliedVol({ kind: v.kind, price: v.price, S: v.S, K: v.K, T: v.T, r: v.r, q: v.q, style: v.style, jumps: v.jumps });
+  const { result: s, method } = solveImpliedVol(v);
   const ivModel = METHOD_WORDS[method];
   if (!s.ok) {
     throw refuse(text, {
@@ -66,14 +74,69 @@ function runIv(text: string, req: IvRequest, env: VerbEnv): Outcome {
   };
 }
 
-const isNum = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
+export function parseIv(src: string, toks: Tok[]): IvRequest {
+  const c = new Cursor(src, toks, 1, toks.length, 'iv');
+  const head = toks[0];
+  const kTok = c.peek();
+  if (!kTok) throw c.missing(head, 'iv needs an option: iv call 105 2027-03-19 price 3.10 spot 100', 'call 105 2027-03-19 price 3.10 spot 100');
+  const kind = TYPE_WORDS[kTok.low];
+  if (kind !== 'call' && kind !== 'put') {
+    const msg =
+      kind === 'shares'
+        ? 'implied vol is for a call or a put, not shares'
+        : `iv at the start asks for an implied vol: iv call|put STRIKE EXPIRY price P …, found '${kTok.text}' (a check starts with a leg)`;
+    throw c.reject(kTok, msg);
+  }
+  c.next();
+  let strike: number | undefined;
+  let expiry: ExpirySpec | undefined;
+  const termsAt: IvRequest['termsAt'] = {};
+  for (let k = 0; k < 2; k++) {
+    const t = c.peek();
+    if (!t) break;
+    if (strike === undefined && NUMBER.test(t.text)) {
+      strike = readPrice(c, kTok, 'the strike', SAMPLE.strike);
+      termsAt.strike = t.at;
+    } else if (expiry === undefined && (isSpecToken(t) || SPAN_WORDS.test(t.text))) {
+      expiry = specOf(c, t, 'the expiry', 'a date (yyyy-mm-dd) or a span (30d, 6w, 3m, 1y)', true, SAMPLE.exp);
+      termsAt.expiry = t.at;
+      c.next();
+    } else break;
+  }
+  const where = c.peek();
+  if (strike === undefined) {
+    const msg = `iv ${kTok.text} needs a strike, e.g. iv ${kTok.text} 105 2027-03-19 price 3.10`;
+    throw where ? c.reject(where, msg, insertBefore(where, '105')) : c.missing(c.toks[c.i - 1], msg, '105');
+  }
+  if (expiry === undefined) {
+    const msg = `iv ${kTok.text} ${fmtNum(strike)} needs an expiry (yyyy-mm-dd or 30d, 6w, 3m, 1y), e.g. 2027-03-19`;
+    throw where ? c.reject(where, msg, insertBefore(where, '2027-03-19')) : c.missing(c.toks[c.i - 1], msg, '2027-03-19');
+  }
+  const body = readBody(c, 'iv');
+  if (body.price === undefined) {
+    const last = toks[toks.length - 1];
+    throw new Reject('iv needs the option price: price 3.10', after(last), 1, insertAfter(last, 'price 3.10'), 'iv');
+  }
+  return {
+    verb: 'iv',
+    kind,
+    strike,
+    expiry,
+    price: body.price,
+    terms: body.terms,
+    termsAt: { ...termsAt, ...(body.termsAt as IvRequest['termsAt']) },
+    end: c.end(),
+  };
+}
 
-export const iv = defineVerb({
+export const iv: Verb<IvRequest> = {
   name: 'iv',
+  schema: ivSchema,
+  body: { terms: ['price', 'spot', 'rate', 'yield', 'asof', 'on', 'style', 'jumps'], legs: false },
   words: ['iv'],
   grammar: parseIv,
   rerunnable: true,
   run: runIv,
   figureChanges: (before: CheckSummary, after: CheckSummary) => joinFigures([figurePair('iv', before.iv, after.iv, (x) => pct(x, 2), pts)]),
   logWords: (s) => (isNum(s.iv) ? ` → iv ${pct(s.iv, 2)}` : ''),
-});
+};

@@ -1,8 +1,12 @@
 /** `log [N]`: the channel's last N checks, shown only to the asker (thread links apart in a workspace). */
-import { parseLog } from '../request/parse.js';
+import { logSchema } from '../request/schema.js';
+import type { Tok } from '../request/lex.js';
+import { LIMITS } from '../request/limits.js';
+import { Cursor } from '../request/grammar/cursor.js';
+import { readWholeNumber } from '../request/grammar/values.js';
 import type { LogRequest } from '../request/types.js';
 import { logText, type LoggedCheck } from '../report/log.js';
-import { answer, defineVerb, needStore, storeCall, type Outcome, type VerbEnv } from './verb.js';
+import { answer, needStore, storeCall, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 function runLog(text: string, req: LogRequest, env: VerbEnv): Outcome {
   const store = needStore(text, env, 'log');
@@ -33,4 +37,13 @@ function runLog(text: string, req: LogRequest, env: VerbEnv): Outcome {
   };
 }
 
-export const log = defineVerb({ name: 'log', words: ['log'], grammar: parseLog, rerunnable: false, run: runLog });
+export function parseLog(src: string, toks: Tok[]): LogRequest {
+  const c = new Cursor(src, toks, 1, toks.length, 'log');
+  if (c.done()) return { verb: 'log', count: LIMITS.logDefault };
+  const count = readWholeNumber(c, c.peek()!, 'log', 1, LIMITS.logMax, '20');
+  const extra = c.peek();
+  if (extra) throw c.reject(extra, `log takes only a count, e.g. log 20`, { at: extra.at, length: c.end() - extra.at, text: '' });
+  return { verb: 'log', count };
+}
+
+export const log: Verb<LogRequest> = { name: 'log', schema: logSchema, words: ['log'], grammar: parseLog, rerunnable: false, run: runLog };

@@ -2,12 +2,18 @@
  * `mark SYMBOL …` records the channel's market for a symbol (posted in the channel, not logged:
  * a mark records its own who and when); `mark` and `mark SYMBOL` show marks to the asker only.
  */
-import { parseMark } from '../request/parse.js';
+import { markSchema } from '../request/schema.js';
+import { NUMBER, PERCENT, type Tok } from '../request/lex.js';
+import { readBody } from '../request/grammar/body.js';
+import { Cursor } from '../request/grammar/cursor.js';
+import { insertBefore } from '../request/grammar/errors.js';
+import { readSymbol } from '../request/grammar/values.js';
+import { TERM_WORDS } from '../request/grammar/words.js';
 import type { MarkRequest } from '../request/types.js';
 import { marksText, whenUtc } from '../report/log.js';
 import type { Mark } from '../store/store.js';
 import { markJson, markRecord, markTermsWords } from './marks.js';
-import { answer, defineVerb, needStore, refuseFact, storeCall, type Outcome, type VerbEnv } from './verb.js';
+import { answer, needStore, refuseFact, storeCall, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 function listing(marks: Mark[], env: VerbEnv): Outcome {
   return {
@@ -85,4 +91,25 @@ function runMark(text: string, req: MarkRequest, env: VerbEnv): Outcome {
   };
 }
 
-export const mark = defineVerb({ name: 'mark', words: ['mark'], grammar: parseMark, rerunnable: false, run: runMark });
+export function parseMark(src: string, toks: Tok[]): MarkRequest {
+  const c = new Cursor(src, toks, 1, toks.length, 'mark');
+  if (c.done()) return { verb: 'mark', terms: {} };
+  const sTok = c.peek()!;
+  if (sTok.low in TERM_WORDS || NUMBER.test(sTok.text) || PERCENT.test(sTok.text)) {
+    throw c.reject(sTok, `mark needs the symbol first: mark FERNWK spot 84.20 iv 31%`, insertBefore(sTok, 'FERNWK'));
+  }
+  const symbol = readSymbol(c, toks[0], sTok, 'mark');
+  const body = readBody(c, 'mark');
+  const { spot, iv, yield: q, rate, vol, drift, driftSe } = body.terms;
+  const terms: MarkRequest['terms'] = {};
+  if (vol !== undefined) terms.vol = vol;
+  if (drift !== undefined) terms.drift = drift;
+  if (driftSe !== undefined) terms.driftSe = driftSe;
+  if (spot !== undefined) terms.spot = spot;
+  if (iv !== undefined) terms.iv = iv;
+  if (q !== undefined) terms.yield = q;
+  if (rate !== undefined) terms.rate = rate;
+  return { verb: 'mark', symbol, terms };
+}
+
+export const mark: Verb<MarkRequest> = { name: 'mark', schema: markSchema, body: { terms: ['spot', 'iv', 'yield', 'rate', 'vol', 'drift'], legs: false }, words: ['mark'], grammar: parseMark, rerunnable: false, run: runMark };

@@ -7,7 +7,7 @@
  * reads it for its dispatch while the verb files import the grammar, and an import cycle is only
  * safe when nothing is read before every module has loaded.
  */
-import type { Request } from '../request/types.js';
+import { z } from 'zod';
 import { again } from './again.js';
 import { check } from './check.js';
 import { compare } from './compare.js';
@@ -20,23 +20,29 @@ import { touch } from './touch.js';
 import type { Verb } from './verb.js';
 
 /** Every verb, in the order help and the "unknown verb" message list them. */
-export function verbs(): readonly Verb[] {
-  return [check, compare, iv, touch, mark, log, again, history, help] as readonly Verb[];
+export function verbs() {
+  return [check, compare, iv, touch, mark, log, again, history, help] as const;
 }
+
+/** Any request: the union of the verbs' requests. */
+export type Request = ReturnType<typeof verbs>[number] extends infer V ? (V extends Verb<infer R> ? R : never) : never;
 
 /** A verb's name (the `verb` of its request and of its answer). */
 export type VerbName = Request['verb'];
 
+/** Every request's shape: the schemas of the verbs (read when first used, not at load). */
+export const requestSchema = z.lazy(() => z.union(verbs().map((v) => v.schema as z.ZodType<Request>) as [z.ZodType<Request>, ...z.ZodType<Request>[]]));
+
 /** The verb of that name. */
-export function verbNamed(name: VerbName): Verb {
-  const v = verbs().find((x) => x.name === name);
+export function verbNamed(name: string): Verb {
+  const v = (verbs() as readonly Verb[]).find((x) => x.name === name);
   if (!v) throw new Error(`no verb ${name}`);
   return v;
 }
 
 /** The verb a request starting with this word (lower case) asks for, if any. */
 export function verbOfWord(word: string): Verb | undefined {
-  return verbs().find((v) => v.words.includes(word));
+  return (verbs() as readonly Verb[]).find((v) => v.words.includes(word));
 }
 
 /** The verbs' names, in the registry's order. */

@@ -2,16 +2,22 @@
  * `touch LEVEL by DATE …`: the chance that the stock touches a level by a date, under the view and
  * the risk-neutral walk (closed form, or Monte Carlo under jumps: src/core/models.ts). Logged.
  */
+import { touchSchema } from '../request/schema.js';
+import { SAMPLE } from '../request/examples.js';
+import type { Tok } from '../request/lex.js';
+import { readBody } from '../request/grammar/body.js';
+import { Cursor } from '../request/grammar/cursor.js';
+import { Reject, after, insertAfter } from '../request/grammar/errors.js';
+import { readPrice } from '../request/grammar/values.js';
 import { activeJumps } from '../core/jumps.js';
 import { TOUCH_MC_SEED, touchFigures } from '../core/models.js';
-import { parseTouch } from '../request/parse.js';
 import { resolveTouch } from '../request/resolve.js';
 import type { TouchRequest } from '../request/types.js';
-import { level, num, pct, pts, rate } from '../report/format.js';
+import { level, num, pct, pts, rate, isNum } from '../report/format.js';
 import type { CheckSummary } from '../store/store.js';
 import { figurePair, joinFigures } from './check.js';
 import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
-import { answer, defineVerb, refuse, type Outcome, type VerbEnv } from './verb.js';
+import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
   const mark = markFor(text, env, req.terms.on, req.termsAt.on);
@@ -73,10 +79,31 @@ function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
   };
 }
 
-const isNum = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
+export function parseTouch(src: string, toks: Tok[]): TouchRequest {
+  const c = new Cursor(src, toks, 1, toks.length, 'touch');
+  const head = toks[0];
+  const lTok = c.peek();
+  if (!lTok) throw c.missing(head, 'touch needs a level: touch 120 by 2027-03-19 spot 100', '120 by 2027-03-19 spot 100');
+  const level = readPrice(c, head, 'the touch level', SAMPLE.level);
+  const body = readBody(c, 'touch');
+  if (body.by === undefined) {
+    const last = toks[toks.length - 1];
+    throw new Reject('touch needs a date: by 2027-03-19 (or a span such as by 3m)', after(last), 1, insertAfter(last, 'by 2027-03-19'), 'touch');
+  }
+  return {
+    verb: 'touch',
+    level,
+    by: body.by,
+    terms: body.terms,
+    termsAt: { level: lTok.at, ...(body.termsAt as TouchRequest['termsAt']) },
+    end: c.end(),
+  };
+}
 
-export const touch = defineVerb({
+export const touch: Verb<TouchRequest> = {
   name: 'touch',
+  schema: touchSchema,
+  body: { terms: ['by', 'spot', 'rate', 'yield', 'drift', 'vol', 'iv', 'asof', 'on', 'jumps'], legs: false },
   words: ['touch'],
   grammar: parseTouch,
   rerunnable: true,
@@ -84,4 +111,4 @@ export const touch = defineVerb({
   figureChanges: (before: CheckSummary, after: CheckSummary) =>
     joinFigures([figurePair('chance of touching', before.probTouch, after.probTouch, (x) => pct(x), pts)]),
   logWords: (s) => (isNum(s.probTouch) ? ` → ${pct(s.probTouch)} (view)` : ''),
-});
+};

@@ -5,9 +5,11 @@
  * A verb file never imports the registry or the seam (./ask.ts): everything it needs from them
  * (the store, the clock, rerunning another verb, the list of verbs) arrives in its `VerbEnv`.
  */
-import { formatError } from '../request/parse.js';
-import type { ParseError, Request } from '../request/types.js';
+import { formatError } from '../request/grammar/errors.js';
+import type { z } from 'zod';
+import type { ParseError } from '../request/types.js';
 import type { Tok } from '../request/lex.js';
+import type { AnyTerm } from '../request/grammar/words.js';
 import { CAUTION, type Answer, type Rejection } from '../reply.js';
 import { StoreError, type CheckSummary, type Store } from '../store/store.js';
 
@@ -33,14 +35,19 @@ export interface VerbEnv {
   today: string;
   nowIso: string;
   /** the verb of that name, and all of them (from the registry, handed over by the seam) */
-  verb(name: Request['verb']): Verb;
+  verb(name: string): Verb;
   verbs(): readonly Verb[];
+}
+
+/** Any request, as far as the verb kit needs to know (the registry names the exact union). */
+export interface AnyRequest {
+  verb: string;
 }
 
 /** What a verb returns: the answer, and what the log keeps of it (verbs that are not logged leave it out). */
 export interface Outcome {
   answer: Answer;
-  log?: { verb: string; text: string; request: Request; summary: CheckSummary };
+  log?: { verb: string; text: string; request: AnyRequest; summary: CheckSummary };
 }
 
 /** Units of computing a request needs (./budget.ts); `at` is where the caret goes when it is too much. */
@@ -55,38 +62,35 @@ export interface CostContext {
   /** the logged text of check N of the asker's channel (for `again N`), if it can be read */
   logged?: (n: number) => string | undefined;
   /** the cost of another request (for `again N`: the request it reruns) */
-  costOf(req: Request, text: string): Cost | null;
+  costOf(req: AnyRequest, text: string): Cost | null;
 }
 
-type OfVerb<N extends Request['verb']> = Extract<Request, { verb: N }>;
-
-/** One verb: everything the rest of Kolmo needs to know about it. */
-export interface Verb<N extends Request['verb'] = Request['verb']> {
-  name: N;
+/** One verb: everything the rest of Kolmo needs to know about it. `R` is its request. */
+export interface Verb<R extends AnyRequest = AnyRequest> {
+  name: R['verb'];
   /** first words that start a request of this verb (the first is its name) */
   words: readonly string[];
+  /** the shape of its request: the last check before the request leaves the parser, and its type */
+  schema: z.ZodType<R>;
   /**
    * grammar hook: reads the tokens from `from` (just after the verb word; 0 for a check written
    * without its verb) into the verb's request; throws the grammar's Reject
    */
-  grammar(src: string, toks: Tok[], from: number): OfVerb<N>;
+  grammar(src: string, toks: Tok[], from: number): R;
+  /** the terms its body takes after the verb's own head, and whether it takes legs (absent: no body) */
+  body?: { terms: readonly AnyTerm[]; legs: boolean };
   /** reads `;` itself (every other verb refuses it as a misplaced comparison) */
   readsSemicolons?: boolean;
   /** `again N` can rerun it (and the log keeps it under this verb) */
   rerunnable: boolean;
   /** resolve, compute, render; refusals are thrown as `Refused` */
-  run(text: string, req: OfVerb<N>, env: VerbEnv): Outcome;
+  run(text: string, req: R, env: VerbEnv): Outcome;
   /** units against the compute budget; absent: its work is small */
-  cost?(req: OfVerb<N>, text: string, ctx: CostContext): Cost | null;
+  cost?(req: R, text: string, ctx: CostContext): Cost | null;
   /** figures of a logged summary against a rerun's, in words (for `again`) */
   figureChanges?(before: CheckSummary, after: CheckSummary): string;
   /** what the log shows after the position words of an entry of this verb (e.g. " → iv 26.98%") */
   logWords?(summary: Record<string, unknown>): string;
-}
-
-/** Declares a verb with its name kept as a literal type. */
-export function defineVerb<N extends Request['verb']>(v: Verb<N>): Verb<N> {
-  return v;
 }
 
 export function isoDay(d: Date): string {

@@ -239,6 +239,13 @@ describe('a person who never saw the grammar', () => {
     expect(t.text).toBe('');
     expect(t.summary).toEqual({ position: 'deleted by the asker', deleted: true });
     expect(readLog((s) => s.recent(CHANNEL, 10).map((e) => e.number))).toEqual([3, 2, 1]);
+    // the log lists the tombstone under its number; `again` of it says it was deleted
+    await sendSlash(app.port, { text: 'log 5', channel: CHANNEL, user: OTHER, responseUrl: fake.responseUrl('log-del') });
+    await sendSlash(app.port, { text: 'again 2', channel: CHANNEL, user: OTHER, responseUrl: fake.responseUrl('again-del') });
+    const reply = (id: string) => fake.okCallsOf('response').filter((c) => c.body.response_id === id);
+    await fake.waitFor(() => reply('log-del').length > 0 && reply('again-del').length > 0, WAIT, 'log and again');
+    expect(JSON.stringify(reply('log-del')[0].body)).toContain('deleted by the asker');
+    expect(JSON.stringify(reply('again-del')[0].body)).toContain('check #2 was deleted by the person who asked it');
     // my desk no longer lists it
     await post(app.port, homeOpenedBody({ user: ASKER, botUserId: FAKE_BOT.user_id }), 'application/json');
     await fake.waitFor(() => !JSON.stringify(fake.homeOf(ASKER)!.view).includes(`${CHANNEL}:n2"`), WAIT, 'my desk without #2');

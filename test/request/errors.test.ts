@@ -391,7 +391,7 @@ describe('formatError', () => {
 
 describe('the zod guard at the edge', () => {
   it('rejects what the parser must never let through', async () => {
-    const { requestSchema } = await import('../../src/request/schema.js');
+    const { requestSchema } = await import('../../src/verbs/registry.js');
     const good = parse('+1 call 100 3m iv 30% spot 100');
     if (!good.ok) throw new Error('expected to parse');
     expect(requestSchema.safeParse(good.request).success).toBe(true);
