@@ -136,7 +136,7 @@ async function runAgain(text: string, req: AgainRequest, env: VerbEnv): Promise<
   const { entry, pinned, eff, request, at } = await rerunOf(text, req, env);
   let c: Outcome;
   try {
-    c = await env.verb(request.verb).run(eff, request as never, env);
+    c = await env.verb(request.verb).run(eff, request, env);
   } catch (err) {
     if (!(err instanceof Refused)) throw err;
     throw new Refused({

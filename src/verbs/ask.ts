@@ -31,7 +31,7 @@ export { CLOSES_FILE_BYTES } from '../request/closes.js';
 /** Units a parsed request would need (null: its work is small). */
 function costOf(req: AnyRequest, text: string, ctx: Omit<CostContext, 'costOf'>): Cost | null {
   const v = verbNamed(req.verb);
-  return v.cost ? v.cost(req as never, text, { ...ctx, costOf: (r, t) => costOf(r, t, ctx) }) : null;
+  return v.cost ? v.cost(req, text, { ...ctx, costOf: (r, t) => costOf(r, t, ctx) }) : null;
 }
 
 /**
@@ -132,7 +132,7 @@ export async function ask(text: string, ctx: AskContext): Promise<Reply> {
     const over = budgetRejection(text, costOf(req, text, await costContext(ctx, env.now, req)), ctx.budget ?? COMPUTE_BUDGET_DEFAULT);
     if (over) return await counted(ctx, over);
     await withMarks(env, text, req);
-    return await logged(env, await verbNamed(req.verb).run(text, req as never, env));
+    return await logged(env, await verbNamed(req.verb).run(text, req, env));
   } catch (err) {
     if (err instanceof Refused) return counted(ctx, err.reply);
     return INTERNAL;
