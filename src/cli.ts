@@ -3,7 +3,7 @@
  * at hand.
  *
  *   kolmo "<request>"                 text answer (exit 0; 2 on a rejected request)
- *   kolmo --json "<request>"          one JSON object (DESIGN.md §4)
+ *   kolmo --json "<request>"          one JSON object (docs/design.md §4)
  *   kolmo "<request>" --chart F.png   also writes the chart
  *   kolmo "history SYM" --file F.csv  closes from a CSV/TSV file (date, close)
  *   kolmo                             the local console (a prompt)

@@ -136,7 +136,7 @@ function runAgain(text: string, req: AgainRequest, env: VerbEnv): Outcome {
   const { entry, pinned, eff, request, at } = rerunOf(text, req, env);
   let c: Outcome;
   try {
-    c = env.verb(request.verb).run(eff, request as never, env);
+    c = env.verb(request.verb).run(eff, request, env);
   } catch (err) {
     if (!(err instanceof Refused)) throw err;
     throw new Refused({

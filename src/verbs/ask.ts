@@ -31,7 +31,7 @@ export { CLOSES_FILE_BYTES } from '../request/closes.js';
 /** Units a parsed request would need (null: its work is small). */
 function costOf(req: AnyRequest, text: string, ctx: Omit<CostContext, 'costOf'>): Cost | null {
   const v = verbNamed(req.verb);
-  return v.cost ? v.cost(req as never, text, { ...ctx, costOf: (r, t) => costOf(r, t, ctx) }) : null;
+  return v.cost ? v.cost(req, text, { ...ctx, costOf: (r, t) => costOf(r, t, ctx) }) : null;
 }
 
 function costContext(ctx: AskContext, now: Date): Omit<CostContext, 'costOf'> {
@@ -118,7 +118,7 @@ export function askSync(text: string, ctx: AskContext): Reply {
     const req = p.request;
     const over = budgetRejection(text, costOf(req, text, costContext(ctx, env.now)), ctx.budget ?? COMPUTE_BUDGET_DEFAULT);
     if (over) return counted(ctx, over);
-    return logged(env, verbNamed(req.verb).run(text, req as never, env));
+    return logged(env, verbNamed(req.verb).run(text, req, env));
   } catch (err) {
     if (err instanceof Refused) return counted(ctx, err.reply);
     return INTERNAL;

@@ -28,14 +28,14 @@ function json(args: string[]): Record<string, any> {
 const MARKET = 'spot 100 rate 4.5% yield 1% asof 2027-01-04';
 
 describe('kolmo --json check', () => {
-  it('answers the two-leg example of the design notes with every field of DESIGN.md §4', () => {
+  it('answers the two-leg example of the design notes with every field of docs/design.md §4', () => {
     const c = json([
       `check +2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% ${MARKET} drift 9% vol 26% horizon 2027-02-15`,
     ]);
     expect(c.kind).toBe('check');
     expect(c.asof).toBe('2027-01-04');
     expect(c.horizon).toBe('2027-02-15');
-    expect(c.horizonYears).toBeCloseTo(42 / 365, 12); // calendar days / 365 (DESIGN.md §3)
+    expect(c.horizonYears).toBeCloseTo(42 / 365, 12); // calendar days / 365 (docs/design.md §3)
     expect(c.market).toEqual({ spot: 100, rate: 0.045, yield: 0.01 });
     expect(c.view).toMatchObject({ drift: 0.09, vol: 0.26, model: 'lognormal' });
     expect(c.legs).toHaveLength(2);
@@ -43,11 +43,11 @@ describe('kolmo --json check', () => {
       expect(c.legs[0]).toHaveProperty(k);
     expect(c.legs[0]).toMatchObject({ qty: 2, type: 'call', strike: 105, expiry: '2027-03-19', iv: 0.28, entry: 3.1 });
     for (const k of ['cost', 'value', 'delta', 'gamma', 'vega', 'theta', 'rho']) expect(Number.isFinite(c.position[k])).toBe(true);
-    // cost = Σ qty × mult × entry (DESIGN.md §3)
+    // cost = Σ qty × mult × entry (docs/design.md §3)
     expect(c.position.cost).toBeCloseTo(2 * 100 * 3.1 - 2 * 100 * 1.05, 9);
     const o = c.outcome;
     for (const k of ['probProfit', 'expectedPnl', 'expectedPnlRiskNeutral', 'viewEdge', 'tailMean05']) expect(Number.isFinite(o[k])).toBe(true);
-    // the attribution adds up to the expected P&L, and its drift part is the view edge (DESIGN.md §4)
+    // the attribution adds up to the expected P&L, and its drift part is the view edge (docs/design.md §4)
     expect(o.attribution.price + o.attribution.vol + o.attribution.drift).toBeCloseTo(o.expectedPnl, 6);
     expect(o.viewEdge).toBeCloseTo(o.expectedPnl - o.expectedPnlRiskNeutral, 9);
     expect(o.attribution.drift).toBeCloseTo(o.viewEdge, 9);

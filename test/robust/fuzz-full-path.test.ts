@@ -2,7 +2,7 @@
  * The full request path — the compute budget (src/chat/budget.ts), parse → resolve → engine →
  * report (src/verbs/ask.ts `askSync`, with a real in-memory log so `log`, `again` and `mark` do
  * real work) → chart (src/report/answer-chart.ts) — on 100,000 seeded requests generated from the
- * grammar (DESIGN.md §2: legs, terms, percentages, dates, spans, jumps, `style american`, every
+ * grammar (docs/design.md §2: legs, terms, percentages, dates, spans, jumps, `style american`, every
  * verb) and mutated (tokens deleted, duplicated, swapped or glued; numbers made huge, tiny,
  * negative or odd; unicode inserted; case changed).
  *
@@ -10,7 +10,7 @@
  *   - nothing throws and nothing takes the process down;
  *   - an answer carries no NaN or ±Infinity anywhere in its JSON, and its text never prints them;
  *   - a rejection is a clear message: the request quoted with a caret under the first bad token
- *     (DESIGN.md §2), or a plain "not available yet" for verbs and models still being wired in —
+ *     (docs/design.md §2), or a plain "not available yet" for verbs and models still being wired in —
  *     never an internal error, a stack trace, "undefined" or "[object Object]";
  *   - a chart, drawn for every 100th answer that has one, is a PNG (signature 89 50 4E 47 0D 0A
  *     1A 0A, PNG specification §5.2) or a text note saying why not.

@@ -4,7 +4,7 @@
  * What the checks rest on (identities, no outputs of our own code written down):
  * - rerunning the same request gives the same figures (the engine is deterministic);
  * - `again N changes` means the logged request with the changes (terms override, legs replace —
- *   DESIGN.md §2), so its figures equal those of that request written out and asked directly;
+ *   docs/design.md §2), so its figures equal those of that request written out and asked directly;
  * - the change it reports is the difference between the two answers' figures;
  * - a request without `asof` is as of the day it was answered, so a rerun on a later day keeps
  *   that day unless it says `asof today` (the issue's example `again 17 spot 102 asof today`).

@@ -4,7 +4,7 @@
  * log entry.
  *
  * What the checks rest on:
- * - identities: a part means the check written out with the inherited terms (DESIGN.md §2), so
+ * - identities: a part means the check written out with the inherited terms (docs/design.md §2), so
  *   its figures equal that check asked on its own; put-call parity C − P = S e^{−qT} − K e^{−rT}
  *   (Hull, Options, Futures, and Other Derivatives, put-call parity for European options);
  * - Hull, Options, Futures, and Other Derivatives, the Black-Scholes-Merton worked example

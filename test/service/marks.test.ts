@@ -4,7 +4,7 @@
  * than a day as stale. The clock is driven through AskContext.now.
  *
  * What the checks rest on (identities): a check `on SYMBOL` means the same check with the mark's
- * terms written out (DESIGN.md §2: "take market terms from the channel's mark; terms written in
+ * terms written out (docs/design.md §2: "take market terms from the channel's mark; terms written in
  * the request override it"), so their figures must be equal; the age is the difference of two
  * clock readings we set ourselves; "older than a day" is the issue's rule (24 h).
  */

@@ -2,7 +2,7 @@
  * `drift 9% ± 6%`: the drift's uncertainty in every verb where drift works. The view's figures are
  * under the predictive law (μ ~ N(μ₀, τ²)); the market column does not move; τ = 0 is the known drift.
  *
- * Closed form (DESIGN.md §4): ln S_h ~ N(ln S + (μ₀ − q − σ²/2)h, σ²h + τ²h²), so a long call held
+ * Closed form (docs/design.md §4): ln S_h ~ N(ln S + (μ₀ − q − σ²/2)h, σ²h + τ²h²), so a long call held
  * to expiry is in profit with probability Φ((ln(S/(K + premium)) + (μ₀ − q − σ²/2)h)/√(σ²h + τ²h²)).
  */
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';

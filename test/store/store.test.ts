@@ -237,7 +237,7 @@ describe('marks', () => {
     const s = open();
     s.putMark({ channel: 'C0DESKA', symbol: 'fernwk', spot: 84.2, iv: 0.31, yield: 0.012, user: 'U0MAYA', at: '2027-01-04T15:00:00Z' });
     s.putMark({ channel: 'C0DESKA', symbol: 'BRIXLO', spot: 12.5, rate: 0.045, user: 'U0MAYA', at: '2027-01-04T15:01:00Z' });
-    // symbols are case-insensitive words (DESIGN §2) and kept in upper case
+    // symbols are case-insensitive words (docs/design.md §2) and kept in upper case
     expect(s.getMark('C0DESKA', 'FERNWK')).toEqual({
       channel: 'C0DESKA', symbol: 'FERNWK', spot: 84.2, iv: 0.31, yield: 0.012, user: 'U0MAYA', at: '2027-01-04T15:00:00Z',
     });

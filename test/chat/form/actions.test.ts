@@ -58,7 +58,7 @@ describe('variations of a check', () => {
     expect(written.text).toBe('+1 call 100 2027-03-19 spot 100 iv 30% vol 21%');
   });
 
-  it('drift at the rate makes the view edge zero when the view’s vol is the market vol (DESIGN.md §4: view edge = drift part)', () => {
+  it('drift at the rate makes the view edge zero when the view’s vol is the market vol (docs/design.md §4: view edge = drift part)', () => {
     const v = vary(SPREAD, 'drift_rate');
     expect(v.text).toBe(SPREAD.replace('drift 9%', 'drift 4.5%'));
     const j = run(v.text).json as any;

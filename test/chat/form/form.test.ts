@@ -53,7 +53,7 @@ describe('form → request text', () => {
     expect(r.terms).toMatchObject({ spot: 100, rate: 0.045, yield: 0.01, drift: 0.09, vol: 0.26, horizon: { date: '2027-02-15' }, asof: '2027-01-04' });
   });
 
-  it('the composed text means the same as the design notes’ own example (DESIGN.md §2) and prices the same', () => {
+  it('the composed text means the same as the design notes’ own example (docs/design.md §2) and prices the same', () => {
     const c = composeRequest(SPREAD);
     if (!c.ok) throw new Error('compose failed');
     const typed = ask('+2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% spot 100 rate 4.5% yield 1% drift 9% vol 26% horizon 2027-02-15 asof 2027-01-04');
