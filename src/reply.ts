@@ -30,7 +30,7 @@ export interface Answer {
   text: string;
   /** the one-line caution every answer carries */
   caution: string;
-  /** machine-readable result (DESIGN.md §4) */
+  /** machine-readable result (docs/design.md §4) */
   json: Record<string, unknown>;
   /** only the asker should see it (help, lists) */
   ephemeral: boolean;

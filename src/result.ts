@@ -1,5 +1,5 @@
 /**
- * The machine-readable result of a check (DESIGN.md §4), assembled from the resolved request and
+ * The machine-readable result of a check (docs/design.md §4), assembled from the resolved request and
  * the core's figures. The text answer, the headline, the log summary and the chart all read this.
  */
 import type { CheckCore, Curves, ExerciseStyle, Jumps, LegKind, MarketOutcome, Outcome, PositionTotals } from './core/types.js';
@@ -25,7 +25,7 @@ export interface LegJson {
 }
 
 
-/** Exit figures under one walk (DESIGN.md §4 `exits`). */
+/** Exit figures under one walk (docs/design.md §4 `exits`). */
 export interface ExitFiguresJson {
   probTarget: number;
   probStop: number;

@@ -13,10 +13,10 @@
  * expires in 3 seconds too), then does its work.
  */
 import { createHash } from 'node:crypto';
+import type { ModalView } from '@slack/types';
 import { termsOfMark, type LogEntry, type MarkTerms, type Store } from '../verbs/ask.js';
 import { plainNotice } from './blocks.js';
 import { tellAsker, type Origin } from './deliver.js';
-import type { InboxEntry } from './inbox.js';
 import type { RetryInfo } from './intake.js';
 import type { ListenerContext } from './listeners/context.js';
 import { DELETE_ACTION, EDIT_ACTION, POST_ACTION, POST_CALLBACK, parseCheckKey, postToChannelView, VARY_ACTIONS } from './actions/buttons.js';
@@ -83,7 +83,7 @@ export function registerInteractive(ctx: ListenerContext): void {
   const env = {
     deps: ctx.delivery,
     budget: ctx.budget,
-    admit: (e: Omit<InboxEntry, 'attempts'>, retry: RetryInfo) => intake.admit(e, retry),
+    admit: (e: { key: string; channel: string; user: string; source: string; text?: string; now?: string }, retry: RetryInfo) => intake.admit(e, retry),
     submit: (origin: Origin, text: string, t0: number, key: string, now: string, _resumed = false, extra: { variedFrom?: number; preface?: string } = {}) =>
       intake.submit({ origin, text, t0, key, now, ...extra }),
   };
@@ -92,9 +92,9 @@ export function registerInteractive(ctx: ListenerContext): void {
     await tellAsker(env.deps, origin, [plainNotice(text)]).catch(() => false);
   };
 
-  const openView = async (triggerId: string, view: unknown, what: string): Promise<boolean> => {
+  const openView = async (triggerId: string, view: ModalView, what: string): Promise<boolean> => {
     try {
-      await client.views.open({ trigger_id: triggerId, view: view as never });
+      await client.views.open({ trigger_id: triggerId, view });
       return true;
     } catch (err) {
       log.warn({ what, err: (err as { data?: { error?: string } }).data?.error ?? String(err) }, 'could not open a view');
@@ -302,7 +302,7 @@ export function registerInteractive(ctx: ListenerContext): void {
     values.legs = values.legs.slice(0, legs);
     const symbols = meta.channel && !/^D/.test(meta.channel) ? symbolsOf(store, meta.channel) : [];
     try {
-      await client.views.update({ view_id: view.id, ...(view.hash ? { hash: view.hash } : {}), view: checkFormView({ meta: { ...meta, legs }, values, symbols }) as never });
+      await client.views.update({ view_id: view.id, ...(view.hash ? { hash: view.hash } : {}), view: checkFormView({ meta: { ...meta, legs }, values, symbols }) });
     } catch (err) {
       log.warn({ err: (err as { data?: { error?: string } }).data?.error ?? String(err) }, 'could not update the check form');
     }
@@ -432,7 +432,7 @@ export function registerInteractive(ctx: ListenerContext): void {
       defaults = {};
     }
     try {
-      await client.views.publish({ user_id: user, view: myDeskView({ checks, marks, defaults, now: new Date() }) as never });
+      await client.views.publish({ user_id: user, view: myDeskView({ checks, marks, defaults, now: new Date() }) });
     } catch (err) {
       log.warn({ err: (err as { data?: { error?: string } }).data?.error ?? String(err) }, 'could not publish my desk');
     }
@@ -490,7 +490,7 @@ export function registerInteractive(ctx: ListenerContext): void {
 
   app.view(DEFAULTS_CALLBACK, async ({ ack, body, view }) => {
     const user = body.user.id;
-    const r = readDefaults((view.state?.values ?? {}) as never);
+    const r = readDefaults(view.state?.values ?? {});
     if (!r.ok) {
       await ack({ response_action: 'errors', errors: r.errors });
       return;

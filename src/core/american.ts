@@ -44,7 +44,7 @@
  *
  * Accuracy ('normal': 140/280 space intervals, 70/140 time steps): a few 1e-6 typically and
  * within 1e-4 (worst seen 7e-5) of a Broadie-Detemple tree on random cases; spots within a few
- * percent of the exercise boundary are the hardest. Units of the Greeks follow DESIGN.md §3
+ * percent of the exercise boundary are the hardest. Units of the Greeks follow docs/design.md §3
  * (per share; vega per vol point of the diffusion σ; theta per calendar day; rho per 1% of rate).
  */
 export type { FdSize } from './american/at-spot.js';

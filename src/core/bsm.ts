@@ -5,7 +5,7 @@
  *   d1 = (ln(S/K) + (r − q + σ²/2)T) / (σ√T),  d2 = d1 − σ√T
  *   call = S e^{−qT} Φ(d1) − K e^{−rT} Φ(d2),  put = K e^{−rT} Φ(−d2) − S e^{−qT} Φ(−d1)
  *
- * Units (DESIGN.md §3): value per share; delta and gamma per 1.00 of spot; vega per vol point
+ * Units (docs/design.md §3): value per share; delta and gamma per 1.00 of spot; vega per vol point
  * (∂V/∂σ × 0.01); theta per calendar day (∂V/∂t = −∂V/∂T, divided by 365); rho per 1% of rate
  * (∂V/∂r × 0.01).
  *

@@ -17,7 +17,7 @@
  * at most K e^{−rₙT} (weights then combine to Poisson(λT)), and the Poisson tail beyond n is at
  * most wₙ₊₁/(1 − μ/(n+2)) once n + 2 > μ (ratio bound).
  *
- * Greeks (DESIGN.md §3 units) are analytic term by term: delta, gamma as sums; vega with respect
+ * Greeks (docs/design.md §3 units) are analytic term by term: delta, gamma as sums; vega with respect
  * to the diffusion σ (∂σₙ/∂σ = σ/σₙ); rho with ∂rₙ/∂r = 1; theta from ∂/∂T of the weights, of rₙ
  * and σₙ and of the BSM term.
  */

@@ -1,5 +1,5 @@
 /**
- * The view's predictive law when its drift is uncertain (DESIGN.md §4): the user writes
+ * The view's predictive law when its drift is uncertain (docs/design.md §4): the user writes
  * `drift 9% ± 6%`, read as μ ~ N(μ₀, τ²) with μ₀ = 9%, τ = 6%, fixed over the path.
  *
  * At a horizon h the law is exact in closed form, with or without jumps: given μ the log-spot is

@@ -1,6 +1,6 @@
 /**
  * Shared records of the numerical core. Plain data only: every core function takes these (or
- * plain numbers) and returns new records. Units follow ../shared/DESIGN.md §3:
+ * plain numbers) and returns new records. Units follow docs/design.md §3:
  * time in years (calendar days / 365), rates and yields continuously compounded decimals
  * (0.045, not 4.5), volatilities as decimals per sqrt(year).
  */
@@ -39,7 +39,7 @@ export interface Walk {
   driftSe?: number;
 }
 
-/** Per-share value and Greeks of one option (units: DESIGN.md §3). */
+/** Per-share value and Greeks of one option (units: docs/design.md §3). */
 export interface Greeks {
   value: number;
   /** per 1.00 of spot */

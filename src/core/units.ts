@@ -1,4 +1,4 @@
-/** Units shared by every layer (DESIGN.md §3): time is calendar days / 365. */
+/** Units shared by every layer (docs/design.md §3): time is calendar days / 365. */
 
 /** Milliseconds in a calendar day. */
 export const DAY_MS = 86_400_000;

@@ -1,6 +1,6 @@
 /**
  * Result → chart configuration (pure). The chart reads a check result and never recomputes
- * finance: every density and P&L value drawn is one the engine sampled (DESIGN.md §6).
+ * finance: every density and P&L value drawn is one the engine sampled (docs/design.md §6).
  *
  * Kolmo's chart design (its own, not any trading program's look):
  *  - white background, about 900×500, DejaVu Sans chosen by the renderer (src/report/render.ts);

@@ -1,7 +1,7 @@
 /**
  * A comparison (`compare A ; B ; …`): the checks side by side in one monospace table, a column
  * each, the headline for the channel and the chart input (src/report/chart.ts compareChartConfig).
- * Layout and labels are Kolmo's own (DESIGN.md §1, §6).
+ * Layout and labels are Kolmo's own (docs/design.md §1, §6).
  */
 import type { CompareChartItem } from './chart.js';
 import type { CheckJson } from '../result.js';

@@ -1,6 +1,6 @@
 /**
  * A price history's estimates → the text answer, its headline and the JSON result
- * (DESIGN.md §4: `kind:"history"`). Pure.
+ * (docs/design.md §4: `kind:"history"`). Pure.
  */
 import type { HistoryEstimate } from '../core/history.js';
 import { table } from './format.js';

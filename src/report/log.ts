@@ -1,6 +1,6 @@
 /**
  * The channel's log (`log [N]`) and marks (`mark`) as monospace listings. Layout and labels are
- * Kolmo's own (DESIGN.md §1).
+ * Kolmo's own (docs/design.md §1).
  */
 import { level, money, pct, rate, table } from './format.js';
 import { cut } from './compare.js';

@@ -1,6 +1,6 @@
 /**
  * Text answers: compact monospace tables that fit a chat message (about 72 columns).
- * Layout and labels are Kolmo's own (DESIGN.md §1, §6).
+ * Layout and labels are Kolmo's own (docs/design.md §1, §6).
  */
 import type { CheckJson } from '../result.js';
 import { hasJumps } from '../core/jumps.js';

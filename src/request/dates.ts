@@ -2,7 +2,7 @@
  * Calendar dates for requests: ISO yyyy-mm-dd strings, validated against the proleptic
  * Gregorian calendar, spans (`30d`, `6w`, `3m`, `1y`) added to a date, and day counts.
  *
- * Conventions (DESIGN.md §3 and decisions recorded in DEVELOPERS.md):
+ * Conventions (docs/design.md §3 and decisions recorded in DEVELOPERS.md):
  * - time in years = calendar days / 365;
  * - `Nm` adds N calendar months, `Ny` adds 12·N months; when the day does not exist in the target
  *   month it is clamped to the month's last day (2027-01-31 + 1m = 2027-02-28,

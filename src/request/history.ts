@@ -1,5 +1,5 @@
 /**
- * The grammar of `history SYMBOL [CLOSE …] [yield PCT] [save]` (DESIGN.md §2, "later issues"):
+ * The grammar of `history SYMBOL [CLOSE …] [yield PCT] [save]` (docs/design.md §2, "later issues"):
  * closes written inline as prices (`84.10 84.95 …`, consecutive trading days) or as dated pairs
  * (`2026-01-05:84.10 …`), oldest first; `yield` is added to the drift estimate; `save` stores the
  * estimates into the channel's mark. Without closes the closes come from a shared file (or

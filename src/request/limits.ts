@@ -1,6 +1,6 @@
 /**
  * Sane limits for requests. Anything outside them is almost surely a typo, and the numerical core
- * is only promised valid input (DESIGN.md §5), so the request layer rejects it with a caret under
+ * is only promised valid input (docs/design.md §5), so the request layer rejects it with a caret under
  * the token. Recorded in DEVELOPERS.md; change them here only.
  */
 export const LIMITS = {

@@ -1,5 +1,5 @@
 /**
- * The request grammar's entry (DESIGN.md §2): text → typed request, or an error with the character
+ * The request grammar's entry (docs/design.md §2): text → typed request, or an error with the character
  * index of the first bad token, what was expected and one corrected example.
  *
  * The first word picks the verb through the registry (src/verbs/registry.ts); the verb's grammar

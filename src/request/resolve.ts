@@ -2,7 +2,7 @@
  * From a typed request to the core's input: defaults filled, dates turned into years, market
  * terms taken from a mark where the request is silent, and the checks that need more than one
  * term (horizon against expiries, expiry against asof, strike against spot) made here, with the
- * caret on the offending term (DESIGN.md §2–3).
+ * caret on the offending term (docs/design.md §2–3).
  *
  * Decisions (recorded in DEVELOPERS.md):
  * - asof: default today; `asof today` is the same.

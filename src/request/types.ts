@@ -1,6 +1,6 @@
 /**
  * Typed requests: what the parser (./parse.ts) makes of the text of a request (grammar:
- * ../shared/DESIGN.md §2), inferred from their zod schemas (./schema.ts), where each field is
+ * docs/design.md §2), inferred from their zod schemas (./schema.ts), where each field is
  * described. Every field keeps the character index of its token in the request text (`…At`), so
  * that a later check (e.g. a horizon after an expiry) can still put a caret under the right token.
  */

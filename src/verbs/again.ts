@@ -20,8 +20,6 @@ import { cut } from '../report/compare.js';
 import { whenUtc } from '../report/log.js';
 import type { CheckSummary, LogEntry } from '../store/store.js';
 import { checkFigureChanges } from './check.js';
-import type { Mark } from '../store/store.js';
-import { markOfRecord, markTermsWords } from './marks.js';
 import { isoDay, needStore, refuse, refuseFact, Refused, storeCall, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 /** Start of the number in an `again N` request, for the caret. */
@@ -110,11 +108,11 @@ function comparisonLines(n: number, verb: Request['verb'], before: CheckSummary,
 }
 
 /** The logged entry and the request it reruns (changes applied, asof pinned), or a refusal. */
-function rerunOf(text: string, req: AgainRequest, env: VerbEnv) {
+async function rerunOf(text: string, req: AgainRequest, env: VerbEnv) {
   const store = needStore(text, env, 'again');
   const n = req.number;
   const at = againNumberAt(text);
-  const entry = storeCall(text, 'the log could not be read', at, () => store.get(env.ctx.channel, n));
+  const entry = await storeCall(text, 'the log could not be read', at, () => store.get(env.ctx.channel, n));
   if (!entry) {
     // the same words whether #n belongs to another channel or to none
     throw refuseFact(text, { message: `no check #${n} in this channel; \`log\` lists this channel's checks and their numbers`, at, length: String(n).length, example: 'log 20' });
@@ -123,11 +121,7 @@ function rerunOf(text: string, req: AgainRequest, env: VerbEnv) {
     // a tombstone keeps only its number (deleted by its asker from the answer's buttons)
     throw refuseFact(text, { message: `check #${n} was deleted by the person who asked it; only its number is kept`, at, length: String(n).length, example: 'log 20' });
   }
-  let pinned: { text: string; day?: string };
-  if (req.now) {
-    const moved = applyAgain(entry.text, { verb: 'again', number: entry.number, rest: 'asof today', restAt: 0 });
-    pinned = { text: moved.ok ? moved.text : entry.text };
-  } else pinned = pinAsof(entry, env);
+  const pinned = pinAsof(entry, env);
   const re = applyAgain(pinned.text, req, text);
   if (!re.ok) throw refuse(text, re.error);
   const p = parse(re.text);
@@ -137,18 +131,12 @@ function rerunOf(text: string, req: AgainRequest, env: VerbEnv) {
   return { entry, pinned, eff: re.text, request: p.request, at };
 }
 
-function runAgain(text: string, req: AgainRequest, env: VerbEnv): Outcome {
+async function runAgain(text: string, req: AgainRequest, env: VerbEnv): Promise<Outcome> {
   const n = req.number;
-  const { entry, pinned, eff, request, at } = rerunOf(text, req, env);
-  // by default as logged: its day and the marks it used (the log keeps them); `now`: today's
-  const loggedMarks = Array.isArray(entry.summary.marks)
-    ? (entry.summary.marks as Record<string, unknown>[]).map((m) => markOfRecord(m, env.ctx.channel)).filter((m): m is Mark => !!m)
-    : [];
-  const used = env.used ?? new Map<string, Mark>();
-  const runEnv: VerbEnv = { ...env, used, ...(req.now ? {} : { marks: new Map(loggedMarks.map((m) => [m.symbol, m])) }) };
+  const { entry, pinned, eff, request, at } = await rerunOf(text, req, env);
   let c: Outcome;
   try {
-    c = env.verb(request.verb).run(eff, request as never, runEnv);
+    c = await env.verb(request.verb).run(eff, request, env);
   } catch (err) {
     if (!(err instanceof Refused)) throw err;
     throw new Refused({
@@ -160,11 +148,7 @@ function runAgain(text: string, req: AgainRequest, env: VerbEnv): Outcome {
   const after = c.log!.summary;
   const { changed, figures } = comparisonLines(n, request.verb, entry.summary, after, env);
   const lines = [
-    `Again #${n} (${entry.verb} by ${entry.user}, ${whenUtc(entry.at)} UTC), ${
-      req.now
-        ? `on today's mark${used.size ? ` (${[...used.values()].map((m) => `${m.symbol} of ${whenUtc(m.at)} UTC`).join(', ')})` : ''} and as of today`
-        : `as logged${loggedMarks.length ? ` (mark ${loggedMarks.map((m) => `${m.symbol} of ${whenUtc(m.at)} UTC: ${markTermsWords(m)}`).join('; ')})` : ''}; \`again ${n} now\` reruns it on today's mark`
-    }${req.rest.trim() ? ` with: ${req.rest.trim()}` : ''}`,
+    `Again #${n} (${entry.verb} by ${entry.user}, ${whenUtc(entry.at)} UTC)${req.rest.trim() ? ` with: ${req.rest.trim()}` : ', as logged'}`,
     changed.length ? `changed: ${changed.join(' · ')}` : `changed: nothing — the same inputs as #${n}`,
     ...(pinned.day && !/\basof\b/i.test(req.rest) ? [`asof ${pinned.day} kept from #${n} (add \`asof today\` to move it)`] : []),
     ...figures,
@@ -189,17 +173,11 @@ export function parseAgain(src: string, toks: Tok[]): AgainRequest {
   const nTok = c.peek();
   if (!nTok) throw c.missing(toks[0], 'again needs the number of a check in the log, e.g. again 17', '17');
   const number = readWholeNumber(c, nTok, 'again', 1, LIMITS.againMax, '17');
-  // `again N now`: on today's date and the channel's mark as it is now (default: as logged)
-  let now = false;
-  if (c.peek()?.low === 'now') {
-    c.next();
-    now = true;
-  }
   const restTok = c.peek();
-  if (!restTok) return { verb: 'again', number, rest: '', restAt: src.length, ...(now ? { now } : {}) };
+  if (!restTok) return { verb: 'again', number, rest: '', restAt: src.length };
   // validate the overrides now, so a typo is caught before the log is read
   readBody(c, 'again');
-  return { verb: 'again', number, rest: src.slice(restTok.at, c.end()), restAt: restTok.at, ...(now ? { now } : {}) };
+  return { verb: 'again', number, rest: src.slice(restTok.at, c.end()), restAt: restTok.at };
 }
 
 export const again: Verb<AgainRequest> = {

@@ -22,7 +22,7 @@ import { computeExits, exitLevels } from './exits.js';
 import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
 import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
-/** Runs the core for a resolved check and assembles the JSON result (DESIGN.md §4). */
+/** Runs the core for a resolved check and assembles the JSON result (docs/design.md §4). */
 export function computeCheck(rc: ResolvedCheck): CheckAssembly {
   const input = rc.input;
   const core = runCheck(input);
@@ -142,7 +142,7 @@ function runCheckVerb(text: string, req: CheckRequest, env: VerbEnv): Outcome {
   const a = answer({
     verb: 'check',
     headline: checkHeadline(asm.json) + staleWords(mark, env.now),
-    text: checkText(asm.json, { verbose: env.verbose }) + (mark ? `\n${markLine(mark, env.now)}` : ''),
+    text: checkText(asm.json) + (mark ? `\n${markLine(mark, env.now)}` : ''),
     json: { ...asm.json, ...(mark ? { mark: markJson(mark, env.now) } : {}) } as unknown as Record<string, unknown>,
     chart: checkChartInput(asm),
   });

@@ -11,7 +11,6 @@ import { readSymbol } from '../request/grammar/values.js';
 import { TERM_WORDS } from '../request/grammar/words.js';
 import type { MarkRequest } from '../request/types.js';
 import { marksText, whenUtc } from '../report/log.js';
-import { level, rate } from '../report/format.js';
 import type { Mark } from '../store/store.js';
 import { markJson, markRecord, markTermsWords } from './marks.js';
 import { answer, needStore, refuseFact, storeCall, type Outcome, type VerbEnv, type Verb } from './verb.js';
@@ -29,26 +28,20 @@ function listing(marks: Mark[], env: VerbEnv): Outcome {
 }
 
 /** What the answer to a recorded mark says beyond the terms: what it replaced, what it leaves unset. */
-const KEYS = ['spot', 'iv', 'yield', 'rate', 'vol', 'drift'] as const;
-
-function recordedLines(m: Mark, prev: Mark | undefined, t: MarkRequest['terms']): string[] {
+function recordedLines(m: Mark, prev: Mark | undefined): string[] {
   const sym = m.symbol;
-  const lines: string[] = [];
-  if (prev) {
-    const fmt = (k: (typeof KEYS)[number], of: Mark) => {
-      const v = of[k];
-      if (v === undefined) return 'none';
-      if (k === 'spot') return level(v);
-      return k === 'drift' && of.driftSe ? `${rate(v)} ± ${rate(of.driftSe)}` : rate(v);
-    };
-    const changed = KEYS.filter((k) => t[k] !== undefined).map((k) => `${k} ${fmt(k, prev)} → ${fmt(k, m)}`);
-    const kept = KEYS.filter((k) => t[k] === undefined && m[k] !== undefined).map((k) => `${k} ${fmt(k, m)}`);
-    lines.push(`Mark ${sym} updated for this channel by ${m.user} at ${whenUtc(m.at)} UTC: ${changed.join(', ')}${kept.length ? ` (kept: ${kept.join(', ')})` : ''}.`);
-  } else {
-    lines.push(`Mark ${sym} recorded for this channel by ${m.user} at ${whenUtc(m.at)} UTC: ${markTermsWords(m)}.`);
-  }
-  lines.push(`Requests that say \`on ${sym}\` take these terms; terms written in a request override them.`);
+  const lines = [
+    `Mark ${sym} recorded for this channel by ${m.user} at ${whenUtc(m.at)} UTC: ${markTermsWords(m)}.`,
+    `Requests that say \`on ${sym}\` take these terms; terms written in a request override them.`,
+  ];
   const unset = (['spot', 'iv', 'yield', 'rate'] as const).filter((k) => m[k] === undefined);
+  if (prev) {
+    const dropped = unset.filter((k) => prev[k] !== undefined);
+    lines.push(
+      `It replaces the mark of ${whenUtc(prev.at)} UTC by ${prev.user} (${markTermsWords(prev) || 'no terms'})` +
+        (dropped.length ? `; its ${dropped.join(', ')} ${dropped.length === 1 ? 'is' : 'are'} not carried over (a mark is one snapshot): write ${dropped.length === 1 ? 'it' : 'them'} again to keep ${dropped.length === 1 ? 'it' : 'them'}.` : '.'),
+    );
+  }
   if (unset.length) {
     const defaults = unset.filter((k) => k !== 'spot');
     lines.push(
@@ -60,13 +53,13 @@ function recordedLines(m: Mark, prev: Mark | undefined, t: MarkRequest['terms'])
   return lines;
 }
 
-function runMark(text: string, req: MarkRequest, env: VerbEnv): Outcome {
+async function runMark(text: string, req: MarkRequest, env: VerbEnv): Promise<Outcome> {
   const store = needStore(text, env, 'mark');
   const channel = env.ctx.channel;
-  if (!req.symbol) return listing(storeCall(text, 'the marks of this channel could not be read', 0, () => store.listMarks(channel)), env);
+  if (!req.symbol) return listing(await storeCall(text, 'the marks of this channel could not be read', 0, () => store.listMarks(channel)), env);
   const sym = req.symbol.toUpperCase();
   const symAt = Math.max(0, text.toUpperCase().indexOf(sym));
-  const prev = storeCall(text, 'the marks of this channel could not be read', symAt, () => store.getMark(channel, sym));
+  const prev = await storeCall(text, 'the marks of this channel could not be read', symAt, () => store.getMark(channel, sym));
   const t = req.terms;
   if (t.spot === undefined && t.iv === undefined && t.yield === undefined && t.rate === undefined && t.vol === undefined && t.drift === undefined) {
     // `mark SYMBOL` alone shows that mark
@@ -75,21 +68,24 @@ function runMark(text: string, req: MarkRequest, env: VerbEnv): Outcome {
     }
     return listing([prev], env);
   }
-  // a mark updates only what it names and keeps the rest of the channel's mark for the symbol
-  // (a drift written anew brings its own uncertainty, or none)
-  const m: Mark = { channel, symbol: sym, user: env.ctx.user, at: env.nowIso };
-  for (const k of KEYS) {
-    const v = t[k] !== undefined ? t[k] : prev?.[k];
-    if (v !== undefined) m[k] = v;
-  }
-  const driftSe = t.drift !== undefined ? t.driftSe : prev?.driftSe;
-  if (m.drift !== undefined && driftSe) m.driftSe = driftSe;
-  storeCall(text, `the mark for ${sym} was not recorded`, symAt, () => store.putMark(m));
+  const m: Mark = {
+    channel,
+    symbol: sym,
+    ...(t.spot !== undefined ? { spot: t.spot } : {}),
+    ...(t.iv !== undefined ? { iv: t.iv } : {}),
+    ...(t.yield !== undefined ? { yield: t.yield } : {}),
+    ...(t.rate !== undefined ? { rate: t.rate } : {}),
+    ...(t.vol !== undefined ? { vol: t.vol } : {}),
+    ...(t.drift !== undefined ? { drift: t.drift, ...(t.driftSe ? { driftSe: t.driftSe } : {}) } : {}),
+    user: env.ctx.user,
+    at: env.nowIso,
+  };
+  await storeCall(text, `the mark for ${sym} was not recorded`, symAt, () => store.putMark(m));
   return {
     answer: answer({
       verb: 'mark',
       headline: '',
-      text: recordedLines(m, prev, t).join('\n'),
+      text: recordedLines(m, prev).join('\n'),
       json: { kind: 'mark', ...markRecord(m), ...(prev ? { replaced: markRecord(prev) } : {}) },
     }),
   };

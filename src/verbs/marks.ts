@@ -6,8 +6,8 @@ import { EXAMPLES } from '../request/examples.js';
 import type { MarkTerms } from '../request/resolve.js';
 import { ageWords, isStale, whenUtc } from '../report/log.js';
 import { level, rate } from '../report/format.js';
-import type { Mark } from '../store/store.js';
-import { refuseFact, storeCall, type VerbEnv } from './verb.js';
+import { StoreError, type Mark } from '../store/store.js';
+import { refuseFact, type VerbEnv } from './verb.js';
 
 export function termsOfMark(m: Mark): MarkTerms {
   return { symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, vol: m.vol, drift: m.drift, driftSe: m.driftSe, at: m.at };
@@ -22,11 +22,6 @@ export function markFor(text: string, env: VerbEnv, symbol: string | undefined, 
   const sym = symbol.toUpperCase();
   const where = at ?? 0;
   const example = `mark ${sym} spot 84.20 iv 31% yield 1.2%`;
-  const logged = env.marks?.get(sym);
-  if (logged) {
-    env.used?.set(sym, logged);
-    return logged;
-  }
   const store = env.ctx.store;
   if (!store) {
     throw refuseFact(text, {
@@ -36,7 +31,11 @@ export function markFor(text: string, env: VerbEnv, symbol: string | undefined, 
       example: EXAMPLES.check,
     });
   }
-  const m = storeCall(text, `the marks of this channel could not be read`, where, () => store.getMark(env.ctx.channel, sym));
+  const marks = env.marks;
+  if (marks instanceof StoreError) {
+    throw refuseFact(text, { message: `the marks of this channel could not be read: ${marks.message}`, at: where, length: 1, example: 'help' });
+  }
+  const m = marks?.get(sym);
   if (!m) {
     throw refuseFact(text, {
       message: `no mark for ${sym} in this channel: record one with \`mark ${sym} spot …\` or write the market terms`,
@@ -45,7 +44,6 @@ export function markFor(text: string, env: VerbEnv, symbol: string | undefined, 
       example,
     });
   }
-  env.used?.set(sym, m);
   return m;
 }
 
@@ -105,16 +103,4 @@ export function markRecord(m: Mark) {
     user: m.user,
     at: m.at,
   };
-}
-
-/** A mark as the log keeps it (markRecord) back into a Mark; undefined when it does not read. */
-export function markOfRecord(r: Record<string, unknown>, channel: string): Mark | undefined {
-  if (typeof r.symbol !== 'string' || typeof r.at !== 'string') return undefined;
-  const n = (v: unknown) => (typeof v === 'number' && Number.isFinite(v) ? v : undefined);
-  const m: Mark = { channel, symbol: r.symbol, user: typeof r.user === 'string' ? r.user : 'unknown', at: r.at };
-  for (const k of ['spot', 'iv', 'yield', 'rate'] as const) {
-    const v = n(r[k]);
-    if (v !== undefined) m[k] = v;
-  }
-  return m;
 }

@@ -1,5 +1,5 @@
 /**
- * The direction of the imports between the folders of src/ (DESIGN.md §5, DEVELOPERS.md "Layout"):
+ * The direction of the imports between the folders of src/ (docs/design.md §5, DEVELOPERS.md "Layout"):
  * data flows text → request → verb → result → reply → shell, and each layer imports only what
  * lies below it. Reads the import and re-export statements (and dynamic imports) of every file.
  */

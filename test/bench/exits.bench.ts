@@ -65,7 +65,7 @@ function convergence(name: string, input: CheckInput, lv: { target: number; stop
     const m = exitFiguresPde(g, marketWalk, input.market.yield);
     const e = (x: number): string => x.toExponential(2).padStart(11);
     console.log(
-      `  ${String(nx).padStart(5)} ${String(nt).padStart(5)} ${e(v.probTarget - rv.probTarget)} ${e(v.probStop - rv.probStop)} ${e(m.probTarget - rm.probTarget)} ${e(m.probStop - rm.probStop)} ${e(v.expectedPnl - rv.expectedPnl)}${nx === 200 && nt === 400 ? '   ← default' : ''}`,
+      `  ${String(nx).padStart(5)} ${String(nt).padStart(5)} ${e(v.probTarget - rv.probTarget)} ${e(v.probStop - rv.probStop)} ${e(m.probTarget - rm.probTarget)} ${e(m.probStop - rm.probStop)} ${e(v.expectedPnl - rv.expectedPnl)}${nx === 100 && nt === 200 ? '   ← default' : ''}`,
     );
   }
 }

@@ -30,11 +30,11 @@ export function run(): void {
   const json = JSON.stringify(parsed.request);
   const base = measure('JSON.parse of the same request', times(1000, () => JSON.parse(json)), 1000);
   report(base);
-  report(measure('parse: DESIGN §2 two-leg check', times(1000, () => parse(DESIGN)), 1000), base);
+  report(measure('parse: docs/design.md §2 two-leg check', times(1000, () => parse(DESIGN)), 1000), base);
   report(measure('parse: 50-leg check', times(100, () => parse(FIFTY)), 100), base);
   report(measure('parse: error (unknown word, fix re-parsed)', times(1000, () => parse(TYPO)), 1000), base);
   report(measure('parse: error (bare percentage)', times(1000, () => parse(BARE)), 1000), base);
   const req = parsed.request as CheckRequest;
-  report(measure('resolveCheck: DESIGN §2 check', times(1000, () => resolveCheck(req, { today: '2027-01-04' })), 1000), base);
+  report(measure('resolveCheck: docs/design.md §2 check', times(1000, () => resolveCheck(req, { today: '2027-01-04' })), 1000), base);
   sink(0);
 }

@@ -28,14 +28,14 @@ function json(args: string[]): Record<string, any> {
 const MARKET = 'spot 100 rate 4.5% yield 1% asof 2027-01-04';
 
 describe('kolmo --json check', () => {
-  it('answers the two-leg example of the design notes with every field of DESIGN.md §4', () => {
+  it('answers the two-leg example of the design notes with every field of docs/design.md §4', () => {
     const c = json([
       `check +2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% ${MARKET} drift 9% vol 26% horizon 2027-02-15`,
     ]);
     expect(c.kind).toBe('check');
     expect(c.asof).toBe('2027-01-04');
     expect(c.horizon).toBe('2027-02-15');
-    expect(c.horizonYears).toBeCloseTo(42 / 365, 12); // calendar days / 365 (DESIGN.md §3)
+    expect(c.horizonYears).toBeCloseTo(42 / 365, 12); // calendar days / 365 (docs/design.md §3)
     expect(c.market).toEqual({ spot: 100, rate: 0.045, yield: 0.01 });
     expect(c.view).toMatchObject({ drift: 0.09, vol: 0.26, model: 'lognormal' });
     expect(c.legs).toHaveLength(2);
@@ -43,17 +43,13 @@ describe('kolmo --json check', () => {
       expect(c.legs[0]).toHaveProperty(k);
     expect(c.legs[0]).toMatchObject({ qty: 2, type: 'call', strike: 105, expiry: '2027-03-19', iv: 0.28, entry: 3.1 });
     for (const k of ['cost', 'value', 'delta', 'gamma', 'vega', 'theta', 'rho']) expect(Number.isFinite(c.position[k])).toBe(true);
-    // cost = Σ qty × mult × entry (DESIGN.md §3)
+    // cost = Σ qty × mult × entry (docs/design.md §3)
     expect(c.position.cost).toBeCloseTo(2 * 100 * 3.1 - 2 * 100 * 1.05, 9);
     const o = c.outcome;
-    for (const k of ['probProfit', 'expectedPnl', 'expectedPnlAtRate', 'viewEdge', 'tailMean05']) expect(Number.isFinite(o[k])).toBe(true);
-    // the attribution adds up to the expected P&L, and its drift part is the view edge (DESIGN.md §4)
-    const a = o.attribution;
-    expect(a.entryVsFair + a.carry + a.earlyExercise + a.legIv + a.vol + a.drift).toBeCloseTo(o.expectedPnl, 6);
-    expect(o.viewEdge).toBeCloseTo(o.expectedPnl - o.expectedPnlAtRate, 9);
-    for (const k of ['probProfit', 'expectedPnl', 'tailMean05']) expect(Number.isFinite(c.outcomeMarket[k])).toBe(true);
-    // the market vol: the iv of the leg nearest the money (105 of 105/115 at spot 100)
-    expect(c.marketVol).toBe(0.28);
+    for (const k of ['probProfit', 'expectedPnl', 'expectedPnlRiskNeutral', 'viewEdge', 'tailMean05']) expect(Number.isFinite(o[k])).toBe(true);
+    // the attribution adds up to the expected P&L, and its drift part is the view edge (docs/design.md §4)
+    expect(o.attribution.price + o.attribution.vol + o.attribution.drift).toBeCloseTo(o.expectedPnl, 6);
+    expect(o.viewEdge).toBeCloseTo(o.expectedPnl - o.expectedPnlRiskNeutral, 9);
     expect(o.attribution.drift).toBeCloseTo(o.viewEdge, 9);
     // a debit call spread: bounded both ways
     expect(o.maxGain).not.toBeNull();
@@ -94,13 +90,13 @@ describe('kolmo --json iv and touch', () => {
     const t = json(['touch 120 by 2027-03-19 spot 100 drift 8% vol 25% rate 4.5% asof 2027-01-04']);
     expect(t.kind).toBe('touch');
     expect(t.level).toBe(120);
-    for (const k of ['probTouchView', 'probTouchMarket', 'probBeyondAtEndView']) {
+    for (const k of ['probTouchView', 'probTouchRiskNeutral', 'probBeyondAtEndView']) {
       expect(t[k]).toBeGreaterThan(0);
       expect(t[k]).toBeLessThan(1);
     }
     expect(t.probTouchView).toBeGreaterThanOrEqual(t.probBeyondAtEndView);
     // a higher drift makes an upper level likelier
-    expect(t.probTouchView).toBeGreaterThan(t.probTouchMarket);
+    expect(t.probTouchView).toBeGreaterThan(t.probTouchRiskNeutral);
   });
 });
 

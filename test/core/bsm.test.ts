@@ -69,7 +69,7 @@ describe('identities', () => {
     );
   });
 
-  it('Greeks equal central finite differences of bsmValue (units of DESIGN §3)', () => {
+  it('Greeks equal central finite differences of bsmValue (units of docs/design.md §3)', () => {
     const moderate = fc.record({
       S: fc.double({ min: 10, max: 500, noNaN: true }),
       m: fc.double({ min: 0.6, max: 1.6, noNaN: true }),

@@ -146,7 +146,7 @@ describe('mertonValue', () => {
 });
 
 describe('mertonGreeks', () => {
-  it('agree with central differences of the value (DESIGN §3 units)', () => {
+  it('agree with central differences of the value (docs/design.md §3 units)', () => {
     for (const [kind, S, K, T, r, q, s, j] of [
       ['call', 100, 100, 0.5, 0.05, 0.02, 0.2, J],
       ['put', 95, 100, 1.5, 0.03, 0.01, 0.3, { intensity: 2, mean: -0.15, sd: 0.2 }],

@@ -1,7 +1,7 @@
 /**
  * The density chart of real engine results (src/core/outcome.ts runCheck): a short straddle, a
  * covered stock position, a call spread and a calendar spread. Checked against
- *  - the P&L at the horizon by its definition (DESIGN.md §3): Σ qty × mult × (V_leg(S_h) − entry),
+ *  - the P&L at the horizon by its definition (docs/design.md §3): Σ qty × mult × (V_leg(S_h) − entry),
  *    with V_leg from the pricer seam (src/core/pricer.ts legValuer) and entries at fair value
  *    (legGreeks) where none is given — evaluated here, apart from the engine's own P&L function;
  *  - the lognormal law of the spot at the horizon (Hull, Options, Futures and Other Derivatives,

@@ -1,5 +1,5 @@
 /**
- * The history answer: the JSON carries the fields DESIGN.md §4 names for `kind:"history"`, and the
+ * The history answer: the JSON carries the fields docs/design.md §4 names for `kind:"history"`, and the
  * text shows the estimates with their standard errors, the clock, the warnings and what was kept.
  */
 import { describe, expect, it } from 'vitest';

@@ -1,5 +1,5 @@
 /**
- * `again N [changes]` rewrites the logged text (DESIGN.md §2: `again 17 [spot 102 ...]`). The
+ * `again N [changes]` rewrites the logged text (docs/design.md §2: `again 17 [spot 102 ...]`). The
  * rule checked here is the one the rewrite promises: the new text parses to the logged request
  * merged with the changes (terms override, legs replace), computed independently with mergeCheck
  * on the two parsed pieces.

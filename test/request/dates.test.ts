@@ -63,7 +63,7 @@ describe('day numbers', () => {
     for (const y of [1900, 2000, 2024, 2027, 2100]) expect(isLeapYear(y)).toBe(len(y) === 366);
   });
 
-  it('the DESIGN.md §2 example: 2027-01-04 to 2027-03-19 is 74 days (27 + 28 + 19), to 2027-02-15 is 42', () => {
+  it('the docs/design.md §2 example: 2027-01-04 to 2027-03-19 is 74 days (27 + 28 + 19), to 2027-02-15 is 42', () => {
     expect(daysBetween('2027-01-04', '2027-03-19')).toBe(74);
     expect(daysBetween('2027-01-04', '2027-02-15')).toBe(42);
   });

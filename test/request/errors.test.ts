@@ -1,7 +1,7 @@
 /**
  * Every class of bad input gets { message, at, length, example }: the caret at the first bad
  * token (found with indexOf in the request, never copied from our output), a message saying what
- * was expected, and an example that itself parses. The rule is DESIGN.md §2 ("quoting the request
+ * was expected, and an example that itself parses. The rule is docs/design.md §2 ("quoting the request
  * with a caret under the first bad token, saying what was expected, and giving one corrected
  * example").
  */

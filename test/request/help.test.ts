@@ -1,5 +1,5 @@
 /**
- * Help text: every topic of the grammar (DESIGN.md §2 verbs plus jumps, american, units) has a
+ * Help text: every topic of the grammar (docs/design.md §2 verbs plus jumps, american, units) has a
  * section with its grammar line and examples; the examples use invented symbols only (six or more
  * letters) and parse; `help TOPIC` requests are accepted for exactly these topics.
  */

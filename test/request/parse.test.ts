@@ -1,5 +1,5 @@
 /**
- * The grammar of DESIGN.md §2: every form there parses to the typed request it describes.
+ * The grammar of docs/design.md §2: every form there parses to the typed request it describes.
  * Expected values are read off the grammar text (percentages / 100, ISO dates, spans kept
  * relative); positions are found with indexOf in the request text, never copied from our output.
  */
@@ -29,7 +29,7 @@ function nth(text: string, s: string, n = 0): number {
   return i;
 }
 
-describe('check (DESIGN.md §2, the two-leg example)', () => {
+describe('check (docs/design.md §2, the two-leg example)', () => {
   const text =
     'check  +2 call 105 2027-03-19 @3.10 iv 28%  -2 call 115 2027-03-19 @1.05 iv 25%\n' +
     '       spot 100 rate 4.5% yield 1% drift 9% vol 26% horizon 2027-02-15 asof 2027-01-04';
@@ -203,7 +203,7 @@ describe('market terms', () => {
   });
 });
 
-describe('the other verbs (DESIGN.md §2)', () => {
+describe('the other verbs (docs/design.md §2)', () => {
   it('iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5% yield 1%', () => {
     const text = 'iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5% yield 1%';
     expect(ok(text)).toEqual({

@@ -1,5 +1,5 @@
 /**
- * Resolving requests into core input: DESIGN.md §2 defaults and §3 units (time = calendar days /
+ * Resolving requests into core input: docs/design.md §2 defaults and §3 units (time = calendar days /
  * 365, counted by hand in the comments), and the checks that span several terms. Errors are
  * checked for the caret position (found with indexOf) and for an example that parses and resolves.
  */
@@ -39,7 +39,7 @@ function checkBad(text: string, token: string | null, message: RegExp, ctx: Part
   return r.error;
 }
 
-describe('the DESIGN.md §2 check', () => {
+describe('the docs/design.md §2 check', () => {
   const text =
     '+2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% ' +
     'spot 100 rate 4.5% yield 1% drift 9% vol 26% horizon 2027-02-15 asof 2027-01-04';
@@ -252,7 +252,7 @@ describe('errors', () => {
 });
 
 describe('resolveIv', () => {
-  it('the DESIGN.md iv example', () => {
+  it('the docs/design.md iv example', () => {
     const r = resolveIv(req<IvRequest>('iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5% yield 1%'), { today: TODAY });
     expect(r.ok).toBe(true);
     if (!r.ok) return;
@@ -289,7 +289,7 @@ describe('resolveIv', () => {
 });
 
 describe('resolveTouch', () => {
-  it('the DESIGN.md touch example: drift given, rate defaults to 0', () => {
+  it('the docs/design.md touch example: drift given, rate defaults to 0', () => {
     const r = resolveTouch(req<TouchRequest>('touch 120 by 2027-03-19 spot 100 drift 8% vol 25%'), { today: TODAY });
     expect(r.ok).toBe(true);
     if (!r.ok) return;

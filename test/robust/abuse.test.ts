@@ -4,7 +4,7 @@
  * process. HTTP mode against the fake Web API on 127.0.0.1; every wait bounded.
  *
  * Outside references: the platform's request-signing scheme (test/chat/harness.ts), HTTP 413
- * Content Too Large (RFC 9110 §15.5.14) for a body over the limit, and DESIGN.md §2 (a rejected
+ * Content Too Large (RFC 9110 §15.5.14) for a body over the limit, and docs/design.md §2 (a rejected
  * request is told only to the asker, quoted with a caret; the log is per channel).
  */
 import { describe, it, expect, beforeAll, afterAll } from 'vitest';

@@ -237,7 +237,7 @@ describe('marks', () => {
     const s = open();
     s.putMark({ channel: 'C0DESKA', symbol: 'fernwk', spot: 84.2, iv: 0.31, yield: 0.012, user: 'U0MAYA', at: '2027-01-04T15:00:00Z' });
     s.putMark({ channel: 'C0DESKA', symbol: 'BRIXLO', spot: 12.5, rate: 0.045, user: 'U0MAYA', at: '2027-01-04T15:01:00Z' });
-    // symbols are case-insensitive words (DESIGN §2) and kept in upper case
+    // symbols are case-insensitive words (docs/design.md §2) and kept in upper case
     expect(s.getMark('C0DESKA', 'FERNWK')).toEqual({
       channel: 'C0DESKA', symbol: 'FERNWK', spot: 84.2, iv: 0.31, yield: 0.012, user: 'U0MAYA', at: '2027-01-04T15:00:00Z',
     });
@@ -334,7 +334,7 @@ describe('faults become StoreError with a code and a user-facing message', () =>
   // chmod 0444 on the file, with a writer process that is not root: processes.test.ts
 
   it('full: a real SQLITE_FULL (size cap via PRAGMA max_page_count) gives code "full" and loses nothing stored', () => {
-    const s = open('log.db', { maxBytes: 96 * 1024 });
+    const s = open('log.db', { maxBytes: 160 * 1024 });
     const text = 'check ' + 'x'.repeat(3000);
     let last = 0;
     let err: StoreError | undefined;

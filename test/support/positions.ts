@@ -1,6 +1,6 @@
 /**
  * A position's P&L at the horizon written independently of the outcome engine, straight from its
- * definition (DESIGN.md §3): legs expiring at the horizon at intrinsic value, live legs revalued
+ * definition (docs/design.md §3): legs expiring at the horizon at intrinsic value, live legs revalued
  * by Black-Scholes-Merton with their own iv and remaining time, shares at the spot; entries at
  * fair value where none is given.
  */

@@ -1,5 +1,5 @@
 /**
- * My desk (DESIGN.md §1): the app's home tab for one person: their last 20 checks across
+ * My desk (docs/design.md §1): the app's home tab for one person: their last 20 checks across
  * channels (a link to each thread, a one-line summary, re-run), the marks of the channels they
  * used, and their personal defaults with a button that edits them.
  *

@@ -1,5 +1,5 @@
 /**
- * The check form's values → the request text (DESIGN.md §2), so a form goes through the same
+ * The check form's values → the request text (docs/design.md §2), so a form goes through the same
  * `ask` seam as typed text and its answer can quote the typed request that would have produced it.
  *
  * Pure. The composer remembers which characters of the text each field wrote (`spans`), so a
@@ -158,7 +158,7 @@ function formErrors(v: FormValues): Partial<Record<FieldId, string>> {
 /**
  * Composes the request text. Order: legs, then `on SYMBOL`, spot, rate, yield, asof, horizon,
  * drift, vol, style, mult, jumps, and the position-wide iv last: an `iv` written right after a leg
- * would be read as that leg's own (DESIGN.md §2), so when it would come first it is preceded by
+ * would be read as that leg's own (docs/design.md §2), so when it would come first it is preceded by
  * `style european` (the default, so the meaning is unchanged).
  */
 export function composeRequest(v: FormValues): Composed {

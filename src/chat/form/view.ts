@@ -1,5 +1,5 @@
 /**
- * The check form (DESIGN.md §1): a modal that builds a check for people who do not type the
+ * The check form (docs/design.md §1): a modal that builds a check for people who do not type the
  * grammar. Pure builders: values → modal view, and the submitted state → values.
  *
  * Every input's block id is its field id (./compose.ts FieldId) and its action id is `v`, so a

@@ -11,7 +11,7 @@ import { checkInputs, payoff, type Problem } from './problem.js';
 import type { AmericanOptions } from './value.js';
 
 /**
- * Value and Greeks of an American option (per share; DESIGN.md §3 units). Value, delta and gamma
+ * Value and Greeks of an American option (per share; docs/design.md §3 units). Value, delta and gamma
  * from the grid at the spot; theta from the last three time levels; vega and rho by central
  * bumps of ±0.5 vol point and ±0.5% of rate, re-solved on the same grids (so the discretisation
  * error largely cancels in the differences). Every figure is the Richardson combination over the

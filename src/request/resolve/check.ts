@@ -17,7 +17,7 @@ export interface ResolvedCheck {
   notes: string[];
   symbol?: string;
   /**
-   * the market walk's vol (DESIGN.md §4 `marketVol`): the request's iv, else the mark's, else the
+   * the market walk's vol (docs/design.md §4 `marketVol`): the request's iv, else the mark's, else the
    * iv of the option leg nearest the money; a check of shares alone: the view's vol
    */
   marketVol: number;
