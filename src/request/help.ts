@@ -50,8 +50,7 @@ const SECTIONS: Record<HelpTopic, Section> = {
       '       style european · a leg without @ is entered at its fair value.',
       'Answer: your view beside the market (drift = rate, vol = the market vol: the position\'s iv,',
       '       else the iv of the leg nearest the money), the expected P&L split into its parts',
-      '       (entry vs fair, carry, early exercise, legs\' iv, vol view, drift view). End a request',
-      '       with verbose for the method notes.',
+      '       (entry vs fair, carry, early exercise, legs\' iv, vol view, drift view).',
     ],
     examples: [
       '+2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% spot 100 rate 4.5% yield 1% drift 9% vol 26% horizon 2027-02-15 asof 2027-01-04',
@@ -96,7 +95,6 @@ const SECTIONS: Record<HelpTopic, Section> = {
       'mark SYMBOL [spot P] [iv PCT] [yield PCT] [rate PCT] [vol PCT] [drift PCT [± PCT]]   ·   mark   (lists the channel\'s marks)',
       'Later requests say on SYMBOL; terms written in the request override the mark. A mark\'s vol and',
       'drift (± its uncertainty) are the view where a request writes none (history … save sets them).',
-      'A mark keeps what a new mark does not name: mark FERNWK spot 86 changes only the spot.',
       'A mark older than a day is flagged as stale in the answer.',
     ],
     examples: ['mark FERNWK spot 84.20 iv 31% yield 1.2%', 'mark QUORVEL spot 145.10', 'mark'],
@@ -110,10 +108,8 @@ const SECTIONS: Record<HelpTopic, Section> = {
     title: 'again — rerun a logged check, optionally with changes',
     lines: [
       'again N [TERMS or LEGS]   (terms override; legs replace the logged legs)',
-      'By default #N reruns exactly as logged: its day and the mark it used. again N now reruns',
-      'it as of today on the channel\'s mark as it is now; asof today moves only the day.',
     ],
-    examples: ['again 1', 'again 2 spot 102 drift 5%', 'again 1 now'],
+    examples: ['again 1', 'again 2 spot 102 drift 5%', 'again 1 asof today'],
   },
   history: {
     title: 'history — vol and drift, with their standard errors, from past closes',
