@@ -17,7 +17,6 @@ import type { ModalView } from '@slack/types';
 import { termsOfMark, type LogEntry, type MarkTerms, type Store } from '../verbs/ask.js';
 import { plainNotice } from './blocks.js';
 import { tellAsker, type Origin } from './deliver.js';
-import type { InboxEntry } from './inbox.js';
 import type { RetryInfo } from './intake.js';
 import type { ListenerContext } from './listeners/context.js';
 import { DELETE_ACTION, EDIT_ACTION, POST_ACTION, POST_CALLBACK, parseCheckKey, postToChannelView, VARY_ACTIONS } from './actions/buttons.js';
@@ -84,7 +83,7 @@ export function registerInteractive(ctx: ListenerContext): void {
   const env = {
     deps: ctx.delivery,
     budget: ctx.budget,
-    admit: (e: Omit<InboxEntry, 'attempts'>, retry: RetryInfo) => intake.admit(e, retry),
+    admit: (e: { key: string; channel: string; user: string; source: string; text?: string; now?: string }, retry: RetryInfo) => intake.admit(e, retry),
     submit: (origin: Origin, text: string, t0: number, key: string, now: string, _resumed = false, extra: { variedFrom?: number; preface?: string } = {}) =>
       intake.submit({ origin, text, t0, key, now, ...extra }),
   };
