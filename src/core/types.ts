@@ -110,14 +110,9 @@ export interface LegResult extends Greeks {
   probItmView: number;
 }
 
-export interface PositionTotals {
+/** The position's cost and the legs' value and Greeks summed (each leg's × qty × multiplier). */
+export interface PositionTotals extends Record<keyof Greeks, number> {
   cost: number;
-  value: number;
-  delta: number;
-  gamma: number;
-  vega: number;
-  theta: number;
-  rho: number;
 }
 
 /**
