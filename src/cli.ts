@@ -15,7 +15,7 @@ import { mkdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
 import { basename, dirname, join, resolve } from 'node:path';
 import { DEMO_HISTORY, DEMO_HISTORY_SYMBOL } from './demo/history.js';
 import { createInterface } from 'node:readline';
-import { askSync, CLOSES_FILE_BYTES, COMPUTE_BUDGET_DEFAULT, openStore, defaultDbPath, type AskContext, type Store } from './verbs/ask.js';
+import { ask, CLOSES_FILE_BYTES, COMPUTE_BUDGET_DEFAULT, databaseFromEnv, defaultDbPath, openDatabase, type AskContext, type AsyncStore } from './verbs/ask.js';
 import { localSettings, type LocalSettings } from './config.js';
 import type { Reply } from './reply.js';
 import { renderAnswerChart } from './report/answer-chart.js';
@@ -59,10 +59,12 @@ export function parseArgs(argv: string[]): CliOptions | { error: string } {
   return o;
 }
 
-function openStoreQuietly(enabled: boolean, dbPath: string | undefined): { store: Store | null; warning?: string } {
+/** The log of the settings: KOLMO_DATABASE_URL (PostgreSQL), else the SQLite file; without it the answer still comes, with a warning. */
+async function openStoreQuietly(enabled: boolean, dbPath: string | undefined): Promise<{ store: AsyncStore | null; warning?: string }> {
   if (!enabled) return { store: null };
   try {
-    return { store: openStore(defaultDbPath(dbPath)) };
+    const choice = databaseFromEnv();
+    return { store: await openDatabase(choice.backend === 'postgres' ? choice : { backend: 'sqlite', path: defaultDbPath(dbPath) }) };
   } catch (err) {
     return { store: null, warning: `the log is unavailable (${err instanceof Error ? err.message : String(err)}); answering without it` };
   }
@@ -78,8 +80,8 @@ function settingsOr(say: (line: string) => void): LocalSettings | null {
 }
 
 /** One request from the command line or the console: the seam, with the compute budget of the settings (ctx.budget). */
-export function answerLocal(text: string, ctx: AskContext): Reply {
-  return askSync(text, { budget: COMPUTE_BUDGET_DEFAULT, ...ctx });
+export function answerLocal(text: string, ctx: AskContext): Promise<Reply> {
+  return ask(text, { budget: COMPUTE_BUDGET_DEFAULT, ...ctx });
 }
 
 /** The text a terminal shows for a reply (answer, caution, warnings) — also used by the console. */
@@ -124,10 +126,10 @@ export async function runCli(argv: string[], out = process.stdout, err = process
       return 2;
     }
   }
-  const { store, warning } = openStoreQuietly(o.log, settings.dbPath);
+  const { store, warning } = await openStoreQuietly(o.log, settings.dbPath);
   try {
     const ctx: AskContext = { channel: o.channel ?? 'cli', user: settings.user, store, budget: settings.computeBudget, ...(files ? { files } : {}) };
-    const r = answerLocal(o.request, ctx);
+    const r = await answerLocal(o.request, ctx);
     if (warning && r.kind === 'answer') r.warnings.push(warning);
     let chartNote: string | null = null;
     if (o.chart && r.kind === 'answer') chartNote = await writeChart(r, o.chart);
@@ -141,7 +143,7 @@ export async function runCli(argv: string[], out = process.stdout, err = process
     }
     return r.kind === 'rejected' ? 2 : 0;
   } finally {
-    store?.close();
+    await store?.close();
   }
 }
 
@@ -169,17 +171,17 @@ export async function runConsole(
   if (!settings) return 2;
   const outDir = opts.outDir ?? settings.outDir;
   const channel = opts.channel ?? 'console';
-  const { store, warning } = openStoreQuietly(true, settings.dbPath);
+  const { store, warning } = await openStoreQuietly(true, settings.dbPath);
   if (store) {
     for (const m of DEMO_MARKS) {
-      if (!store.getMark(channel, m.symbol)) {
-        store.putMark({ channel, symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, user: 'demo', at: new Date().toISOString() });
+      if (!(await store.getMark(channel, m.symbol).catch(() => undefined))) {
+        await store.putMark({ channel, symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, user: 'demo', at: new Date().toISOString() }).catch(() => undefined);
       }
     }
     // an invented year of closes (src/demo/history.ts), so `history FERNWK` answers at once
     try {
-      if (store.getCloses(channel, DEMO_HISTORY_SYMBOL).length === 0) {
-        store.putCloses(channel, DEMO_HISTORY_SYMBOL, DEMO_HISTORY.map(([date, close]) => ({ date, close })));
+      if ((await store.getCloses(channel, DEMO_HISTORY_SYMBOL)).length === 0) {
+        await store.putCloses(channel, DEMO_HISTORY_SYMBOL, DEMO_HISTORY.map(([date, close]) => ({ date, close })));
       }
     } catch {
       /* the demo history is a convenience: the console works without it */
@@ -203,7 +205,7 @@ export async function runConsole(
           return;
         }
         if (text) {
-          const r = answerLocal(text, { channel, user: settings.user, store, budget: settings.computeBudget });
+          const r = await answerLocal(text, { channel, user: settings.user, store, budget: settings.computeBudget });
           say(replyText(r));
           if (r.kind === 'answer' && r.chart) {
             n++;
@@ -219,6 +221,6 @@ export async function runConsole(
       chain.then(() => done(), () => done());
     });
   });
-  store?.close();
+  await store?.close();
   return 0;
 }

@@ -40,7 +40,7 @@ export async function main(env: Record<string, string | undefined> = process.env
     return 1;
   }
   // SIGTERM/SIGINT: stop listening, let answers in progress finish within the grace period, hand
-  // back the rest (the inbox keeps them for the next start), flush and close the log. A second
+  // back the rest (the request queue keeps them for another instance or the next start), flush and close the log. A second
   // signal, or the grace period and 10 s more, ends the process at once.
   const grace = config.chat.shutdownGraceMs;
   const shutdown = (signal: string) => {

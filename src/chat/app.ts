@@ -1,32 +1,42 @@
 /**
- * The workspace app (Bolt): `/kolmo <request>` and @-mentions, in HTTP mode or Socket Mode.
- * This file only wires the pieces together:
+ * The workspace app (Bolt): `/kolmo <request>` and @-mentions, in HTTP mode or Socket Mode; one
+ * instance or several sharing one store (PostgreSQL, KOLMO_DATABASE_URL). This file only wires the
+ * pieces together:
  *
- *   platform.ts      the Web API client's policy, the bot's identity, the Bolt app, HTTP guards
+ *   platform.ts      the Web API client's policy, the bot's identity, the Bolt app, HTTP guards,
+ *                    where /healthz and /metrics are served
  *   listeners/       what the platform sends, by kind (commands, events), acknowledged at once
  *                    (the platform allows 3 seconds) and handed to the intake
- *   intake.ts        inbox (re-sent deliveries), rate limit, per-channel line, engine, delivery
+ *   intake.ts        record first (the shared request queue catches re-sent deliveries; the
+ *                    shared rate limit; the bound on the line), then the answer of a claimed request
+ *   dispatch.ts      claims requests from the queue, one per worker, under leases another
+ *                    instance takes over when this one dies; a channel's answers in request order
  *   pool.ts          worker processes running the engine and the chart within the compute budget
+ *                    (on PostgreSQL they reach the store through this process: ipc-store.ts)
  *   deliver.ts       where each part of a reply goes, through a client whose retries are bounded
  *                    (client.ts)
+ *   metrics.ts       Prometheus metrics
  *
- * On SIGTERM the app stops listening, gives answers in progress a grace period, and hands back
- * what is left: it stays in the inbox and the next start answers it.
+ * On SIGTERM the app stops listening, gives answers in progress a grace period, and hands the rest
+ * back to the queue: another instance, or the next start, answers them.
  *
  * One log line per request: channel, user, verb, duration, outcome; the request text only at
  * debug level; never a secret (error texts are scrubbed of token shapes and the secrets' values).
  */
+import { randomBytes } from 'node:crypto';
+import type { IncomingMessage, ServerResponse } from 'node:http';
+import { hostname } from 'node:os';
 import { monitorEventLoopDelay, type IntervalHistogram } from 'node:perf_hooks';
 import { scrub, type Log } from '../log.js';
-import { openStore, defaultDbPath, type Store } from '../verbs/ask.js';
+import { databaseFromEnv, defaultDbPath, openDatabase, openStore, StoreError, type AsyncStore, type DatabaseChoice, type Store } from '../verbs/ask.js';
 import { BoundedClient } from './client.js';
 import type { DeliverDeps } from './deliver.js';
-import { memoryInbox, openInbox, type Inbox } from './inbox.js';
-import { Intake } from './intake.js';
+import { Dispatcher } from './dispatch.js';
+import { DEDUPE_WINDOW_MS } from './inbox.js';
+import { createIntake } from './intake.js';
 import { registerListeners } from './listeners/index.js';
+import { createMetrics, type Metrics } from './metrics.js';
 import { InlineEngine, WorkerPool, type Engine } from './pool.js';
-import { ChannelQueue } from './queue.js';
-import { USER_RATE_DEFAULTS, UserRateLimit } from './ratelimit.js';
 import { clientOptionsOf, createBoltApp, identifyBot, secretsOf, startListening, type WorkspaceConfig } from './platform.js';
 
 export { COMMAND } from './listeners/commands.js';
@@ -40,38 +50,66 @@ export interface ChatApp {
   stop(): Promise<void>;
 }
 
-/**
- * The log and the inbox beside it. Either may be unavailable: the app then answers without the
- * log, and catches re-sent deliveries in memory only.
- */
-function openLogAndInbox(config: WorkspaceConfig, log: Log, errText: (err: unknown) => string): { dbPath: string | null; store: Store | null; inbox: Inbox } {
-  let dbPath: string | null = null;
-  let store: Store | null = null;
-  try {
-    dbPath = defaultDbPath(config.local.dbPath);
-    // the app's own connection only records threads and delivery states: a process crash loses
-    // none of them, and no fsync per answer holds up the event loop (the workers append the
-    // checks themselves with the store's default, fsynced, durability)
-    store = openStore(dbPath, { synchronous: 'normal' });
-  } catch (err) {
-    log.warn({ err: errText(err) }, 'the log is unavailable; answering without it');
-    dbPath = null;
-    store = null;
-  }
-  let inbox: Inbox;
-  try {
-    inbox = openInbox(dbPath);
-  } catch (err) {
-    log.warn({ err: errText(err) }, 'the inbox is unavailable; duplicates are caught in memory and unanswered requests are not resumed after a restart');
-    inbox = memoryInbox();
-  }
-  return { dbPath, store, inbox };
-}
-
 const loopDelayMs = (h: IntervalHistogram) => {
   const ms = (ns: number) => Math.round(ns / 1e4) / 100;
   return { p50: ms(h.percentile(50)), p99: ms(h.percentile(99)), max: ms(h.max) };
 };
+
+const sleep = (ms: number) => new Promise<void>((r) => setTimeout(r, ms));
+
+/**
+ * The store. PostgreSQL (several instances share it) must be there at start: an instance that
+ * would answer from memory alone breaks the cluster's guarantees, so a malformed or unreachable
+ * URL stops the start with one clear message. The SQLite file, as before, may fail: the app then
+ * answers without a log.
+ */
+async function openTheStore(config: WorkspaceConfig, owner: string, log: Log, errText: (err: unknown) => string): Promise<{ choice: DatabaseChoice | null; store: AsyncStore | null }> {
+  let choice: DatabaseChoice;
+  try {
+    choice = databaseFromEnv();
+  } catch (err) {
+    if (err instanceof StoreError && err.code === 'invalid') throw new Error(errText(err));
+    log.warn({ err: errText(err) }, 'the log is unavailable; answering without it');
+    return { choice: null, store: null };
+  }
+  if (choice.backend === 'postgres') {
+    try {
+      return { choice, store: await openDatabase(choice, { poolSize: 6, applicationName: `kolmo ${owner}`.slice(0, 63) }) };
+    } catch (err) {
+      throw new Error(`KOLMO_DATABASE_URL: ${errText(err)}`);
+    }
+  }
+  try {
+    const sqlite: DatabaseChoice = { backend: 'sqlite', path: defaultDbPath(config.local.dbPath) };
+    // the app's own connection records requests, threads and delivery states: a process crash
+    // loses none of them (synchronous=normal); the workers append the checks themselves with
+    // the store's default, fsynced, durability
+    return { choice: sqlite, store: await openDatabase(sqlite, { synchronous: 'normal' }) };
+  } catch (err) {
+    log.warn({ err: errText(err) }, 'the log is unavailable; answering without it');
+    return { choice: null, store: null };
+  }
+}
+
+/** The store with every StoreError counted in the metrics (by operation and code). */
+function countingStore(store: AsyncStore, metrics: Metrics): AsyncStore {
+  return new Proxy(store, {
+    get(target, prop, receiver) {
+      const v = Reflect.get(target, prop, receiver) as unknown;
+      if (typeof v !== 'function') return v;
+      return (...args: unknown[]) => {
+        const out = (v as (...a: unknown[]) => unknown).apply(target, args);
+        if (out instanceof Promise) {
+          return out.catch((err: unknown) => {
+            if (err instanceof StoreError) metrics.storeErrors.inc({ op: err.op, code: err.code });
+            throw err;
+          });
+        }
+        return out;
+      };
+    },
+  });
+}
 
 /** Starts the app in the configured mode. Throws with a clear message when it cannot start. */
 export async function startChatApp(config: WorkspaceConfig, log: Log): Promise<ChatApp> {
@@ -81,17 +119,23 @@ export async function startChatApp(config: WorkspaceConfig, log: Log): Promise<C
   const errText = (err: unknown): string => scrub(err instanceof Error ? err.message : String(err), secrets);
 
   const bot = await identifyBot(config, clientOptions);
-  const { dbPath, store, inbox } = openLogAndInbox(config, log, errText);
+  const owner = `${hostname()}:${process.pid}:${randomBytes(3).toString('hex')}`;
+  const { choice, store } = await openTheStore(config, owner, log, errText);
+
+  let running = () => 0;
+  const metrics = createMetrics({ depth: async () => (counted ? counted.depth() : null), running: () => running() });
+  // every StoreError this instance meets is counted (the workers' too when they reach the store through this process)
+  const counted = store ? countingStore(store, metrics) : null;
+
   const engine: Engine =
     config.workers > 0
       ? new WorkerPool({
           size: config.workers,
-          dbPath,
+          db: !counted || !choice ? null : choice.backend === 'sqlite' ? { kind: 'file', path: choice.path } : { kind: 'parent', store: counted },
           taskTimeoutMs: config.taskTimeoutSeconds * 1000,
           onEvent: (e) => log.warn({ detail: e.detail }, e.event),
         })
-      : new InlineEngine(store);
-  const queue = new ChannelQueue(config.queueLimit);
+      : new InlineEngine(counted);
   const loopDelay = monitorEventLoopDelay({ resolution: 10 });
   loopDelay.enable();
 
@@ -99,32 +143,85 @@ export async function startChatApp(config: WorkspaceConfig, log: Log): Promise<C
   const client = new BoundedClient(config.botToken, clientOptions, (method, retryAfter, attempt) =>
     log.warn({ method, retryAfter, attempt }, 'rate-limited by the workspace'),
   );
-  const delivery: DeliverDeps = {
+  const deps: DeliverDeps = {
     client,
-    store,
+    store: counted,
     onLost: (what, err) => log.warn({ what, err: scrub((err as { data?: { error?: string } })?.data?.error ?? String(err), secrets) }, 'could not reach the asker'),
   };
-  const intake = new Intake({
-    config,
-    settings,
-    log,
-    inbox,
-    engine,
-    queue,
-    limiter: new UserRateLimit({ ...USER_RATE_DEFAULTS, ...settings.userRate }),
-    delivery,
-    errText,
-  });
+  const intake = createIntake({ config, settings, log, store: counted, engine, deps, metrics, botUserId: bot.botUserId, errText });
+  const dispatcher = counted
+    ? new Dispatcher({ queue: counted, owner, capacity: Math.max(1, engine.size), handle: intake.handle, onError: (what, err) => log.warn({ err: errText(err) }, what) })
+    : null;
+  if (dispatcher) intake.useDispatcher(dispatcher);
+  running = () => (dispatcher?.running ?? 0) + intake.localSize;
 
-  const app = createBoltApp(config, settings, clientOptions, bot, log);
-  registerListeners({ app, intake, botUserId: bot.botUserId, store, delivery, log, budget: settings.computeBudget, forms: {} });
+  /** Ready: the database answers (within 2 s), a worker is up, the dispatcher's last poll got through. */
+  const health = async () => {
+    let database = 'none';
+    if (counted) {
+      database = await Promise.race([
+        counted.ping().then(
+          () => 'ok',
+          () => 'unavailable',
+        ),
+        sleep(2000).then(() => 'timeout'),
+      ]);
+    }
+    const workers = engine.alive > 0 ? 'ok' : 'down';
+    const queue = !dispatcher ? 'none' : dispatcher.healthy ? 'ok' : 'unreachable';
+    const ready = (database === 'ok' || database === 'none') && workers === 'ok' && queue !== 'unreachable' && !intake.stopping;
+    return { ready, database, workers, queue };
+  };
+  const ops = async (req: IncomingMessage, res: ServerResponse): Promise<boolean> => {
+    const path = (req.url ?? '').split('?')[0];
+    if (req.method !== 'GET') return false;
+    if (path === '/healthz') {
+      const h = await health();
+      res.writeHead(h.ready ? 200 : 503, { 'content-type': 'application/json' });
+      res.end(JSON.stringify(h) + '\n');
+      return true;
+    }
+    if (path === '/metrics') {
+      const text = await metrics.text();
+      res.writeHead(200, { 'content-type': metrics.contentType });
+      res.end(text);
+      return true;
+    }
+    return false;
+  };
+
+  const app = createBoltApp(config, settings, clientOptions, bot, log, ops);
+  intake.recordFirst(app);
+  // buttons and my desk read the log through its synchronous face: the SQLite file (a connection
+  // of their own); on PostgreSQL they have none yet and answer without the log
+  let syncLog: Store | null = null;
+  if (choice?.backend === 'sqlite') {
+    try {
+      syncLog = openStore(choice.path, { synchronous: 'normal' });
+    } catch (err) {
+      log.warn({ err: errText(err) }, 'the log is unavailable to buttons and my desk');
+    }
+  }
+  registerListeners({ app, intake, botUserId: bot.botUserId, store: syncLog, delivery: deps, log, budget: settings.computeBudget, forms: {} });
   app.error(async (err) => {
     log.error({ err: errText(err), code: (err as { code?: string }).code }, 'listener error');
   });
 
-  const port = await startListening(app, config, settings, log, engine.size);
-  // requests a previous process acknowledged but did not answer
-  intake.resumePending();
+  const { port, opsServer } = await startListening(app, config, settings, log, engine.size, ops, { store: counted?.backend ?? 'none', owner });
+
+  // requests recorded but not answered (by a previous run, or by instances that stopped) are
+  // claimed by the dispatcher like any other; say so once
+  if (counted && dispatcher) {
+    try {
+      const open = await counted.depth();
+      if (open > 0) log.info({ open }, 'picked up requests left by the previous run');
+      const pruned = await counted.prune(DEDUPE_WINDOW_MS);
+      if (pruned > 0) log.debug({ pruned }, 'forgot delivery keys older than the re-send window');
+    } catch (err) {
+      log.warn({ err: errText(err) }, 'the request queue could not be read; it is retried');
+    }
+    dispatcher.start();
+  }
 
   let stopped: Promise<void> | undefined;
   return {
@@ -134,16 +231,35 @@ export async function startChatApp(config: WorkspaceConfig, log: Log): Promise<C
     stop() {
       stopped ??= (async () => {
         intake.stop();
-        log.info({ inLine: queue.size }, 'stopping: no new requests; finishing answers in progress');
+        log.info({ running: dispatcher?.running ?? 0, inLine: intake.localSize }, 'stopping: no new requests; finishing answers in progress');
         await app.stop().catch(() => undefined);
-        const finished = await queue.drain(settings.shutdownGraceMs);
-        // what is still computing is handed back (its worker is stopped; the inbox keeps it)
+        const finished = (await dispatcher?.stop(settings.shutdownGraceMs)) ?? true;
+        const localDone = await intake.drainLocal(settings.shutdownGraceMs);
+        // what is still computing is handed back (its worker is stopped; the queue keeps it)
         await engine.close();
-        if (!finished) await queue.drain(5000);
+        if (!finished) await dispatcher?.stop(5000);
+        if (!localDone) await intake.drainLocal(5000);
+        dispatcher?.close();
+        let leftOpen: number | undefined;
+        try {
+          leftOpen = counted ? await counted.depth() : undefined;
+        } catch {
+          leftOpen = undefined;
+        }
         loopDelay.disable();
-        log.info({ ...intake.counts, loopDelayMs: loopDelayMs(loopDelay), rssMiB: Math.round(process.memoryUsage().rss / 1048576) }, 'stopped');
-        inbox.close();
-        store?.close();
+        log.info(
+          {
+            ...intake.counts,
+            // requests left in the queue for the other instances or the next start
+            handedBack: Math.max(intake.counts.handedBack, leftOpen ?? 0),
+            loopDelayMs: loopDelayMs(loopDelay),
+            rssMiB: Math.round(process.memoryUsage().rss / 1048576),
+          },
+          'stopped',
+        );
+        await new Promise<void>((r) => (opsServer ? opsServer.close(() => r()) : r()));
+        await counted?.close();
+        syncLog?.close();
       })();
       return stopped;
     },

@@ -14,7 +14,7 @@
  */
 import type { webApi } from '@slack/bolt';
 import type { Reply, Answer } from '../reply.js';
-import type { Store } from '../verbs/ask.js';
+import type { LogStore, Progress } from '../verbs/ask.js';
 import { scrub } from '../log.js';
 import { answerMessages, BLOCKS_PER_MESSAGE_MAX, escapeMrkdwn, monoNotice, plainNotice, rootMessage, SECTION_TEXT_MAX, type Block, type Message } from './blocks.js';
 
@@ -127,7 +127,7 @@ export function explainFailure(err: unknown, what: string): string {
 
 export interface DeliverDeps {
   client: WebClient;
-  store: Store | null;
+  store: LogStore | null;
   /** told about failures that could not even reach the asker */
   onLost?: (what: string, err: unknown) => void;
 }
@@ -194,10 +194,10 @@ export async function tellAsker(deps: DeliverDeps, origin: Origin, msgs: Message
   return all;
 }
 
-function record(deps: DeliverDeps, fn: (s: Store) => void, failures: string[]): void {
+async function record(deps: DeliverDeps, fn: (s: LogStore) => Promise<unknown>, failures: string[]): Promise<void> {
   if (!deps.store) return;
   try {
-    fn(deps.store);
+    await fn(deps.store);
   } catch (err) {
     failures.push(`the log could not record the delivery (${err instanceof Error ? err.message : String(err)})`);
   }
@@ -212,18 +212,34 @@ export async function deliver(
   origin: Origin,
   reply: Reply,
   chart: { png?: Uint8Array; note?: string } = {},
-  opts: { buttons?: (a: Answer) => Block | undefined } = {},
+  opts: {
+    buttons?: (a: Answer) => Block | undefined;
+    /** what an earlier attempt already posted (a request taken over after its instance died) */
+    progress?: Progress;
+    /** told after each part reaches the platform, before the next is sent */
+    onProgress?: (p: Progress) => Promise<unknown>;
+  } = {},
 ): Promise<Delivery> {
   const failures: string[] = [];
   const log = origin.log ?? origin.channel;
+  const done = opts.progress ?? {};
+  const mark = async (p: Progress) => {
+    try {
+      await opts.onProgress?.(p);
+    } catch {
+      /* a progress record lost costs at most a repeat after a take-over */
+    }
+  };
   if (reply.kind === 'rejected') {
-    await tellAsker(deps, origin, monoNotice(reply.message));
+    if (!done.answered) await tellAsker(deps, origin, monoNotice(reply.message));
+    await mark({ answered: true });
     return { outcome: 'rejected', failures };
   }
   const a: Answer = reply;
   const notes = [...a.warnings];
   if (a.ephemeral) {
-    await tellAsker(deps, origin, [...monoNotice(a.text, [a.caution, ...notes].filter(Boolean).join(' · ')), ...linkMessages(a.links)]);
+    if (!done.answered) await tellAsker(deps, origin, [...monoNotice(a.text, [a.caution, ...notes].filter(Boolean).join(' · ')), ...linkMessages(a.links)]);
+    await mark({ answered: true });
     return { outcome: 'ephemeral', failures };
   }
 
@@ -243,31 +259,44 @@ export async function deliver(
     return [...msgs.slice(0, -1), { ...last, blocks: [...last.blocks, b] }];
   };
   try {
-    if (origin.flat) {
+    if (done.answered) {
+      // an earlier attempt posted the answer; only what came after it is left
+      threadTs = done.rootTs ?? origin.threadTs;
+      anchorTs = done.rootTs;
+    } else if (origin.flat) {
       // the person's messages with the app: the headline first, then the answer, no thread
       const ts = await postAll(client, channel, origin.threadTs, withButtons([...answerMessages(a, a.headline.trim() ? rootMessage(origin.user, a.headline) : undefined), ...linkMessages(a.links)]));
       sent.push(...ts);
       anchorTs = ts[0];
       threadTs = origin.threadTs ?? anchorTs;
+      await mark({ answered: true, ...(anchorTs ? { rootTs: anchorTs } : {}) });
     } else if (a.headline.trim() === '') {
       // nothing for the channel root: the answer itself goes where it was asked
       const ts = await postAll(client, channel, origin.threadTs, withButtons([...answerMessages(a), ...linkMessages(a.links)]));
       sent.push(...ts);
       anchorTs = ts[0];
       threadTs = origin.threadTs ?? anchorTs;
+      await mark({ answered: true, ...(anchorTs ? { rootTs: anchorTs } : {}) });
     } else if (origin.threadTs) {
       threadTs = origin.threadTs;
       const ts = await postAll(client, channel, threadTs, withButtons([...answerMessages(a, rootMessage(origin.user, a.headline)), ...linkMessages(a.links)]));
       sent.push(...ts);
       anchorTs = ts[0];
+      await mark({ answered: true, ...(anchorTs ? { rootTs: anchorTs } : {}) });
     } else {
-      const rm = rootMessage(origin.user, a.headline);
-      const root = await client.chat.postMessage({ channel, text: rm.text, blocks: rm.blocks, unfurl_links: false, unfurl_media: false });
-      threadTs = String(root.ts ?? '');
+      if (done.rootTs) {
+        threadTs = done.rootTs;
+      } else {
+        const rm = rootMessage(origin.user, a.headline);
+        const root = await client.chat.postMessage({ channel, text: rm.text, blocks: rm.blocks, unfurl_links: false, unfurl_media: false });
+        threadTs = String(root.ts ?? '');
+        await mark({ rootTs: threadTs });
+      }
       sent.push(threadTs);
       anchorTs = threadTs;
       try {
         sent.push(...(await postAll(client, channel, threadTs, withButtons([...answerMessages(a), ...linkMessages(a.links)]))));
+        await mark({ answered: true });
       } catch (err) {
         // the root line is in the channel but the answer is not: say so in the thread if possible
         failures.push(explainFailure(err, 'the answer in the thread'));
@@ -277,8 +306,8 @@ export async function deliver(
   } catch (err) {
     const why = failures[0] ?? explainFailure(err, 'the answer');
     if (failures.length === 0) failures.push(why);
-    if (logNumber !== undefined) record(deps, (s) => s.setDelivery(log, logNumber, 'undelivered'), failures);
-    if (logNumber !== undefined && sent.length > 0) record(deps, (s) => s.setPosted(log, logNumber, { channel, ts: sent, files: [] }), failures);
+    if (logNumber !== undefined) await record(deps, (s) => s.setDelivery(log, logNumber, 'undelivered'), failures);
+    if (logNumber !== undefined && sent.length > 0) await record(deps, (s) => s.setPosted(log, logNumber, { channel, ts: sent, files: [] }), failures);
     // told once: the reason and the answer itself in one ephemeral message (more only if the
     // answer is longer than one message holds)
     await tellAsker(deps, origin, answerMessages(a, plainNotice(`${why}${logNumber !== undefined ? ` (The check is in the log as #${logNumber}.)` : ''}`)));
@@ -294,13 +323,15 @@ export async function deliver(
       permalink = null; // the link is a convenience; the thread is recorded without it
     }
     const ts = threadTs;
-    record(deps, (s) => s.setThread(log, logNumber, ts, permalink), failures);
+    await record(deps, (s) => s.setThread(log, logNumber, ts, permalink), failures);
     // recorded now, before the chart: a delete pressed meanwhile finds the messages
-    record(deps, (s) => s.setPosted(log, logNumber, { channel, ts: sent, files: [] }), failures);
+    await record(deps, (s) => s.setPosted(log, logNumber, { channel, ts: sent, files: [] }), failures);
   }
 
   let outcome: Outcome = 'answered';
-  if (chart.png) {
+  if (chart.png && done.chart) {
+    // uploaded by an earlier attempt
+  } else if (chart.png && threadTs) {
     try {
       const up = await client.files.uploadV2({
         channel_id: channel,
@@ -311,6 +342,7 @@ export async function deliver(
         alt_text: a.headline || 'Kolmo chart',
       });
       files.push(...fileIdsOf(up));
+      await mark({ chart: true });
     } catch (err) {
       outcome = 'answered-no-chart';
       const why = explainFailure(err, 'the chart');
@@ -322,14 +354,14 @@ export async function deliver(
     notes.push(`The chart was not drawn: ${chart.note}. The text answer is in the thread.`);
   }
   if (logNumber !== undefined) {
-    record(deps, (s) => s.setDelivery(log, logNumber, 'delivered'), failures);
-    record(deps, (s) => s.setPosted(log, logNumber, { channel, ts: sent, files }), failures);
+    await record(deps, (s) => s.setDelivery(log, logNumber, 'delivered'), failures);
+    await record(deps, (s) => s.setPosted(log, logNumber, { channel, ts: sent, files }), failures);
     // deleted while the chart was on its way: the chart goes too
     let gone = false;
-    record(
+    await record(
       deps,
-      (s) => {
-        gone = !!s.get(log, logNumber)?.deletedAt;
+      async (s) => {
+        gone = !!(await s.get(log, logNumber))?.deletedAt;
       },
       failures,
     );

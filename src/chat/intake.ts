@@ -1,64 +1,54 @@
 /**
- * What happens to a request once a listener has acknowledged it:
- *   1. the inbox (inbox.ts) records it under its delivery key — a key seen before is a re-sent
- *      delivery, acknowledged but not answered again (`admit`);
- *   2. the asker's rate limit (ratelimit.ts) and the bound on requests in line (queue.ts) may turn
- *      it away, with a polite ephemeral notice (`submit`);
- *   3. per channel in arrival order, shared files are read, the engine and the chart run in a
- *      worker process (pool.ts) within the compute budget, then the reply is delivered
- *      (deliver.ts) (`answer`);
- *   4. the inbox marks it finished.
- * While the app stops, requests still in line are handed back: they stay in a persistent inbox
- * and the next start answers them (`resumePending`).
+ * The request intake: what happens to a `/kolmo` command or an @-mention between the platform and
+ * the reply, on one instance or several sharing one store.
  *
- * One log line per request: channel, user, verb, duration, outcome; the request text only at
- * debug level.
+ *   1. before Bolt acknowledges it (`recordFirst` wraps the app's processEvent), the request is
+ *      recorded in the store's request queue under its delivery key, after the asker's rate
+ *      bucket (shared by all instances) and the bound on the line; a key seen before is a re-sent
+ *      delivery, acknowledged but not answered again, whichever instance got it first;
+ *   2. the listener acknowledges it and calls `after`, which wakes the dispatcher (or turns the
+ *      request away politely, or answers it from memory when the store could not record it);
+ *   3. the dispatcher of any instance claims it (`handle`): files shared with a `history` mention,
+ *      the engine in a worker, the delivery (each posted part recorded, so a take-over posts only
+ *      the rest), then the request is marked done;
+ *   4. one log line per request: channel, user, verb, duration, outcome.
+ * Without a store (the SQLite file cannot be opened) or when it fails mid-run, requests are
+ * answered from memory (queue.ts, ratelimit.ts, an in-memory inbox) and flagged "Not logged".
  */
-import type { ChatSettings } from '../config.js';
 import type { Log } from '../log.js';
-import { verbOfText } from '../verbs/ask.js';
+import { verbOfText, StoreError, type AsyncStore, type ClaimedRequest, type Progress, type QueuedRequest, type RateDecision } from '../verbs/ask.js';
+import type { ChatSettings } from '../config.js';
 import { plainNotice } from './blocks.js';
 import { buttonsFor } from './actions/buttons.js';
 import { privateLog } from './interactive.js';
 import { deliver, tellAsker, type DeliverDeps, type Origin, type Outcome } from './deliver.js';
-import { downloadFile, type FileRef } from './files.js';
-import type { Inbox, InboxEntry } from './inbox.js';
+import type { Claim, Dispatcher } from './dispatch.js';
+import { downloadFile, fileRefsOf } from './files.js';
+import { MAX_ATTEMPTS, MemoryInbox, RESUME_WINDOW_MS } from './inbox.js';
+import { commandKey, COMMAND } from './listeners/commands.js';
+import { eventKey, stripMention } from './listeners/events.js';
+import type { Metrics } from './metrics.js';
+import type { BoltApp, WorkspaceConfig } from './platform.js';
 import { EngineError, type Engine } from './pool.js';
-import type { ChannelQueue } from './queue.js';
-import type { UserRateLimit } from './ratelimit.js';
+import { ChannelQueue } from './queue.js';
+import { USER_RATE_DEFAULTS, UserRateLimit } from './ratelimit.js';
 import { responder } from './response-url.js';
-import type { WorkspaceConfig } from './platform.js';
 
 /** The verb a request text starts with, for the log line (the engine decides what it means). */
 export const verbOf = verbOfText;
 
-export interface IntakeDeps {
-  config: WorkspaceConfig;
-  settings: ChatSettings;
-  log: Log;
-  inbox: Inbox;
-  engine: Engine;
-  queue: ChannelQueue;
-  limiter: UserRateLimit;
-  delivery: DeliverDeps;
-  /** an error's text, scrubbed of secrets */
-  errText: (err: unknown) => string;
-}
-
-/** One acknowledged request. */
+/** A request from the interactive listeners (buttons, the check form, my desk). */
 export interface Incoming {
   origin: Origin;
   text: string;
   /** performance.now() when it arrived */
   t0: number;
-  /** its delivery key in the inbox */
+  /** its delivery key */
   key: string;
   /** ISO time it arrived: the request's "today" */
   now: string;
-  /** left by the previous run and taken up again */
-  resumed?: boolean;
   /** files shared with it (a `history` mention) */
-  fileRefs?: FileRef[];
+  fileRefs?: { name: string; url: string; size?: number }[];
   /** a button's variation (or an edit) of this check of the same log */
   variedFrom?: number;
   /** a line before the answer: what the button or the form did, and the request typed out */
@@ -70,198 +60,339 @@ export interface RetryInfo {
   retryReason?: string;
 }
 
-export class Intake {
-  readonly counts = { accepted: 0, duplicate: 0, rateLimited: 0, busy: 0, handedBack: 0, resumed: 0 };
-  private stopping = false;
+export interface IntakeDeps {
+  config: WorkspaceConfig;
+  settings: ChatSettings;
+  log: Log;
+  /** the instance's store (counted in the metrics), or null: answered from memory */
+  store: AsyncStore | null;
+  engine: Engine;
+  deps: DeliverDeps;
+  metrics: Metrics;
+  botUserId: string | undefined;
+  errText: (err: unknown) => string;
+}
 
-  constructor(private readonly d: IntakeDeps) {}
+export type Intake = ReturnType<typeof createIntake>;
 
-  /** No new work from now on: what is still in line is handed back. */
-  stop(): void {
-    this.stopping = true;
-  }
+export function createIntake(d: IntakeDeps) {
+  const { config, settings, log, engine, deps, metrics, botUserId, errText } = d;
+  const counted = d.store;
+  let dispatcher: Dispatcher | null = null;
+  const local = new ChannelQueue(config.queueLimit);
+  const localInbox = new MemoryInbox();
+  const limiter = new UserRateLimit({ ...USER_RATE_DEFAULTS, ...settings.userRate });
+  let stopping = false;
+  const counts = { accepted: 0, duplicate: 0, rateLimited: 0, busy: 0, handedBack: 0, resumed: 0, local: 0 };
+  const line = (r: Pick<QueuedRequest, 'channel' | 'user' | 'source'>, extra: Record<string, unknown> = {}) => ({ channel: r.channel, user: r.user, source: r.source, ...extra });
+  const originOf = (r: QueuedRequest): Origin => {
+    const respond = responder(r.responseUrl);
+    // a request written to the app in the person's messages with it: answered there, in their private log
+    const dm = /^D/.test(r.channel);
+    return {
+      source: r.source,
+      channel: r.channel,
+      user: r.user,
+      ...(dm ? { log: privateLog(r.user), flat: true } : {}),
+      ...(r.threadTs ? { threadTs: r.threadTs } : {}),
+      ...(respond ? { respond } : {}),
+    };
+  };
 
-  /** Records a delivery in the inbox; false when it is a re-sent one (already answered or in line). */
-  admit(e: Omit<InboxEntry, 'attempts'>, retry: RetryInfo): boolean {
-    let fresh: boolean;
-    try {
-      fresh = this.d.inbox.accept(e);
-    } catch (err) {
-      // an inbox that cannot be written must not cost the answer
-      this.d.log.warn({ err: this.d.errText(err) }, 'the inbox could not record a request');
-      fresh = true;
-    }
-    if (fresh) this.counts.accepted++;
-    else {
-      this.counts.duplicate++;
-      this.d.log.info(
-        { channel: e.channel, user: e.user, source: e.source, outcome: 'duplicate', retryNum: retry.retryNum, retryReason: retry.retryReason },
-        'request',
-      );
-    }
-    return fresh;
-  }
-
-  /** Puts an admitted request in its channel's line, unless the asker's rate limit or the bound on the line turns it away. */
-  submit(req: Incoming): void {
-    const { d } = this;
-    const r: Incoming = { ...req, text: req.text.trim() === '' ? 'help' : req.text };
-    const { origin, text, t0, key } = r;
-    const line = this.lineOf(r);
-    d.log.debug({ ...line, text }, 'request text');
-    if (!r.resumed) {
-      const rate = d.limiter.take(origin.user);
-      if (!rate.ok) {
-        this.counts.rateLimited++;
-        d.inbox.finish(key);
-        d.log.info({ ...line, verb: verbOf(text), outcome: 'rate-limited', notified: rate.notify, ms: Math.round(performance.now() - t0) }, 'request');
-        if (rate.notify) {
-          void tellAsker(d.delivery, origin, [
-            plainNotice(
-              `You are sending Kolmo requests faster than it answers one person (${d.settings.userRate.burst} at once, ${d.settings.userRate.perMinute} a minute); ` +
-                `this one and any more in the next few seconds were not answered. Try again in ${rate.retryInSeconds} s.`,
-            ),
-          ]).catch(() => false);
-        }
-        return;
-      }
-    }
-    const accepted = d.queue.offer(origin.channel, () => this.answer(r));
-    if (!accepted) {
-      this.counts.busy++;
-      d.inbox.finish(key);
-      d.log.info({ ...line, verb: verbOf(text), outcome: 'busy', ms: Math.round(performance.now() - t0) }, 'request');
-      void tellAsker(d.delivery, origin, [
-        plainNotice(`Kolmo is busy (${d.queue.size} requests in line); nothing was posted. Try again in a minute.`),
-      ]).catch(() => false);
-    }
-  }
-
-  /** Requests a previous process acknowledged but did not answer: resumed, or (too old) the asker is told. */
-  resumePending(): void {
-    const { d } = this;
-    try {
-      const { resume, expired } = d.inbox.takePending();
-      for (const e of expired) {
-        const origin: Origin = { source: e.source, channel: e.channel, user: e.user, ...(e.threadTs ? { threadTs: e.threadTs } : {}) };
-        d.inbox.finish(e.key);
-        d.log.info({ channel: e.channel, user: e.user, source: e.source, outcome: 'expired', attempts: e.attempts }, 'request');
-        void tellAsker(d.delivery, origin, [
-          plainNotice(
-            `Kolmo was restarted while your request from ${e.now.slice(0, 16).replace('T', ' ')} UTC was in line and could not answer it${e.attempts > 2 ? ' (it stopped twice while working on it)' : ''}; nothing was posted. Ask again if you still need it.`,
-          ),
-        ]).catch(() => false);
-      }
-      for (const e of resume) {
-        this.counts.resumed++;
-        const respond = responder(e.responseUrl);
-        // a request written to the app in the person's messages with it: answered there, in their private log
-        const dm = /^D/.test(e.channel);
-        const origin: Origin = {
-          source: e.source,
-          channel: e.channel,
-          user: e.user,
-          ...(dm ? { log: privateLog(e.user), flat: true } : {}),
-          ...(e.threadTs ? { threadTs: e.threadTs } : {}),
-          ...(respond ? { respond } : {}),
-        };
-        this.submit({ origin, text: e.text, t0: performance.now(), key: e.key, now: e.now, resumed: true });
-      }
-      if (resume.length + expired.length > 0) d.log.info({ resumed: resume.length, expired: expired.length }, 'picked up requests left by the previous run');
-    } catch (err) {
-      d.log.warn({ err: d.errText(err) }, 'the inbox could not be read; unanswered requests of the previous run are not resumed');
-    }
-  }
-
-  private lineOf(r: Incoming) {
-    return { channel: r.origin.channel, user: r.origin.user, source: r.origin.source, ...(r.resumed ? { resumed: true } : {}) };
-  }
-
-  /** The request's turn in its channel's line: files, engine, delivery, and the log line. */
-  private async answer(r: Incoming): Promise<void> {
-    const { d } = this;
-    const { origin, text, t0, key } = r;
-    const line = this.lineOf(r);
-    if (this.stopping) {
-      const outcome = await this.handBack(origin, key);
-      d.log.info({ ...line, verb: verbOf(text), outcome, ms: Math.round(performance.now() - t0) }, 'request');
-      return;
-    }
-    let outcome: Outcome | 'error' | 'handed-back' | 'dropped' = 'error';
+  /** The engine, then the delivery; the outcome for the log line and the metrics. */
+  const answer = async (
+    r: QueuedRequest,
+    resumed: boolean,
+    resume: { progress?: Progress; onProgress?: (p: Progress) => Promise<unknown> } = {},
+    extra: { origin?: Origin; variedFrom?: number; preface?: string } = {},
+  ): Promise<{ outcome: Outcome | 'error' | 'closed' | 'file-unreadable'; verb: string; computeMs?: number; logNumber?: number; failures: number }> => {
+    const origin = extra.origin ?? originOf(r);
+    const text = r.text.trim() === '' ? 'help' : r.text;
     let verb = verbOf(text);
-    let computeMs: number | undefined;
-    let logNumber: number | undefined;
-    let failures = 0;
+    // files shared with a `history` mention: downloaded by the instance that answers
+    let files: { name: string; base64: string }[] | undefined;
+    if (r.files?.length) {
+      try {
+        files = await Promise.all(r.files.map((f) => downloadFile(f, config.botToken, config.apiUrl)));
+      } catch (err) {
+        await tellAsker(deps, origin, [plainNotice(`Kolmo could not read the file shared with this request: ${errText(err)}. Nothing was posted.`)]).catch(() => false);
+        return { outcome: 'file-unreadable', verb, failures: 0 };
+      }
+    }
     try {
-      const files = await this.readFiles(r);
-      if (files === null) return;
-      const result = await d.engine.run({
+      const result = await engine.run({
         text,
         channel: origin.log ?? origin.channel,
-        user: origin.user,
+        user: r.user,
         now: r.now,
-        budget: d.settings.computeBudget,
+        budget: settings.computeBudget,
         defaults: true,
-        ...(r.variedFrom !== undefined ? { variedFrom: r.variedFrom } : {}),
-        ...(r.preface ? { preface: r.preface } : {}),
-        ...(r.resumed ? { resumed: r.resumed } : {}),
+        ...(extra.variedFrom !== undefined ? { variedFrom: extra.variedFrom } : {}),
+        ...(extra.preface ? { preface: extra.preface } : {}),
+        ...(resumed ? { resumed } : {}),
         ...(files ? { files } : {}),
       });
-      computeMs = Math.round(result.ms);
+      let logNumber: number | undefined;
       if (result.reply.kind === 'answer') {
         verb = result.reply.verb;
         logNumber = result.reply.logNumber;
       }
-      const dl = await deliver(d.delivery, origin, result.reply, { png: result.png, note: result.chartNote }, { buttons: (a) => buttonsFor(a, origin) });
-      outcome = dl.outcome;
-      failures = dl.failures.length;
-      d.inbox.finish(key);
+      const d = await deliver(deps, origin, result.reply, { png: result.png, note: result.chartNote }, { buttons: (a) => buttonsFor(a, origin), ...resume });
+      return { outcome: d.outcome, verb, computeMs: Math.round(result.ms), logNumber, failures: d.failures.length };
     } catch (err) {
-      if (this.stopping && err instanceof EngineError && err.reason === 'closed') {
-        outcome = await this.handBack(origin, key);
-      } else {
-        const why =
-          err instanceof EngineError && err.reason === 'timeout'
-            ? `Kolmo stopped working on this request: it needed more than the ${d.config.taskTimeoutSeconds} s of computing one request may use. Nothing was posted. Try fewer legs or comparison parts.`
-            : err instanceof EngineError && err.reason === 'overloaded'
-              ? 'Kolmo is too busy to answer this request in time; nothing was posted. Try again in a minute.'
-              : 'Kolmo hit an internal problem with this request; nothing was posted. Try again.';
-        d.log.error({ ...line, err: d.errText(err) }, 'request failed');
-        await tellAsker(d.delivery, origin, [plainNotice(why)]).catch(() => false);
-        d.inbox.finish(key);
+      if (stopping && err instanceof EngineError && err.reason === 'closed') return { outcome: 'closed', verb, failures: 0 };
+      const why =
+        err instanceof EngineError && err.reason === 'timeout'
+          ? `Kolmo stopped working on this request: it needed more than the ${config.taskTimeoutSeconds} s of computing one request may use. Nothing was posted. Try fewer legs or comparison parts.`
+          : err instanceof EngineError && err.reason === 'overloaded'
+            ? 'Kolmo is too busy to answer this request in time; nothing was posted. Try again in a minute.'
+            : 'Kolmo hit an internal problem with this request; nothing was posted. Try again.';
+      log.error({ ...line(r), err: errText(err) }, 'request failed');
+      await tellAsker(deps, origin, [plainNotice(why)]).catch(() => false);
+      return { outcome: 'error', verb, failures: 0 };
+    }
+  };
+
+  /** One claimed request, from whichever instance recorded it. */
+  const handle = async (claim: Claim): Promise<void> => {
+    const r: ClaimedRequest = claim.request;
+    const resumed = r.attempts > 1;
+    const extra = { ...(resumed ? { attempt: r.attempts } : {}) };
+    if (resumed) {
+      counts.resumed++;
+      metrics.takeovers.inc();
+    }
+    if (r.attempts > MAX_ATTEMPTS || Date.now() - r.receivedMs > RESUME_WINDOW_MS) {
+      // a request that keeps stopping its instance, or one too old to be worth answering now
+      if (!r.progress.answered) {
+        await tellAsker(deps, originOf(r), [
+          plainNotice(
+            `Kolmo was restarted while your request from ${r.now.slice(0, 16).replace('T', ' ')} UTC was in line and could not answer it${r.attempts > MAX_ATTEMPTS ? ' (it stopped twice while working on it)' : ''}; nothing was posted. Ask again if you still need it.`,
+          ),
+        ]).catch(() => false);
       }
+      await claim.finish();
+      metrics.requests.inc({ verb: verbOf(r.text), outcome: 'expired' });
+      log.info(line(r, { ...extra, outcome: 'expired', attempts: r.attempts }), 'request');
+      return;
     }
-    d.log.info({ ...line, verb, outcome, ms: Math.round(performance.now() - t0), computeMs, logNumber, failures }, 'request');
-  }
+    if (stopping) {
+      await claim.release();
+      counts.handedBack++;
+      return;
+    }
+    const got = await answer(r, resumed, { progress: r.progress, onProgress: (p) => claim.progress(p) });
+    if (got.outcome === 'closed') {
+      await claim.release();
+      counts.handedBack++;
+      log.info(line(r, { ...extra, verb: got.verb, outcome: 'handed-back' }), 'request');
+      return;
+    }
+    await claim.finish();
+    metrics.requests.inc({ verb: got.verb, outcome: got.outcome });
+    metrics.answer.observe({ verb: got.verb }, Math.max(0, Date.now() - r.receivedMs) / 1000);
+    log.info(
+      line(r, { ...extra, verb: got.verb, outcome: got.outcome, ms: Math.max(0, Date.now() - r.receivedMs), computeMs: got.computeMs, logNumber: got.logNumber, failures: got.failures }),
+      'request',
+    );
+  };
 
-  /**
-   * Files shared with a `history` mention, downloaded in the channel's turn: undefined when there
-   * are none, null when they could not be read (the asker has been told and the request is finished).
-   */
-  private async readFiles(r: Incoming): Promise<{ name: string; base64: string }[] | undefined | null> {
-    const { d } = this;
-    const refs = r.fileRefs ?? [];
-    if (refs.length === 0) return undefined;
+
+  /** The in-memory path (no store, or the store failed at the moment the request came). */
+  const answerLocally = (r: QueuedRequest, t0: number): void => {
+    counts.local++;
+    if (!localInbox.accept(r.key)) {
+      counts.duplicate++;
+      metrics.requests.inc({ verb: verbOf(r.text), outcome: 'duplicate' });
+      log.info(line(r, { outcome: 'duplicate' }), 'request');
+      return;
+    }
+    const rate = limiter.take(r.user);
+    if (!rate.ok) {
+      turnAway(r, { kind: 'rate', rate }, t0);
+      return;
+    }
+    const accepted = local.offer(r.channel, async () => {
+      if (stopping) {
+        await tellAsker(deps, originOf(r), [plainNotice('Kolmo is restarting and could not answer this request; nothing was posted. Ask again in a minute.')]).catch(() => false);
+        log.info(line(r, { outcome: 'dropped' }), 'request');
+        return;
+      }
+      const got = await answer(r, false);
+      metrics.requests.inc({ verb: got.verb, outcome: got.outcome === 'closed' ? 'dropped' : got.outcome });
+      metrics.answer.observe({ verb: got.verb }, (performance.now() - t0) / 1000);
+      log.info(line(r, { verb: got.verb, outcome: got.outcome, ms: Math.round(performance.now() - t0), computeMs: got.computeMs, logNumber: got.logNumber, failures: got.failures, unrecorded: true }), 'request');
+    });
+    if (!accepted) turnAway(r, { kind: 'busy', depth: local.size }, t0);
+  };
+
+  const turnAway = (r: QueuedRequest, why: { kind: 'rate'; rate: Extract<RateDecision, { ok: false }> } | { kind: 'busy'; depth: number }, t0: number): void => {
+    const verb = verbOf(r.text);
+    if (why.kind === 'rate') {
+      counts.rateLimited++;
+      metrics.requests.inc({ verb, outcome: 'rate-limited' });
+      log.info(line(r, { verb, outcome: 'rate-limited', notified: why.rate.notify, ms: Math.round(performance.now() - t0) }), 'request');
+      if (why.rate.notify) {
+        void tellAsker(deps, originOf(r), [
+          plainNotice(
+            `You are sending Kolmo requests faster than it answers one person (${settings.userRate.burst} at once, ${settings.userRate.perMinute} a minute); ` +
+              `this one and any more in the next few seconds were not answered. Try again in ${why.rate.retryInSeconds} s.`,
+          ),
+        ]).catch(() => false);
+      }
+      return;
+    }
+    counts.busy++;
+    metrics.requests.inc({ verb, outcome: 'busy' });
+    log.info(line(r, { verb, outcome: 'busy', ms: Math.round(performance.now() - t0) }), 'request');
+    void tellAsker(deps, originOf(r), [plainNotice(`Kolmo is busy (${why.depth} requests in line); nothing was posted. Try again in a minute.`)]).catch(() => false);
+  };
+
+  // ---- record first, then acknowledge ------------------------------------------------------
+
+  type Intake =
+    | { kind: 'queued' }
+    | { kind: 'duplicate' }
+    | { kind: 'rate'; rate: Extract<RateDecision, { ok: false }> }
+    | { kind: 'busy'; depth: number }
+    | { kind: 'local' };
+  const intake = new WeakMap<object, { r: QueuedRequest; got: Intake; t0: number }>();
+
+  /** The request a delivery carries (a /kolmo command or an app mention), or null for anything else. */
+  const requestOf = (body: Record<string, unknown>): QueuedRequest | null => {
+    const now = new Date().toISOString();
+    if (body.command === COMMAND && typeof body.channel_id === 'string' && typeof body.user_id === 'string') {
+      const text = typeof body.text === 'string' ? body.text : '';
+      // `/kolmo` alone opens the check form (registerCommands): nothing to record
+      if (text.trim() === '' && typeof body.trigger_id === 'string' && body.trigger_id) return null;
+      const responseUrl = typeof body.response_url === 'string' && body.response_url ? body.response_url : undefined;
+      const key = commandKey(typeof body.trigger_id === 'string' ? body.trigger_id : undefined, responseUrl, `${body.channel_id}\n${body.user_id}\n${text}\n${now}`);
+      return { key, source: 'command', channel: body.channel_id, user: body.user_id, ...(responseUrl ? { responseUrl } : {}), text, now };
+    }
+    const ev = body.event as { type?: string; user?: string; channel?: string; text?: string; ts?: string; thread_ts?: string } | undefined;
+    if (body.type === 'event_callback' && ev?.type === 'app_mention' && ev.user && ev.channel) {
+      const key = eventKey(typeof body.event_id === 'string' ? body.event_id : undefined, `${ev.channel}\n${ev.ts}`);
+      const text = stripMention(ev.text ?? '', botUserId);
+      // only a `history` request reads the files attached to its message
+      const files = verbOf(text) === 'history' ? fileRefsOf((ev as { files?: unknown }).files) : [];
+      return { key, source: 'mention', channel: ev.channel, user: ev.user, ...(ev.thread_ts ? { threadTs: ev.thread_ts } : {}), text, now, ...(files.length ? { files } : {}) };
+    }
+    return null;
+  };
+
+  /** Records the request in the shared queue (the rate limit and the bound on the line first). */
+  const admit = async (r: QueuedRequest): Promise<Intake> => {
+    if (!counted || stopping) return { kind: 'local' };
     try {
-      return await Promise.all(refs.map((f) => downloadFile(f, d.config.botToken, d.config.apiUrl)));
+      const rate = await counted.take(r.user, { ...USER_RATE_DEFAULTS, ...settings.userRate });
+      const depth = rate.ok ? await counted.depth() : 0;
+      const busy = rate.ok && depth >= config.queueLimit;
+      const fresh = await counted.accept(r, !rate.ok || busy);
+      if (!fresh) return { kind: 'duplicate' };
+      if (!rate.ok) return { kind: 'rate', rate };
+      if (busy) return { kind: 'busy', depth };
+      return { kind: 'queued' };
     } catch (err) {
-      const why = d.errText(err);
-      d.log.info({ ...this.lineOf(r), verb: verbOf(r.text), outcome: 'file-unreadable', ms: Math.round(performance.now() - r.t0) }, 'request');
-      await tellAsker(d.delivery, r.origin, [plainNotice(`Kolmo could not read the file shared with this request: ${why}. Nothing was posted.`)]).catch(() => false);
-      d.inbox.finish(r.key);
-      return null;
+      if (!(err instanceof StoreError)) throw err;
+      log.warn({ err: errText(err) }, 'the request could not be recorded; answering it from memory, without the log');
+      return { kind: 'local' };
     }
-  }
+  };
+
+  /** Records every request before Bolt sees it (and so before any acknowledgement). */
+  const recordFirst = (app: BoltApp): void => {
+    const processEvent = app.processEvent.bind(app);
+    app.processEvent = async (event) => {
+      const t0 = performance.now();
+      const body = event.body as Record<string, unknown>;
+      const r = body && typeof body === 'object' ? requestOf(body) : null;
+      if (r) intake.set(body, { r, got: await admit(r), t0 });
+      return processEvent(event);
+    };
+  };
+
+  const after = (body: unknown, retry: { retryNum?: number; retryReason?: string }): void => {
+    const it = body && typeof body === 'object' ? intake.get(body) : undefined;
+    if (!it) return;
+    const { r, got, t0 } = it;
+    metrics.ack.observe((performance.now() - t0) / 1000);
+    log.debug({ ...line(r), text: r.text }, 'request text');
+    switch (got.kind) {
+      case 'queued':
+        counts.accepted++;
+        dispatcher?.wake();
+        return;
+      case 'duplicate':
+        counts.duplicate++;
+        metrics.requests.inc({ verb: verbOf(r.text), outcome: 'duplicate' });
+        log.info(line(r, { outcome: 'duplicate', retryNum: retry.retryNum, retryReason: retry.retryReason }), 'request');
+        return;
+      case 'rate':
+      case 'busy':
+        turnAway(r, got, t0);
+        return;
+      case 'local':
+        answerLocally(r, t0);
+        return;
+    }
+  };
+
 
   /**
-   * Left for the next start: the request stays open in a persistent inbox. Without one the asker
-   * is told now (nothing would ever answer it otherwise).
+   * The interactive listeners' way in (buttons, the check form, my desk): a delivery key seen
+   * before in this process is a re-sent one. Their requests are answered from memory (the
+   * in-process line), not through the shared queue.
    */
-  private async handBack(origin: Origin, key: string): Promise<'handed-back' | 'dropped'> {
-    this.counts.handedBack++;
-    if (this.d.inbox.persistent) return 'handed-back';
-    await tellAsker(this.d.delivery, origin, [plainNotice('Kolmo is restarting and could not answer this request; nothing was posted. Ask again in a minute.')]).catch(() => false);
-    this.d.inbox.finish(key);
-    return 'dropped';
-  }
+  const admitLocal = (e: { key: string; channel: string; user: string; source: string }, retry: RetryInfo): boolean => {
+    if (localInbox.accept(e.key)) return true;
+    counts.duplicate++;
+    metrics.requests.inc({ verb: 'unknown', outcome: 'duplicate' });
+    log.info({ channel: e.channel, user: e.user, source: e.source, outcome: 'duplicate', retryNum: retry.retryNum, retryReason: retry.retryReason }, 'request');
+    return false;
+  };
+
+  const submit = (req: Incoming): void => {
+    const r: QueuedRequest = {
+      key: req.key,
+      source: req.origin.source === 'mention' ? 'mention' : 'command',
+      channel: req.origin.channel,
+      user: req.origin.user,
+      ...(req.origin.threadTs ? { threadTs: req.origin.threadTs } : {}),
+      text: req.text,
+      now: req.now,
+      ...(req.fileRefs?.length ? { files: req.fileRefs } : {}),
+    };
+    const extra = { origin: req.origin, ...(req.variedFrom !== undefined ? { variedFrom: req.variedFrom } : {}), ...(req.preface ? { preface: req.preface } : {}) };
+    const accepted = local.offer(r.channel, async () => {
+      const got = await answer(r, false, {}, extra);
+      metrics.requests.inc({ verb: got.verb, outcome: got.outcome === 'closed' ? 'dropped' : got.outcome });
+      log.info(line(r, { verb: got.verb, outcome: got.outcome, ms: Math.round(performance.now() - req.t0), computeMs: got.computeMs, logNumber: got.logNumber, failures: got.failures }), 'request');
+    });
+    if (!accepted) turnAway(r, { kind: 'busy', depth: local.size }, req.t0);
+  };
+
+  return {
+    counts,
+    admit: admitLocal,
+    submit,
+    recordFirst,
+    after,
+    handle,
+    /** the dispatcher that claims for this instance (set once it exists) */
+    useDispatcher(x: Dispatcher) {
+      dispatcher = x;
+    },
+    /** no new requests are taken (shutdown) */
+    stop() {
+      stopping = true;
+    },
+    get stopping() {
+      return stopping;
+    },
+    /** requests running or waiting on the in-memory path */
+    get localSize() {
+      return local.size;
+    },
+    drainLocal: (ms: number) => local.drain(ms),
+  };
 }

@@ -17,7 +17,6 @@ import type { ModalView } from '@slack/types';
 import { termsOfMark, type LogEntry, type MarkTerms, type Store } from '../verbs/ask.js';
 import { plainNotice } from './blocks.js';
 import { tellAsker, type Origin } from './deliver.js';
-import type { InboxEntry } from './inbox.js';
 import type { RetryInfo } from './intake.js';
 import type { ListenerContext } from './listeners/context.js';
 import { DELETE_ACTION, EDIT_ACTION, POST_ACTION, POST_CALLBACK, parseCheckKey, postToChannelView, VARY_ACTIONS } from './actions/buttons.js';
@@ -84,7 +83,7 @@ export function registerInteractive(ctx: ListenerContext): void {
   const env = {
     deps: ctx.delivery,
     budget: ctx.budget,
-    admit: (e: Omit<InboxEntry, 'attempts'>, retry: RetryInfo) => intake.admit(e, retry),
+    admit: (e: { key: string; channel: string; user: string; source: string; text?: string; now?: string }, retry: RetryInfo) => intake.admit(e, retry),
     submit: (origin: Origin, text: string, t0: number, key: string, now: string, _resumed = false, extra: { variedFrom?: number; preface?: string } = {}) =>
       intake.submit({ origin, text, t0, key, now, ...extra }),
   };
@@ -191,6 +190,18 @@ export function registerInteractive(ctx: ListenerContext): void {
   const missing = (p: Press, number: number | undefined) =>
     notice(originFor(p, p.threadTs), number === undefined ? 'Kolmo could not tell which check this button belongs to.' : `Check #${number} is not in this conversation’s log (it may have been deleted).`);
 
+  /** The logged check a button under it was pressed for; undefined (the asker told why) when it is gone. */
+  const pressedEntry = async (body: unknown): Promise<{ p: Press; e: LogEntry; logKey: string } | undefined> => {
+    const p = pressOf(body as Record<string, unknown>);
+    if (!p) return undefined;
+    const found = entryFor(p.channel, p.user, p.value);
+    if (!found?.entry) {
+      await missing(p, found?.number);
+      return undefined;
+    }
+    return { p, e: found.entry, logKey: found.log };
+  };
+
   for (const kind of Object.keys(VARY_ACTIONS) as Variation[]) {
     app.action(VARY_ACTIONS[kind], async ({ ack, body }) => {
       await ack();
@@ -219,22 +230,18 @@ export function registerInteractive(ctx: ListenerContext): void {
 
   app.action(EDIT_ACTION, async ({ ack, body }) => {
     await ack();
-    const p = pressOf(body as unknown as Record<string, unknown>);
-    if (!p) return;
-    const found = entryFor(p.channel, p.user, p.value);
-    if (!found?.entry) return missing(p, found?.number);
-    const e = found.entry;
+    const pressed = await pressedEntry(body);
+    if (!pressed) return;
+    const { p, e } = pressed;
     const meta: FormMeta = { legs: 2, of: e.number, channel: p.channel, ...(e.threadTs && !/^D/.test(p.channel) ? { thread: e.threadTs } : {}) };
     if (!(await openForm(p.triggerId, meta, e))) await notice(originFor(p, p.threadTs), 'Kolmo could not open the check form (the button press expired). Press it again.');
   });
 
   app.action(DELETE_ACTION, async ({ ack, body }) => {
     await ack();
-    const p = pressOf(body as unknown as Record<string, unknown>);
-    if (!p) return;
-    const found = entryFor(p.channel, p.user, p.value);
-    if (!found?.entry) return missing(p, found?.number);
-    const e = found.entry;
+    const pressed = await pressedEntry(body);
+    if (!pressed) return;
+    const { p, e, logKey } = pressed;
     const origin = originFor(p, e.threadTs ?? p.threadTs);
     if (e.user !== p.user) {
       log.info({ channel: p.channel, user: p.user, number: e.number, outcome: 'refused' }, 'delete');
@@ -262,7 +269,7 @@ export function registerInteractive(ctx: ListenerContext): void {
     }
     let done = false;
     try {
-      done = store?.tombstone(found.log, e.number, new Date().toISOString()) ?? false;
+      done = store?.tombstone(logKey, e.number, new Date().toISOString()) ?? false;
     } catch (err) {
       log.warn({ err: String(err) }, 'the log could not record a deletion');
     }

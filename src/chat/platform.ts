@@ -3,7 +3,7 @@
  * the bot's identity, the Bolt app over HTTP or Socket Mode, and the HTTP server's guards.
  * Nothing here knows what a request means; listeners/ and intake.ts do.
  */
-import type { IncomingMessage, Server, ServerResponse } from 'node:http';
+import { createServer, type IncomingMessage, type Server, type ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import bolt from '@slack/bolt';
 import type { App as BoltApp, webApi } from '@slack/bolt';
@@ -68,7 +68,10 @@ export async function identifyBot(config: WorkspaceConfig, clientOptions: WebCli
 }
 
 /** The Bolt app in the configured mode (not yet started). */
-export function createBoltApp(config: WorkspaceConfig, settings: ChatSettings, clientOptions: WebClientOptions, bot: BotIdentity, log: Log): BoltApp {
+/** Serves /healthz and /metrics; false for any other path. */
+export type OpsRoute = (req: IncomingMessage, res: ServerResponse) => Promise<boolean>;
+
+export function createBoltApp(config: WorkspaceConfig, settings: ChatSettings, clientOptions: WebClientOptions, bot: BotIdentity, log: Log, ops: OpsRoute): BoltApp {
   const logger = boltLogger(log, 'bolt', secretsOf(config));
   const common = {
     token: config.botToken,
@@ -90,16 +93,17 @@ export function createBoltApp(config: WorkspaceConfig, settings: ChatSettings, c
         processBeforeResponse: false,
         // a larger body is refused (413) before it is read
         bodyLimit: settings.bodyLimit,
-        customRoutes: [
-          {
-            path: '/healthz',
-            method: ['GET'],
-            handler: (_req, res) => {
-              res.writeHead(200, { 'content-type': 'text/plain' });
-              res.end('ok\n');
-            },
+        // readiness and metrics beside the events endpoint
+        customRoutes: ['/healthz', '/metrics'].map((path) => ({
+          path,
+          method: ['GET'],
+          handler: (req: IncomingMessage, res: ServerResponse) => {
+            void ops(req, res).catch(() => {
+              res.writeHead(500);
+              res.end();
+            });
           },
-        ],
+        })),
       }),
     });
   }
@@ -140,17 +144,49 @@ export function guardBodySize(server: Server, limit: number, log: Log): void {
 }
 
 /** Starts listening (HTTP) or connecting (Socket Mode); the port listened on in HTTP mode. */
-export async function startListening(app: BoltApp, config: WorkspaceConfig, settings: ChatSettings, log: Log, workers: number): Promise<number | undefined> {
+/**
+ * Starts the app: HTTP mode listens on PORT (with /healthz and /metrics); Socket Mode connects,
+ * and serves /healthz and /metrics on KOLMO_OPS_PORT when it is set. `about` joins the start line.
+ */
+export async function startListening(
+  app: BoltApp,
+  config: WorkspaceConfig,
+  settings: ChatSettings,
+  log: Log,
+  workers: number,
+  ops: OpsRoute,
+  about: Record<string, unknown> = {},
+): Promise<{ port?: number; opsServer?: Server }> {
   if (config.mode === 'http') {
     const server = (await app.start(config.host ? { port: config.port, host: config.host } : { port: config.port })) as unknown as Server;
     server.headersTimeout = HEADERS_TIMEOUT_MS;
     server.requestTimeout = REQUEST_TIMEOUT_MS;
     guardBodySize(server, settings.bodyLimit, log);
     const port = (server.address() as AddressInfo).port;
-    log.info({ mode: 'http', port, path: EVENTS_PATH, workers }, 'listening');
-    return port;
+    log.info({ mode: 'http', port, path: EVENTS_PATH, workers, ...about }, 'listening');
+    return { port };
   }
   await app.start();
-  log.info({ mode: 'socket', workers }, 'connected');
-  return undefined;
+  let opsServer: Server | undefined;
+  if (settings.opsPort !== undefined) {
+    const s = createServer((req, res) => {
+      void ops(req, res).then(
+        (done) => {
+          if (!done) {
+            res.writeHead(404);
+            res.end();
+          }
+        },
+        () => {
+          res.writeHead(500);
+          res.end();
+        },
+      );
+    });
+    await new Promise<void>((r) => s.listen(settings.opsPort, settings.opsHost ?? '127.0.0.1', r));
+    opsServer = s;
+  }
+  const opsPort = opsServer ? (opsServer.address() as AddressInfo).port : undefined;
+  log.info({ mode: 'socket', workers, ...about, ...(opsPort !== undefined ? { opsPort } : {}) }, 'connected');
+  return { opsServer };
 }

@@ -26,13 +26,16 @@ import { fork, type ChildProcess } from 'node:child_process';
 import { setPriority } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { SECRET_SETTINGS } from '../config.js';
-import type { Store } from '../verbs/ask.js';
+import type { LogStore } from '../verbs/ask.js';
+import { serveStoreCall, type StoreCall } from './ipc-store.js';
 import { work, type Job, type WorkResult } from './work.js';
 
 export interface Engine {
   run(job: Job): Promise<WorkResult>;
   close(): Promise<void>;
   readonly size: number;
+  /** workers whose process is up (the inline engine: 1) */
+  readonly alive: number;
 }
 
 export class EngineError extends Error {
@@ -63,8 +66,12 @@ interface Slot {
 
 export interface PoolOptions {
   size: number;
-  /** database file each worker opens, or null for none */
-  dbPath: string | null;
+  /**
+   * the log the workers use: a SQLite file each opens itself (`file`), or the app's own store,
+   * reached over the IPC channel (`parent`: the PostgreSQL backend, so one instance holds one
+   * connection pool however many workers it runs), or none
+   */
+  db: { kind: 'file'; path: string } | { kind: 'parent'; store: LogStore } | null;
   /** compute deadline per job, from the moment a worker takes it */
   taskTimeoutMs: number;
   /** how long a job may wait for a worker (default 5 × taskTimeoutMs) */
@@ -96,6 +103,12 @@ export class WorkerPool implements Engine {
     return this.opts.size;
   }
 
+  get alive(): number {
+    let n = 0;
+    for (const s of this.slots) if (s.worker.connected && s.ready) n++;
+    return n;
+  }
+
   /** jobs waiting for a worker */
   get waiting(): number {
     return this.queue.length;
@@ -120,7 +133,12 @@ export class WorkerPool implements Engine {
 
   private spawn(): void {
     if (this.closing) return;
-    const env: NodeJS.ProcessEnv = { ...process.env, KOLMO_WORKER_DB: this.opts.dbPath ?? '' };
+    const db = this.opts.db;
+    const env: NodeJS.ProcessEnv = {
+      ...process.env,
+      KOLMO_WORKER_DB: db?.kind === 'file' ? db.path : '',
+      KOLMO_WORKER_STORE: db?.kind === 'parent' ? `${db.store.backend} ${db.store.where}` : '',
+    };
     for (const k of SECRET_SETTINGS) delete env[k]; // secrets are never handed to a worker
     const worker = fork(fileURLToPath(this.script), [], {
       env,
@@ -135,7 +153,15 @@ export class WorkerPool implements Engine {
     }
     const slot: Slot = { worker, ready: true };
     this.slots.add(slot);
-    worker.on('message', (m: { id: number; ok: boolean; result?: WorkResult; error?: string }) => {
+    worker.on('message', (m: { id: number; ok: boolean; result?: WorkResult; error?: string } | StoreCall) => {
+      if ('kind' in m && m.kind === 'store') {
+        const store = db?.kind === 'parent' ? db.store : null;
+        void serveStoreCall(store, m).then((a) => {
+          if (worker.connected) worker.send(a, () => undefined);
+        });
+        return;
+      }
+      if ('kind' in m) return;
       const task = slot.task;
       if (!task || task.id !== m.id) return;
       slot.task = undefined;
@@ -236,7 +262,8 @@ export class WorkerPool implements Engine {
 /** The same work on the calling thread. */
 export class InlineEngine implements Engine {
   readonly size = 0;
-  constructor(private readonly store: Store | null) {}
+  readonly alive = 1;
+  constructor(private readonly store: LogStore | null) {}
   async run(job: Job): Promise<WorkResult> {
     return work(job, this.store);
   }

@@ -7,7 +7,7 @@
  * previous process can have logged it and died before posting — so its log entry is found again
  * instead of being appended twice (see `onceOnly`).
  */
-import { ask, type LogEntry, type LogEntryInput, type Store } from '../verbs/ask.js';
+import { ask, type LogEntry, type LogEntryInput, type LogStore } from '../verbs/ask.js';
 import type { Reply } from '../reply.js';
 import { renderAnswerChart } from '../report/answer-chart.js';
 import { applyDefaults } from './desk/defaults.js';
@@ -50,28 +50,29 @@ const RESUME_LOOKBACK = 500;
  * A store whose appendCheck returns the channel's existing entry for the same request (same
  * user, same arrival time to the millisecond, same parsed request) instead of appending another.
  */
-export function onceOnly(store: Store): Store {
-  const find = (e: LogEntryInput): LogEntry | undefined =>
-    store.recent(e.channel, RESUME_LOOKBACK).find((x) => x.user === e.user && x.at === e.at && x.normalized === e.normalized);
+export function onceOnly(store: LogStore): LogStore {
+  const find = async (e: LogEntryInput): Promise<LogEntry | undefined> =>
+    (await store.recent(e.channel, RESUME_LOOKBACK)).find((x) => x.user === e.user && x.at === e.at && x.normalized === e.normalized);
   return new Proxy(store, {
     get(target, prop, receiver) {
-      if (prop === 'appendCheck') return (e: LogEntryInput) => find(e) ?? target.appendCheck(e);
+      if (prop === 'appendCheck') return async (e: LogEntryInput) => (await find(e)) ?? target.appendCheck(e);
       const v = Reflect.get(target, prop, receiver) as unknown;
       return typeof v === 'function' ? (v as (...a: unknown[]) => unknown).bind(target) : v;
     },
   });
 }
 
-export async function work(job: Job, store: Store | null): Promise<WorkResult> {
+export async function work(job: Job, store: LogStore | null): Promise<WorkResult> {
   const t0 = performance.now();
   const s = store && job.resumed ? onceOnly(store) : store;
   let text = job.text;
   let used: string[] = [];
   if (job.defaults && store) {
     try {
-      const d = store.getDefaults(job.user);
+      const d = await store.getDefaults(job.user);
+      const marks = new Map((await store.listMarks(job.channel)).map((m) => [m.symbol, m]));
       const markHas = (sym: string): ReadonlySet<string> => {
-        const m = store.getMark(job.channel, sym);
+        const m = marks.get(sym.toUpperCase());
         return new Set((['rate', 'yield'] as const).filter((k) => m?.[k] !== undefined));
       };
       const applied = applyDefaults(text, d, job.now.slice(0, 10), markHas);
@@ -90,7 +91,7 @@ export async function work(job: Job, store: Store | null): Promise<WorkResult> {
     if (lines.length) reply = { ...reply, text: `${lines.join('\n')}\n\n${reply.text}`, json: { ...reply.json, ...(used.length ? { defaultsUsed: used } : {}) } };
     if (job.variedFrom !== undefined && reply.logNumber !== undefined && store) {
       try {
-        store.setVariedFrom(job.channel, reply.logNumber, job.variedFrom);
+        await store.setVariedFrom(job.channel, reply.logNumber, job.variedFrom);
       } catch {
         /* the new check stands; only its link to the one it came from is missing */
       }

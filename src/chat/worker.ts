@@ -1,21 +1,13 @@
 /**
- * A worker process of the chat app's pool (see pool.ts): opens its own connection to the log
- * (SQLite allows several), then answers jobs one at a time over the IPC channel. It ends when
- * the app goes away (the channel disconnects) or is told to stop.
+ * A worker process of the chat app's pool (see pool.ts): answers jobs one at a time over the IPC
+ * channel. Its log is either a SQLite file it opens itself (KOLMO_WORKER_DB; SQLite allows several
+ * connections) or the app's own store reached through the IPC channel (KOLMO_WORKER_STORE, the
+ * PostgreSQL backend: the worker holds no database connection of its own). It ends when the app
+ * goes away (the channel disconnects) or is told to stop.
  */
-import { openStore, type Store } from '../verbs/ask.js';
+import { asyncOf, openStore, type LogStore } from '../verbs/ask.js';
+import { ipcStore, type StoreAnswer, type StoreCall } from './ipc-store.js';
 import { work, type Job } from './work.js';
-
-let store: Store | null = null;
-let storeNote: string | undefined;
-const dbPath = process.env.KOLMO_WORKER_DB;
-if (dbPath) {
-  try {
-    store = openStore(dbPath);
-  } catch (err) {
-    storeNote = `the log is unavailable (${err instanceof Error ? err.message : String(err)}); answered without it`;
-  }
-}
 
 const send = process.send?.bind(process);
 if (!send) {
@@ -23,9 +15,30 @@ if (!send) {
   process.exit(2);
 }
 
+let store: LogStore | null = null;
+let closeStore: () => void = () => undefined;
+let storeNote: string | undefined;
+let viaParent: ReturnType<typeof ipcStore> | undefined;
+const dbPath = process.env.KOLMO_WORKER_DB;
+const parent = process.env.KOLMO_WORKER_STORE;
+if (parent) {
+  const [backend, ...where] = parent.split(' ');
+  viaParent = ipcStore((m: StoreCall) => send!(m), backend === 'postgres' ? 'postgres' : 'sqlite', where.join(' '));
+  store = viaParent.store;
+} else if (dbPath) {
+  try {
+    const s = openStore(dbPath);
+    store = asyncOf(s, dbPath);
+    closeStore = () => s.close();
+  } catch (err) {
+    storeNote = `the log is unavailable (${err instanceof Error ? err.message : String(err)}); answered without it`;
+  }
+}
+
 const stop = () => {
   try {
-    store?.close();
+    viaParent?.fail('the app is stopping');
+    closeStore();
   } finally {
     process.exit(0);
   }
@@ -33,7 +46,11 @@ const stop = () => {
 process.on('disconnect', stop);
 process.on('SIGTERM', stop);
 
-process.on('message', (m: { id: number; job: Job }) => {
+process.on('message', (m: { id: number; job: Job } | StoreAnswer) => {
+  if ('kind' in m) {
+    if (m.kind === 'store-answer') viaParent?.answer(m);
+    return;
+  }
   work(m.job, store).then(
     (result) => {
       if (storeNote && result.reply.kind === 'answer') result.reply.warnings.push(storeNote);

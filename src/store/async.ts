@@ -15,10 +15,89 @@ import { StoreError } from './errors.js';
 import { openPostgres, redactUrl } from './postgres.js';
 
 export { redactUrl };
-import { defaultDbPath, openStore } from './sqlite.js';
-import type { LogEntry, LogEntryInput, Mark, OpenOptions, Posted, Store, StoredClose, UserDefaults } from './store.js';
+import { defaultDbPath, openStore, type SqliteStore } from './sqlite.js';
+import type { LogEntry, LogEntryInput, Mark, OpenOptions, Posted, StoredClose, UserDefaults } from './store.js';
 
-export interface AsyncStore {
+/** A request as the app acknowledged it: what the queue keeps until it is answered. */
+export interface QueuedRequest {
+  /** the delivery key (an event's id, a slash command's trigger and response URL): a key seen before is a re-sent delivery */
+  key: string;
+  source: 'command' | 'mention';
+  channel: string;
+  user: string;
+  threadTs?: string;
+  /** slash commands: where ephemeral replies go */
+  responseUrl?: string;
+  text: string;
+  /** ISO time the request arrived (the engine's "now", so a request taken over means the same) */
+  now: string;
+  /** files shared with the message (a `history` mention): where to download them, in whichever instance answers */
+  files?: { name: string; url: string; size?: number }[];
+}
+
+/** What of an answer has reached the channel, so an instance taking the request over posts only the rest. */
+export interface Progress {
+  /** the root line was posted: its timestamp (the thread) */
+  rootTs?: string;
+  /** the answer was posted in the thread (or where it was asked) */
+  answered?: boolean;
+  /** the chart was uploaded */
+  chart?: boolean;
+}
+
+export interface ClaimedRequest extends QueuedRequest {
+  /** place in the cluster-wide arrival order */
+  seq: number;
+  /** times an instance has claimed it, this claim included */
+  attempts: number;
+  /** ms since the epoch when it was recorded */
+  receivedMs: number;
+  progress: Progress;
+}
+
+/**
+ * The shared queue of acknowledged requests: the inbox that catches re-sent deliveries, the
+ * per-channel order of answers across instances, and leases so that work of an instance that
+ * dies is taken over. A request is `queued`, then `running` under one owner's lease, then `done`
+ * (kept as a key for an hour to catch late re-sends, then pruned).
+ */
+export interface RequestQueue {
+  /** Records a request; false (nothing recorded) when its key was recorded before. `done` records it as already answered. */
+  accept(r: QueuedRequest, done?: boolean): Promise<boolean>;
+  /**
+   * Claims the oldest request that is the first unanswered one of its channel and is not under
+   * another owner's live lease (a lease that ran out is taken over), for `leaseMs`. Undefined when
+   * there is none. A channel's next request is never claimed while an earlier one is unanswered.
+   */
+  claim(owner: string, leaseMs: number): Promise<ClaimedRequest | undefined>;
+  /** Extends the leases `owner` still holds on these keys; returns how many it still holds. */
+  renew(owner: string, keys: readonly string[], leaseMs: number): Promise<number>;
+  /** Records what of the answer has been posted; false when `owner` no longer holds the request. */
+  setProgress(key: string, owner: string, p: Progress): Promise<boolean>;
+  /** The request is answered (or given up): done. With an owner, only while that owner holds it. */
+  finish(key: string, owner?: string): Promise<void>;
+  /** Hands a claimed request back unanswered (shutdown): queued again, the claim not counted as an attempt. */
+  release(key: string, owner: string): Promise<void>;
+  /** Requests recorded and not yet answered. */
+  depth(): Promise<number>;
+  /** Forgets answered keys older than `keepMs`; returns how many. */
+  prune(keepMs: number): Promise<number>;
+}
+
+export interface RateOptions {
+  burst: number;
+  perMinute: number;
+  noticeEverySeconds: number;
+}
+
+export type RateDecision = { ok: true } | { ok: false; retryInSeconds: number; notify: boolean };
+
+/** Per-user token buckets kept in the store, so every instance draws on one allowance per user. */
+export interface RateBuckets {
+  take(user: string, o: RateOptions): Promise<RateDecision>;
+}
+
+export interface AsyncStore extends RequestQueue, RateBuckets {
   readonly backend: 'sqlite' | 'postgres';
   /** where the memory lives, for log lines and messages: a file path, or the database URL without its password */
   readonly where: string;
@@ -59,8 +138,34 @@ export interface AsyncStore {
   close(): Promise<void>;
 }
 
+/** What the engine (the verbs) may use: the log and the marks, not the queue. */
+export type LogStore = Pick<
+  AsyncStore,
+  | 'backend'
+  | 'where'
+  | 'appendCheck'
+  | 'setThread'
+  | 'setDelivery'
+  | 'get'
+  | 'recent'
+  | 'putMark'
+  | 'getMark'
+  | 'listMarks'
+  | 'countRejected'
+  | 'rejectedCount'
+  | 'getCloses'
+  | 'putCloses'
+  | 'setVariedFrom'
+  | 'setPosted'
+  | 'tombstone'
+  | 'recentOfUser'
+  | 'getDefaults'
+  | 'putDefaults'
+  | 'ping'
+>;
+
 /** The SQLite backend through the async interface. */
-export function asyncOf(s: Store, where: string): AsyncStore {
+export function asyncOf(s: SqliteStore, where: string): AsyncStore {
   let closed = false;
   return {
     backend: 'sqlite',
@@ -84,6 +189,15 @@ export function asyncOf(s: Store, where: string): AsyncStore {
     getDefaults: async (u) => s.getDefaults(u),
     putDefaults: async (u, d, at) => s.putDefaults(u, d, at),
     ping: async () => s.ping(),
+    accept: async (r, done) => s.accept(r, done),
+    claim: async (owner, leaseMs) => s.claim(owner, leaseMs),
+    renew: async (owner, keys, leaseMs) => s.renew(owner, keys, leaseMs),
+    setProgress: async (key, owner, p) => s.setProgress(key, owner, p),
+    finish: async (key, owner) => s.finish(key, owner),
+    release: async (key, owner) => s.release(key, owner),
+    depth: async () => s.depth(),
+    prune: async (keepMs) => s.prune(keepMs),
+    take: async (user, o) => s.take(user, o),
     close: async () => {
       if (!closed) s.close();
       closed = true;

@@ -187,6 +187,72 @@ export const MIGRATIONS: readonly Migration[] = [
       );
     `,
   },
+  {
+    version: 5,
+    description: 'shared request queue (inbox, per-channel order, leases) and per-user rate buckets',
+    up(db) {
+      db.exec(`
+        CREATE TABLE requests (
+          seq          INTEGER PRIMARY KEY AUTOINCREMENT,
+          key          TEXT NOT NULL UNIQUE,
+          source       TEXT NOT NULL,
+          channel      TEXT NOT NULL,
+          user         TEXT NOT NULL,
+          thread_ts    TEXT,
+          response_url TEXT,
+          text         TEXT NOT NULL,
+          now          TEXT NOT NULL,
+          received_ms  INTEGER NOT NULL,
+          state        TEXT NOT NULL DEFAULT 'queued' CHECK (state IN ('queued', 'running', 'done')),
+          owner        TEXT,
+          lease_ms     INTEGER,
+          attempts     INTEGER NOT NULL DEFAULT 0,
+          progress     TEXT NOT NULL DEFAULT '{}',
+          files        TEXT,
+          finished_ms  INTEGER
+        );
+        CREATE INDEX requests_open ON requests (channel, seq) WHERE state <> 'done';
+        CREATE INDEX requests_finished ON requests (finished_ms) WHERE state = 'done';
+        CREATE TABLE user_rates (
+          user      TEXT PRIMARY KEY NOT NULL,
+          tokens    REAL NOT NULL,
+          at_ms     INTEGER NOT NULL,
+          notice_ms INTEGER NOT NULL,
+          granted   INTEGER NOT NULL
+        );
+      `);
+    },
+    postgres: `
+      CREATE TABLE requests (
+        seq          BIGSERIAL PRIMARY KEY,
+        key          TEXT NOT NULL UNIQUE,
+        source       TEXT NOT NULL,
+        channel      TEXT NOT NULL,
+        "user"       TEXT NOT NULL,
+        thread_ts    TEXT,
+        response_url TEXT,
+        text         TEXT NOT NULL,
+        now          TEXT NOT NULL,
+        received_ms  BIGINT NOT NULL,
+        state        TEXT NOT NULL DEFAULT 'queued' CHECK (state IN ('queued', 'running', 'done')),
+        owner        TEXT,
+        lease_ms     BIGINT,
+        attempts     INTEGER NOT NULL DEFAULT 0,
+        progress     TEXT NOT NULL DEFAULT '{}',
+        files        TEXT,
+        finished_ms  BIGINT
+      );
+      CREATE INDEX requests_open ON requests (channel, seq) WHERE state <> 'done';
+      CREATE INDEX requests_finished ON requests (finished_ms) WHERE state = 'done';
+      CREATE TABLE user_rates (
+        "user"    TEXT PRIMARY KEY,
+        tokens    DOUBLE PRECISION NOT NULL,
+        at_ms     BIGINT NOT NULL,
+        notice_ms BIGINT NOT NULL,
+        granted   INTEGER NOT NULL
+      );
+    `,
+  },
 ];
 
 /** The schema version this code reads and writes. */

@@ -31,9 +31,14 @@ import {
   toEntry,
   toClose,
   toMark,
+  requestRowOf,
+  toClaimed,
+  checkRate,
+  rateDecision,
   type CheckRow,
   type CloseRow,
   type MarkRow,
+  type RequestRow,
   postedJsonOf,
   TOMBSTONE_SUMMARY,
   isoTime,
@@ -42,6 +47,7 @@ import {
   emptyDefaults,
   type DefaultsRow,
 } from './rows.js';
+import type { ClaimedRequest, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
 import type { LogEntry, LogEntryInput, Mark, Posted, StoredClose, UserDefaults } from './store.js';
 import type { AsyncStore, DatabaseOptions } from './async.js';
 
@@ -141,6 +147,10 @@ export async function openPostgres(url: string, opts: DatabaseOptions = {}): Pro
   }
   return new PgStore(pool, where);
 }
+
+/** the database's clock in ms since the epoch (one value per statement): leases and buckets use one clock for every host */
+const NOW_MS = '(extract(epoch from now()) * 1000)::bigint';
+const REQUEST_COLUMNS = 'seq, key, source, channel, "user", thread_ts, response_url, text, now, received_ms, attempts, progress, files';
 
 const CHECK_COLUMNS = 'channel, number, "user", at, verb, text, normalized, summary, thread_ts, permalink, delivered, varied_from, deleted_at, posted';
 const MARK_COLUMNS = 'channel, symbol, spot, iv, yield, rate, vol, drift, drift_se, "user", at';
@@ -275,6 +285,103 @@ class PgStore implements AsyncStore {
     if (typeof channel !== 'string') return 0;
     const r = await this.q<{ count: number }>('read', 'SELECT count FROM rejected WHERE channel = $1', [channel]);
     return r.rows[0]?.count ?? 0;
+  }
+
+  // ---- the request queue (see RequestQueue in async.ts) ----
+
+  async accept(r: QueuedRequest, done = false): Promise<boolean> {
+    const row = requestRowOf(r);
+    const res = await this.q(
+      'write',
+      `INSERT INTO requests (key, source, channel, "user", thread_ts, response_url, text, now, files, received_ms, state, finished_ms)
+       VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $10, ${NOW_MS}, $9, CASE WHEN $9 = 'done' THEN ${NOW_MS} END)
+       ON CONFLICT (key) DO NOTHING`,
+      [row.key, row.source, row.channel, row.user, row.thread_ts, row.response_url, row.text, row.now, done ? 'done' : 'queued', row.files],
+    );
+    return res.rowCount === 1;
+  }
+
+  /**
+   * One statement: the oldest channel head that is queued or whose lease ran out, locked with
+   * SKIP LOCKED (so instances claiming at the same moment take different requests instead of
+   * waiting on each other), is marked running under `owner`.
+   */
+  async claim(owner: string, leaseMs: number): Promise<ClaimedRequest | undefined> {
+    const r = await this.q<RequestRow>(
+      'write',
+      `UPDATE requests SET state = 'running', owner = $1, lease_ms = ${NOW_MS} + $2, attempts = attempts + 1
+       WHERE seq = (
+         SELECT h.seq FROM requests h
+         WHERE h.state <> 'done' AND (h.state = 'queued' OR h.lease_ms < ${NOW_MS})
+           AND NOT EXISTS (SELECT 1 FROM requests e WHERE e.channel = h.channel AND e.state <> 'done' AND e.seq < h.seq)
+         ORDER BY h.seq LIMIT 1
+         FOR UPDATE SKIP LOCKED
+       )
+       RETURNING ${REQUEST_COLUMNS}`,
+      [owner, Math.round(leaseMs)],
+    );
+    return r.rows[0] && toClaimed(r.rows[0]);
+  }
+
+  async renew(owner: string, keys: readonly string[], leaseMs: number): Promise<number> {
+    if (keys.length === 0) return 0;
+    const r = await this.q('write', `UPDATE requests SET lease_ms = ${NOW_MS} + $1 WHERE key = ANY($2) AND owner = $3 AND state = 'running'`, [
+      Math.round(leaseMs),
+      [...keys],
+      owner,
+    ]);
+    return r.rowCount ?? 0;
+  }
+
+  async setProgress(key: string, owner: string, p: Progress): Promise<boolean> {
+    const r = await this.q('write', `UPDATE requests SET progress = $1 WHERE key = $2 AND owner = $3 AND state = 'running'`, [JSON.stringify(p), key, owner]);
+    return r.rowCount === 1;
+  }
+
+  async finish(key: string, owner?: string): Promise<void> {
+    if (owner === undefined) {
+      await this.q('write', `UPDATE requests SET state = 'done', finished_ms = ${NOW_MS}, lease_ms = NULL WHERE key = $1 AND state <> 'done'`, [key]);
+    } else {
+      await this.q('write', `UPDATE requests SET state = 'done', finished_ms = ${NOW_MS}, lease_ms = NULL WHERE key = $1 AND owner = $2 AND state = 'running'`, [key, owner]);
+    }
+  }
+
+  async release(key: string, owner: string): Promise<void> {
+    await this.q(
+      'write',
+      `UPDATE requests SET state = 'queued', owner = NULL, lease_ms = NULL, attempts = GREATEST(0, attempts - 1) WHERE key = $1 AND owner = $2 AND state = 'running'`,
+      [key, owner],
+    );
+  }
+
+  async depth(): Promise<number> {
+    const r = await this.q<{ n: number }>('read', `SELECT COUNT(*)::int AS n FROM requests WHERE state <> 'done'`, []);
+    return r.rows[0]?.n ?? 0;
+  }
+
+  async prune(keepMs: number): Promise<number> {
+    const r = await this.q('write', `DELETE FROM requests WHERE state = 'done' AND finished_ms < ${NOW_MS} - $1`, [Math.round(keepMs)]);
+    return r.rowCount ?? 0;
+  }
+
+  /** One statement on the user's bucket row (its lock serialises instances taking for one user). */
+  async take(user: string, o: RateOptions): Promise<RateDecision> {
+    const u = id(user, 'user');
+    checkRate(o);
+    const refill = `LEAST($2::float8, r.tokens + (${NOW_MS} - r.at_ms) * $3::float8)`;
+    const r = await this.q<{ tokens: number; granted: number; noticed: boolean }>(
+      'write',
+      `INSERT INTO user_rates AS r ("user", tokens, at_ms, notice_ms, granted) VALUES ($1, $2::float8 - 1, ${NOW_MS}, 0, 1)
+       ON CONFLICT ("user") DO UPDATE SET
+         tokens = ${refill} - (CASE WHEN ${refill} >= 1 THEN 1 ELSE 0 END),
+         granted = (CASE WHEN ${refill} >= 1 THEN 1 WHEN ${NOW_MS} - r.notice_ms >= $4 THEN 2 ELSE 0 END),
+         notice_ms = (CASE WHEN ${refill} < 1 AND ${NOW_MS} - r.notice_ms >= $4 THEN ${NOW_MS} ELSE r.notice_ms END),
+         at_ms = ${NOW_MS}
+       RETURNING tokens, granted, granted = 2 AS noticed`,
+      [u, o.burst, o.perMinute / 60000, Math.round(o.noticeEverySeconds * 1000)],
+    );
+    const row = r.rows[0];
+    return rateDecision(row.granted, row.tokens, row.noticed, o);
   }
 
   async setVariedFrom(channel: string, number: number, from: number): Promise<boolean> {

@@ -5,6 +5,7 @@
  */
 import { StoreError } from './errors.js';
 import type { CheckSummary, DeliveryState, LogEntry, LogEntryInput, Mark, Posted, StoredClose, UserDefaults } from './store.js';
+import type { ClaimedRequest, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
 
 /**
  * Size limits. Identifiers are refused when too long (cutting a channel id could merge two
@@ -355,4 +356,91 @@ export function closeRowsOf(channel: string, sym: string, closes: StoredClose[])
 
 export function toClose(r: CloseRow): StoredClose {
   return r.day !== null ? { date: r.day, close: r.close } : { close: r.close };
+}
+
+// ---- the request queue and rate buckets ----------------------------------------------------
+
+export interface RequestRow {
+  seq: number | string;
+  key: string;
+  source: string;
+  channel: string;
+  user: string;
+  thread_ts: string | null;
+  response_url: string | null;
+  text: string;
+  now: string;
+  received_ms: number | string;
+  attempts: number;
+  progress: string;
+  files: string | null;
+}
+
+/** A request ready to be queued (identifiers checked, the text kept whole up to the request limit). */
+export function requestRowOf(r: QueuedRequest) {
+  const key = shortText(r?.key, 'delivery key', 256);
+  if (r.source !== 'command' && r.source !== 'mention') throw invalid(`the source must be command or mention, not ${String(r.source)}`);
+  if (typeof r.text !== 'string') throw invalid('the request text is missing');
+  return {
+    key,
+    source: r.source,
+    channel: id(r.channel, 'channel'),
+    user: id(r.user, 'user'),
+    thread_ts: r.threadTs === undefined ? null : shortText(r.threadTs, 'thread timestamp', LIMITS.threadTsChars),
+    response_url: r.responseUrl === undefined ? null : shortText(r.responseUrl, 'response URL', LIMITS.permalinkChars),
+    // a request longer than the log keeps is refused by the grammar anyway; keep what it needs to say so
+    text: cutBytes(r.text.replaceAll('\u0000', '\uFFFD'), 64 * 1024),
+    now: isoTime(r.now),
+    files: filesJson(r.files),
+  };
+}
+
+/** The shared files' references as JSON (at most 5, each a name and an http(s) URL), or null. */
+function filesJson(files: QueuedRequest['files']): string | null {
+  if (files === undefined || files.length === 0) return null;
+  if (!Array.isArray(files) || files.length > 5) throw invalid('at most 5 shared files are kept with a request');
+  const clean = files.map((f) => ({
+    name: shortText(f?.name, 'file name', 200),
+    url: shortText(f.url, 'file URL', LIMITS.permalinkChars),
+    ...(typeof f.size === 'number' && Number.isFinite(f.size) ? { size: f.size } : {}),
+  }));
+  return JSON.stringify(clean);
+}
+
+export function progressOf(json: string): Progress {
+  try {
+    const p = JSON.parse(json) as Progress;
+    return p && typeof p === 'object' ? p : {};
+  } catch {
+    return {};
+  }
+}
+
+export function toClaimed(r: RequestRow): ClaimedRequest {
+  return {
+    key: r.key,
+    source: r.source === 'mention' ? 'mention' : 'command',
+    channel: r.channel,
+    user: r.user,
+    ...(r.thread_ts ? { threadTs: r.thread_ts } : {}),
+    ...(r.response_url ? { responseUrl: r.response_url } : {}),
+    text: r.text,
+    now: r.now,
+    seq: Number(r.seq),
+    attempts: r.attempts,
+    receivedMs: Number(r.received_ms),
+    progress: progressOf(r.progress),
+    ...(r.files ? { files: JSON.parse(r.files) as NonNullable<QueuedRequest['files']> } : {}),
+  };
+}
+
+export function checkRate(o: RateOptions): void {
+  if (!(o.burst >= 1 && o.perMinute > 0 && o.noticeEverySeconds >= 0)) throw invalid('rate limit: burst ≥ 1, perMinute > 0, noticeEverySeconds ≥ 0');
+}
+
+/** The decision from a bucket's state after the take: `granted` 1 (taken), 0 (refused) or 2 (refused, and the asker is told), tokens left. */
+export function rateDecision(granted: number | boolean, tokens: number, noticed: boolean, o: RateOptions): RateDecision {
+  if (granted === true || granted === 1) return { ok: true };
+  const perMs = o.perMinute / 60000;
+  return { ok: false, retryInSeconds: Math.max(1, Math.ceil((1 - tokens) / perMs / 1000)), notify: noticed };
 }

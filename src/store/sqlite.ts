@@ -19,6 +19,8 @@
  * - Every statement filters by channel; there is no query that can reach another channel's rows.
  */
 import Database from 'better-sqlite3';
+
+type BetterStatement<T> = Database.Statement<unknown[], T>;
 import { existsSync, mkdirSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
 import { setting as readSetting } from '../config.js';
@@ -36,9 +38,14 @@ import {
   toEntry,
   toClose,
   toMark,
+  requestRowOf,
+  toClaimed,
+  checkRate,
+  rateDecision,
   type CheckRow,
   type CloseRow,
   type MarkRow,
+  type RequestRow,
   postedJsonOf,
   TOMBSTONE_SUMMARY,
   isoTime,
@@ -47,6 +54,7 @@ import {
   emptyDefaults,
   type DefaultsRow,
 } from './rows.js';
+import type { ClaimedRequest, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
 import type { LogEntry, LogEntryInput, Mark, OpenOptions, Posted, Store, StoredClose, UserDefaults } from './store.js';
 
 export { LIMITS, cutBytes } from './rows.js';
@@ -65,7 +73,7 @@ export function defaultDbPath(setting: string | undefined = readSetting('KOLMO_D
 }
 
 /** Opens (creating and migrating if needed) the log at `path`; ':memory:' gives a private in-memory log. */
-export function openStore(path: string, opts: OpenOptions = {}): Store {
+export function openStore(path: string, opts: OpenOptions = {}): SqliteStore {
   const readonly = opts.readonly === true;
   const busyTimeoutMs = opts.busyTimeoutMs ?? DEFAULT_BUSY_TIMEOUT_MS;
   if (!Number.isFinite(busyTimeoutMs) || busyTimeoutMs < 0) {
@@ -123,7 +131,8 @@ export function openStore(path: string, opts: OpenOptions = {}): Store {
 const CHECK_COLUMNS = 'channel, number, user, at, verb, text, normalized, summary, thread_ts, permalink, delivered, varied_from, deleted_at, posted';
 const MARK_COLUMNS = 'channel, symbol, spot, iv, yield, rate, vol, drift, drift_se, user, at';
 
-class SqliteStore implements Store {
+/** The SQLite store: the synchronous face plus the request queue and rate buckets (used through asyncOf). */
+export class SqliteStore implements Store {
   private readonly s;
   private readonly allocTx;
 
@@ -268,6 +277,105 @@ class SqliteStore implements Store {
   rejectedCount(channel: string): number {
     if (typeof channel !== 'string') return 0;
     return this.guard('read', () => (this.s.rejectedCount.get(channel) as number | undefined) ?? 0);
+  }
+
+  // ---- the request queue (see RequestQueue in async.ts); times are this host's clock in ms ----
+
+  private q<T>(op: StoreOp, sql: string): BetterStatement<T> {
+    let st = this.queueStatements.get(sql);
+    if (!st) {
+      st = this.guard(op, () => this.db.prepare(sql));
+      this.queueStatements.set(sql, st);
+    }
+    return st as BetterStatement<T>;
+  }
+  private readonly queueStatements = new Map<string, Database.Statement>();
+
+  accept(r: QueuedRequest, done = false): boolean {
+    const row = requestRowOf(r);
+    const t = Date.now();
+    const st = this.q('write', `INSERT INTO requests (key, source, channel, user, thread_ts, response_url, text, now, files, received_ms, state, finished_ms)
+      VALUES (@key, @source, @channel, @user, @thread_ts, @response_url, @text, @now, @files, @t, @state, @finished) ON CONFLICT (key) DO NOTHING`);
+    return this.guard('write', () => st.run({ ...row, t, state: done ? 'done' : 'queued', finished: done ? t : null }).changes === 1);
+  }
+
+  claim(owner: string, leaseMs: number): ClaimedRequest | undefined {
+    const pick = this.q('write', `SELECT h.key FROM requests h
+      WHERE h.state <> 'done' AND (h.state = 'queued' OR h.lease_ms < @t)
+        AND NOT EXISTS (SELECT 1 FROM requests e WHERE e.channel = h.channel AND e.state <> 'done' AND e.seq < h.seq)
+      ORDER BY h.seq LIMIT 1`);
+    const take = this.q('write', `UPDATE requests SET state = 'running', owner = @owner, lease_ms = @until, attempts = attempts + 1
+      WHERE key = @key RETURNING seq, key, source, channel, user, thread_ts, response_url, text, now, received_ms, attempts, progress, files`);
+    const tx = this.db.transaction(() => {
+      const t = Date.now();
+      const key = pick.pluck().get({ t }) as string | undefined;
+      if (key === undefined) return undefined;
+      return take.get({ owner, until: t + leaseMs, key }) as RequestRow;
+    });
+    const row = this.guard('write', () => tx.immediate());
+    return row && toClaimed(row);
+  }
+
+  renew(owner: string, keys: readonly string[], leaseMs: number): number {
+    if (keys.length === 0) return 0;
+    const st = this.q('write', `UPDATE requests SET lease_ms = @until WHERE key = @key AND owner = @owner AND state = 'running'`);
+    const tx = this.db.transaction(() => {
+      const until = Date.now() + leaseMs;
+      let n = 0;
+      for (const key of keys) n += st.run({ until, key, owner }).changes;
+      return n;
+    });
+    return this.guard('write', () => tx.immediate());
+  }
+
+  setProgress(key: string, owner: string, p: Progress): boolean {
+    const st = this.q('write', `UPDATE requests SET progress = @p WHERE key = @key AND owner = @owner AND state = 'running'`);
+    return this.guard('write', () => st.run({ p: JSON.stringify(p), key, owner }).changes === 1);
+  }
+
+  finish(key: string, owner?: string): void {
+    const t = Date.now();
+    if (owner === undefined) {
+      const st = this.q('write', `UPDATE requests SET state = 'done', finished_ms = @t, lease_ms = NULL WHERE key = @key AND state <> 'done'`);
+      this.guard('write', () => st.run({ t, key }));
+    } else {
+      const st = this.q('write', `UPDATE requests SET state = 'done', finished_ms = @t, lease_ms = NULL WHERE key = @key AND owner = @owner AND state = 'running'`);
+      this.guard('write', () => st.run({ t, key, owner }));
+    }
+  }
+
+  release(key: string, owner: string): void {
+    const st = this.q('write', `UPDATE requests SET state = 'queued', owner = NULL, lease_ms = NULL, attempts = MAX(0, attempts - 1)
+      WHERE key = @key AND owner = @owner AND state = 'running'`);
+    this.guard('write', () => st.run({ key, owner }));
+  }
+
+  depth(): number {
+    const st = this.q<number>('read', `SELECT COUNT(*) FROM requests WHERE state <> 'done'`);
+    return this.guard('read', () => st.pluck().get() as number);
+  }
+
+  prune(keepMs: number): number {
+    const st = this.q('write', `DELETE FROM requests WHERE state = 'done' AND finished_ms < @cut`);
+    return this.guard('write', () => st.run({ cut: Date.now() - keepMs }).changes);
+  }
+
+  /** Takes one request from the user's bucket (refilled at perMinute up to burst). */
+  take(user: string, o: RateOptions): RateDecision {
+    const u = id(user, 'user');
+    checkRate(o);
+    const st = this.q('write', `INSERT INTO user_rates AS r (user, tokens, at_ms, notice_ms, granted) VALUES (@u, @burst - 1, @t, 0, 1)
+      ON CONFLICT (user) DO UPDATE SET
+        tokens = MIN(@burst, r.tokens + (@t - r.at_ms) * @perMs) - (CASE WHEN MIN(@burst, r.tokens + (@t - r.at_ms) * @perMs) >= 1 THEN 1 ELSE 0 END),
+        granted = (CASE WHEN MIN(@burst, r.tokens + (@t - r.at_ms) * @perMs) >= 1 THEN 1 WHEN @t - r.notice_ms >= @noticeMs THEN 2 ELSE 0 END),
+        notice_ms = (CASE WHEN MIN(@burst, r.tokens + (@t - r.at_ms) * @perMs) < 1 AND @t - r.notice_ms >= @noticeMs THEN @t ELSE r.notice_ms END),
+        at_ms = @t
+      RETURNING tokens, granted, notice_ms`);
+    const t = Date.now();
+    const row = this.guard('write', () =>
+      st.get({ u, burst: o.burst, t, perMs: o.perMinute / 60000, noticeMs: o.noticeEverySeconds * 1000 }) as { tokens: number; granted: number; notice_ms: number },
+    );
+    return rateDecision(row.granted, row.tokens, row.granted === 2, o);
   }
 
   setVariedFrom(channel: string, number: number, from: number): boolean {

@@ -154,4 +154,19 @@ export interface OpenOptions {
 export { StoreError, type StoreErrorCode, type StoreOp } from './errors.js';
 export { openStore, defaultDbPath, LIMITS } from './sqlite.js';
 export { MIGRATIONS, SCHEMA_VERSION, migrate, type Migration } from './migrations.js';
-export { openDatabase, databaseFromEnv, asyncOf, type AsyncStore, type DatabaseChoice, type DatabaseOptions } from './async.js';
+export {
+  openDatabase,
+  databaseFromEnv,
+  asyncOf,
+  type AsyncStore,
+  type LogStore,
+  type DatabaseChoice,
+  type DatabaseOptions,
+  type QueuedRequest,
+  type ClaimedRequest,
+  type Progress,
+  type RequestQueue,
+  type RateBuckets,
+  type RateOptions,
+  type RateDecision,
+} from './async.js';

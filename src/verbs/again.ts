@@ -108,11 +108,11 @@ function comparisonLines(n: number, verb: Request['verb'], before: CheckSummary,
 }
 
 /** The logged entry and the request it reruns (changes applied, asof pinned), or a refusal. */
-function rerunOf(text: string, req: AgainRequest, env: VerbEnv) {
+async function rerunOf(text: string, req: AgainRequest, env: VerbEnv) {
   const store = needStore(text, env, 'again');
   const n = req.number;
   const at = againNumberAt(text);
-  const entry = storeCall(text, 'the log could not be read', at, () => store.get(env.ctx.channel, n));
+  const entry = await storeCall(text, 'the log could not be read', at, () => store.get(env.ctx.channel, n));
   if (!entry) {
     // the same words whether #n belongs to another channel or to none
     throw refuseFact(text, { message: `no check #${n} in this channel; \`log\` lists this channel's checks and their numbers`, at, length: String(n).length, example: 'log 20' });
@@ -131,12 +131,12 @@ function rerunOf(text: string, req: AgainRequest, env: VerbEnv) {
   return { entry, pinned, eff: re.text, request: p.request, at };
 }
 
-function runAgain(text: string, req: AgainRequest, env: VerbEnv): Outcome {
+async function runAgain(text: string, req: AgainRequest, env: VerbEnv): Promise<Outcome> {
   const n = req.number;
-  const { entry, pinned, eff, request, at } = rerunOf(text, req, env);
+  const { entry, pinned, eff, request, at } = await rerunOf(text, req, env);
   let c: Outcome;
   try {
-    c = env.verb(request.verb).run(eff, request, env);
+    c = await env.verb(request.verb).run(eff, request, env);
   } catch (err) {
     if (!(err instanceof Refused)) throw err;
     throw new Refused({

@@ -34,18 +34,31 @@ function costOf(req: AnyRequest, text: string, ctx: Omit<CostContext, 'costOf'>)
   return v.cost ? v.cost(req, text, { ...ctx, costOf: (r, t) => costOf(r, t, ctx) }) : null;
 }
 
-function costContext(ctx: AskContext, now: Date): Omit<CostContext, 'costOf'> {
+/**
+ * The cost context of a request: for `again N`, the logged text of check N is read first (the
+ * budget needs it before the verb runs; an unreadable log just leaves the cost unknown).
+ */
+async function costContext(ctx: AskContext, now: Date, req: AnyRequest): Promise<Omit<CostContext, 'costOf'>> {
   const { store, channel } = ctx;
-  return {
-    now,
-    logged: (n) => {
-      try {
-        return store?.get(channel, n)?.text;
-      } catch {
-        return undefined;
-      }
-    },
-  };
+  const n = req.verb === 'again' ? (req as { number?: unknown }).number : undefined;
+  if (typeof n !== 'number' || !store) return { now };
+  const entry = await store.get(channel, n).catch(() => undefined);
+  return { now, logged: (k) => (k === n ? entry?.text : undefined) };
+}
+
+/**
+ * Reads the channel's marks once before the verb runs, when the request may use one (`on SYMBOL`,
+ * or `again`, whose rerun may): the verbs resolve marks without I/O (VerbEnv.marks).
+ */
+async function withMarks(env: VerbEnv, text: string, req: AnyRequest): Promise<void> {
+  const store = env.ctx.store;
+  if (!store || !(req.verb === 'again' || /\bon\b/i.test(text))) return;
+  try {
+    env.marks = new Map((await store.listMarks(env.ctx.channel)).map((m) => [m.symbol, m]));
+  } catch (err) {
+    if (!(err instanceof StoreError)) throw err;
+    env.marks = err;
+  }
 }
 
 /**
@@ -68,11 +81,11 @@ export function overBudget(text: string, budget: number, ctx: { now?: Date; logg
  * Writes the entry before the answer goes out. A store that cannot take it (read-only, full,
  * busy, refused input) costs only the number: the answer is returned, flagged in `warnings`.
  */
-function logged(env: VerbEnv, o: Outcome): Answer {
+async function logged(env: VerbEnv, o: Outcome): Promise<Answer> {
   const { ctx } = env;
   if (!ctx.store || !o.log) return o.answer;
   try {
-    const e = ctx.store.appendCheck({
+    const e = await ctx.store.appendCheck({
       channel: ctx.channel,
       user: ctx.user,
       at: env.nowIso,
@@ -91,9 +104,9 @@ function logged(env: VerbEnv, o: Outcome): Answer {
   }
 }
 
-function counted(ctx: AskContext, r: Rejection): Rejection {
+async function counted(ctx: AskContext, r: Rejection): Promise<Rejection> {
   try {
-    ctx.store?.countRejected(ctx.channel);
+    await ctx.store?.countRejected(ctx.channel);
   } catch {
     /* a counter that cannot be written loses nothing the asker needs */
   }
@@ -109,28 +122,44 @@ const INTERNAL: Rejection = {
   at: 0,
 };
 
-/** The same as `ask`, synchronously (the engine does no I/O except the store, which is synchronous). */
-export function askSync(text: string, ctx: AskContext): Reply {
+/** The seam: budget → parse → verb → log → reply. Never throws. */
+export async function ask(text: string, ctx: AskContext): Promise<Reply> {
   try {
     const env = envOf(ctx, { verb: verbNamed, verbs });
     const p = parse(text);
-    if (!p.ok) return counted(ctx, reject(text, p.error));
+    if (!p.ok) return await counted(ctx, reject(text, p.error));
     const req = p.request;
-    const over = budgetRejection(text, costOf(req, text, costContext(ctx, env.now)), ctx.budget ?? COMPUTE_BUDGET_DEFAULT);
-    if (over) return counted(ctx, over);
-    return logged(env, verbNamed(req.verb).run(text, req, env));
+    const over = budgetRejection(text, costOf(req, text, await costContext(ctx, env.now, req)), ctx.budget ?? COMPUTE_BUDGET_DEFAULT);
+    if (over) return await counted(ctx, over);
+    await withMarks(env, text, req);
+    return await logged(env, await verbNamed(req.verb).run(text, req, env));
   } catch (err) {
     if (err instanceof Refused) return counted(ctx, err.reply);
     return INTERNAL;
   }
 }
 
-export async function ask(text: string, ctx: AskContext): Promise<Reply> {
-  return askSync(text, ctx);
-}
-
 // The store a shell opens and hands back in the context (the shells import nothing else of it).
-export { openStore, defaultDbPath, StoreError, type Store, type LogEntry, type LogEntryInput } from '../store/store.js';
+export {
+  openStore,
+  defaultDbPath,
+  openDatabase,
+  databaseFromEnv,
+  asyncOf,
+  StoreError,
+  type Store,
+  type AsyncStore,
+  type LogStore,
+  type DatabaseChoice,
+  type LogEntry,
+  type LogEntryInput,
+  type QueuedRequest,
+  type ClaimedRequest,
+  type Progress,
+  type RequestQueue,
+  type RateOptions,
+  type RateDecision,
+} from '../store/store.js';
 export { verbOfText } from './registry.js';
 
 // What the shells may read of the grammar: they build request text (the check form, the buttons'

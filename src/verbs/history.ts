@@ -20,7 +20,7 @@ import { historyHeadline, historyJson, historyText, type HistoryReportInput } fr
 import { readHistory } from '../request/history.js';
 import type { Tok } from '../request/lex.js';
 import { Reject } from '../request/parse.js';
-import type { Mark, Store } from '../store/store.js';
+import type { LogStore, Mark } from '../store/store.js';
 import { answer, refuse, refuseFact, type Outcome, type Verb, type VerbEnv } from './verb.js';
 import { historySchema } from '../request/schema.js';
 
@@ -32,10 +32,10 @@ export interface SharedFile {
 
 /** What `history` needs of the channel's memory. */
 export interface HistoryStore {
-  getCloses(channel: string, symbol: string): Close[];
-  putCloses(channel: string, symbol: string, closes: Close[]): void;
+  getCloses(channel: string, symbol: string): Promise<Close[]>;
+  putCloses(channel: string, symbol: string, closes: Close[]): Promise<void>;
   /** the mark after storing the estimates (merged into the existing mark, or a new one at the last close) */
-  saveEstimates(channel: string, symbol: string, est: { vol: number; drift: number; driftSe: number; spot: number }, user: string, at: string): { spot?: number };
+  saveEstimates(channel: string, symbol: string, est: { vol: number; drift: number; driftSe: number; spot: number }, user: string, at: string): Promise<{ spot?: number }>;
 }
 
 export interface HistoryEnv {
@@ -82,7 +82,7 @@ function closesFromFile(req: HistoryRequest, f: SharedFile): { closes: Close[]; 
   return r.value;
 }
 
-export function runHistory(text: string, req: HistoryRequest, env: HistoryEnv): HistoryAnswer | HistoryRefusal {
+export async function runHistory(text: string, req: HistoryRequest, env: HistoryEnv): Promise<HistoryAnswer | HistoryRefusal> {
   const sym = req.symbol;
   const symAt = req.symbolAt;
   const files = env.files ?? [];
@@ -117,7 +117,7 @@ export function runHistory(text: string, req: HistoryRequest, env: HistoryEnv): 
   let stored: Close[] = [];
   if (store) {
     try {
-      stored = store.getCloses(env.channel, sym);
+      stored = await store.getCloses(env.channel, sym);
     } catch (err) {
       if (given.length === 0) return refusal(`the stored history of ${sym} could not be read: ${why(err)}`, symAt, sym.length, EXAMPLES.history, true);
       warnings.push(`the stored history of ${sym} could not be read (${why(err)}): estimated from the closes given alone`);
@@ -173,7 +173,7 @@ export function runHistory(text: string, req: HistoryRequest, env: HistoryEnv): 
   let notSaved: string | undefined;
   if (store && given.length > 0) {
     try {
-      store.putCloses(env.channel, sym, closes);
+      await store.putCloses(env.channel, sym, closes);
       kept = closes.length;
     } catch (err) {
       warnings.push(`the closes were not kept: ${why(err)}`);
@@ -196,7 +196,7 @@ export function runHistory(text: string, req: HistoryRequest, env: HistoryEnv): 
     else {
       try {
         const spot = closes[closes.length - 1].close;
-        const m = store.saveEstimates(env.channel, sym, { vol: est.vol, drift: est.drift, driftSe: est.driftSe, spot }, env.user, env.nowIso);
+        const m = await store.saveEstimates(env.channel, sym, { vol: est.vol, drift: est.drift, driftSe: est.driftSe, spot }, env.user, env.nowIso);
         saved = { vol: est.vol, drift: est.drift, driftSe: est.driftSe, ...(m.spot !== undefined ? { spot: m.spot } : {}) };
       } catch (err) {
         notSaved = why(err);
@@ -236,15 +236,15 @@ function why(err: unknown): string {
 // The verb, as the registry sees it
 
 /** What `history` needs of the channel's store: the closes, and the mark the estimates go into. */
-function historyStore(store: Store): HistoryStore {
+function historyStore(store: LogStore): HistoryStore {
   return {
     getCloses: (c, s) => store.getCloses(c, s),
     putCloses: (c, s, closes) => store.putCloses(c, s, closes),
-    saveEstimates(channel, symbol, est, user, at) {
+    async saveEstimates(channel, symbol, est, user, at) {
       // merged into the channel's mark (its market terms kept), or a new mark at the last close
-      const prev = store.getMark(channel, symbol);
+      const prev = await store.getMark(channel, symbol);
       const m: Mark = { ...(prev ?? { channel, symbol, spot: est.spot }), channel, symbol, vol: est.vol, drift: est.drift, driftSe: est.driftSe, user, at };
-      store.putMark(m);
+      await store.putMark(m);
       return m.spot !== undefined ? { spot: m.spot } : {};
     },
   };
@@ -257,9 +257,9 @@ function grammar(src: string, toks: Tok[], from: number): HistoryRequest {
   return r.request;
 }
 
-function runHistoryVerb(text: string, req: HistoryRequest, env: VerbEnv): Outcome {
+async function runHistoryVerb(text: string, req: HistoryRequest, env: VerbEnv): Promise<Outcome> {
   const store = env.ctx.store ?? null;
-  const r = runHistory(text, req, {
+  const r = await runHistory(text, req, {
     channel: env.ctx.channel,
     user: env.ctx.user,
     nowIso: env.nowIso,

@@ -8,9 +8,9 @@ import type { LogRequest } from '../request/types.js';
 import { logText, type LoggedCheck } from '../report/log.js';
 import { answer, needStore, storeCall, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
-function runLog(text: string, req: LogRequest, env: VerbEnv): Outcome {
+async function runLog(text: string, req: LogRequest, env: VerbEnv): Promise<Outcome> {
   const store = needStore(text, env, 'log');
-  const entries = storeCall(text, 'the log could not be read', 0, () => store.recent(env.ctx.channel, req.count));
+  const entries = await storeCall(text, 'the log could not be read', 0, () => store.recent(env.ctx.channel, req.count));
   const words = (e: LoggedCheck) => env.verbs().find((v) => v.name === e.verb)?.logWords?.(e.summary) ?? '';
   const listing = logText(entries, req.count, !env.ctx.inWorkspace, words);
   return {

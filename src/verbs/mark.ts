@@ -53,13 +53,13 @@ function recordedLines(m: Mark, prev: Mark | undefined): string[] {
   return lines;
 }
 
-function runMark(text: string, req: MarkRequest, env: VerbEnv): Outcome {
+async function runMark(text: string, req: MarkRequest, env: VerbEnv): Promise<Outcome> {
   const store = needStore(text, env, 'mark');
   const channel = env.ctx.channel;
-  if (!req.symbol) return listing(storeCall(text, 'the marks of this channel could not be read', 0, () => store.listMarks(channel)), env);
+  if (!req.symbol) return listing(await storeCall(text, 'the marks of this channel could not be read', 0, () => store.listMarks(channel)), env);
   const sym = req.symbol.toUpperCase();
   const symAt = Math.max(0, text.toUpperCase().indexOf(sym));
-  const prev = storeCall(text, 'the marks of this channel could not be read', symAt, () => store.getMark(channel, sym));
+  const prev = await storeCall(text, 'the marks of this channel could not be read', symAt, () => store.getMark(channel, sym));
   const t = req.terms;
   if (t.spot === undefined && t.iv === undefined && t.yield === undefined && t.rate === undefined && t.vol === undefined && t.drift === undefined) {
     // `mark SYMBOL` alone shows that mark
@@ -80,7 +80,7 @@ function runMark(text: string, req: MarkRequest, env: VerbEnv): Outcome {
     user: env.ctx.user,
     at: env.nowIso,
   };
-  storeCall(text, `the mark for ${sym} was not recorded`, symAt, () => store.putMark(m));
+  await storeCall(text, `the mark for ${sym} was not recorded`, symAt, () => store.putMark(m));
   return {
     answer: answer({
       verb: 'mark',

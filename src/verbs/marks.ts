@@ -6,8 +6,8 @@ import { EXAMPLES } from '../request/examples.js';
 import type { MarkTerms } from '../request/resolve.js';
 import { ageWords, isStale, whenUtc } from '../report/log.js';
 import { level, rate } from '../report/format.js';
-import type { Mark } from '../store/store.js';
-import { refuseFact, storeCall, type VerbEnv } from './verb.js';
+import { StoreError, type Mark } from '../store/store.js';
+import { refuseFact, type VerbEnv } from './verb.js';
 
 export function termsOfMark(m: Mark): MarkTerms {
   return { symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, vol: m.vol, drift: m.drift, driftSe: m.driftSe, at: m.at };
@@ -31,7 +31,11 @@ export function markFor(text: string, env: VerbEnv, symbol: string | undefined, 
       example: EXAMPLES.check,
     });
   }
-  const m = storeCall(text, `the marks of this channel could not be read`, where, () => store.getMark(env.ctx.channel, sym));
+  const marks = env.marks;
+  if (marks instanceof StoreError) {
+    throw refuseFact(text, { message: `the marks of this channel could not be read: ${marks.message}`, at: where, length: 1, example: 'help' });
+  }
+  const m = marks?.get(sym);
   if (!m) {
     throw refuseFact(text, {
       message: `no mark for ${sym} in this channel: record one with \`mark ${sym} spot …\` or write the market terms`,

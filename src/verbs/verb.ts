@@ -11,7 +11,7 @@ import type { ParseError } from '../request/types.js';
 import type { Tok } from '../request/lex.js';
 import type { AnyTerm } from '../request/grammar/words.js';
 import { CAUTION, type Answer, type Rejection } from '../reply.js';
-import { StoreError, type CheckSummary, type Store } from '../store/store.js';
+import { StoreError, type CheckSummary, type LogStore, type Mark } from '../store/store.js';
 
 export interface AskContext {
   /** the channel (workspace channel id, `cli`, `console`): the log and the marks are per channel */
@@ -19,7 +19,8 @@ export interface AskContext {
   user: string;
   /** the time of the request (default: the clock); drives `asof` defaults and the marks' age */
   now?: Date;
-  store?: Store | null;
+  /** the channel's memory (the async store, or a worker's view of its instance's store) */
+  store?: LogStore | null;
   /** answering in a workspace: log listings return thread links apart (Answer.links) instead of inline */
   inWorkspace?: boolean;
   /** compute units this request may use (default COMPUTE_BUDGET_DEFAULT, ./budget.ts) */
@@ -34,6 +35,11 @@ export interface VerbEnv {
   now: Date;
   today: string;
   nowIso: string;
+  /**
+   * the channel's marks, read once by the seam before the verb runs (so resolving `on SYMBOL`
+   * needs no I/O); the StoreError when they could not be read; undefined without a store
+   */
+  marks?: Map<string, Mark> | StoreError;
   /** the verb of that name, and all of them (from the registry, handed over by the seam) */
   verb(name: string): Verb;
   verbs(): readonly Verb[];
@@ -84,7 +90,7 @@ export interface Verb<R extends AnyRequest = AnyRequest> {
   /** `again N` can rerun it (and the log keeps it under this verb) */
   rerunnable: boolean;
   /** resolve, compute, render; refusals are thrown as `Refused` */
-  run(text: string, req: R, env: VerbEnv): Outcome;
+  run(text: string, req: R, env: VerbEnv): Outcome | Promise<Outcome>;
   /** units against the compute budget; absent: its work is small */
   cost?(req: R, text: string, ctx: CostContext): Cost | null;
   /** figures of a logged summary against a rerun's, in words (for `again`) */
@@ -128,9 +134,9 @@ export function refuseFact(text: string, e: ParseError): Refused {
 }
 
 /** Runs a store call; a StoreError becomes a refusal with `what` in front of its message. */
-export function storeCall<T>(text: string, what: string, at: number, fn: () => T): T {
+export async function storeCall<T>(text: string, what: string, at: number, fn: () => Promise<T>): Promise<T> {
   try {
-    return fn();
+    return await fn();
   } catch (err) {
     if (err instanceof StoreError) {
       throw refuseFact(text, { message: `${what}: ${err.message}`, at, length: 1, example: 'help' });
@@ -139,7 +145,7 @@ export function storeCall<T>(text: string, what: string, at: number, fn: () => T
   }
 }
 
-export function needStore(text: string, env: VerbEnv, verb: string): Store {
+export function needStore(text: string, env: VerbEnv, verb: string): LogStore {
   const s = env.ctx.store;
   if (!s) {
     throw refuseFact(text, {

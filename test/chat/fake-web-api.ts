@@ -12,6 +12,11 @@
  *   POST /response/<id>        slash-command response URLs (ephemeral replies)
  *   GET  /socket (WebSocket)   Socket Mode: sends {"type":"hello"}, then whatever envelopes a test sends
  *
+ * Several instances of the app can share one fake: an instance given `apiUrlFor(tag)` calls
+ * /t/<tag>/api/…, so each call records which instance made it (`Call.tag`), and its Socket Mode
+ * connection is known by the same tag (`sendEnvelopeTo(tag, …)`). `onCall` sees every call as it
+ * arrives, before it is answered.
+ *
  * Shapes of requests and responses follow the platform's published Web API reference
  * (auth.test, chat.postMessage, chat.postEphemeral, chat.getPermalink, chat.update, chat.delete,
  * files.getUploadURLExternal, files.completeUploadExternal, files.delete, views.open, views.update,
@@ -43,6 +48,8 @@ export interface Call {
   error?: string;
   /** what the fake answered (parsed JSON or text) */
   response?: unknown;
+  /** the instance that made the call (see apiUrlFor) */
+  tag?: string;
 }
 
 export interface Fault {
@@ -105,6 +112,9 @@ export class FakeWebApi {
   private ts = 0;
   private fileNo = 0;
   private readonly sockets = new Set<WebSocket>();
+  private readonly socketTags = new Map<WebSocket, string>();
+  /** called with every call as it arrives, before it is answered */
+  onCall?: (c: Call) => void;
   private readonly wss = new WebSocketServer({ noServer: true });
   private waiters: Array<() => void> = [];
   /** messages posted and not deleted, by `channel ts` */
@@ -127,6 +137,27 @@ export class FakeWebApi {
   /** Web API base URL, for KOLMO_API_URL */
   get apiUrl(): string {
     return `http://127.0.0.1:${this.port}/api/`;
+  }
+
+  /** Web API base URL for one of several instances: its calls carry `tag` */
+  apiUrlFor(tag: string): string {
+    return `http://127.0.0.1:${this.port}/t/${encodeURIComponent(tag)}/api/`;
+  }
+
+  /** Sends a Socket Mode envelope to the connection of the instance with that tag; false if it has none. */
+  sendEnvelopeTo(tag: string, envelope: Record<string, unknown>): boolean {
+    for (const [ws, t] of this.socketTags) {
+      if (t === tag && ws.readyState === ws.OPEN) {
+        ws.send(JSON.stringify(envelope));
+        return true;
+      }
+    }
+    return false;
+  }
+
+  /** tags of the open Socket Mode connections */
+  get socketTagList(): string[] {
+    return [...this.socketTags.entries()].filter(([ws]) => ws.readyState === ws.OPEN).map(([, t]) => t);
   }
 
   /**
@@ -157,7 +188,8 @@ export class FakeWebApi {
         socket.destroy();
         return;
       }
-      fake!.wss.handleUpgrade(req, socket, head, (ws) => fake!.onSocket(ws));
+      const tag = new URL(req.url, 'http://127.0.0.1').searchParams.get('tag') ?? undefined;
+      fake!.wss.handleUpgrade(req, socket, head, (ws) => fake!.onSocket(ws, tag));
     });
     return fake;
   }
@@ -232,8 +264,9 @@ export class FakeWebApi {
     for (const f of w) f();
   }
 
-  private onSocket(ws: WebSocket): void {
+  private onSocket(ws: WebSocket, tag?: string): void {
     this.sockets.add(ws);
+    if (tag !== undefined) this.socketTags.set(ws, tag);
     ws.on('message', (data) => {
       try {
         this.socketMessages.push({ at: performance.now(), data: JSON.parse(String(data)) as Record<string, unknown> });
@@ -242,7 +275,10 @@ export class FakeWebApi {
       }
       this.notify();
     });
-    ws.on('close', () => this.sockets.delete(ws));
+    ws.on('close', () => {
+      this.sockets.delete(ws);
+      this.socketTags.delete(ws);
+    });
     ws.send(JSON.stringify({ type: 'hello', num_connections: 1, debug_info: { host: 'fake-127.0.0.1' }, connection_info: { app_id: 'AKOLMOFAKE' } }));
   }
 
@@ -258,7 +294,9 @@ export class FakeWebApi {
       const at = performance.now();
       const raw = Buffer.concat(chunks);
       const url = new URL(req.url ?? '/', 'http://127.0.0.1');
-      const path = url.pathname;
+      const tagged = /^\/t\/([^/]+)(\/.*)$/.exec(url.pathname);
+      const tag = tagged ? decodeURIComponent(tagged[1]) : undefined;
+      const path = tagged ? tagged[2] : url.pathname;
       const type = req.headers['content-type'] ?? '';
       let method: string;
       let body: Record<string, unknown> = {};
@@ -289,8 +327,9 @@ export class FakeWebApi {
       } else {
         method = `unknown:${path}`;
       }
-      const call: Call = { method, path, body, raw, at, authorization: req.headers.authorization, status: 200 };
+      const call: Call = { method, path, body, raw, at, authorization: req.headers.authorization, status: 200, ...(tag !== undefined ? { tag } : {}) };
       this.calls.push(call);
+      this.onCall?.(call);
 
       const send = (status: number, payload: unknown, headers: Record<string, string> = {}) => {
         call.status = status;
@@ -420,7 +459,7 @@ export class FakeWebApi {
         case 'response':
           return send(200, 'ok');
         case 'apps.connections.open':
-          return send(200, { ok: true, url: `ws://127.0.0.1:${this.port}/socket` });
+          return send(200, { ok: true, url: `ws://127.0.0.1:${this.port}/socket${tag !== undefined ? `?tag=${encodeURIComponent(tag)}` : ''}` });
         default:
           return send(200, { ok: false, error: 'unknown_method' });
       }

@@ -29,7 +29,7 @@ async function reason(p: Promise<unknown>): Promise<string> {
 
 describe('worker pool', () => {
   it('answers with the real worker: a check with its PNG chart, help without one', async () => {
-    const pool = new WorkerPool({ size: 2, dbPath: null, taskTimeoutMs: 60000, script: realWorker });
+    const pool = new WorkerPool({ size: 2, db: null, taskTimeoutMs: 60000, script: realWorker });
     try {
       const [check, help, bad] = await Promise.all([pool.run(job(CHECK)), pool.run(job('help')), pool.run(job('check +2 call'))]);
       expect(check.reply.kind).toBe('answer');
@@ -45,7 +45,7 @@ describe('worker pool', () => {
   });
 
   it('a stuck job fails at its deadline, its worker is replaced, and the next job is answered', async () => {
-    const pool = new WorkerPool({ size: 1, dbPath: null, taskTimeoutMs: 1500, script: stuckWorker });
+    const pool = new WorkerPool({ size: 1, db: null, taskTimeoutMs: 1500, script: stuckWorker });
     try {
       expect(await reason(pool.run(job('hang')))).toBe('timeout');
       const next = await pool.run(job('help'));
@@ -56,7 +56,7 @@ describe('worker pool', () => {
   });
 
   it('a worker that dies fails only its own job; the others are answered', async () => {
-    const pool = new WorkerPool({ size: 1, dbPath: null, taskTimeoutMs: 30000, script: stuckWorker });
+    const pool = new WorkerPool({ size: 1, db: null, taskTimeoutMs: 30000, script: stuckWorker });
     try {
       const results = await Promise.all([reason(pool.run(job('help'))), reason(pool.run(job('crash'))), reason(pool.run(job('help')))]);
       expect(results).toEqual(['resolved', 'crashed', 'resolved']);
@@ -66,7 +66,7 @@ describe('worker pool', () => {
   });
 
   it('closing fails the jobs still waiting and refuses new ones', async () => {
-    const pool = new WorkerPool({ size: 1, dbPath: null, taskTimeoutMs: 30000, script: stuckWorker });
+    const pool = new WorkerPool({ size: 1, db: null, taskTimeoutMs: 30000, script: stuckWorker });
     const running = reason(pool.run(job('hang')));
     const waiting = reason(pool.run(job('help')));
     await new Promise((r) => setTimeout(r, 200));

@@ -19,7 +19,7 @@ import { answerLocal, replyText, CONSOLE_EXAMPLES, DEMO_MARKS } from '../../src/
 import { HELP_TOPICS, helpExamples } from '../../src/request/help.js';
 import { EXAMPLES } from '../../src/request/examples.js';
 import type { Reply } from '../../src/reply.js';
-import { openStore } from '../../src/store/store.js';
+import { openStore, asyncOf } from '../../src/store/store.js';
 
 const GOLDEN = fileURLToPath(new URL('./answers.json', import.meta.url));
 const NOW = new Date('2027-01-04T15:30:00Z');
@@ -76,8 +76,10 @@ describe('answers to the help examples are unchanged', () => {
   }
   store.putMark({ channel: 'cli', symbol: 'QUILLOP', spot: 41.05, iv: 0.36, rate: 0.0425, user: 'demo', at: '2027-01-02T09:00:00.000Z' });
 
-  it('byte for byte', () => {
-    const got = requests().map((text) => record(text, answerLocal(text, { channel: 'cli', user: 'golden', now: NOW, store })));
+  it('byte for byte', async () => {
+    const log = asyncOf(store, 'golden');
+    const got = [];
+    for (const text of requests()) got.push(record(text, await answerLocal(text, { channel: 'cli', user: 'golden', now: NOW, store: log })));
     if (process.env.KOLMO_GOLDEN_WRITE === '1') writeFileSync(GOLDEN, JSON.stringify(got, null, 1) + '\n');
     const want = JSON.parse(readFileSync(GOLDEN, 'utf8')) as unknown[];
     expect(got.length).toBe(want.length);

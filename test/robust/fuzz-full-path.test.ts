@@ -1,6 +1,6 @@
 /**
  * The full request path — the compute budget (src/chat/budget.ts), parse → resolve → engine →
- * report (src/verbs/ask.ts `askSync`, with a real in-memory log so `log`, `again` and `mark` do
+ * report (src/verbs/ask.ts `ask`, with a real in-memory log so `log`, `again` and `mark` do
  * real work) → chart (src/report/answer-chart.ts) — on 100,000 seeded requests generated from the
  * grammar (docs/design.md §2: legs, terms, percentages, dates, spans, jumps, `style american`, every
  * verb) and mutated (tokens deleted, duplicated, swapped or glued; numbers made huge, tiny,
@@ -19,9 +19,11 @@
  */
 import { describe, it, expect } from 'vitest';
 import fc from 'fast-check';
-import { askSync } from '../../src/verbs/ask.js';
+import { ask } from '../../src/verbs/ask.js';
 import { renderAnswerChart } from '../../src/report/answer-chart.js';
-import { openStore, type Store } from '../../src/store/store.js';
+import { asyncOf, openStore } from '../../src/store/store.js';
+
+type Store = ReturnType<typeof openStore>;
 import { COMPUTE_BUDGET_DEFAULT, overBudget } from '../../src/verbs/ask.js';
 
 const RUNS = Number(process.env.KOLMO_FUZZ_RUNS ?? 100_000);
@@ -203,14 +205,14 @@ describe('the full request path on 100,000 generated and mutated requests', () =
   it('never crashes, never shows NaN or Infinity, rejects with clear messages', { timeout: 600_000 }, async () => {
     const t: Tally = { requests: 0, answers: 0, rejections: 0, notYet: 0, overBudget: 0, charts: 0, chartNotes: 0, answersWithChart: 0 };
     let store: Store = openStore(':memory:');
-    const seedStore = (s: Store) => {
+    const seedStore = async (s: Store) => {
       // a mark for `on FERNWK` and a few log entries for `again N` and `log`
-      askSync('mark FERNWK spot 84.20 iv 31% yield 1.2%', { channel: 'CFUZZ00001', user: 'UFUZZ00001', now: NOW, store: s, inWorkspace: true });
+      await ask('mark FERNWK spot 84.20 iv 31% yield 1.2%', { channel: 'CFUZZ00001', user: 'UFUZZ00001', now: NOW, store: asyncOf(s, ':memory:'), inWorkspace: true });
       for (let i = 0; i < 3; i++) {
-        askSync(`check +1 call ${90 + i * 5} 2027-03-19 iv 28% spot 100 rate 4.5% drift 8% asof 2027-01-04`, { channel: 'CFUZZ00001', user: 'UFUZZ00001', now: NOW, store: s, inWorkspace: true });
+        await ask(`check +1 call ${90 + i * 5} 2027-03-19 iv 28% spot 100 rate 4.5% drift 8% asof 2027-01-04`, { channel: 'CFUZZ00001', user: 'UFUZZ00001', now: NOW, store: asyncOf(s, ':memory:'), inWorkspace: true });
       }
     };
-    seedStore(store);
+    await seedStore(store);
     const failures: string[] = [];
     await fc.assert(
       fc.asyncProperty(input, async (text) => {
@@ -219,10 +221,10 @@ describe('the full request path on 100,000 generated and mutated requests', () =
           // a fresh log now and then keeps memory flat over 100,000 checks
           store.close();
           store = openStore(':memory:');
-          seedStore(store);
+          await seedStore(store);
         }
         const refused = overBudget(text, COMPUTE_BUDGET_DEFAULT);
-        const reply = refused ?? askSync(text, { channel: 'CFUZZ00001', user: 'UFUZZ00001', now: NOW, store, inWorkspace: true });
+        const reply = refused ?? (await ask(text, { channel: 'CFUZZ00001', user: 'UFUZZ00001', now: NOW, store: asyncOf(store, ':memory:'), inWorkspace: true }));
         if (refused) t.overBudget++;
         if (reply.kind === 'rejected') {
           t.rejections++;

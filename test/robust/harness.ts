@@ -1,6 +1,6 @@
 /**
  * Helpers for the robustness tests: the real app (`node dist/src/main.js`) started in a folder the
- * test keeps (so a second start finds the first one's log and inbox), and a fault proxy between
+ * test keeps (so a second start finds the first one's log and request queue), and a fault proxy between
  * the app and the fake Web API that drops or stalls chosen calls — connection faults the fake
  * itself does not make. Loopback only; every wait bounded.
  */

@@ -24,7 +24,7 @@ async function reason(p: Promise<unknown>): Promise<string> {
 
 describe('worker pool deadlines', () => {
   it('a job waiting behind a stuck one is dropped as overloaded at the wait bound; the stuck one times out on its own budget', async () => {
-    const pool = new WorkerPool({ size: 1, dbPath: null, taskTimeoutMs: 4000, waitTimeoutMs: 800, script: stuckWorker });
+    const pool = new WorkerPool({ size: 1, db: null, taskTimeoutMs: 4000, waitTimeoutMs: 800, script: stuckWorker });
     try {
       const stuck = reason(pool.run(job('hang')));
       const waiting = reason(pool.run(job('help')));
@@ -41,7 +41,7 @@ describe('worker pool deadlines', () => {
     // budget 5 s; the second job waits the whole 5 s behind the first (which times out), then
     // must still get its own full budget on the replacement worker (start-up included) and be
     // answered — counted from submission it would have timed out before it started
-    const pool = new WorkerPool({ size: 1, dbPath: null, taskTimeoutMs: 5000, waitTimeoutMs: 20000, script: stuckWorker });
+    const pool = new WorkerPool({ size: 1, db: null, taskTimeoutMs: 5000, waitTimeoutMs: 20000, script: stuckWorker });
     try {
       const first = reason(pool.run(job('hang')));
       const second = reason(pool.run(job('help')));

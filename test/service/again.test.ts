@@ -22,9 +22,9 @@ afterEach(() => d.close());
 type Out = { outcome: { probProfit: number; expectedPnl: number } };
 
 describe('again of a check', () => {
-  it('unchanged: the same figures, posted as a new check', () => {
-    const a = answered(ask(d.store, SPREAD));
-    const b = answered(ask(d.store, 'again 1', { now: at(30) }));
+  it('unchanged: the same figures, posted as a new check', async () => {
+    const a = answered(await ask(d.store, SPREAD));
+    const b = answered(await ask(d.store, 'again 1', { now: at(30) }));
     expect(b.logNumber).toBe(2);
     expect(figures(b.json)).toEqual(figures(a.json));
     expect(b.text).toContain('changed: nothing');
@@ -32,10 +32,10 @@ describe('again of a check', () => {
     expect(d.store.get('C0DESKA', 2)!.text).toBe(SPREAD);
   });
 
-  it('with terms: the same as the merged request asked directly, says what changed and the change in chance of profit and expected P&L', () => {
-    const a = answered(ask(d.store, SPREAD));
-    const b = answered(ask(d.store, 'again 1 spot 102 vol 30%'));
-    const direct = answered(ask(d.store, SPREAD.replace('spot 100', 'spot 102') + ' vol 30%', { store: null }));
+  it('with terms: the same as the merged request asked directly, says what changed and the change in chance of profit and expected P&L', async () => {
+    const a = answered(await ask(d.store, SPREAD));
+    const b = answered(await ask(d.store, 'again 1 spot 102 vol 30%'));
+    const direct = answered(await ask(d.store, SPREAD.replace('spot 100', 'spot 102') + ' vol 30%', { store: null }));
     expect(figures(b.json)).toEqual(figures(direct.json));
     expect(b.text).toContain('changed: spot 100 → 102');
     const oa = (a.json as Out).outcome;
@@ -44,41 +44,41 @@ describe('again of a check', () => {
     expect(b.text).toContain(`expected P&L ${money(oa.expectedPnl, { sign: true })} → ${money(ob.expectedPnl, { sign: true })} (${money(ob.expectedPnl - oa.expectedPnl, { sign: true })})`);
   });
 
-  it('legs written replace the logged legs; the market terms stay', () => {
-    answered(ask(d.store, SPREAD));
-    const b = answered(ask(d.store, 'again 1 +1 put 95 2027-03-19 iv 31%'));
+  it('legs written replace the logged legs; the market terms stay', async () => {
+    answered(await ask(d.store, SPREAD));
+    const b = answered(await ask(d.store, 'again 1 +1 put 95 2027-03-19 iv 31%'));
     const legs = b.json.legs as { type: string; strike: number }[];
     expect(legs).toHaveLength(1);
     expect(legs[0]).toMatchObject({ type: 'put', strike: 95 });
     expect((b.json.market as { spot: number }).spot).toBe(100);
   });
 
-  it('a check logged without asof reruns as of its own day; `asof today` moves it to the rerun\'s day', () => {
+  it('a check logged without asof reruns as of its own day; `asof today` moves it to the rerun\'s day', async () => {
     const noAsof = SPREAD.replace(' asof 2027-01-04', '');
-    const a = answered(ask(d.store, noAsof, { now: at(0) }));
+    const a = answered(await ask(d.store, noAsof, { now: at(0) }));
     expect(a.json.asof).toBe('2027-01-04');
-    const later = answered(ask(d.store, 'again 1 spot 102', { now: at(72) }));
+    const later = answered(await ask(d.store, 'again 1 spot 102', { now: at(72) }));
     expect(later.json.asof).toBe('2027-01-04');
     expect(later.text).toContain('asof 2027-01-04 kept from #1');
-    const today = answered(ask(d.store, 'again 1 spot 102 asof today', { now: at(72) }));
+    const today = answered(await ask(d.store, 'again 1 spot 102 asof today', { now: at(72) }));
     expect(today.json.asof).toBe('2027-01-07');
     expect(today.text).toContain('asof 2027-01-04 → 2027-01-07');
     // and it means the request written out with that asof
-    const direct = answered(ask(null, `${noAsof.replace('spot 100', 'spot 102')} asof 2027-01-07`));
+    const direct = answered(await ask(null, `${noAsof.replace('spot 100', 'spot 102')} asof 2027-01-07`));
     expect(figures(today.json)).toEqual(figures(direct.json));
   });
 
-  it('a bad change is rejected with the caret in the again request, and nothing is logged', () => {
-    answered(ask(d.store, SPREAD));
-    const r = rejected(ask(d.store, 'again 1 vol 0.3'));
+  it('a bad change is rejected with the caret in the again request, and nothing is logged', async () => {
+    answered(await ask(d.store, SPREAD));
+    const r = rejected(await ask(d.store, 'again 1 vol 0.3'));
     expect(r.at).toBe('again 1 '.length + 'vol '.length);
     expect(r.message).toContain('30%');
     expect(d.store.recent('C0DESKA', 10)).toHaveLength(1);
   });
 
-  it('a change the rerun cannot take (a horizon after the expiry) quotes the request that was run', () => {
-    answered(ask(d.store, SPREAD));
-    const r = rejected(ask(d.store, 'again 1 horizon 2027-06-01'));
+  it('a change the rerun cannot take (a horizon after the expiry) quotes the request that was run', async () => {
+    answered(await ask(d.store, SPREAD));
+    const r = rejected(await ask(d.store, 'again 1 horizon 2027-06-01'));
     expect(r.message).toContain('again 1 reruns check #1');
     expect(r.message).toContain('horizon 2027-06-01');
     expect(d.store.recent('C0DESKA', 10)).toHaveLength(1);
@@ -86,12 +86,12 @@ describe('again of a check', () => {
 });
 
 describe('again of every verb', () => {
-  it('a comparison: changes apply to every part that states them; the figures equal the comparison written out', () => {
+  it('a comparison: changes apply to every part that states them; the figures equal the comparison written out', async () => {
     const cmp = `compare ${SPREAD} ; drift 0% ; vol 35%`;
-    answered(ask(d.store, cmp));
-    const b = answered(ask(d.store, 'again 1 spot 98'));
+    answered(await ask(d.store, cmp));
+    const b = answered(await ask(d.store, 'again 1 spot 98'));
     expect(b.logNumber).toBe(2);
-    const direct = answered(ask(null, cmp.replace('spot 100', 'spot 98')));
+    const direct = answered(await ask(null, cmp.replace('spot 100', 'spot 98')));
     const checks = (x: typeof b) => (x.json.checks as Record<string, unknown>[]).map(figures);
     expect(checks(b)).toEqual(checks(direct));
     expect(b.text).toContain('part 1: spot 100 → 98');
@@ -100,55 +100,55 @@ describe('again of every verb', () => {
     expect(d.store.get('C0DESKA', 2)!.verb).toBe('compare');
   });
 
-  it('an iv request: the new price gives the iv of the request written out, and the change in iv', () => {
+  it('an iv request: the new price gives the iv of the request written out, and the change in iv', async () => {
     const iv = 'iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5% yield 1% asof 2027-01-04';
-    const a = answered(ask(d.store, iv));
-    const b = answered(ask(d.store, 'again 1 price 3.50'));
-    const direct = answered(ask(null, iv.replace('price 3.10', 'price 3.50')));
+    const a = answered(await ask(d.store, iv));
+    const b = answered(await ask(d.store, 'again 1 price 3.50'));
+    const direct = answered(await ask(null, iv.replace('price 3.10', 'price 3.50')));
     expect(b.json.iv).toBe(direct.json.iv);
     expect(b.json.iv as number).toBeGreaterThan(a.json.iv as number); // vega > 0: a dearer option has a higher iv
     expect(b.text).toContain(`iv ${pct(a.json.iv as number, 2)} → ${pct(b.json.iv as number, 2)}`);
     expect(b.text).toContain('price 3.10 → 3.50');
   });
 
-  it('a touch request: the new vol gives the chances of the request written out', () => {
+  it('a touch request: the new vol gives the chances of the request written out', async () => {
     const t = 'touch 120 by 2027-03-19 spot 100 drift 8% vol 25% asof 2027-01-04';
-    const a = answered(ask(d.store, t));
-    const b = answered(ask(d.store, 'again 1 vol 35%'));
-    const direct = answered(ask(null, t.replace('vol 25%', 'vol 35%')));
+    const a = answered(await ask(d.store, t));
+    const b = answered(await ask(d.store, 'again 1 vol 35%'));
+    const direct = answered(await ask(null, t.replace('vol 25%', 'vol 35%')));
     expect(b.json.probTouchView).toBe(direct.json.probTouchView);
     expect(b.text).toContain(`chance of touching ${pct(a.json.probTouchView as number)} → ${pct(b.json.probTouchView as number)}`);
     expect(b.text).toContain('vol 25% → 35%');
   });
 
-  it('iv, touch and a `check`-prefixed request logged without asof keep their day too', () => {
-    answered(ask(d.store, 'iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5%'));
-    answered(ask(d.store, 'touch 120 by 2027-03-19 spot 100 drift 8% vol 25% asof today'));
-    answered(ask(d.store, 'check +1 call 105 2027-03-19 iv 28% spot 100'));
+  it('iv, touch and a `check`-prefixed request logged without asof keep their day too', async () => {
+    answered(await ask(d.store, 'iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5%'));
+    answered(await ask(d.store, 'touch 120 by 2027-03-19 spot 100 drift 8% vol 25% asof today'));
+    answered(await ask(d.store, 'check +1 call 105 2027-03-19 iv 28% spot 100'));
     for (const n of [1, 2, 3]) {
-      const r = answered(ask(d.store, `again ${n}`, { now: at(48) }));
+      const r = answered(await ask(d.store, `again ${n}`, { now: at(48) }));
       expect(r.json.asof, `again ${n}`).toBe('2027-01-04');
-      expect(answered(ask(d.store, `again ${n} asof today`, { now: at(48) })).json.asof).toBe('2027-01-06');
+      expect(answered(await ask(d.store, `again ${n} asof today`, { now: at(48) })).json.asof).toBe('2027-01-06');
     }
   });
 
-  it('again of an again entry reruns the request that entry ran', () => {
-    answered(ask(d.store, SPREAD));
-    const b = answered(ask(d.store, 'again 1 spot 103'));
+  it('again of an again entry reruns the request that entry ran', async () => {
+    answered(await ask(d.store, SPREAD));
+    const b = answered(await ask(d.store, 'again 1 spot 103'));
     expect(d.store.get('C0DESKA', 2)!.text).toContain('spot 103');
-    const c = answered(ask(d.store, 'again 2', { now: at(50) }));
+    const c = answered(await ask(d.store, 'again 2', { now: at(50) }));
     expect(figures(c.json)).toEqual(figures(b.json));
-    const e = answered(ask(d.store, 'again 2 drift 0%'));
-    const direct = answered(ask(null, SPREAD.replace('spot 100', 'spot 103').replace('drift 9%', 'drift 0%')));
+    const e = answered(await ask(d.store, 'again 2 drift 0%'));
+    const direct = answered(await ask(null, SPREAD.replace('spot 100', 'spot 103').replace('drift 9%', 'drift 0%')));
     expect(figures(e.json)).toEqual(figures(direct.json));
     // the log says which check each rerun came from
-    const log = answered(ask(d.store, 'log'));
+    const log = answered(await ask(d.store, 'log'));
     expect(log.text).toContain('again #2');
     expect(log.text).toContain('again #1');
   });
 
-  it('again of a number that is not a check of this channel, with no log, says so', () => {
-    expect(rejected(ask(d.store, 'again 1')).message).toContain('no check #1 in this channel');
-    expect(rejected(ask(null, 'again 1')).message).toMatch(/needs the channel's log/);
+  it('again of a number that is not a check of this channel, with no log, says so', async () => {
+    expect(rejected(await ask(d.store, 'again 1')).message).toContain('no check #1 in this channel');
+    expect(rejected(await ask(null, 'again 1')).message).toMatch(/needs the channel's log/);
   });
 });

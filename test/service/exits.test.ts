@@ -47,7 +47,7 @@ function parsed(text: string): CheckRequest {
 }
 
 describe('grammar', () => {
-  it('reads money and percentages, signed or not, and keeps where the value was written', () => {
+  it('reads money and percentages, signed or not, and keeps where the value was written', async () => {
     const r = parsed(`${CONDOR} target +400 stop -300`);
     expect(r.terms.target).toMatchObject({ value: 400, pct: false, signed: true });
     expect(r.terms.stop).toMatchObject({ value: -300, pct: false, signed: true });
@@ -59,30 +59,30 @@ describe('grammar', () => {
     expect(parsed(`${CONDOR} stop 300`).terms.target).toBeUndefined();
   });
 
-  it('refuses a level that is missing, not a number, zero or twice, with a caret and a corrected example that itself answers', () => {
+  it('refuses a level that is missing, not a number, zero or twice, with a caret and a corrected example that itself answers', async () => {
     for (const [text, bad] of [
       [`${CONDOR} target`, ''],
       [`${CONDOR} target high`, 'high'],
       [`${CONDOR} stop 0`, '0'],
       [`${CONDOR} target 80 target 90`, 'target'],
     ] as const) {
-      const r = rejected(ask(d.store, text));
+      const r = rejected(await ask(d.store, text));
       expect(r.message).toMatch(/\^/);
       if (bad) expect(text.slice(r.at, r.at + bad.length)).toBe(bad);
       const example = /Example: (.*)$/m.exec(r.message)![1];
-      expect(answered(ask(null, example)).kind).toBe('answer');
+      expect(answered(await ask(null, example)).kind).toBe('answer');
     }
   });
 
-  it('is not a term of touch or iv', () => {
-    const r = rejected(ask(d.store, 'touch 120 by 2027-03-19 spot 100 drift 8% vol 25% target 100'));
+  it('is not a term of touch or iv', async () => {
+    const r = rejected(await ask(d.store, 'touch 120 by 2027-03-19 spot 100 drift 8% vol 25% target 100'));
     expect(r.message).toMatch(/target does not apply to touch/);
   });
 });
 
 describe('a check with a target and a stop', () => {
-  it('carries `exits` under both walks, the same figures as the core, and one line saying monitoring is continuous', () => {
-    const a = answered(ask(d.store, `${CONDOR} target +80 stop -200`));
+  it('carries `exits` under both walks, the same figures as the core, and one line saying monitoring is continuous', async () => {
+    const a = answered(await ask(d.store, `${CONDOR} target +80 stop -200`));
     const e = exitsOf(a.json);
     expect(e.target).toBe(80);
     expect(e.stop).toBe(-200);
@@ -105,39 +105,39 @@ describe('a check with a target and a stop', () => {
     expect(numbersIn(a.json).every(Number.isFinite)).toBe(true);
   });
 
-  it('a percentage is of the position’s |cost|; an unsigned stop is a loss; either alone', () => {
-    const base = answered(ask(null, CONDOR)).json as { position: { cost: number } };
+  it('a percentage is of the position’s |cost|; an unsigned stop is a loss; either alone', async () => {
+    const base = answered(await ask(null, CONDOR)).json as { position: { cost: number } };
     const cost = Math.abs(base.position.cost);
-    const p = exitsOf(answered(ask(null, `${CONDOR} target 50% stop 100%`)).json);
+    const p = exitsOf(answered(await ask(null, `${CONDOR} target 50% stop 100%`)).json);
     expect(p.target).toBeCloseTo(0.5 * cost, 9);
     expect(p.stop).toBeCloseTo(-cost, 9);
-    const s = exitsOf(answered(ask(null, `${CONDOR} stop 300`)).json);
+    const s = exitsOf(answered(await ask(null, `${CONDOR} stop 300`)).json);
     expect(s.stop).toBe(-300);
     expect(s.target).toBeNull();
     expect(s.view.probTarget).toBe(0);
-    const t = exitsOf(answered(ask(null, `${CONDOR} target 100`)).json);
+    const t = exitsOf(answered(await ask(null, `${CONDOR} target 100`)).json);
     expect(t.stop).toBeNull();
     expect(t.view.probStop).toBe(0);
   });
 
-  it('without a target or a stop the answer is exactly today’s (no exits, the same figures and text)', () => {
-    const a = answered(ask(null, CONDOR));
+  it('without a target or a stop the answer is exactly today’s (no exits, the same figures and text)', async () => {
+    const a = answered(await ask(null, CONDOR));
     expect(a.json.exits).toBeUndefined();
-    const b = answered(ask(null, `${CONDOR} target +80`));
+    const b = answered(await ask(null, `${CONDOR} target +80`));
     const { exits: _e, ...rest } = b.json as Record<string, unknown>;
     expect(rest).toEqual(a.json);
     expect(b.text.split('\n').filter((l) => !l.startsWith('Exits'))).toEqual(a.text.split('\n'));
   });
 
-  it('a stop at exactly the maximum loss of a long call held before expiry is never reached before the horizon', () => {
+  it('a stop at exactly the maximum loss of a long call held before expiry is never reached before the horizon', async () => {
     const text = '+1 call 100 3m @2.50 iv 30% spot 100 rate 3% drift 8% horizon 1m asof 2027-01-04 stop 100%';
-    const e = exitsOf(answered(ask(null, text)).json);
+    const e = exitsOf(answered(await ask(null, text)).json);
     expect(e.stop).toBe(-250);
     expect(e.view.probStop).toBeLessThan(1e-9);
   });
 
-  it('with jumps: Monte Carlo with standard errors, and the line says so', () => {
-    const a = answered(ask(null, '+1 put 80 3m iv 30% spot 84.20 rate 4% drift 6% jumps 0.5/yr -8% 12% asof 2027-01-04 target 100 stop 200'));
+  it('with jumps: Monte Carlo with standard errors, and the line says so', async () => {
+    const a = answered(await ask(null, '+1 put 80 3m iv 30% spot 84.20 rate 4% drift 6% jumps 0.5/yr -8% 12% asof 2027-01-04 target 100 stop 200'));
     const e = exitsOf(a.json);
     expect(e.view.method).toBe('monte-carlo');
     expect(e.view.stderr!.probTarget).toBeGreaterThan(0);
@@ -153,48 +153,48 @@ describe('levels that make no sense for the position get a caret, the reason and
     [`${CONDOR} style american target 80`, '80', /European exercise only/],
   ];
   for (const [text, bad, why] of cases) {
-    it(`${bad}: ${why.source}`, () => {
-      const r = rejected(ask(d.store, text));
+    it(`${bad}: ${why.source}`, async () => {
+      const r = rejected(await ask(d.store, text));
       expect(r.message).toMatch(why);
       expect(text.slice(r.at, r.at + bad.length)).toBe(bad);
       const example = /Example: (.*)$/m.exec(r.message)![1];
-      expect(answered(ask(null, example)).kind).toBe('answer');
+      expect(answered(await ask(null, example)).kind).toBe('answer');
     });
   }
 
-  it('a percentage on a position that costs nothing', () => {
+  it('a percentage on a position that costs nothing', async () => {
     const text = '+1 call 100 3m @3 iv 30% -1 put 90 3m @3 iv 30% spot 100 asof 2027-01-04 target 50%';
-    const r = rejected(ask(null, text));
+    const r = rejected(await ask(null, text));
     expect(r.message).toMatch(/costs 0\.00/);
-    expect(answered(ask(null, /Example: (.*)$/m.exec(r.message)![1])).kind).toBe('answer');
+    expect(answered(await ask(null, /Example: (.*)$/m.exec(r.message)![1])).kind).toBe('answer');
   });
 
-  it('nothing is logged for a refused level', () => {
-    rejected(ask(d.store, `${CONDOR} target -50`));
-    expect(answered(ask(d.store, 'log')).text).not.toMatch(/#1/);
+  it('nothing is logged for a refused level', async () => {
+    rejected(await ask(d.store, `${CONDOR} target -50`));
+    expect(answered(await ask(d.store, 'log')).text).not.toMatch(/#1/);
   });
 });
 
 describe('comparisons, again and the chart', () => {
-  it('a comparison inherits the levels and shows them per part', () => {
-    const a = answered(ask(d.store, `compare ${CONDOR} target 80 stop 200 ; drift 0% ; target 50%`));
+  it('a comparison inherits the levels and shows them per part', async () => {
+    const a = answered(await ask(d.store, `compare ${CONDOR} target 80 stop 200 ; drift 0% ; target 50%`));
     const checks = a.json.checks as Record<string, unknown>[];
     expect(checks.map((c) => exitsOf(c).stop)).toEqual([-200, -200, -200]);
     expect(exitsOf(checks[2]).target).toBeCloseTo(0.5 * 165, 9);
     expect(a.text).toMatch(/target first/);
     expect(a.text).toMatch(/monitoring is continuous/);
-    const r = rejected(ask(d.store, `compare ${CONDOR} ; target -50`));
+    const r = rejected(await ask(d.store, `compare ${CONDOR} ; target -50`));
     expect(r.message).toMatch(/part 2 of the comparison/);
   });
 
-  it('again N takes a target added to a logged check', () => {
-    answered(ask(d.store, CONDOR));
-    const a = answered(ask(d.store, 'again 1 target 80 stop 200'));
+  it('again N takes a target added to a logged check', async () => {
+    answered(await ask(d.store, CONDOR));
+    const a = answered(await ask(d.store, 'again 1 target 80 stop 200'));
     expect(exitsOf(a.json).target).toBe(80);
   });
 
-  it('the chart marks both levels on the P&L axis and in the legend', () => {
-    const a = answered(ask(null, `${CONDOR} target +80 stop -200`));
+  it('the chart marks both levels on the P&L axis and in the legend', async () => {
+    const a = answered(await ask(null, `${CONDOR} target +80 stop -200`));
     const cfg = checkChartConfig(a.chart as Parameters<typeof checkChartConfig>[0]);
     const lines = cfg.options!.plugins!.kolmo!.hlines ?? [];
     expect(lines.filter((h) => h.axis === 'yPnl').map((h) => h.y).sort((x, y) => (x ?? 0) - (y ?? 0))).toEqual([-200, 0, 80]);
@@ -207,7 +207,7 @@ describe('comparisons, again and the chart', () => {
     expect(y.max).toBeGreaterThanOrEqual(80);
   });
 
-  it('targets and stops are costed in the compute budget, more with jumps', () => {
+  it('targets and stops are costed in the compute budget, more with jumps', async () => {
     const plain = checkCost(parsed(CONDOR));
     const withExits = checkCost(parsed(`${CONDOR} target 80`));
     const withJumps = checkCost(parsed(`${CONDOR} jumps 1/yr -5% 10% target 80`));

@@ -2,9 +2,11 @@
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { askSync, type AskContext } from '../../src/verbs/ask.js';
+import { ask as askSeam, type AskContext } from '../../src/verbs/ask.js';
 import type { Answer, Rejection, Reply } from '../../src/reply.js';
-import { openStore, type OpenOptions, type Store } from '../../src/store/store.js';
+import { asyncOf, openStore, type OpenOptions } from '../../src/store/store.js';
+
+type Store = ReturnType<typeof openStore>;
 
 export interface Desk {
   dir: string;
@@ -42,8 +44,9 @@ export function at(hoursAfterT0: number): Date {
   return new Date(T0.getTime() + hoursAfterT0 * 3_600_000);
 }
 
-export function ask(store: Store | null, text: string, ctx: Partial<AskContext> = {}): Reply {
-  return askSync(text, { channel: 'C0DESKA', user: 'U0ALICE', now: T0, store, ...ctx });
+/** Asks the seam with the desk's log (the SQLite file, through the async interface). */
+export function ask(store: Store | null, text: string, ctx: Partial<AskContext> = {}): Promise<Reply> {
+  return askSeam(text, { channel: 'C0DESKA', user: 'U0ALICE', now: T0, store: store ? asyncOf(store, 'test') : null, ...ctx });
 }
 
 export function answered(r: Reply): Answer {

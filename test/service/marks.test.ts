@@ -22,8 +22,8 @@ const ON = '+1 call 90 2027-03-19 -1 call 100 2027-03-19 on FERNWK drift 9% asof
 const WRITTEN = '+1 call 90 2027-03-19 -1 call 100 2027-03-19 spot 84.20 iv 31% yield 1.2% rate 4.5% drift 9% asof 2027-01-04';
 
 describe('mark SYMBOL …', () => {
-  it('records who and when, is posted to the channel (not only to the asker) and takes no log number', () => {
-    const r = answered(ask(d.store, MARK, { user: 'U0BOB' }));
+  it('records who and when, is posted to the channel (not only to the asker) and takes no log number', async () => {
+    const r = answered(await ask(d.store, MARK, { user: 'U0BOB' }));
     expect(r.ephemeral).toBe(false);
     expect(r.logNumber).toBeUndefined();
     expect(r.json).toMatchObject({ kind: 'mark', symbol: 'FERNWK', spot: 84.2, iv: 0.31, yield: 0.012, rate: 0.045, user: 'U0BOB' });
@@ -31,19 +31,19 @@ describe('mark SYMBOL …', () => {
     expect(d.store.recent('C0DESKA', 10)).toEqual([]);
   });
 
-  it('a new mark replaces the old one as a whole and says which terms were not carried over', () => {
-    answered(ask(d.store, MARK));
-    const r = answered(ask(d.store, 'mark fernwk spot 86', { now: at(3) }));
+  it('a new mark replaces the old one as a whole and says which terms were not carried over', async () => {
+    answered(await ask(d.store, MARK));
+    const r = answered(await ask(d.store, 'mark fernwk spot 86', { now: at(3) }));
     expect(d.store.getMark('C0DESKA', 'FERNWK')).toMatchObject({ spot: 86 });
     expect(d.store.getMark('C0DESKA', 'FERNWK')!.iv).toBeUndefined();
     expect(r.text).toMatch(/its iv, yield, rate are not carried over/);
     expect(r.json.replaced).toMatchObject({ spot: 84.2, iv: 0.31 });
   });
 
-  it('`mark` lists the channel\'s marks to the asker with age and stale flag; `mark SYMBOL` shows one', () => {
-    answered(ask(d.store, MARK, { now: at(0) }));
-    answered(ask(d.store, 'mark QUILLOP spot 41.05 iv 36%', { now: at(20) }));
-    const list = answered(ask(d.store, 'mark', { now: at(26) }));
+  it('`mark` lists the channel\'s marks to the asker with age and stale flag; `mark SYMBOL` shows one', async () => {
+    answered(await ask(d.store, MARK, { now: at(0) }));
+    answered(await ask(d.store, 'mark QUILLOP spot 41.05 iv 36%', { now: at(20) }));
+    const list = answered(await ask(d.store, 'mark', { now: at(26) }));
     expect(list.ephemeral).toBe(true);
     const marks = list.json.marks as { symbol: string; stale: boolean; ageMinutes: number }[];
     expect(marks.map((m) => [m.symbol, m.stale, m.ageMinutes])).toEqual([
@@ -52,56 +52,56 @@ describe('mark SYMBOL …', () => {
     ]);
     expect(list.text.split('\n').find((l) => l.startsWith('FERNWK'))).toContain('STALE');
     expect(list.text.split('\n').find((l) => l.startsWith('QUILLOP'))).not.toContain('STALE');
-    const one = answered(ask(d.store, 'mark quillop', { now: at(26) }));
+    const one = answered(await ask(d.store, 'mark quillop', { now: at(26) }));
     expect((one.json.marks as unknown[]).length).toBe(1);
-    expect(rejected(ask(d.store, 'mark BRISAND')).message).toContain('no mark for BRISAND');
+    expect(rejected(await ask(d.store, 'mark BRISAND')).message).toContain('no mark for BRISAND');
   });
 });
 
 describe('on SYMBOL', () => {
-  it('fills the market terms: the same figures as the terms written out', () => {
-    answered(ask(d.store, MARK));
-    const on = answered(ask(d.store, ON));
-    const written = answered(ask(d.store, WRITTEN));
+  it('fills the market terms: the same figures as the terms written out', async () => {
+    answered(await ask(d.store, MARK));
+    const on = answered(await ask(d.store, ON));
+    const written = answered(await ask(d.store, WRITTEN));
     expect(figures(on.json)).toEqual(figures(written.json));
   });
 
-  it('terms in the request override the mark', () => {
-    answered(ask(d.store, MARK));
-    const on = answered(ask(d.store, `${ON} spot 88 iv 29%`));
-    const written = answered(ask(d.store, WRITTEN.replace('spot 84.20', 'spot 88').replace('iv 31%', 'iv 29%')));
+  it('terms in the request override the mark', async () => {
+    answered(await ask(d.store, MARK));
+    const on = answered(await ask(d.store, `${ON} spot 88 iv 29%`));
+    const written = answered(await ask(d.store, WRITTEN.replace('spot 84.20', 'spot 88').replace('iv 31%', 'iv 29%')));
     expect(figures(on.json)).toEqual(figures(written.json));
     expect((on.json.market as { spot: number }).spot).toBe(88);
   });
 
-  it('fills iv and touch requests too', () => {
-    answered(ask(d.store, MARK));
-    const iv = answered(ask(d.store, 'iv put 80 2027-03-19 price 2.10 on FERNWK asof 2027-01-04'));
-    const ivW = answered(ask(d.store, 'iv put 80 2027-03-19 price 2.10 spot 84.20 yield 1.2% rate 4.5% asof 2027-01-04'));
+  it('fills iv and touch requests too', async () => {
+    answered(await ask(d.store, MARK));
+    const iv = answered(await ask(d.store, 'iv put 80 2027-03-19 price 2.10 on FERNWK asof 2027-01-04'));
+    const ivW = answered(await ask(d.store, 'iv put 80 2027-03-19 price 2.10 spot 84.20 yield 1.2% rate 4.5% asof 2027-01-04'));
     expect(iv.json.iv).toBe(ivW.json.iv);
-    const t = answered(ask(d.store, 'touch 95 by 2027-03-19 on FERNWK drift 6% asof 2027-01-04'));
-    const tW = answered(ask(d.store, 'touch 95 by 2027-03-19 spot 84.20 vol 31% yield 1.2% rate 4.5% drift 6% asof 2027-01-04'));
+    const t = answered(await ask(d.store, 'touch 95 by 2027-03-19 on FERNWK drift 6% asof 2027-01-04'));
+    const tW = answered(await ask(d.store, 'touch 95 by 2027-03-19 spot 84.20 vol 31% yield 1.2% rate 4.5% drift 6% asof 2027-01-04'));
     expect(t.json.probTouchView).toBe(tW.json.probTouchView);
   });
 
-  it('states the mark\'s age; flags it as stale only when it is older than a day', () => {
-    answered(ask(d.store, MARK, { user: 'U0BOB', now: at(0) }));
-    const fresh = answered(ask(d.store, ON, { now: at(3) }));
+  it('states the mark\'s age; flags it as stale only when it is older than a day', async () => {
+    answered(await ask(d.store, MARK, { user: 'U0BOB', now: at(0) }));
+    const fresh = answered(await ask(d.store, ON, { now: at(3) }));
     expect(fresh.json.mark).toMatchObject({ symbol: 'FERNWK', user: 'U0BOB', ageMinutes: 180, stale: false });
     expect(fresh.text).toContain('Mark FERNWK: recorded 2027-01-04 14:00 UTC by U0BOB, 3 h 00 min old.');
     expect(fresh.headline).not.toContain('stale');
-    const day = answered(ask(d.store, ON, { now: at(24) }));
+    const day = answered(await ask(d.store, ON, { now: at(24) }));
     expect(day.json.mark).toMatchObject({ stale: false });
-    const stale = answered(ask(d.store, ON, { now: at(24 + 1 / 60) }));
+    const stale = answered(await ask(d.store, ON, { now: at(24 + 1 / 60) }));
     expect(stale.json.mark).toMatchObject({ stale: true, ageMinutes: 24 * 60 + 1 });
     expect(stale.text).toContain('STALE');
     expect(stale.headline).toContain('mark FERNWK stale');
-    const days = answered(ask(d.store, ON, { now: at(75) }));
+    const days = answered(await ask(d.store, ON, { now: at(75) }));
     expect(days.text).toContain('3 days 3 h old');
   });
 
-  it('a symbol without a mark is rejected with the caret on `on SYMBOL` and an example that records one', () => {
-    const r = rejected(ask(d.store, ON));
+  it('a symbol without a mark is rejected with the caret on `on SYMBOL` and an example that records one', async () => {
+    const r = rejected(await ask(d.store, ON));
     expect(r.at).toBe(ON.indexOf('on FERNWK'));
     expect(r.message).toContain('mark FERNWK spot');
     expect(d.store.recent('C0DESKA', 10)).toEqual([]);

@@ -16,23 +16,23 @@ beforeEach(() => {
 afterEach(() => d.close());
 
 describe('a read-only log', () => {
-  it('answers, flags the answer as not logged, still reads the log and the marks, and refuses to record a mark', () => {
-    answered(ask(d.store, 'mark FERNWK spot 84.20 iv 31%'));
-    const first = answered(ask(d.store, SPREAD));
+  it('answers, flags the answer as not logged, still reads the log and the marks, and refuses to record a mark', async () => {
+    answered(await ask(d.store, 'mark FERNWK spot 84.20 iv 31%'));
+    const first = answered(await ask(d.store, SPREAD));
     const ro = d.open({ readonly: true });
-    const a = answered(ask(ro, SPREAD));
+    const a = answered(await ask(ro, SPREAD));
     expect(a.logNumber).toBeUndefined();
     expect(a.warnings.join(' ')).toMatch(/Not logged: the log could not be written: the log file is read-only/);
     expect(a.text).toBe(first.text);
     // reading works
-    expect((answered(ask(ro, 'log')).json.entries as unknown[]).length).toBe(1);
-    const on = answered(ask(ro, '+1 call 90 2027-03-19 on FERNWK asof 2027-01-04'));
+    expect((answered(await ask(ro, 'log')).json.entries as unknown[]).length).toBe(1);
+    const on = answered(await ask(ro, '+1 call 90 2027-03-19 on FERNWK asof 2027-01-04'));
     expect(on.warnings.join(' ')).toContain('Not logged');
-    const again = answered(ask(ro, 'again 1 drift 2%'));
+    const again = answered(await ask(ro, 'again 1 drift 2%'));
     expect(again.logNumber).toBeUndefined();
     expect(again.warnings.join(' ')).toContain('read-only');
     // writing a mark is the request itself: it is refused, and says why
-    const m = rejected(ask(ro, 'mark FERNWK spot 90'));
+    const m = rejected(await ask(ro, 'mark FERNWK spot 90'));
     expect(m.message).toContain('the mark for FERNWK was not recorded');
     expect(m.message).toContain('read-only');
     expect(d.store.getMark('C0DESKA', 'FERNWK')!.spot).toBe(84.2);
@@ -41,9 +41,9 @@ describe('a read-only log', () => {
 });
 
 describe('a full log', () => {
-  it('answers checks and comparisons, flagged as not logged (disk full); what was logged stays', () => {
+  it('answers checks and comparisons, flagged as not logged (disk full); what was logged stays', async () => {
     const full = d.open({ maxBytes: 96 * 1024 });
-    const first = answered(ask(full, SPREAD));
+    const first = answered(await ask(full, SPREAD));
     expect(first.logNumber).toBe(1);
     // fill it for real, in another channel, until SQLite refuses
     // (large entries first, then small ones until not even a small one fits)
@@ -60,11 +60,11 @@ describe('a full log', () => {
     }
     expect(err).toBeInstanceOf(StoreError);
     expect((err as StoreError).code).toBe('full');
-    const a = answered(ask(full, SPREAD));
+    const a = answered(await ask(full, SPREAD));
     expect(a.logNumber).toBeUndefined();
     expect(a.warnings.join(' ')).toContain('Not logged: the log could not be written: disk full');
     expect(figures(a.json)).toEqual(figures(first.json));
-    const c = answered(ask(full, `compare ${SPREAD} ; drift 0%`));
+    const c = answered(await ask(full, `compare ${SPREAD} ; drift 0%`));
     expect(c.warnings.join(' ')).toContain('disk full');
     expect((c.json.checks as unknown[]).length).toBe(2);
     expect(full.get('C0DESKA', 1)!.text).toBe(SPREAD);
@@ -72,13 +72,13 @@ describe('a full log', () => {
 });
 
 describe('no log at all', () => {
-  it('answers checks without a number and without a warning; log, again and mark say they need the log', () => {
-    const a = answered(ask(null, SPREAD));
+  it('answers checks without a number and without a warning; log, again and mark say they need the log', async () => {
+    const a = answered(await ask(null, SPREAD));
     expect(a.logNumber).toBeUndefined();
     expect(a.warnings).toEqual([]);
     for (const t of ['log', 'again 1', 'mark', 'mark FERNWK spot 80']) {
-      expect(rejected(ask(null, t)).message).toMatch(/needs the channel's log/);
+      expect(rejected(await ask(null, t)).message).toMatch(/needs the channel's log/);
     }
-    expect(rejected(ask(null, '+1 call 90 3m on FERNWK')).message).toContain('no mark for FERNWK');
+    expect(rejected(await ask(null, '+1 call 90 3m on FERNWK')).message).toContain('no mark for FERNWK');
   });
 });

@@ -20,71 +20,71 @@ type J = Record<string, any>;
 const CALL = '+1 call 100 2028-01-04 @10 iv 25% spot 100 rate 4% vol 25% asof 2027-01-04';
 
 describe('drift with its uncertainty', () => {
-  it('three spellings mean the same; the view moves, the market column does not', () => {
-    const forms = ['drift 9% ± 30%', 'drift 9%±30%', 'drift 9% +/- 30%'].map((f) => answered(ask(null, `${CALL} ${f}`)).json as J);
+  it('three spellings mean the same; the view moves, the market column does not', async () => {
+    const forms = await Promise.all(['drift 9% ± 30%', 'drift 9%±30%', 'drift 9% +/- 30%'].map(async (f) => answered(await ask(null, `${CALL} ${f}`)).json as J));
     expect(figures(forms[1])).toEqual(figures(forms[0]));
     expect(figures(forms[2])).toEqual(figures(forms[0]));
     expect(forms[0].view.driftSe).toBe(0.3);
-    const known = answered(ask(null, `${CALL} drift 9%`)).json as J;
+    const known = answered(await ask(null, `${CALL} drift 9%`)).json as J;
     expect(known.view.driftSe).toBeUndefined();
     expect(forms[0].outcomeRiskNeutral).toEqual(known.outcomeRiskNeutral);
     expect(forms[0].outcome.pnlQuantiles.p95).toBeGreaterThan(known.outcome.pnlQuantiles.p95 + 100);
     expect(forms[0].knownDrift).toEqual({ probProfit: known.outcome.probProfit, pnlQuantiles: { p05: known.outcome.pnlQuantiles.p05, p95: known.outcome.pnlQuantiles.p95 } });
   });
 
-  it('chance of profit of a call at expiry equals the closed form with the inflated variance', () => {
-    const j = answered(ask(null, `${CALL} drift 9% ± 30%`)).json as J;
+  it('chance of profit of a call at expiry equals the closed form with the inflated variance', async () => {
+    const j = answered(await ask(null, `${CALL} drift 9% ± 30%`)).json as J;
     const h = 365 / 365;
     const want = normCdf((Math.log(100 / 110) + (0.09 - 0.5 * 0.25 ** 2) * h) / Math.sqrt(0.25 ** 2 * h + 0.3 ** 2 * h * h));
     expect(j.outcome.probProfit).toBeCloseTo(want, 10);
   });
 
-  it('τ = 0 is the known drift exactly', () => {
-    const a = answered(ask(null, SPREAD.replace('drift 9%', 'drift 9% ± 0%'))).json as J;
-    const b = answered(ask(null, SPREAD)).json as J;
+  it('τ = 0 is the known drift exactly', async () => {
+    const a = answered(await ask(null, SPREAD.replace('drift 9%', 'drift 9% ± 0%'))).json as J;
+    const b = answered(await ask(null, SPREAD)).json as J;
     expect(figures(a)).toEqual(figures(b));
     expect(a.knownDrift).toBeUndefined();
   });
 
-  it('the answer sets p05–p95 and chance of profit beside those with the drift known, in one line', () => {
-    const t = answered(ask(null, `${CALL} drift 9% ± 30%`)).text;
+  it('the answer sets p05–p95 and chance of profit beside those with the drift known, in one line', async () => {
+    const t = answered(await ask(null, `${CALL} drift 9% ± 30%`)).text;
     const line = t.split('\n').find((l) => l.startsWith('drift 9% ± 30%: P&L p05–p95'));
     expect(line).toMatch(/chance of profit \d+\.\d% \(drift known: .* … .*, \d+\.\d%\)$/);
     expect(t).toMatch(/view drift 9% ± 30%, vol 25%/);
   });
 
-  it('compare: a part that writes the drift again drops the uncertainty; other parts inherit it', () => {
-    const a = answered(ask(d.store, `compare ${CALL} drift 9% ± 30% ; vol 30% ; drift 12%`)).json as J;
+  it('compare: a part that writes the drift again drops the uncertainty; other parts inherit it', async () => {
+    const a = answered(await ask(d.store, `compare ${CALL} drift 9% ± 30% ; vol 30% ; drift 12%`)).json as J;
     const [p1, p2, p3] = a.checks as J[];
     expect(p1.view.driftSe).toBe(0.3);
     expect(p2.view.driftSe).toBe(0.3);
     expect(p3.view.driftSe).toBeUndefined();
   });
 
-  it('touch: the chance of touching is the mixture over the drift', () => {
-    const j = answered(ask(null, 'touch 120 by 2028-01-04 spot 100 drift 8% ± 25% vol 25% asof 2027-01-04')).json as J;
+  it('touch: the chance of touching is the mixture over the drift', async () => {
+    const j = answered(await ask(null, 'touch 120 by 2028-01-04 spot 100 drift 8% ± 25% vol 25% asof 2027-01-04')).json as J;
     expect(j.view.driftSe).toBe(0.25);
     expect(j.probTouchView).toBeCloseTo(touchProbPredictive(100, 120, 365 / 365, 0.08, 0.25, 0, 0.25), 14);
-    expect(j.probTouchRiskNeutral).toBe((answered(ask(null, 'touch 120 by 2028-01-04 spot 100 drift 8% vol 25% asof 2027-01-04')).json as J).probTouchRiskNeutral);
+    expect(j.probTouchRiskNeutral).toBe((answered(await ask(null, 'touch 120 by 2028-01-04 spot 100 drift 8% vol 25% asof 2027-01-04')).json as J).probTouchRiskNeutral);
   });
 
-  it('again N with the uncertainty as an override', () => {
-    answered(ask(d.store, `${CALL} drift 9%`));
-    const j = answered(ask(d.store, 'again 1 drift 9% ± 30%')).json as J;
+  it('again N with the uncertainty as an override', async () => {
+    answered(await ask(d.store, `${CALL} drift 9%`));
+    const j = answered(await ask(d.store, 'again 1 drift 9% ± 30%')).json as J;
     expect(j.view.driftSe).toBe(0.3);
   });
 
-  it('bad uncertainties get the caret and a corrected example', () => {
-    const r1 = rejected(ask(null, `${CALL} drift 9% ± 0.06`));
+  it('bad uncertainties get the caret and a corrected example', async () => {
+    const r1 = rejected(await ask(null, `${CALL} drift 9% ± 0.06`));
     expect(r1.message).toMatch(/did you mean 6%\?/);
     expect(r1.at).toBe(`${CALL} drift 9% ± `.length);
-    const r2 = rejected(ask(null, `${CALL} drift 9% ± -6%`));
+    const r2 = rejected(await ask(null, `${CALL} drift 9% ± -6%`));
     expect(r2.message).toMatch(/must not be negative/);
-    const r3 = rejected(ask(null, `${CALL} drift 9% ±`));
+    const r3 = rejected(await ask(null, `${CALL} drift 9% ±`));
     expect(r3.message).toMatch(/needs a percentage/);
-    const r4 = rejected(ask(null, `${CALL} drift ± 6%`));
+    const r4 = rejected(await ask(null, `${CALL} drift ± 6%`));
     expect(r4.at).toBe(`${CALL} drift `.length);
-    const r5 = rejected(ask(null, `${CALL} vol 25% ± 6%`.replace(' vol 25% asof', ' asof')));
+    const r5 = rejected(await ask(null, `${CALL} vol 25% ± 6%`.replace(' vol 25% asof', ' asof')));
     expect(r5.kind).toBe('rejected');
   });
 });

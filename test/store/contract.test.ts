@@ -15,7 +15,7 @@ import fc from 'fast-check';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { LIMITS, StoreError, openDatabase, type AsyncStore, type DatabaseChoice, type LogEntryInput } from '../../src/store/store.js';
+import { LIMITS, StoreError, openDatabase, type AsyncStore, type DatabaseChoice, type LogEntryInput, type QueuedRequest } from '../../src/store/store.js';
 import { freshDatabase } from '../support/pg.js';
 
 interface Backend {
@@ -371,4 +371,142 @@ describe.each(backends)('the store contract on $name', (backend) => {
     expect((await storeError(s.putMark({ channel: 'C0DESKA', symbol: 'FERNWK', spot: 1, user: 'U0MAYA', at: '2027-01-04T15:00:00Z' }))).code).toBe('readonly');
     expect((await storeError(s.countRejected('C0DESKA'))).code).toBe('readonly');
   });
+
+  // ---- the request queue and the rate buckets ----
+
+  const req = (key: string, channel: string, over: Partial<QueuedRequest> = {}): QueuedRequest => ({
+    key,
+    source: 'command',
+    channel,
+    user: 'U0MAYA',
+    responseUrl: 'https://example.invalid/response/1',
+    text: `check +1 call 105 2027-03-19 @3.10 spot 100 ${key}`,
+    now: '2027-01-04T15:30:00.000Z',
+    ...over,
+  });
+  const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
+
+  it('queue: a key is recorded once (a re-sent delivery is refused), also after it is answered', async () => {
+    const { s } = await open();
+    expect(await s.accept(req('k1', 'C0Q1'))).toBe(true);
+    expect(await s.accept(req('k1', 'C0Q1'))).toBe(false);
+    expect(await s.accept(req('k2', 'C0Q1', { source: 'mention', threadTs: '1799999999.000100', responseUrl: undefined }))).toBe(true);
+    expect(await s.depth()).toBe(2);
+    const c = (await s.claim('inst-a', 10000))!;
+    expect(c).toMatchObject({ key: 'k1', channel: 'C0Q1', user: 'U0MAYA', source: 'command', attempts: 1, progress: {} });
+    await s.finish('k1', 'inst-a');
+    expect(await s.accept(req('k1', 'C0Q1'))).toBe(false);
+    // recorded as answered at once (e.g. turned away by the rate limit): caught as a re-send, never claimed
+    expect(await s.accept(req('k3', 'C0Q2'), true)).toBe(true);
+    expect(await s.accept(req('k3', 'C0Q2'))).toBe(false);
+    const d = (await s.claim('inst-a', 10000))!;
+    expect(d).toMatchObject({ key: 'k2', source: 'mention', threadTs: '1799999999.000100' });
+    expect(d.responseUrl).toBeUndefined();
+    expect(await s.claim('inst-a', 10000)).toBeUndefined();
+    await s.finish('k2');
+    expect(await s.depth()).toBe(0);
+  });
+
+  it("queue: requests are claimed in arrival order, a channel's next only after its earlier one is answered", async () => {
+    const { s } = await open();
+    for (const [k, ch] of [['a1', 'C0QA'], ['b1', 'C0QB'], ['a2', 'C0QA'], ['a3', 'C0QA'], ['b2', 'C0QB']]) await s.accept(req(k, ch));
+    const first = await s.claim('i1', 10000);
+    const second = await s.claim('i2', 10000);
+    expect([first?.key, second?.key]).toEqual(['a1', 'b1']);
+    expect(first!.seq).toBeLessThan(second!.seq);
+    expect(await s.claim('i3', 10000)).toBeUndefined(); // a2 waits for a1, b2 for b1
+    await s.finish('b1', 'i2');
+    expect((await s.claim('i3', 10000))?.key).toBe('b2');
+    await s.finish('a1', 'i1');
+    expect((await s.claim('i1', 10000))?.key).toBe('a2');
+    expect(await s.claim('i1', 10000)).toBeUndefined();
+  });
+
+  it('queue: a lease that runs out is taken over, with what was posted; the old owner can no longer finish or record', async () => {
+    const { s } = await open();
+    await s.accept(req('t1', 'C0QT'));
+    await s.accept(req('t2', 'C0QT'));
+    const mine = (await s.claim('dead', 150))!;
+    expect(await s.setProgress('t1', 'dead', { rootTs: '1799999999.000500' })).toBe(true);
+    expect(await s.claim('alive', 10000)).toBeUndefined(); // the lease is live, t2 waits behind t1
+    await sleep(300);
+    const taken = (await s.claim('alive', 10000))!;
+    expect(taken.key).toBe(mine.key);
+    expect(taken.attempts).toBe(2);
+    expect(taken.progress).toEqual({ rootTs: '1799999999.000500' });
+    expect(await s.setProgress('t1', 'dead', { answered: true })).toBe(false);
+    await s.finish('t1', 'dead'); // no effect: it is not dead's any more
+    expect(await s.claim('other', 10000)).toBeUndefined();
+    await s.finish('t1', 'alive');
+    expect((await s.claim('other', 10000))?.key).toBe('t2');
+  });
+
+  it('queue: renewing keeps a lease; releasing hands the request back without counting the attempt', async () => {
+    const { s } = await open();
+    await s.accept(req('r1', 'C0QR'));
+    await s.claim('i1', 200);
+    expect(await s.renew('i1', ['r1', 'nope'], 60000)).toBe(1);
+    expect(await s.renew('i2', ['r1'], 60000)).toBe(0);
+    await sleep(300);
+    expect(await s.claim('i2', 10000)).toBeUndefined();
+    await s.release('r1', 'i1');
+    const again = (await s.claim('i2', 10000))!;
+    expect([again.key, again.attempts]).toEqual(['r1', 1]);
+  });
+
+  it('queue: several claimers at once take each request exactly once, each channel in order', async () => {
+    const a = await open();
+    const { s: b } = await open(a.place);
+    const channels = Array.from({ length: 6 }, (_, i) => `C0QP${i}`);
+    for (let i = 0; i < 36; i++) await a.s.accept(req(`p${i}`, channels[i % 6]));
+    const taken: string[] = [];
+    const running = new Set<string>();
+    const worker = async (s: AsyncStore, name: string) => {
+      let idle = 0;
+      while (idle < 3) {
+        const c = await s.claim(name, 10000);
+        if (!c) {
+          idle++;
+          await sleep(5);
+          continue;
+        }
+        idle = 0;
+        expect(running.has(c.channel), `two requests of ${c.channel} at once`).toBe(false);
+        running.add(c.channel);
+        taken.push(c.key);
+        await sleep(1);
+        running.delete(c.channel);
+        await s.finish(c.key, name);
+      }
+    };
+    await Promise.all([worker(a.s, 'w1'), worker(b, 'w2'), worker(a.s, 'w3'), worker(b, 'w4')]);
+    expect([...taken].sort()).toEqual(Array.from({ length: 36 }, (_, i) => `p${i}`).sort());
+    for (let c = 0; c < 6; c++) {
+      const order = taken.filter((k) => Number(k.slice(1)) % 6 === c).map((k) => Number(k.slice(1)));
+      expect(order).toEqual([...order].sort((x, y) => x - y));
+    }
+  });
+
+  it('queue: answered keys are pruned after the keep time, open ones never', async () => {
+    const { s } = await open();
+    await s.accept(req('old', 'C0QX'), true);
+    await s.accept(req('open', 'C0QX'));
+    await sleep(60);
+    expect(await s.prune(30)).toBe(1);
+    expect(await s.accept(req('old', 'C0QX'))).toBe(true); // forgotten
+    expect(await s.depth()).toBe(2);
+  });
+
+  it('rate buckets: burst then refusal, one notice per period, one allowance per user across connections', async () => {
+    const a = await open();
+    const { s: b } = await open(a.place);
+    const o = { burst: 3, perMinute: 0.6, noticeEverySeconds: 3600 }; // refills one request per 100 s
+    expect([await a.s.take('U0RATE1', o), await b.take('U0RATE1', o), await a.s.take('U0RATE1', o)]).toEqual([{ ok: true }, { ok: true }, { ok: true }]);
+    const d1 = await b.take('U0RATE1', o);
+    expect(d1).toMatchObject({ ok: false, notify: true });
+    expect(d1.ok === false && d1.retryInSeconds).toBeGreaterThan(60);
+    expect(await a.s.take('U0RATE1', o)).toMatchObject({ ok: false, notify: false });
+    expect(await a.s.take('U0RATE2', o)).toEqual({ ok: true }); // another user has their own
+  });
 });
+

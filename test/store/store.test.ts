@@ -334,7 +334,7 @@ describe('faults become StoreError with a code and a user-facing message', () =>
   // chmod 0444 on the file, with a writer process that is not root: processes.test.ts
 
   it('full: a real SQLITE_FULL (size cap via PRAGMA max_page_count) gives code "full" and loses nothing stored', () => {
-    const s = open('log.db', { maxBytes: 96 * 1024 });
+    const s = open('log.db', { maxBytes: 160 * 1024 });
     const text = 'check ' + 'x'.repeat(3000);
     let last = 0;
     let err: StoreError | undefined;

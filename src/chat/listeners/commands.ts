@@ -14,26 +14,24 @@ export function commandKey(triggerId: string | undefined, responseUrl: string | 
 }
 
 export function registerCommands({ app, intake, forms, log }: ListenerContext): void {
-  app.command(COMMAND, async ({ command, ack, context }) => {
+  app.command(COMMAND, async ({ command, ack, body, context }) => {
     const t0 = performance.now();
-    const now = new Date().toISOString();
-    const text = command.text ?? '';
-    const key = commandKey(command.trigger_id, command.response_url, `${command.channel_id}\n${command.user_id}\n${text}\n${now}`);
-    const respond = responder(command.response_url);
-    const origin: Origin = { source: 'command', channel: command.channel_id, user: command.user_id, ...(respond ? { respond } : {}) };
-    // the ack first (nothing may delay it), then the inbox in the same turn of the event loop —
-    // as for events, which Bolt acknowledges before the listener runs
+    // a request with text was recorded before Bolt handed it over (intake.recordFirst)
     await ack();
-    if (text.trim() === '' && command.trigger_id && forms.open) {
+    const text = command.text ?? '';
+    if (text.trim() === '' && command.trigger_id) {
       // `/kolmo` alone opens the check form; its trigger expires in 3 seconds, so nothing comes first
-      const opened = await forms.open(command.trigger_id, { legs: 2, channel: command.channel_id });
+      const opened = forms.open ? await forms.open(command.trigger_id, { legs: 2, channel: command.channel_id }) : false;
       log.info({ channel: command.channel_id, user: command.user_id, source: 'command', verb: 'form', outcome: opened ? 'form-opened' : 'form-failed', ms: Math.round(performance.now() - t0) }, 'request');
       if (opened) return;
+      // no form: `help`, answered from memory
+      const now = new Date().toISOString();
+      const key = commandKey(command.trigger_id, command.response_url, `${command.channel_id}\n${command.user_id}\n${now}`);
+      const respond = responder(command.response_url);
+      const origin: Origin = { source: 'command', channel: command.channel_id, user: command.user_id, ...(respond ? { respond } : {}) };
+      if (intake.admit({ key, source: 'command', channel: origin.channel, user: origin.user }, context as RetryInfo)) intake.submit({ origin, text, t0, key, now });
+      return;
     }
-    const fresh = intake.admit(
-      { key, source: 'command', channel: origin.channel, user: origin.user, ...(command.response_url ? { responseUrl: command.response_url } : {}), text, now },
-      context as RetryInfo,
-    );
-    if (fresh) intake.submit({ origin, text, t0, key, now });
+    intake.after(body, context as RetryInfo);
   });
 }

@@ -2,7 +2,7 @@
 import { describe, expect, it } from 'vitest';
 import { applyDefaults, defaultsView, defaultsWords, readDefaults } from '../../../src/chat/desk/defaults.js';
 import { myDeskView, summaryLine, DESK_CHECKS, type DeskCheck } from '../../../src/chat/desk/view.js';
-import { askSync } from '../../../src/verbs/ask.js';
+import { ask } from '../../../src/verbs/ask.js';
 import type { Answer } from '../../../src/reply.js';
 
 const NOW = new Date('2027-01-04T12:00:00Z');
@@ -22,7 +22,7 @@ function deskCheck(n: number, extra: Partial<DeskCheck> = {}): DeskCheck {
 }
 
 describe('my desk', () => {
-  it('shows at most the last 20 checks, each linked with its summary and a re-run button keyed by log and number', () => {
+  it('shows at most the last 20 checks, each linked with its summary and a re-run button keyed by log and number', async () => {
     const checks = Array.from({ length: 25 }, (_, i) => deskCheck(i + 1));
     const v = myDeskView({ checks, marks: [{ channel: 'CDESKOPTS1', marks: [{ symbol: 'FERNWK', spot: 84.2, iv: 0.31, at: NOW.toISOString() }] }], defaults: { rate: 0.045, mult: 10 }, now: NOW });
     expect(v.type).toBe('home');
@@ -36,7 +36,7 @@ describe('my desk', () => {
     expect(text).toContain('rate 4.5%, mult 10');
   });
 
-  it('a private check says where it is; a link that is not plain https is not linked; mrkdwn in a summary is escaped', () => {
+  it('a private check says where it is; a link that is not plain https is not linked; mrkdwn in a summary is escaped', async () => {
     const v = myDeskView({
       checks: [deskCheck(1, { private: true, channel: 'DTRADERAA1', log: 'user:UTRADERAA1', permalink: 'javascript:alert(1)', summary: { position: '<!channel> & co' } })],
       marks: [],
@@ -50,13 +50,13 @@ describe('my desk', () => {
     expect(row).toContain('My defaults:* none');
   });
 
-  it('summary lines of other verbs', () => {
+  it('summary lines of other verbs', async () => {
     expect(summaryLine({ verb: 'touch', summary: { position: 'touch 120 by 2027-03-19', probTouch: 0.25 } })).toBe('touch 120 by 2027-03-19 · touch 25.0%');
   });
 });
 
 describe('personal defaults', () => {
-  it('the modal reads back what it shows; bad values are refused per field', () => {
+  it('the modal reads back what it shows; bad values are refused per field', async () => {
     const view = defaultsView({ rate: 0.045, yield: 0.012, mult: 10, horizon: '30d' });
     const state: Record<string, Record<string, { value?: string | null }>> = {};
     for (const b of view.blocks) if (b.type === 'input') state[b.block_id!] = { v: { value: ((b as any).element as any).initial_value ?? null } };
@@ -69,12 +69,12 @@ describe('personal defaults', () => {
     expect(defaultsWords({ rate: 0.045, horizon: '3m' })).toBe('rate 4.5%, horizon 3m');
   });
 
-  it('a default fills only what the request leaves out, and the engine uses it', () => {
+  it('a default fills only what the request leaves out, and the engine uses it', async () => {
     const d = { rate: 0.045, yield: 0.01, mult: 10 };
     const a = applyDefaults('+1 call 100 2027-03-19 iv 30% spot 100 rate 3%', d, '2027-01-04');
     expect(a.text).toBe('+1 call 100 2027-03-19 iv 30% spot 100 rate 3% yield 1% mult 10');
     expect(a.used).toEqual(['your default yield 1%', 'your default mult 10']);
-    const r = askSync(a.text, { channel: 'CDEFTEST01', user: 'U1', store: null, now: NOW }) as Answer;
+    const r = (await ask(a.text, { channel: 'CDEFTEST01', user: 'U1', store: null, now: NOW })) as Answer;
     expect((r.json as any).market).toMatchObject({ rate: 0.03, yield: 0.01 });
     // what the mark supplies is left to the mark
     const m = applyDefaults('+1 call 90 3m on FERNWK', { rate: 0.045, yield: 0.02 }, '2027-01-04', () => new Set(['yield']));
@@ -84,16 +84,16 @@ describe('personal defaults', () => {
     expect(applyDefaults('iv call 105 2027-03-19 price 3.10 spot 100', d, '2027-01-04').text).toBe('iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5% yield 1%');
   });
 
-  it('a default horizon applies only on or before the earliest expiry', () => {
+  it('a default horizon applies only on or before the earliest expiry', async () => {
     expect(applyDefaults('+1 call 100 2027-03-19 iv 30% spot 100', { horizon: '30d' }, '2027-01-04').text).toBe('+1 call 100 2027-03-19 iv 30% spot 100 horizon 30d');
     expect(applyDefaults('+1 call 100 2027-01-20 iv 30% spot 100', { horizon: '30d' }, '2027-01-04').used).toEqual([]);
     expect(applyDefaults('+1 call 100 6w iv 30% spot 100 horizon 2027-01-10', { horizon: '30d' }, '2027-01-04').used).toEqual([]);
   });
 
-  it('a comparison takes the defaults in its first part, which the others inherit', () => {
+  it('a comparison takes the defaults in its first part, which the others inherit', async () => {
     const a = applyDefaults('compare +1 call 100 2027-03-19 iv 30% spot 100 ; drift 0% ; drift 12%', { rate: 0.045 }, '2027-01-04');
     expect(a.text).toBe('compare +1 call 100 2027-03-19 iv 30% spot 100 rate 4.5% ; drift 0% ; drift 12%');
-    const r = askSync(a.text, { channel: 'CDEFTEST01', user: 'U1', store: null, now: NOW }) as Answer;
+    const r = (await ask(a.text, { channel: 'CDEFTEST01', user: 'U1', store: null, now: NOW })) as Answer;
     expect(((r.json as any).checks as any[]).map((c) => c.market.rate)).toEqual([0.045, 0.045, 0.045]);
   });
 });

@@ -11,11 +11,11 @@ import { checkFormView, decodeMeta, encodeMeta, fieldsShown, readForm, MODAL_BLO
 import { parse } from '../../../src/request/parse.js';
 import { EXAMPLES } from '../../../src/request/examples.js';
 import type { CheckRequest } from '../../../src/request/types.js';
-import { askSync } from '../../../src/verbs/ask.js';
+import { ask as askSeam } from '../../../src/verbs/ask.js';
 import type { Reply } from '../../../src/reply.js';
 
 const NOW = new Date('2027-01-04T12:00:00Z');
-const ask = (text: string): Reply => askSync(text, { channel: 'CFORMTEST1', user: 'UFORM00001', store: null, now: NOW });
+const ask = (text: string): Promise<Reply> => askSeam(text, { channel: 'CFORMTEST1', user: 'UFORM00001', store: null, now: NOW });
 
 /** a bull call spread on an invented freight company, filled in as a person would */
 const SPREAD: FormValues = {
@@ -40,7 +40,7 @@ function checkOf(text: string): CheckRequest {
 }
 
 describe('form → request text', () => {
-  it('a two-leg spread composes into the grammar and parses back to the same legs and terms', () => {
+  it('a two-leg spread composes into the grammar and parses back to the same legs and terms', async () => {
     const c = composeRequest(SPREAD);
     expect(c.ok).toBe(true);
     if (!c.ok) return;
@@ -53,11 +53,11 @@ describe('form → request text', () => {
     expect(r.terms).toMatchObject({ spot: 100, rate: 0.045, yield: 0.01, drift: 0.09, vol: 0.26, horizon: { date: '2027-02-15' }, asof: '2027-01-04' });
   });
 
-  it('the composed text means the same as the design notes’ own example (docs/design.md §2) and prices the same', () => {
+  it('the composed text means the same as the design notes’ own example (docs/design.md §2) and prices the same', async () => {
     const c = composeRequest(SPREAD);
     if (!c.ok) throw new Error('compose failed');
-    const typed = ask('+2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% spot 100 rate 4.5% yield 1% drift 9% vol 26% horizon 2027-02-15 asof 2027-01-04');
-    const formed = ask(c.text);
+    const typed = await ask('+2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% spot 100 rate 4.5% yield 1% drift 9% vol 26% horizon 2027-02-15 asof 2027-01-04');
+    const formed = await ask(c.text);
     expect(formed.kind).toBe('answer');
     expect(typed.kind).toBe('answer');
     if (formed.kind !== 'answer' || typed.kind !== 'answer') return;
@@ -65,7 +65,7 @@ describe('form → request text', () => {
     expect(formed.json.position).toEqual(typed.json.position);
   });
 
-  it('a position-wide iv is never read as the last leg’s own', () => {
+  it('a position-wide iv is never read as the last leg’s own', async () => {
     const c = composeRequest({ legs: [{ qty: '1', type: 'put', strike: '95', expiry: '2027-03-19' }], iv: '30', spot: '100' });
     if (!c.ok) throw new Error('compose failed');
     const r = checkOf(c.text);
@@ -80,7 +80,7 @@ describe('form → request text', () => {
     expect(r2.terms.iv).toBe(0.3);
   });
 
-  it('shares, a mark, american style, a multiplier and jumps all reach the request', () => {
+  it('shares, a mark, american style, a multiplier and jumps all reach the request', async () => {
     const c = composeRequest({
       symbol: 'fernwk',
       legs: [{ qty: '100', type: 'shares', entry: '84.20' }, { qty: '-1', type: 'call', strike: '90', expiry: '2027-04-16', iv: '30' }],
@@ -98,7 +98,7 @@ describe('form → request text', () => {
     expect(r.terms).toMatchObject({ on: 'FERNWK', style: 'american', mult: 10, jumps: { intensity: 0.5, mean: -0.08, sd: 0.12 } });
   });
 
-  it('the drift’s uncertainty is written as the grammar has it (drift 9% ± 6%)', () => {
+  it('the drift’s uncertainty is written as the grammar has it (drift 9% ± 6%)', async () => {
     const c = composeRequest({ ...SPREAD, driftSe: '6' });
     if (!c.ok) throw new Error('compose failed');
     expect(c.text).toContain('drift 9% ± 6%');
@@ -106,7 +106,7 @@ describe('form → request text', () => {
     expect(c.text.slice(span.from, span.to)).toBe('± 6%');
   });
 
-  it('the form’s own checks: a leg needs a quantity and a strike, jumps all three, at least one leg, numbers only', () => {
+  it('the form’s own checks: a leg needs a quantity and a strike, jumps all three, at least one leg, numbers only', async () => {
     const a = composeRequest({ legs: [{ qty: '1', strike: '100' }, { strike: '110', expiry: '2027-03-19' }], spot: '100' });
     expect(a.ok).toBe(false);
     if (!a.ok) expect(Object.keys(a.errors)).toEqual([legField(1, 'qty')]);
@@ -142,11 +142,11 @@ describe('form → request text: target and stop (issue 15)', () => {
     expect(s.text.slice(span.from, span.to)).toBe('stop 300');
   });
 
-  it('the form’s answer equals the typed request’s, and carries the exits', () => {
+  it('the form’s answer equals the typed request’s, and carries the exits', async () => {
     const c = composeRequest({ ...SPREAD, target: '+400', stop: '-300' });
     if (!c.ok) throw new Error('compose failed');
-    const formed = ask(c.text);
-    const typed = ask('+2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% spot 100 rate 4.5% yield 1% drift 9% vol 26% horizon 2027-02-15 asof 2027-01-04 target +400 stop -300');
+    const formed = await ask(c.text);
+    const typed = await ask('+2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% spot 100 rate 4.5% yield 1% drift 9% vol 26% horizon 2027-02-15 asof 2027-01-04 target +400 stop -300');
     if (formed.kind !== 'answer' || typed.kind !== 'answer') throw new Error('not answered');
     expect(formed.json).toEqual(typed.json);
     expect((formed.json as { exits?: unknown }).exits).toBeDefined();
@@ -163,57 +163,57 @@ describe('form → request text: target and stop (issue 15)', () => {
 describe('a rejection → the field that caused it', () => {
   const present = fieldsShown(2, false);
 
-  function mapped(values: FormValues) {
+  async function mapped(values: FormValues) {
     const c = composeRequest(values);
     if (!c.ok) throw new Error(`compose failed: ${JSON.stringify(c.errors)}`);
-    const r = ask(c.text);
+    const r = await ask(c.text);
     if (r.kind !== 'rejected') throw new Error(`expected a rejection of ${c.text}`);
     return { field: fieldOf(r, c.spans, present), errors: formErrorsOf(r, c.spans, present), reply: r };
   }
 
-  it('a caret under a token goes to the field that wrote it (vol 0.25 meant 25)', () => {
-    const m = mapped({ ...SPREAD, vol: '0.25' });
+  it('a caret under a token goes to the field that wrote it (vol 0.25 meant 25)', async () => {
+    const m = await mapped({ ...SPREAD, vol: '0.25' });
     expect(m.field).toBe('vol');
     expect(m.errors.vol).toBe('vol 0.25% is below the 1% floor — did you mean 25%?');
   });
 
-  it('a horizon after the earliest expiry goes to the horizon', () => {
-    expect(mapped({ ...SPREAD, horizon: '2027-06-01' }).field).toBe('horizon');
+  it('a horizon after the earliest expiry goes to the horizon', async () => {
+    expect((await mapped({ ...SPREAD, horizon: '2027-06-01' })).field).toBe('horizon');
   });
 
-  it('a missing spot (the caret past the end) goes to spot by the words of the reason', () => {
+  it('a missing spot (the caret past the end) goes to spot by the words of the reason', async () => {
     const { spot: _s, ...rest } = SPREAD;
-    const m = mapped(rest);
+    const m = await mapped(rest);
     expect(m.field).toBe('spot');
     expect(m.errors.spot).toMatch(/^spot missing/);
   });
 
-  it('a leg’s bad value goes to that leg’s field', () => {
+  it('a leg’s bad value goes to that leg’s field', async () => {
     const legs = SPREAD.legs.map((l) => ({ ...l }));
     legs[1].iv = '900';
-    expect(mapped({ ...SPREAD, legs }).field).toBe(legField(1, 'iv'));
+    expect((await mapped({ ...SPREAD, legs })).field).toBe(legField(1, 'iv'));
     const legs2 = SPREAD.legs.map((l) => ({ ...l }));
     legs2[1].strike = '5000000';
-    expect(mapped({ ...SPREAD, legs: legs2 }).field).toBe(legField(1, 'strike'));
+    expect((await mapped({ ...SPREAD, legs: legs2 })).field).toBe(legField(1, 'strike'));
   });
 
-  it('an uncertainty the grammar refuses lands on the uncertainty, never on a field the form lacks', () => {
+  it('an uncertainty the grammar refuses lands on the uncertainty, never on a field the form lacks', async () => {
     const c = composeRequest({ ...SPREAD, driftSe: '6' });
     if (!c.ok) throw new Error('compose failed');
-    const r = ask(c.text);
+    const r = await ask(c.text);
     if (r.kind === 'answer') return; // the grammar reads uncertainties: nothing to map
     expect(fieldOf(r, c.spans, present)).toBe('drift_se');
   });
 
-  it('a target or stop that makes no sense for the position lands on its own field', () => {
+  it('a target or stop that makes no sense for the position lands on its own field', async () => {
     // this spread costs 410 (2 × 100 × (3.10 − 1.05)): nothing below −410 can be reached
-    const below = mapped({ ...SPREAD, target: '+400', stop: '-600' });
+    const below = await mapped({ ...SPREAD, target: '+400', stop: '-600' });
     expect(below.field).toBe('stop');
     expect(below.errors.stop).toMatch(/maximum loss/);
-    const above = mapped({ ...SPREAD, stop: '+5000' });
+    const above = await mapped({ ...SPREAD, stop: '+5000' });
     expect(above.field).toBe('stop');
     expect(above.errors.stop).toMatch(/not below the position's P&L now/);
-    const low = mapped({ ...SPREAD, target: '-300', stop: '-100' });
+    const low = await mapped({ ...SPREAD, target: '-300', stop: '-100' });
     expect(low.field).toBe('target');
     expect(low.errors.target).toMatch(/not above the position's P&L now/);
     // a reason past every span is placed by its words
@@ -221,7 +221,7 @@ describe('a rejection → the field that caused it', () => {
     expect(fieldOf({ at: 10_000, message: 'targets and stops are computed for European exercise only' }, [], present)).toBe('target');
   });
 
-  it('the reason is the line under the caret, cut to a field error’s length', () => {
+  it('the reason is the line under the caret, cut to a field error’s length', async () => {
     const msg = 'Kolmo could not read this request:\n  +1 call\n      ^\nthe call needs a strike\nExample: +1 call 100';
     expect(reasonOf(msg)).toBe('the call needs a strike');
     expect(reasonOf(`x\n ^\n${'word '.repeat(80)}\nExample: y`).length).toBeLessThanOrEqual(150);
@@ -229,7 +229,7 @@ describe('a rejection → the field that caused it', () => {
 });
 
 describe('a logged request → the form, pre-filled', () => {
-  it('the form’s own text comes back as the same values (round trip)', () => {
+  it('the form’s own text comes back as the same values (round trip)', async () => {
     const c = composeRequest(SPREAD);
     if (!c.ok) throw new Error('compose failed');
     const p = prefillFromRequest(c.text, '2027-01-04');
@@ -237,7 +237,7 @@ describe('a logged request → the form, pre-filled', () => {
     expect(p?.values).toEqual({ ...SPREAD, legs: SPREAD.legs.map((l) => ({ ...l, entry: String(Number(l.entry)) })) });
   });
 
-  it('typed requests with spans and a default expiry are read into dates against the check’s day', () => {
+  it('typed requests with spans and a default expiry are read into dates against the check’s day', async () => {
     const p = prefillFromRequest('+1 put 95 6w iv 27% -1 put 85 iv 31% spot 100 exp 3m rate 4.5% style american horizon 30d', '2027-01-04');
     expect(p?.values.legs).toEqual([
       { qty: '1', type: 'put', strike: '95', expiry: '2027-02-15', iv: '27' },
@@ -247,13 +247,13 @@ describe('a logged request → the form, pre-filled', () => {
     // the pre-filled form composes into a request that means the same as the typed one, on that day
     const c = composeRequest({ ...p!.values, asof: '2027-01-04' });
     if (!c.ok) throw new Error('compose failed');
-    const a = ask(c.text);
-    const b = ask('+1 put 95 6w iv 27% -1 put 85 iv 31% spot 100 exp 3m rate 4.5% style american horizon 30d asof 2027-01-04');
+    const a = await ask(c.text);
+    const b = await ask('+1 put 95 6w iv 27% -1 put 85 iv 31% spot 100 exp 3m rate 4.5% style american horizon 30d asof 2027-01-04');
     if (a.kind !== 'answer' || b.kind !== 'answer') throw new Error('not answered');
     expect(a.json.outcome).toEqual(b.json.outcome);
   });
 
-  it('every example of the design notes that is a check pre-fills a form that composes and reads', () => {
+  it('every example of the design notes that is a check pre-fills a form that composes and reads', async () => {
     for (const key of ['check', 'leg', 'shares', 'jumps', 'american'] as const) {
       const p = prefillFromRequest(EXAMPLES[key], '2027-01-04');
       expect(p, key).toBeDefined();
@@ -263,7 +263,7 @@ describe('a logged request → the form, pre-filled', () => {
     }
   });
 
-  it('a comparison opens as its first part and says so; other verbs do not open', () => {
+  it('a comparison opens as its first part and says so; other verbs do not open', async () => {
     const p = prefillFromRequest(EXAMPLES.compare, '2027-01-04');
     expect(p?.values.symbol).toBe('FERNWK');
     expect(p?.dropped[0]).toMatch(/parts 2–3 of the comparison/);
@@ -284,7 +284,7 @@ describe('a logged request → the form, pre-filled', () => {
     expect(prefillFromRequest(c.text, '2027-01-04')?.values).toMatchObject({ target: '50%', stop: '-300' });
   });
 
-  it('the drift’s uncertainty is read from the text when the grammar takes it', () => {
+  it('the drift’s uncertainty is read from the text when the grammar takes it', async () => {
     const text = '+1 call 100 3m iv 30% spot 100 drift 9% ± 6%';
     const p = prefillFromRequest(text, '2027-01-04');
     if (!p) return; // the grammar does not read uncertainties (yet): nothing to pre-fill
@@ -308,7 +308,7 @@ function stateOf(view: ReturnType<typeof checkFormView>): StateValues {
 }
 
 describe('the modal', () => {
-  it('holds six legs within the platform’s 100 blocks, unique block ids, a title within 24 characters', () => {
+  it('holds six legs within the platform’s 100 blocks, unique block ids, a title within 24 characters', async () => {
     const v = checkFormView({ meta: { legs: 6, pick: true }, symbols: ['FERNWK', 'QUILLOP'] });
     expect(v.blocks.length).toBeLessThanOrEqual(MODAL_BLOCKS_MAX);
     const ids = v.blocks.map((b) => b.block_id).filter((x) => x !== undefined);
@@ -319,14 +319,14 @@ describe('the modal', () => {
     expect(JSON.stringify(checkFormView({ meta: { legs: 5 } }).blocks)).toContain('kolmo_form_add_leg');
   });
 
-  it('its inputs, as submitted, read back to the values it was filled with', () => {
+  it('its inputs, as submitted, read back to the values it was filled with', async () => {
     const values: FormValues = { ...SPREAD, symbol: 'FERNWK', driftSe: '6', style: 'american', mult: '10', jumpRate: '0.5', jumpMean: '-8', jumpSd: '12', iv: '29', target: '+400', stop: '100%' };
     const v = checkFormView({ meta: { legs: 2 }, values, symbols: ['FERNWK'] });
     const back = readForm(stateOf(v), 2);
     expect(back.values).toEqual(values);
   });
 
-  it('an empty form has two legs and a required first quantity; metadata survives and junk in it is dropped', () => {
+  it('an empty form has two legs and a required first quantity; metadata survives and junk in it is dropped', async () => {
     const v = checkFormView({ meta: { legs: 2, channel: 'CDESKOPTS1' } });
     const qty = v.blocks.find((b) => b.block_id === 'leg1_qty');
     expect((qty as { optional?: boolean } | undefined)?.optional).toBe(false);
@@ -337,7 +337,7 @@ describe('the modal', () => {
     expect(decodeMeta('not json')).toEqual({ legs: 2 });
   });
 
-  it('a submitted value is one line of at most 100 characters, and an unknown type is ignored', () => {
+  it('a submitted value is one line of at most 100 characters, and an unknown type is ignored', async () => {
     const state: StateValues = {
       leg1_qty: { v: { value: '2' } },
       leg1_type: { v: { selected_option: { value: 'straddle' } } },
