@@ -129,6 +129,15 @@ export async function runCli(argv: string[], out = process.stdout, err = process
   const { store, warning } = await openStoreQuietly(o.log, settings.dbPath);
   try {
     const ctx: AskContext = { channel: o.channel ?? 'cli', user: settings.user, store, budget: settings.computeBudget, ...(files ? { files } : {}) };
+    // the command line starts a channel on the console's demo marks (only symbols it has no mark
+    // for), so that `on FERNWK` in help's examples answers from a fresh database
+    if (store) {
+      for (const m of DEMO_MARKS) {
+        if (!(await store.getMark(ctx.channel, m.symbol).catch(() => undefined))) {
+          await store.putMark({ channel: ctx.channel, symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, user: 'demo', at: new Date().toISOString() }).catch(() => undefined);
+        }
+      }
+    }
     const r = await answerLocal(o.request, ctx);
     if (warning && r.kind === 'answer') r.warnings.push(warning);
     let chartNote: string | null = null;

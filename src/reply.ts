@@ -49,5 +49,4 @@ export interface Answer {
 
 export type Reply = Rejection | Answer;
 
-export const CAUTION =
-  'Model output, not advice: the view is your assumption, not a forecast. Follow the desk’s risk limits and local rules.';
+export const CAUTION = "Model output, not advice; your view is an assumption. Follow the desk's risk limits and local rules.";

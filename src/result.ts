@@ -2,7 +2,7 @@
  * The machine-readable result of a check (docs/design.md §4), assembled from the resolved request and
  * the core's figures. The text answer, the headline, the log summary and the chart all read this.
  */
-import type { CheckCore, Curves, ExerciseStyle, Jumps, LegKind, Outcome, PositionTotals } from './core/types.js';
+import type { CheckCore, Curves, ExerciseStyle, Jumps, LegKind, MarketOutcome, Outcome, PositionTotals } from './core/types.js';
 
 export interface LegJson {
   qty: number;
@@ -24,13 +24,6 @@ export interface LegJson {
   probItmView: number | null;
 }
 
-/** The outcome under the risk-neutral twin of the view, for the side-by-side column. */
-export interface RiskNeutralOutcome {
-  probProfit: number;
-  expectedPnl: number;
-  pnlQuantiles: Outcome['pnlQuantiles'];
-  tailMean05: number;
-}
 
 /** Exit figures under one walk (docs/design.md §4 `exits`). */
 export interface ExitFiguresJson {
@@ -78,7 +71,10 @@ export interface CheckJson {
   legs: LegJson[];
   position: PositionTotals;
   outcome: Outcome;
-  outcomeRiskNeutral: RiskNeutralOutcome;
+  /** the outcome under the walk that prices the options: drift = rate, vol = marketVol */
+  outcomeMarket: MarketOutcome;
+  /** σ_m: the request's iv, else the mark's, else the iv of the option leg nearest the money */
+  marketVol: number;
   /** with a drift uncertainty: the same figures with the drift taken as known, for comparison */
   knownDrift?: { probProfit: number; pnlQuantiles: { p05: number; p95: number } };
   /** targets and stops, when the request gives one */

@@ -1,6 +1,7 @@
 /**
  * The outcome engine: one check of a position — per-leg figures today, position totals, and the
- * distribution of the P&L at the horizon under the view and under its risk-neutral twin.
+ * distribution of the P&L at the horizon under the view and under the market walk (drift = rate,
+ * the market vol), and the attribution of the expected P&L (DESIGN.md §4).
  *
  * P&L(S_h) = Σ qty × mult × (V_leg(S_h) − entry), with V_leg from the pricer seam (pricer.ts):
  * intrinsic value for legs expiring at the horizon, the model value with the leg's own iv and the
@@ -16,6 +17,7 @@
  * Quantiles are lower quantiles inf{y : P(P&L ≤ y) ≥ p} (outcome/figures.ts).
  */
 import { walkDistribution } from './dist.js';
+import { earlyExerciseGivenUp, nearestMoneyIv } from './outcome/attribution.js';
 import { hasJumps } from './jumps.js';
 import { dedupe } from './numeric/sorted.js';
 import { buildCurves } from './outcome/curves.js';
@@ -37,8 +39,8 @@ export interface RunOptions {
    * compares against 10 to measure the integration error.
    */
   refine?: number;
-  /** also compute chance of profit, quantiles and worst-5% average under the risk-neutral twin (default true) */
-  riskNeutralFigures?: boolean;
+  /** also compute chance of profit, quantiles and worst-5% average under the market walk (default true) */
+  marketFigures?: boolean;
   /**
    * also sample the curves the chart draws (default true); false leaves them empty, for a caller
    * that draws no chart (and the benchmark of the figures alone)
@@ -46,7 +48,7 @@ export interface RunOptions {
   curves?: boolean;
 }
 
-const NO_CURVES = (): Curves => ({ spot: [], densityView: [], densityRiskNeutral: [], pnl: [], pnlDensity: { x: [], density: [], atoms: [] } });
+const NO_CURVES = (): Curves => ({ spot: [], densityView: [], densityMarket: [], pnl: [], pnlDensity: { x: [], density: [], atoms: [] } });
 
 /** How the P&L is integrated: exact segments at expiry, else the smooth engine's live legs. */
 type EnginePlan = { segs: Segment[] } | { live: LiveInfo[]; ext: [number, number]; kinks: number[]; refine: number };
@@ -79,9 +81,9 @@ function strikesOf(input: CheckInput): number[] {
   return dedupe(input.legs.filter((l) => l.kind !== 'shares' && l.strike > 0).map((l) => l.strike));
 }
 
-function engineFor(plan: EnginePlan, primary: SplitDist, twin: SplitDist, pf: PnlFn): PnlEngine {
+function engineFor(plan: EnginePlan, primary: SplitDist, twin: SplitDist, pf: PnlFn, extra?: SplitDist): PnlEngine {
   if ('segs' in plan) return new LinearEngine(plan.segs, primary, twin, pf);
-  return new SmoothEngine({ view: primary, rn: twin, pf, kinks: plan.kinks, live: plan.live, extraRange: plan.ext, refine: plan.refine });
+  return new SmoothEngine({ view: primary, rn: twin, pf, kinks: plan.kinks, live: plan.live, extraRange: plan.ext, refine: plan.refine, ...(extra ? { extra } : {}) });
 }
 
 /** The notes on the models used, in the order the answer states them. */
@@ -102,50 +104,71 @@ export function runCheck(input: CheckInput, options: RunOptions = {}): CheckCore
   const { spot, rate, yield: q } = market;
   const h = Math.max(0, input.horizonYears);
   const model: LegModel = { market, style: input.style, jumps: view.jumps };
-  const rnWalk: Walk = { drift: rate, vol: view.vol, jumps: view.jumps };
+  // three walks on the one P&L function: the view; the market walk that prices the options
+  // (drift = rate, σ_m), the engine's twin; and the view's vol at the rate, for the attribution
+  const marketVol = input.marketVol ?? nearestMoneyIv(input.legs, spot) ?? view.vol;
+  const sameVol = marketVol === view.vol;
+  const marketWalk: Walk = { drift: rate, vol: marketVol, jumps: view.jumps };
 
   const today = legsToday(input, model, h);
-  const { pf, active, c0 } = positionPnl(input.legs, today.coefs, today.entries, model, h);
+  const { pf, active, c0, valuers } = positionPnl(input.legs, today.coefs, today.entries, model, h);
   const dView = walkDistribution(spot, h, q, view);
-  const dRn = walkDistribution(spot, h, q, rnWalk);
+  const dMkt = walkDistribution(spot, h, q, marketWalk);
   const sView = splitDist(dView);
-  const sRn = splitDist(dRn);
+  const sMkt = splitDist(dMkt);
   const { plan, kinks } = planEngine(input, active, c0, pf.tolB, refine);
-  const eng = engineFor(plan, sView, sRn, pf);
+  // the view's vol at the rate: the market walk itself when no vol view is given (the vol part is
+  // then exactly 0), the view itself when it is already at the rate; else a third walk whose
+  // expectation comes from the same samples (or, at expiry, the same closed forms)
+  const viewAtRate = view.drift === rate && !(view.driftSe !== undefined && view.driftSe > 0);
+  const sAtRate = sameVol || viewAtRate ? undefined : splitDist(walkDistribution(spot, h, q, { drift: rate, vol: view.vol, jumps: view.jumps }));
+  const eng = engineFor(plan, sView, sMkt, pf, sAtRate);
   const notes = modelNotes(input, plan, today.hasShares);
 
   // --- outcome figures: seeds at the P&L of the kinks, where the cdf may jump or bend
   const seeds = kinks.map(pf.f);
   const fv = walkFigures(eng, seeds, pf.scale);
   const expectedPnl = eng.expectView();
-  const expectedPnlRiskNeutral = eng.expectRiskNeutral();
-  const viewEdge = expectedPnl - expectedPnlRiskNeutral;
+  const expectedMarket = eng.expectRiskNeutral();
+  const expectedPnlAtRate = !sAtRate
+    ? sameVol
+      ? expectedMarket
+      : expectedPnl
+    : eng instanceof SmoothEngine
+      ? eng.expectExtra()!
+      : new LinearEngine((plan as { segs: Segment[] }).segs, sAtRate, sAtRate, pf).expectView();
+  const viewEdge = expectedPnl - expectedPnlAtRate;
   // a crossing below a billionth of the spot is rounding in a P&L that is flat near zero there
   const breakevens = eng.breakevens().filter((b) => b > 1e-9 * spot);
   const ext = eng.extremes();
 
-  // the same figures under the risk-neutral twin (same P&L function, no second revaluation)
-  let outcomeRiskNeutral: CheckCore['outcomeRiskNeutral'];
-  if (options.riskNeutralFigures !== false) {
-    const twin = eng instanceof SmoothEngine ? eng.twin() : engineFor(plan, sRn, sRn, pf);
+  // the same figures under the market walk (same P&L function, no second revaluation)
+  let outcomeMarket: CheckCore['outcomeMarket'];
+  if (options.marketFigures !== false) {
+    const twin = eng instanceof SmoothEngine ? eng.twin() : engineFor(plan, sMkt, sMkt, pf);
     const fr = walkFigures(twin, seeds, pf.scale);
-    outcomeRiskNeutral = { probProfit: fr.probProfit, expectedPnl: expectedPnlRiskNeutral, pnlQuantiles: quantileRecord(fr.qs), tailMean05: fr.tailMean05 };
+    outcomeMarket = { probProfit: fr.probProfit, expectedPnl: expectedMarket, pnlQuantiles: quantileRecord(fr.qs), tailMean05: fr.tailMean05 };
   }
+
+  // the attribution: parts that add up to expectedPnl exactly (DESIGN.md §4)
+  const { entryVsFair, carry } = today;
+  const earlyExercise = earlyExerciseGivenUp(active, valuers, today.legs.map((l) => l.value), model, h, refine);
+  const legIv = expectedMarket - (entryVsFair + carry + earlyExercise);
 
   const outcome: Outcome = {
     probProfit: fv.probProfit,
     expectedPnl,
-    expectedPnlRiskNeutral,
+    expectedPnlAtRate,
     viewEdge,
-    attribution: { price: today.price, vol: expectedPnlRiskNeutral - today.price, drift: viewEdge },
+    attribution: { entryVsFair, carry, earlyExercise, legIv, vol: expectedPnlAtRate - expectedMarket, drift: viewEdge },
     pnlQuantiles: quantileRecord(fv.qs),
     tailMean05: fv.tailMean05,
     breakevens,
     maxGain: ext.max,
     maxLoss: ext.min,
   };
-  const curves = options.curves === false ? NO_CURVES() : buildCurves({ dView, dRn, pnlAt: pf.fAt, strikes: strikesOf(input), breakevens, spot, eng, figures: fv, tolY: 1e-9 * pf.scale });
-  const result: CheckCore = { legs: today.legs, position: today.position, outcome, curves, notes, ...(outcomeRiskNeutral ? { outcomeRiskNeutral } : {}) };
+  const curves = options.curves === false ? NO_CURVES() : buildCurves({ dView, dMkt, pnlAt: pf.fAt, strikes: strikesOf(input), breakevens, spot, eng, figures: fv, tolY: 1e-9 * pf.scale });
+  const result: CheckCore = { legs: today.legs, position: today.position, outcome, curves, notes, ...(outcomeMarket ? { outcomeMarket } : {}), marketVol };
   if (sanitize(result)) notes.push({ code: 'not-finite' });
   return result;
 }

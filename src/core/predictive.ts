@@ -149,11 +149,11 @@ export interface SpreadFigures {
 /**
  * The same check with the drift taken as known (τ = 0): chance of profit and the P&L's p05 and p95,
  * to show how much the drift's uncertainty widens the outcome. null when the view has no
- * uncertainty. (One more run of the outcome engine, without the risk-neutral column.)
+ * uncertainty. (One more run of the outcome engine, without the market column.)
  */
 export function knownDriftFigures(input: CheckInput): SpreadFigures | null {
   if (!(input.view.driftSe !== undefined && input.view.driftSe > 0)) return null;
   const { driftSe: _drop, ...view } = input.view;
-  const o = runCheck({ ...input, view }, { riskNeutralFigures: false }).outcome;
+  const o = runCheck({ ...input, view }, { marketFigures: false }).outcome;
   return { probProfit: o.probProfit, p05: o.pnlQuantiles.p05, p95: o.pnlQuantiles.p95 };
 }

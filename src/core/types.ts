@@ -77,8 +77,14 @@ export interface CheckInput {
   style: ExerciseStyle;
   /** years from asof to the horizon; ≤ the earliest option expiry */
   horizonYears: number;
-  /** the user's view; the risk-neutral twin uses drift = rate and the same vol and jumps */
+  /** the user's view; the at-rate twin uses drift = rate and the same vol and jumps */
   view: Walk;
+  /**
+   * σ_m, the vol of the walk that prices the options (the market column: drift = rate, this vol,
+   * the view's jumps). Default: the iv of the option leg nearest the money (smallest |ln K/S|),
+   * else the view's vol.
+   */
+  marketVol?: number;
 }
 
 export interface LegResult extends Greeks {
@@ -96,15 +102,39 @@ export interface PositionTotals {
   rho: number;
 }
 
+/**
+ * The expected P&L under the view split into parts that add up to it (money, DESIGN.md §4):
+ * entry prices against fair value, carry of fair value at the rate, early exercise given up by
+ * holding American legs to the horizon, the legs' own ivs against the one market vol, the view's
+ * vol against the market vol, and the view's drift against the rate (the view edge).
+ */
+export interface Attribution {
+  entryVsFair: number;
+  carry: number;
+  earlyExercise: number;
+  legIv: number;
+  vol: number;
+  drift: number;
+}
+
+/** The outcome's figures under the walk that prices the options (the market column). */
+export interface MarketOutcome {
+  probProfit: number;
+  expectedPnl: number;
+  pnlQuantiles: Outcome['pnlQuantiles'];
+  tailMean05: number;
+}
+
 export interface Outcome {
   /** P(P&L > 0) under the view */
   probProfit: number;
   expectedPnl: number;
   /** expected P&L under drift = rate with the view's vol (and jumps) */
-  expectedPnlRiskNeutral: number;
-  /** expectedPnl − expectedPnlRiskNeutral */
+  expectedPnlAtRate: number;
+  /** expectedPnl − expectedPnlAtRate */
   viewEdge: number;
-  attribution: { price: number; vol: number; drift: number };
+  /** parts of expectedPnl that add up to it exactly (DESIGN.md §4) */
+  attribution: Attribution;
   /** lower quantiles inf{x : F(x) ≥ p} of the P&L under the view */
   pnlQuantiles: { p05: number; p25: number; p50: number; p75: number; p95: number };
   /** average P&L of the worst 5% of outcomes (expected shortfall at 5%, atoms handled) */
@@ -123,8 +153,8 @@ export interface Curves {
   spot: number[];
   /** view density of the spot at the horizon at each `spot` */
   densityView: number[];
-  /** risk-neutral density (drift = rate, view vol and jumps) at each `spot` */
-  densityRiskNeutral: number[];
+  /** density of the market walk (drift = rate, the market vol, the view's jumps) at each `spot` */
+  densityMarket: number[];
   /** P&L at the horizon (money) at each `spot` */
   pnl: number[];
   /** P&L distribution under the view: bin centres (money) and density per unit of money */
@@ -138,13 +168,10 @@ export interface CheckCore {
   curves: Curves;
   /** which model produced which figure, and other assumptions worth stating (the report words them) */
   notes: CheckNote[];
-  /** the outcome under the risk-neutral twin (drift = rate, the view's vol and jumps) */
-  outcomeRiskNeutral?: {
-    probProfit: number;
-    expectedPnl: number;
-    pnlQuantiles: Outcome['pnlQuantiles'];
-    tailMean05: number;
-  };
+  /** the outcome under the market walk (drift = rate, the market vol, the view's jumps) */
+  outcomeMarket?: MarketOutcome;
+  /** σ_m used for the market column */
+  marketVol: number;
 }
 
 /**

@@ -16,6 +16,7 @@ export function checkChartInput(a: CheckAssembly) {
     breakevens: c.outcome.breakevens,
     probProfit: c.outcome.probProfit,
     expectedPnl: c.outcome.expectedPnl,
+    marketVol: c.marketVol,
     curves: a.curves,
     ...(c.exits ? { exits: { target: c.exits.target, stop: c.exits.stop } } : {}),
   };

@@ -7,7 +7,7 @@
  *  - colours from the Okabe–Ito palette, which stays distinguishable for the common forms of
  *    colour blindness, and a line style as a second cue:
  *      view density          blue #0072B2, solid, filled;
- *      risk-neutral density  vermillion #D55E00, dashed, unfilled;
+ *      market walk's density vermillion #D55E00, dashed, unfilled;
  *      P&L at the horizon    near-black, solid, thick, on the right-hand axis, with its zero line;
  *      profit region         pale bluish green #009E73 band over the spots where P&L > 0;
  *      markers               spot (solid grey), strikes (dotted grey), breakevens (dashed green),

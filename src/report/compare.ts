@@ -7,7 +7,7 @@ import type { CompareChartItem } from './chart.js';
 import type { CheckJson } from '../result.js';
 import { hasJumps } from '../core/jumps.js';
 import { level, money, pct, rate, shortDate, table } from './format.js';
-import { positionWords } from './text.js';
+import { isMethodNote, positionWords, wrapParts } from './text.js';
 
 export interface ComparePart {
   /** the part as written (for the legend lines and the chart) */
@@ -49,7 +49,7 @@ function termRows(parts: ComparePart[]): { rows: string[][]; same: string[] } {
 }
 
 /** The comparison table: one column per check. Money in whole units when more than three checks share the width. */
-export function compareText(parts: ComparePart[]): string {
+export function compareText(parts: ComparePart[], opts: { verbose?: boolean } = {}): string {
   const d = parts.length > 3 ? 0 : 2;
   const m = (x: number) => money(x, { sign: true, decimals: d });
   const plain = (x: number) => money(x, { decimals: d });
@@ -89,15 +89,15 @@ export function compareText(parts: ComparePart[]): string {
   }
   lines.push(...table(rows));
   lines.push('');
-  const common = [...same, 'P&L at each horizon, undiscounted, no financing'];
+  const common = [...same, 'P&L at each horizon, undiscounted, unfinanced'];
   if (parts.some((p) => p.json.exits)) common.push('targets and stops under the view, monitoring is continuous');
-  if (parts.some((p) => p.json.legs.some((l) => l.type === 'shares'))) common.push('dividends on shares left out of P&L');
-  lines.push(`Same in every check: ${common.join(' · ')}.`);
+  if (parts.some((p) => p.json.legs.some((l) => l.type === 'shares'))) common.push('no dividends in P&L');
+  lines.push(wrapParts('Same in every check:', common));
   // notes: once when every part has it, else with the part's number
   const seen = new Set<string>();
   for (const p of parts) {
     for (const n of p.json.notes) {
-      if (seen.has(n)) continue;
+      if (seen.has(n) || (!opts.verbose && isMethodNote(n))) continue;
       seen.add(n);
       const who = parts.map((q, k) => (q.json.notes.includes(n) ? k + 1 : 0)).filter((k) => k > 0);
       lines.push(`Note${who.length === parts.length ? '' : ` (${who.join(', ')})`}: ${n}`);

@@ -2,6 +2,8 @@
  * Every number Kolmo writes, in one place: the text answer, the headline, the log and the charts.
  * The text register keeps a fixed number of decimals (tables line up); the charts' register
  * (fmt…) drops trailing zeros and needless decimals, and writes "–" for a missing value.
+ * Negative numbers in text carry the ASCII hyphen-minus, so that figures copied from a chat answer
+ * into a spreadsheet stay numbers.
  */
 import { hasJumps } from '../core/jumps.js';
 import type { Jumps } from '../core/types.js';
@@ -9,9 +11,9 @@ import type { Jumps } from '../core/types.js';
 /** A finite number (the one test every formatter and chart helper uses). */
 export const isNum = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
 
-const MINUS = '−';
+const MINUS = '-';
 
-/** Money with thousands separators and two decimals: 1234.5 → "1,234.50", −3 → "−3.00". */
+/** Money with thousands separators and two decimals: 1234.5 → "1,234.50", −3 → "-3.00". */
 export function money(x: number, opts: { sign?: boolean; decimals?: number } = {}): string {
   if (!Number.isFinite(x)) return 'n/a';
   const d = opts.decimals ?? 2;
@@ -61,7 +63,7 @@ export function level(x: number): string {
   return s;
 }
 
-/** A signed quantity: 2 → "+2", −2 → "−2". */
+/** A signed quantity: 2 → "+2", −2 → "-2". */
 export function qty(q: number): string {
   return q < 0 ? `${MINUS}${Math.abs(q)}` : `+${q}`;
 }

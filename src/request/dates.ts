@@ -8,6 +8,9 @@
  *   month it is clamped to the month's last day (2027-01-31 + 1m = 2027-02-28,
  *   2028-02-29 + 1y = 2029-02-28);
  * - `Nd` adds N days, `Nw` adds 7·N days.
+ * - Dates may also be written the way Kolmo prints them, `19Mar27` (day, month, two- or four-digit
+ *   year; two digits mean 20yy), and as month codes, `Mar27`, the third Friday of that month (the
+ *   usual expiry of monthly options; common practice).
  *
  * All arithmetic is done on UTC day numbers, so no time zone or daylight-saving shift can move a date.
  */
@@ -41,6 +44,26 @@ const ISO = /^(\d{4})-(\d{2})-(\d{2})$/;
 /** Shapes that look like a date but are not ISO: 2027-3-19, 2027/03/19, 19.03.2027, 03/19/2027 */
 const NEAR_ISO = /^(\d{4})[-/.](\d{1,2})[-/.](\d{1,2})$/;
 const DAY_FIRST = /^(\d{1,2})[-/.](\d{1,2})[-/.](\d{4})$/;
+/** As Kolmo prints dates: 19Mar27 (or 19Mar2027). */
+const SHORT = /^(\d{1,2})([A-Za-z]{3})(\d{2}|\d{4})$/;
+/** A month code: Mar27 (or Mar2027), the third Friday of the month. */
+const MONTH_CODE = /^([A-Za-z]{3})(\d{2}|\d{4})$/;
+const MONTHS = ['jan', 'feb', 'mar', 'apr', 'may', 'jun', 'jul', 'aug', 'sep', 'oct', 'nov', 'dec'];
+
+function monthOf(word: string): number {
+  return MONTHS.indexOf(word.toLowerCase()) + 1;
+}
+
+function yearOfShort(y: string): number {
+  return y.length === 2 ? 2000 + Number(y) : Number(y);
+}
+
+/** The third Friday of a month (monthly options expire then; common practice). */
+export function thirdFriday(y: number, m: number): string {
+  const dow = new Date(Date.UTC(y, m - 1, 1)).getUTCDay(); // 0 Sunday … 5 Friday
+  const first = 1 + ((5 - dow + 7) % 7);
+  return formatYMD({ y, m, d: first + 14 });
+}
 
 function pad2(n: number): string {
   return n < 10 ? `0${n}` : String(n);
@@ -52,7 +75,13 @@ export function formatYMD({ y, m, d }: YMD): string {
 
 /** Is the token shaped like a date at all (ISO or a near miss)? Used to give a date-specific error. */
 export function looksLikeDate(token: string): boolean {
-  return ISO.test(token) || NEAR_ISO.test(token) || DAY_FIRST.test(token);
+  return (
+    ISO.test(token) ||
+    NEAR_ISO.test(token) ||
+    DAY_FIRST.test(token) ||
+    (SHORT.test(token) && monthOf(SHORT.exec(token)![2]) > 0) ||
+    (MONTH_CODE.test(token) && monthOf(MONTH_CODE.exec(token)![1]) > 0)
+  );
 }
 
 function checkParts(y: number, m: number, d: number): string | null {
@@ -87,6 +116,18 @@ export function checkDate(token: string): DateCheck {
     const asMD = checkParts(y, a, b) === null ? formatYMD({ y, m: a, d: b }) : undefined;
     const fix = asDM && asMD && asDM !== asMD ? undefined : (asDM ?? asMD);
     return { ok: false, reason: 'dates are written yyyy-mm-dd (year first)', suggestion: fix };
+  }
+  const short = SHORT.exec(token);
+  if (short && monthOf(short[2]) > 0) {
+    const [y, m, d] = [yearOfShort(short[3]), monthOf(short[2]), Number(short[1])];
+    const bad = checkParts(y, m, d);
+    return bad ? { ok: false, reason: bad } : { ok: true, date: formatYMD({ y, m, d }) };
+  }
+  const code = MONTH_CODE.exec(token);
+  if (code && monthOf(code[1]) > 0) {
+    const [y, m] = [yearOfShort(code[2]), monthOf(code[1])];
+    const bad = checkParts(y, m, 1);
+    return bad ? { ok: false, reason: bad } : { ok: true, date: thirdFriday(y, m) };
   }
   return { ok: false, reason: 'not a date' };
 }
@@ -129,6 +170,8 @@ export function addDays(date: string, days: number): string {
 /** Turn an expiry as written into a date, counting spans from `asof`. */
 export function resolveSpec(spec: ExpirySpec, asof: string): string {
   if ('date' in spec) return spec.date;
+  // a horizon in minutes or hours: the day it falls on (whole days from asof)
+  if ('minutes' in spec) return addDays(asof, Math.floor(spec.minutes / (24 * 60)));
   switch (spec.unit) {
     case 'd':
       return addDays(asof, spec.span);

@@ -34,9 +34,11 @@ const SECTIONS: Record<HelpTopic, Section> = {
     lines: [
       '[check] LEG [LEG …] [TERMS]   (check is implied when the request starts with a leg)',
       'LEG:   QTY TYPE [STRIKE] [EXPIRY] [@ENTRY] [iv PCT]',
-      '       QTY signed (+2 long, -2 short, 3 = long); TYPE call|put|shares (c, p, sh);',
-      '       EXPIRY yyyy-mm-dd or 30d / 6w / 3m / 1y from asof; ENTRY price per share;',
-      '       terms right after a leg (strike, expiry, @entry, iv) belong to that leg.',
+      '       QTY signed (+2 long, -2 short, 3 = long; also buy 2, sell 2, 2x); TYPE call|put|shares',
+      '       (c, p, sh); EXPIRY yyyy-mm-dd, 19Mar27, Mar27 (the third Friday of the month) or',
+      '       30d / 6w / 3m / 1y from asof; ENTRY price per share; terms right after a leg',
+      '       (strike, expiry, @entry, iv) belong to that leg; an iv after the last leg applies to',
+      '       every leg without one when no other iv is written.',
       'TERMS (any order, each once): spot P · rate PCT · yield PCT · iv PCT (legs without one) ·',
       '       exp DATE|SPAN (legs without one) · drift PCT [± PCT] · vol PCT (the view) ·',
       '       horizon DATE|SPAN · asof DATE|today · mult N · style american|european ·',
@@ -44,8 +46,11 @@ const SECTIONS: Record<HelpTopic, Section> = {
       '       target MONEY|PCT · stop MONEY|PCT (exit levels; see help exits)',
       'Defaults: asof today · rate and yield 0% (said in the notes) · horizon the earliest expiry',
       '       (required for shares alone) · vol the position\'s iv, else the iv of the leg nearest',
-      '       the money · drift the rate (then the outcome is the risk-neutral one) · mult 100 ·',
+      '       the money · drift the rate (then the view edge is 0) · mult 100 ·',
       '       style european · a leg without @ is entered at its fair value.',
+      'Answer: your view beside the market (drift = rate, vol = the market vol: the position\'s iv,',
+      '       else the iv of the leg nearest the money), the expected P&L split into its parts',
+      '       (entry vs fair, carry, early exercise, legs\' iv, vol view, drift view).',
     ],
     examples: [
       '+2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% spot 100 rate 4.5% yield 1% drift 9% vol 26% horizon 2027-02-15 asof 2027-01-04',
@@ -73,14 +78,14 @@ const SECTIONS: Record<HelpTopic, Section> = {
     ],
     examples: [
       'iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5% yield 1%',
-      'iv put 38 6w price 1.12 on QUILLOP',
+      'iv put 22 6w price 0.85 on BRISAND',
     ],
   },
   touch: {
     title: 'touch — the chance that the stock touches a level by a date',
     lines: [
       'touch LEVEL by DATE|SPAN [spot P] [drift PCT [± PCT]] [vol PCT | iv PCT] [rate PCT] [yield PCT] [jumps …] [asof DATE] [on SYMBOL]',
-      'Both the view (your drift and vol) and the risk-neutral walk (drift = rate) are shown.',
+      'Both your view (drift and vol) and the market (drift = rate, vol = iv, else your vol) are shown.',
     ],
     examples: ['touch 120 by 2027-03-19 spot 100 drift 8% vol 25%', 'touch 70 by 2m on FERNWK vol 34%'],
   },
@@ -92,7 +97,7 @@ const SECTIONS: Record<HelpTopic, Section> = {
       'drift (± its uncertainty) are the view where a request writes none (history … save sets them).',
       'A mark older than a day is flagged as stale in the answer.',
     ],
-    examples: ['mark FERNWK spot 84.20 iv 31% yield 1.2%', 'mark QUILLOP spot 41.05 iv 36% rate 4.25%', 'mark'],
+    examples: ['mark FERNWK spot 84.20 iv 31% yield 1.2%', 'mark QUORVEL spot 145.10', 'mark'],
   },
   log: {
     title: 'log — the channel\'s past checks',
@@ -104,7 +109,7 @@ const SECTIONS: Record<HelpTopic, Section> = {
     lines: [
       'again N [TERMS or LEGS]   (terms override; legs replace the logged legs)',
     ],
-    examples: ['again 17', 'again 17 spot 102 drift 5%', 'again 4 asof today'],
+    examples: ['again 1', 'again 2 spot 102 drift 5%', 'again 1 asof today'],
   },
   history: {
     title: 'history — vol and drift, with their standard errors, from past closes',
@@ -129,7 +134,7 @@ const SECTIONS: Record<HelpTopic, Section> = {
       'drift 9% ± 6% (also 9%±6%, 9% +/- 6%): the drift is uncertain, normal with that mean and',
       'standard error. The view\'s outcome then averages over it (the predictive law): wider',
       'quantiles, and one line sets p05–p95 and the chance of profit beside those with the drift',
-      'known. The risk-neutral column does not change. Works in check, compare, touch, again, mark.',
+      'known. The market column does not change. Works in check, compare, touch, again, mark.',
     ],
     examples: [
       '+1 call 90 2027-12-17 iv 30% spot 84.20 rate 4.5% drift 9% ± 30% asof 2027-01-04',
@@ -142,7 +147,7 @@ const SECTIONS: Record<HelpTopic, Section> = {
       'jumps RATE/yr MEAN% SD%: jumps arrive RATE times a year on average; the log of each jump',
       'is normal with that mean and s.d. (jumps 0.5/yr -8% 12%: one jump every two years,',
       'about an 8% drop, give or take 12%). With jumps, iv and vol are the diffusion\'s vol; the',
-      'same jumps apply to the view and the risk-neutral walk, each compensated so its expected',
+      'same jumps apply to the view and the market walk, each compensated so its expected',
       'total return stays the drift or the rate.',
     ],
     examples: ['+1 put 80 3m iv 30% spot 84.20 jumps 0.5/yr -8% 12%', 'touch 60 by 6m spot 84.20 vol 28% jumps 1/yr -10% 15%'],

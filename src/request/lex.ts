@@ -5,6 +5,10 @@
  * and length in the original text, so errors can put a caret under it.
  *
  * The Unicode minus sign (U+2212) reads as `-` (same length, so indices are kept).
+ *
+ * Quantities may be written the way people say them (`legQuantities`): `buy 2 call …` is `+2 call`,
+ * `sell 2 call …` is `-2 call`, `buy call …` is `+1 call`, and `2x call …` is `2 call`. The
+ * rewritten token spans what it replaces, so a caret still lands under the words as typed.
  */
 
 export interface Tok {
@@ -60,6 +64,40 @@ export function tokenize(src: string): Tok[] {
         len: text.length,
       };
     } else out.push(t);
+  }
+  return legQuantities(out);
+}
+
+const TYPE_START = /^(?:calls?|puts?|c|p|shares?|sh)$/i;
+const TIMES = /^([+-]?\d+)x$/i;
+
+/** `buy`/`sell` and `Nx` in front of a leg's type word, as the signed quantity they mean. */
+function legQuantities(toks: Tok[]): Tok[] {
+  const out: Tok[] = [];
+  for (let i = 0; i < toks.length; i++) {
+    const t = toks[i];
+    const next = toks[i + 1];
+    const after = toks[i + 2];
+    const times = TIMES.exec(t.text);
+    if (times && next && TYPE_START.test(next.text)) {
+      out.push({ ...t, text: times[1], low: times[1] });
+      continue;
+    }
+    if ((t.low === 'buy' || t.low === 'sell') && next) {
+      const sign = t.low === 'buy' ? '+' : '-';
+      if (TYPE_START.test(next.text)) {
+        out.push({ ...t, text: `${sign}1`, low: `${sign}1` });
+        continue;
+      }
+      const n = /^(\d+)x?$/i.exec(next.text);
+      if (n && after && TYPE_START.test(after.text)) {
+        const text = `${sign}${n[1]}`;
+        out.push({ text, low: text, at: t.at, len: next.at + next.len - t.at });
+        i++;
+        continue;
+      }
+    }
+    out.push(t);
   }
   return out;
 }

@@ -30,6 +30,7 @@ import type { ParseResult, Request } from './types.js';
 import { verbNamed, verbNames, verbOfWord } from '../verbs/registry.js';
 import { Cursor, plainNumber, plainReject } from './grammar/cursor.js';
 import { isLegStart } from './grammar/legs.js';
+import { signedAfterBuySell } from './grammar/body.js';
 import { Reject, after, fmtBig, insertAfter, insertBefore, rejectAt, replaceTok, toParseError } from './grammar/errors.js';
 import { TERM_WORDS, TYPE_WORDS, closest } from './grammar/words.js';
 
@@ -57,6 +58,8 @@ function parseRequest(src: string): Request {
   if (verb) return verb.grammar(src, toks, 1) as Request;
   const c = new Cursor(src, toks, 0, toks.length, 'check');
   if (isLegStart(c)) return verbNamed('check').grammar(src, toks, 0) as Request;
+  const bs = signedAfterBuySell(first, toks[1], 'check');
+  if (bs) throw bs;
   // not a verb, not a leg
   const plain = plainNumber(first);
   if (plain !== undefined) throw plainReject(c, first, plain);

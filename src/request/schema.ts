@@ -24,6 +24,8 @@ export const expirySpec = z.union([
   z
     .strictObject({ span: z.number().int().min(1), unit: z.enum(['d', 'w', 'm', 'y']) })
     .refine((s) => s.span <= SPAN_MAX[s.unit]),
+  // a horizon in minutes or hours (`horizon 30min`, `2h`): taken as such, and warned about
+  z.strictObject({ minutes: z.number().int().min(1).max(7 * 24 * 60) }),
 ]);
 
 const price = z.number().positive().max(LIMITS.price);
@@ -164,6 +166,8 @@ export const againSchema = z.strictObject({
   /** the override text after the number, parsed as terms (and possibly legs) by the caller */
   rest: z.string(),
   restAt: pos,
+  /** `again N now`: rerun as of today on the channel's current mark (default: exactly as logged) */
+  now: z.boolean().optional(),
 });
 
 export const helpSchema = z.strictObject({ verb: z.literal('help'), topic: z.string().optional() });

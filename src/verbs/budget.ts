@@ -55,6 +55,7 @@ export const EXITS_DRIFT_UNITS = 150;
 function yearsTo(spec: ExpirySpec | undefined, asofMs: number): number {
   if (!spec) return NaN;
   if ('date' in spec) return (Date.parse(`${spec.date}T00:00:00Z`) - asofMs) / DAY_MS / 365;
+  if ('minutes' in spec) return spec.minutes / (365 * 24 * 60);
   const per = { d: 1 / 365, w: 7 / 365, m: 1 / 12, y: 1 }[spec.unit];
   return spec.span * per;
 }

@@ -26,8 +26,8 @@ import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js
 export function computeCheck(rc: ResolvedCheck): CheckAssembly {
   const input = rc.input;
   const core = runCheck(input);
-  // the risk-neutral column comes from the same run (same P&L function, the twin's distribution)
-  const rn = core.outcomeRiskNeutral!; // computed by default (RunOptions.riskNeutralFigures)
+  // the market column comes from the same run (same P&L function, the market walk's distribution)
+  const mk = core.outcomeMarket!; // computed by default (RunOptions.marketFigures)
   const legs: LegJson[] = input.legs.map((l, i) => {
     const g = core.legs[i];
     const isOpt = l.kind !== 'shares';
@@ -71,12 +71,13 @@ export function computeCheck(rc: ResolvedCheck): CheckAssembly {
     legs,
     position: core.position,
     outcome: core.outcome,
-    outcomeRiskNeutral: {
-      probProfit: rn.probProfit,
-      expectedPnl: rn.expectedPnl,
-      pnlQuantiles: rn.pnlQuantiles,
-      tailMean05: rn.tailMean05,
+    outcomeMarket: {
+      probProfit: mk.probProfit,
+      expectedPnl: mk.expectedPnl,
+      pnlQuantiles: mk.pnlQuantiles,
+      tailMean05: mk.tailMean05,
     },
+    marketVol: core.marketVol,
   };
   // with a drift uncertainty, the same figures with the drift known, for the line that compares them
   const known = knownDriftFigures(input);

@@ -35,6 +35,7 @@ export const help: Verb<HelpRequest> = {
   grammar: parseHelp,
   rerunnable: false,
   run: (_text, req) => ({
-    answer: answer({ verb: 'help', headline: '', text: helpText(req.topic), json: { kind: 'help', topic: req.topic ?? null }, ephemeral: true }),
+    // help pages carry no caution: they state no figures
+    answer: answer({ verb: 'help', headline: '', text: helpText(req.topic), json: { kind: 'help', topic: req.topic ?? null }, ephemeral: true, caution: '' }),
   }),
 };

@@ -59,8 +59,10 @@ function markAge(m: Mark, now: Date): string {
 
 /** The line every answer that used a mark carries: who recorded it, when, its age, stale or not. */
 export function markLine(m: Mark, now: Date): string {
-  const stale = isStale(m.at, now);
-  return `Mark ${m.symbol}: recorded ${whenUtc(m.at)} UTC by ${m.user}, ${markAge(m, now)}${stale ? ' — STALE: older than a day; record a fresh one with `mark ' + m.symbol + ' spot …`' : ''}.`;
+  if (isStale(m.at, now)) {
+    return `Warning: mark ${m.symbol} is older than a day (recorded ${whenUtc(m.at)} UTC by ${m.user}, ${markAge(m, now)}): record a fresh one with \`mark ${m.symbol} spot …\`.`;
+  }
+  return `Mark ${m.symbol}: recorded ${whenUtc(m.at)} UTC by ${m.user}, ${markAge(m, now)}.`;
 }
 
 export function markJson(m: Mark, now: Date) {

@@ -1,6 +1,6 @@
 /**
  * `touch LEVEL by DATE …`: the chance that the stock touches a level by a date, under the view and
- * the risk-neutral walk (closed form, or Monte Carlo under jumps: src/core/models.ts). Logged.
+ * the market walk (drift = rate, the request's iv else the view's vol; closed form, or Monte Carlo under jumps: src/core/models.ts). Logged.
  */
 import { touchSchema } from '../request/schema.js';
 import { SAMPLE } from '../request/examples.js';
@@ -13,7 +13,8 @@ import { activeJumps } from '../core/jumps.js';
 import { TOUCH_MC_SEED, touchFigures } from '../core/models.js';
 import { resolveTouch } from '../request/resolve.js';
 import type { TouchRequest } from '../request/types.js';
-import { level, num, pct, pts, rate, isNum } from '../report/format.js';
+import { level, num, pct, pts, rate, isNum, table } from '../report/format.js';
+import { wrapParts } from '../report/text.js';
 import type { CheckSummary } from '../store/store.js';
 import { figurePair, joinFigures } from './check.js';
 import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
@@ -28,7 +29,7 @@ function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
   const dir = t.level >= t.S ? 'above' : 'below';
   const q = { S: t.S, level: t.level, T: t.T, q: t.q, vol: t.view.vol, jumps };
   const view = touchFigures(q, t.view.drift, t.view.driftSe ?? 0);
-  const rn = touchFigures(q, t.rate);
+  const rn = touchFigures({ ...q, vol: t.marketVol }, t.rate);
   const [pv, prn, bv, brn] = [view.touch, rn.touch, view.beyond, rn.beyond];
   const mc = view.paths !== undefined ? { view: view.stderr!, riskNeutral: rn.stderr!, paths: view.paths } : undefined;
   const model = jumps ? 'merton-jumps' : 'lognormal';
@@ -41,21 +42,30 @@ function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
     market: { spot: t.S, rate: t.rate, yield: t.q },
     view: { drift: t.view.drift, vol: t.view.vol, model, ...(jumps ? { jumps } : {}), ...(t.view.driftSe ? { driftSe: t.view.driftSe } : {}) },
     probTouchView: pv,
-    probTouchRiskNeutral: prn,
+    probTouchMarket: prn,
     probBeyondAtEndView: bv,
-    probBeyondAtEndRiskNeutral: brn,
-    ...(mc ? { monteCarlo: { paths: mc.paths, seed: TOUCH_MC_SEED, stderrView: mc.view, stderrRiskNeutral: mc.riskNeutral } } : {}),
+    probBeyondAtEndMarket: brn,
+    marketVol: t.marketVol,
+    ...(mc ? { monteCarlo: { paths: mc.paths, seed: TOUCH_MC_SEED, stderrView: mc.view, stderrMarket: mc.riskNeutral } } : {}),
     notes: r.notes,
     ...(mark ? { mark: markJson(mark, env.now) } : {}),
   };
   const pm = (p: number, se?: number) => (se === undefined ? pct(p) : `${pct(p)} ±${pct(se, 2)}`);
   const rows = [
     `Touching ${level(t.level)} (${dir} spot ${level(t.S)}) by ${t.by}`,
-    `                       view   risk-neutral`,
-    `chance of touching  ${pm(pv, mc?.view).padStart(7)}  ${pm(prn, mc?.riskNeutral).padStart(13)}`,
-    `chance ending ${dir === 'above' ? 'above' : 'below'} ${pct(bv).padStart(7)}  ${pct(brn).padStart(13)}`,
+    ...table([
+      ['', 'your view', `market (vol ${rate(t.marketVol)})`],
+      ['chance of touching', pm(pv, mc?.view), pm(prn, mc?.riskNeutral)],
+      [`chance ending ${dir === 'above' ? 'above' : 'below'}`, pct(bv), pct(brn)],
+    ]),
     '',
-    `Assumptions: asof ${t.asof} · view drift ${rate(t.view.drift)}${t.view.driftSe ? ` ± ${rate(t.view.driftSe)} (view figures averaged over the uncertain drift)` : ''}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''} · rate ${rate(t.rate)} · yield ${rate(t.q)} · ${jumps ? 'Merton jump diffusion' : 'lognormal walk'}, continuous monitoring.`,
+    wrapParts('Assumptions:', [
+      `asof ${t.asof}`,
+      `view drift ${rate(t.view.drift)}${t.view.driftSe ? ` ± ${rate(t.view.driftSe)} (view figures averaged over the uncertain drift)` : ''}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''}`,
+      `rate ${rate(t.rate)}`,
+      `yield ${rate(t.q)}`,
+      `${jumps ? 'Merton jump diffusion' : 'lognormal walk'}, continuous monitoring`,
+    ]),
     ...(mc ? [`Note: touching under jumps by Monte Carlo (${mc.paths.toLocaleString('en-US')} paths, seed ${TOUCH_MC_SEED}; ± is one standard error); ending beyond is exact.`] : []),
     ...r.notes.map((n) => `Note: ${n}`),
     ...(mark ? [markLine(mark, env.now)] : []),

@@ -71,7 +71,7 @@ function convergence(name: string, input: CheckInput, lv: { target: number; stop
 }
 
 export function run(): void {
-  const viewOnly = { riskNeutralFigures: false };
+  const viewOnly = { marketFigures: false };
   for (const [name, input, lv] of [
     ['iron condor at expiry', condor, condorLevels],
     ['staggered expiries', staggered, staggeredLevels],

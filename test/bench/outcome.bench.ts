@@ -52,7 +52,7 @@ const mixed: CheckInput = {
 function outcomeError(a: Outcome, b: Outcome, scale: number): { prob: number; expect: number; quant: number } {
   const expect = Math.max(
     Math.abs(a.expectedPnl - b.expectedPnl),
-    Math.abs(a.expectedPnlRiskNeutral - b.expectedPnlRiskNeutral),
+    Math.abs(a.expectedPnlAtRate - b.expectedPnlAtRate),
     Math.abs(a.tailMean05 - b.tailMean05),
   ) / scale;
   const qa = Object.values(a.pnlQuantiles);
@@ -75,10 +75,10 @@ export function run(): void {
     return t;
   }, 1000);
   report(base);
-  // the view's figures alone; then with the market (risk-neutral) column the answers also show
-  // (chance of profit, quantiles and worst-5% average under the twin walk); then with the curves
+  // the view's figures alone; then with the market column the answers also show
+  // (chance of profit, quantiles and worst-5% average under the market walk); then with the curves
   // the chart draws, as the service calls it
-  const figuresOnly = { riskNeutralFigures: false, curves: false };
+  const figuresOnly = { marketFigures: false, curves: false };
   const withMarket = { curves: false };
   const m1 = measure('runCheck four legs at expiry: figures', () => runCheck(atExpiry, figuresOnly), 1);
   report(m1, base, '≤ 30 µs');

@@ -46,10 +46,13 @@ describe('kolmo --json check', () => {
     // cost = Σ qty × mult × entry (docs/design.md §3)
     expect(c.position.cost).toBeCloseTo(2 * 100 * 3.1 - 2 * 100 * 1.05, 9);
     const o = c.outcome;
-    for (const k of ['probProfit', 'expectedPnl', 'expectedPnlRiskNeutral', 'viewEdge', 'tailMean05']) expect(Number.isFinite(o[k])).toBe(true);
+    for (const k of ['probProfit', 'expectedPnl', 'expectedPnlAtRate', 'viewEdge', 'tailMean05']) expect(Number.isFinite(o[k])).toBe(true);
     // the attribution adds up to the expected P&L, and its drift part is the view edge (docs/design.md §4)
-    expect(o.attribution.price + o.attribution.vol + o.attribution.drift).toBeCloseTo(o.expectedPnl, 6);
-    expect(o.viewEdge).toBeCloseTo(o.expectedPnl - o.expectedPnlRiskNeutral, 9);
+    const a = o.attribution;
+    expect(a.entryVsFair + a.carry + a.earlyExercise + a.legIv + a.vol + a.drift).toBeCloseTo(o.expectedPnl, 6);
+    expect(o.viewEdge).toBeCloseTo(o.expectedPnl - o.expectedPnlAtRate, 9);
+    // the market vol: the iv of the leg nearest the money (105 of 105/115 at spot 100)
+    expect(c.marketVol).toBe(0.28);
     expect(o.attribution.drift).toBeCloseTo(o.viewEdge, 9);
     // a debit call spread: bounded both ways
     expect(o.maxGain).not.toBeNull();
@@ -90,13 +93,13 @@ describe('kolmo --json iv and touch', () => {
     const t = json(['touch 120 by 2027-03-19 spot 100 drift 8% vol 25% rate 4.5% asof 2027-01-04']);
     expect(t.kind).toBe('touch');
     expect(t.level).toBe(120);
-    for (const k of ['probTouchView', 'probTouchRiskNeutral', 'probBeyondAtEndView']) {
+    for (const k of ['probTouchView', 'probTouchMarket', 'probBeyondAtEndView']) {
       expect(t[k]).toBeGreaterThan(0);
       expect(t[k]).toBeLessThan(1);
     }
     expect(t.probTouchView).toBeGreaterThanOrEqual(t.probBeyondAtEndView);
     // a higher drift makes an upper level likelier
-    expect(t.probTouchView).toBeGreaterThan(t.probTouchRiskNeutral);
+    expect(t.probTouchView).toBeGreaterThan(t.probTouchMarket);
   });
 });
 

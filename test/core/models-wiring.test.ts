@@ -26,7 +26,7 @@ function close(a: CheckCore, b: CheckCore, tol: number, probTol = 1e-9): void {
   const o = a.outcome;
   const p = b.outcome;
   expect(Math.abs(o.probProfit - p.probProfit)).toBeLessThan(probTol);
-  for (const k of ['expectedPnl', 'expectedPnlRiskNeutral', 'tailMean05'] as const) expect(Math.abs(o[k] - p[k])).toBeLessThan(tol);
+  for (const k of ['expectedPnl', 'expectedPnlAtRate', 'tailMean05'] as const) expect(Math.abs(o[k] - p[k])).toBeLessThan(tol);
   for (const k of ['p05', 'p50', 'p95'] as const) expect(Math.abs(o.pnlQuantiles[k] - p.pnlQuantiles[k])).toBeLessThan(tol);
   a.legs.forEach((l, i) => expect(Math.abs(l.value - b.legs[i].value)).toBeLessThan(tol / 100));
 }
@@ -38,12 +38,14 @@ describe('Merton jumps in a check', () => {
     close(a, b, 1e-9);
   });
 
-  it('risk-neutral identity holds under jumps: drift = rate, vol = iv, entries at fair ⇒ expected P&L = price part', () => {
+  it('risk-neutral identity holds under jumps: drift = rate, vol = iv, entries at fair ⇒ expected P&L = entry vs fair + carry', () => {
     // the Merton price is the discounted expectation under the compensated jump walk (Merton 1976),
     // so the discounted price revalued at the horizon is a martingale under that walk
     const jumps = { intensity: 0.8, mean: -0.08, sd: 0.12 };
     const c = runCheck({ ...base, view: { drift: 0.05, vol: 0.3, jumps } });
-    expect(Math.abs(c.outcome.expectedPnl - c.outcome.attribution.price)).toBeLessThan(1e-6 * 4 * 100 * 100);
+    const a = c.outcome.attribution;
+    expect(Math.abs(c.outcome.expectedPnl - (a.entryVsFair + a.carry))).toBeLessThan(1e-6 * 4 * 100 * 100);
+    expect(Math.abs(a.legIv)).toBeLessThan(1e-6 * 4 * 100 * 100);
   });
 
   it('jumps fatten the tails: the worst-5% average of a short strangle is worse', () => {
@@ -90,7 +92,7 @@ describe('American exercise in a check', () => {
     expect(am).toBeGreaterThan(eu);
   });
 
-  it('the discounted American put is a supermartingale: with drift = rate and vol = iv the vol part is ≤ 0', () => {
+  it('the discounted American put is a supermartingale: with drift = rate and vol = iv the early exercise given up is ≤ 0 and there is no vol part', () => {
     // early exercise makes e^{−rt}V(t) a supermartingale under the risk-neutral walk (optimal stopping)
     const p: CheckInput = {
       ...base,
@@ -100,9 +102,11 @@ describe('American exercise in a check', () => {
       legs: [{ qty: 1, kind: 'put', strike: 110, years: 180 / 365, iv: 0.3, entry: null }],
     };
     const c = runCheck({ ...p, style: 'american' });
-    expect(c.outcome.attribution.vol).toBeLessThanOrEqual(1e-6);
+    expect(c.outcome.attribution.earlyExercise).toBeLessThanOrEqual(1e-6);
     // and strictly so for a put this deep with a high rate: exercise has value
-    expect(c.outcome.attribution.vol).toBeLessThan(-0.01);
+    expect(c.outcome.attribution.earlyExercise).toBeLessThan(-0.01);
+    expect(Math.abs(c.outcome.attribution.vol)).toBeLessThan(1e-9);
+    expect(Math.abs(c.outcome.attribution.legIv)).toBeLessThan(1e-6);
   });
 
   it('the American iv recovered from the leg value is the leg iv', () => {

@@ -88,7 +88,7 @@ function compare(input: CheckInput, n: number, seed: number): void {
 
   expect(Math.abs(r.probProfit - view.probProfit)).toBeLessThan(4 * se(r.probProfit));
   expect(Math.abs(r.expectedPnl - view.mean)).toBeLessThan((4 * view.sd) / Math.sqrt(n));
-  expect(Math.abs(r.expectedPnlRiskNeutral - rn.mean)).toBeLessThan((4 * rn.sd) / Math.sqrt(n));
+  expect(Math.abs(r.expectedPnlAtRate - rn.mean)).toBeLessThan((4 * rn.sd) / Math.sqrt(n));
 
   const qs = r.pnlQuantiles;
   for (const [p, y] of [[0.05, qs.p05], [0.25, qs.p25], [0.5, qs.p50], [0.75, qs.p75], [0.95, qs.p95]] as const) {

@@ -1,6 +1,7 @@
 /**
- * The risk-neutral column computed inside one run equals a separate run whose view is the
- * risk-neutral walk (identity: the twin is defined as drift = rate with the view's vol and jumps).
+ * The market column computed inside one run equals a separate run whose view is the market walk
+ * (identity: DESIGN.md §4 defines it as drift = rate with the market vol and the view's jumps), and
+ * the expected P&L at the rate equals a separate run whose view is drift = rate with the view's vol.
  */
 import { describe, expect, it } from 'vitest';
 import { runCheck } from '../../src/core/outcome.js';
@@ -20,15 +21,19 @@ const base: CheckInput = {
   ],
 };
 
-describe('risk-neutral figures from the same run', () => {
+describe('market figures from the same run', () => {
   for (const [name, input] of [
     ['four legs, two live at the horizon', base],
     ['all legs expiring at the horizon', { ...base, legs: base.legs.map((l) => ({ ...l, years: 30 / 365 })) }],
   ] as const) {
     it(name, () => {
       const one = runCheck(input);
-      const twin = runCheck({ ...input, view: { drift: input.market.rate, vol: input.view.vol } });
-      const rn = one.outcomeRiskNeutral!;
+      // the market vol: the iv of the leg nearest the money (105 call: |ln 1.05| < |ln 0.95|)
+      expect(one.marketVol).toBe(0.27);
+      const twin = runCheck({ ...input, view: { drift: input.market.rate, vol: one.marketVol } });
+      const atRate = runCheck({ ...input, view: { drift: input.market.rate, vol: input.view.vol } });
+      expect(one.outcome.expectedPnlAtRate).toBeCloseTo(atRate.outcome.expectedPnl, 6);
+      const rn = one.outcomeMarket!;
       const scale = 4 * 100 * 100;
       expect(rn.probProfit).toBeCloseTo(twin.outcome.probProfit, 9);
       expect(rn.expectedPnl).toBeCloseTo(twin.outcome.expectedPnl, 6);

@@ -49,7 +49,7 @@ function check(legs: LegInput[], horizonYears: number, view: { drift: number; vo
   return { market: m, legs, mult: 100, style: 'european', horizonYears, view };
 }
 
-describe('risk-neutral identity: with drift = rate and view vol = iv, expected P&L = the price part (Hull, risk-neutral valuation)', () => {
+describe('risk-neutral identity: with drift = rate and view vol = iv, expected P&L = entry vs fair + carry (Hull, risk-neutral valuation)', () => {
   const iv = 0.27;
   const rnView = { drift: market.rate, vol: iv };
   const cases: [string, CheckInput][] = [
@@ -65,10 +65,14 @@ describe('risk-neutral identity: with drift = rate and view vol = iv, expected P
       const r = runCheck(input);
       const o = r.outcome;
       const tol = 1e-9 * scaleOf(input);
-      expect(Math.abs(o.expectedPnl - o.attribution.price)).toBeLessThan(tol);
-      expect(Math.abs(o.expectedPnlRiskNeutral - o.expectedPnl)).toBeLessThan(1e-12 * scaleOf(input));
-      expect(Math.abs(o.attribution.vol)).toBeLessThan(tol);
-      expect(Math.abs(o.attribution.price + o.attribution.vol + o.attribution.drift - o.expectedPnl)).toBeLessThan(1e-9);
+      const a = o.attribution;
+      // one iv = the market vol, drift = rate: only the entry prices and carry are left
+      expect(a.earlyExercise).toBe(0);
+      expect(Math.abs(o.expectedPnl - (a.entryVsFair + a.carry))).toBeLessThan(tol);
+      expect(Math.abs(a.legIv)).toBeLessThan(tol);
+      expect(Math.abs(o.expectedPnlAtRate - o.expectedPnl)).toBeLessThan(1e-12 * scaleOf(input));
+      expect(Math.abs(a.vol)).toBeLessThan(tol);
+      expect(Math.abs(a.entryVsFair + a.carry + a.earlyExercise + a.legIv + a.vol + a.drift - o.expectedPnl)).toBeLessThan(1e-9);
       expect(allFinite(r)).toBe(true);
     });
   }
@@ -155,9 +159,9 @@ describe('expected spot: E_view[S_h] = S e^{(μ−q)h} (lognormal mean; Merton 1
       const want = 250 * (100 * Math.exp((mu - market.yield) * h) - 100);
       expect(Math.abs(r.outcome.expectedPnl - want)).toBeLessThan(1e-10 * 250 * 100);
       const wantRn = 250 * (100 * Math.exp((market.rate - market.yield) * h) - 100);
-      expect(Math.abs(r.outcome.expectedPnlRiskNeutral - wantRn)).toBeLessThan(1e-10 * 250 * 100);
-      // shares: the price part uses the forward (dividends are not in the P&L)
-      expect(Math.abs(r.outcome.attribution.price - wantRn)).toBeLessThan(1e-9);
+      expect(Math.abs(r.outcome.expectedPnlAtRate - wantRn)).toBeLessThan(1e-10 * 250 * 100);
+      // shares: carry is the growth to the forward (dividends are not in the P&L)
+      expect(Math.abs(r.outcome.attribution.entryVsFair + r.outcome.attribution.carry - wantRn)).toBeLessThan(1e-9);
       expect(r.legs[0].probItmView).toBe(1);
       expect(r.outcome.maxGain).toBeNull();
       expect(r.outcome.maxLoss).toBeCloseTo(-25000, 9);
@@ -377,7 +381,7 @@ describe('edge cases never give NaN or Infinity', () => {
           if (o.maxLoss !== null) expect(o.maxLoss).toBeLessThanOrEqual(o.tailMean05 + 1e-7 * sc);
           if (o.maxGain !== null) expect(o.maxGain).toBeGreaterThanOrEqual(q[4] - 1e-7 * sc);
           const a = o.attribution;
-          expect(Math.abs(a.price + a.vol + a.drift - o.expectedPnl)).toBeLessThan(1e-9 * sc);
+          expect(Math.abs(a.entryVsFair + a.carry + a.earlyExercise + a.legIv + a.vol + a.drift - o.expectedPnl)).toBeLessThan(1e-9 * sc);
           const pnl = pnlFn(input);
           for (const b of o.breakevens) expect(Math.abs(pnl(b))).toBeLessThan(1e-7 * sc);
           for (let i = 1; i < o.breakevens.length; i++) expect(o.breakevens[i]).toBeGreaterThan(o.breakevens[i - 1]);
@@ -394,14 +398,16 @@ describe('curves for the chart', () => {
   const c = r.curves;
   const h = 0.3;
   const vm = Math.log(100) + (0.12 - market.yield - 0.5 * 0.33 ** 2) * h;
-  const rm = Math.log(100) + (market.rate - market.yield - 0.5 * 0.33 ** 2) * h;
+  // the market walk: drift = rate, vol = the iv of the leg nearest the money (110: |ln 1.1| < |ln 0.9|)
+  const rm = Math.log(100) + (market.rate - market.yield - 0.5 * 0.27 ** 2) * h;
   const s = 0.33 * Math.sqrt(h);
+  const sm = 0.27 * Math.sqrt(h);
   it('spot points ascend and cover the 0.5%–99.5% quantiles of both densities, the strikes and breakevens (jstat)', () => {
     expect(c.spot.length).toBeGreaterThanOrEqual(195);
     expect(c.spot.length).toBeLessThanOrEqual(210);
     for (let i = 1; i < c.spot.length; i++) expect(c.spot[i]).toBeGreaterThan(c.spot[i - 1]);
-    const lo = Math.min(jStat.lognormal.inv(0.005, vm, s), jStat.lognormal.inv(0.005, rm, s));
-    const hi = Math.max(jStat.lognormal.inv(0.995, vm, s), jStat.lognormal.inv(0.995, rm, s));
+    const lo = Math.min(jStat.lognormal.inv(0.005, vm, s), jStat.lognormal.inv(0.005, rm, sm));
+    const hi = Math.max(jStat.lognormal.inv(0.995, vm, s), jStat.lognormal.inv(0.995, rm, sm));
     expect(c.spot[0]).toBeLessThan(lo);
     expect(c.spot[c.spot.length - 1]).toBeGreaterThan(hi);
     for (const k of [90, 110, 120, ...r.outcome.breakevens]) expect(c.spot).toContain(k);
@@ -410,7 +416,7 @@ describe('curves for the chart', () => {
     const pnl = pnlFn(input);
     c.spot.forEach((x, i) => {
       expect(Math.abs(c.densityView[i] - jStat.lognormal.pdf(x, vm, s))).toBeLessThan(1e-12);
-      expect(Math.abs(c.densityRiskNeutral[i] - jStat.lognormal.pdf(x, rm, s))).toBeLessThan(1e-12);
+      expect(Math.abs(c.densityMarket[i] - jStat.lognormal.pdf(x, rm, sm))).toBeLessThan(1e-12);
       expect(Math.abs(c.pnl[i] - pnl(x))).toBeLessThan(1e-9 * scaleOf(input));
     });
   });

@@ -107,8 +107,8 @@ describe('the lognormal predictive law in closed form', () => {
     expect(runCheck(input).outcome.expectedPnl).toBeCloseTo(want, 8);
     // the market column does not move with τ
     const known = runCheck({ ...input, view: { drift: mu0, vol: sigma } });
-    expect(runCheck(input).outcomeRiskNeutral).toEqual(known.outcomeRiskNeutral);
-    expect(runCheck(input).outcome.expectedPnlRiskNeutral).toBe(known.outcome.expectedPnlRiskNeutral);
+    expect(runCheck(input).outcomeMarket).toEqual(known.outcomeMarket);
+    expect(runCheck(input).outcome.expectedPnlAtRate).toBe(known.outcome.expectedPnlAtRate);
   });
 
   it('chance of ending beyond a level (touch): the same closed form', () => {

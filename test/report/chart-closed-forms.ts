@@ -41,7 +41,7 @@ export function closedFormCurves(g: Gbm, pnl: (s: number) => number, n = 801): C
   return {
     spot,
     densityView: spot.map((s) => lognormalPdf(s, g.s0, g.mu, g.q, g.sigma, g.t)),
-    densityRiskNeutral: spot.map((s) => lognormalPdf(s, g.s0, g.r, g.q, g.sigma, g.t)),
+    densityMarket: spot.map((s) => lognormalPdf(s, g.s0, g.r, g.q, g.sigma, g.t)),
     pnl: spot.map(pnl),
     pnlDensity: { x: [], density: [], atoms: [] },
   };

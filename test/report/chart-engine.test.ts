@@ -220,7 +220,7 @@ describe('jumps and early exercise change only the numbers', () => {
     const core = runCheck(inp);
     const cfg = checkChartConfig(chartInputFromCheck(inp, core, { position: 'FERNWK put spread 100/90', horizon: '2027-02-03', currency: 'USD' }));
     const title = [(cfg.options!.plugins!.title as { text: string | string[] }).text].flat().join(' ');
-    if (inp.view.jumps) expect(title).toContain('jumps 0.8/yr mean −6% sd 12%');
+    if (inp.view.jumps) expect(title).toContain('jumps 0.8/yr mean -6% sd 12%');
     else expect(title).not.toContain('jumps');
     const f = pnlByDefinition(inp);
     const pts = cfg.data.datasets[2].data as { x: number; y: number }[];

@@ -170,7 +170,7 @@ describe('failures become a text-only note, never a crash', () => {
   });
 
   it('a degenerate position (no curves) gives the config\'s reason as the note; renderPng still draws a placeholder', async () => {
-    const empty = checkChartConfig({ ...input, strikes: [], breakevens: [], curves: { spot: [], densityView: [], densityRiskNeutral: [], pnl: [], pnlDensity: { x: [], density: [], atoms: [] } } });
+    const empty = checkChartConfig({ ...input, strikes: [], breakevens: [], curves: { spot: [], densityView: [], densityMarket: [], pnl: [], pnlDensity: { x: [], density: [], atoms: [] } } });
     const r = await tryRenderPng(empty);
     expect(r).toEqual({ ok: false, note: expect.stringMatching(/no chart/) });
     const p = await pixels(await renderPng(empty));

@@ -153,7 +153,7 @@ describe('checkChartConfig: x range, densities, P&L', () => {
     expect(sub).toContain('chance of profit 42%');
     expect(sub).toContain('+123 USD');
     const withJumps = checkChartConfig(inputFor(callSpread, G, { view: { drift: 0.09, vol: 0.26, jumps: { intensity: 0.5, mean: -0.05, sd: 0.1 } } }));
-    expect((withJumps.options!.plugins!.title as { text: string }).text).toContain('jumps 0.5/yr mean −5% sd 10%');
+    expect((withJumps.options!.plugins!.title as { text: string }).text).toContain('jumps 0.5/yr mean -5% sd 10%');
   });
 
   it('splits a long title into position and horizon/view lines, each fitting the width', () => {
@@ -236,7 +236,7 @@ describe('checkChartConfig: thinning, degenerate input', () => {
 
   it('empty curves: a valid config with finite axes and a note saying why there is no chart', () => {
     const inp = inputFor(callSpread);
-    inp.curves = { spot: [], densityView: [], densityRiskNeutral: [], pnl: [], pnlDensity: { x: [], density: [], atoms: [] } };
+    inp.curves = { spot: [], densityView: [], densityMarket: [], pnl: [], pnlDensity: { x: [], density: [], atoms: [] } };
     const cfg = checkChartConfig(inp);
     expect(kolmo(cfg).empty).toMatch(/no chart/);
     expect(allNumbers(cfg).every(Number.isFinite)).toBe(true);
@@ -280,7 +280,7 @@ describe('checkChartConfig: thinning, degenerate input', () => {
 
   it('a zero-width range (a single spot value) gives a valid config, not a NaN axis', () => {
     const inp = inputFor({ strikes: [], breakevens: [], pnl: () => 0 });
-    inp.curves = { spot: [100, 100], densityView: [1, 1], densityRiskNeutral: [1, 1], pnl: [0, 0], pnlDensity: { x: [], density: [], atoms: [] } };
+    inp.curves = { spot: [100, 100], densityView: [1, 1], densityMarket: [1, 1], pnl: [0, 0], pnlDensity: { x: [], density: [], atoms: [] } };
     const cfg = checkChartConfig(inp);
     expect(allNumbers(cfg).every(Number.isFinite)).toBe(true);
     expect(xScale(cfg).max).toBeGreaterThan(xScale(cfg).min);
@@ -360,9 +360,11 @@ describe('compareChartConfig', () => {
   });
 
   it('each continuous part integrates to one minus its atoms; atoms become stems of their probability', () => {
+    // the density axis reads "chance per one x step of P&L": the curves are densities × the step
+    const per = xScale(cfg as Cfg).ticks.stepSize;
     const area = (i: number) => {
       const pts = series(cfg as Cfg, i);
-      return trapezoid(pts.map((p) => p.x), pts.map((p) => p.y));
+      return trapezoid(pts.map((p) => p.x), pts.map((p) => p.y)) / per;
     };
     expect(area(0)).toBeCloseTo(1, 2);
     expect(area(1)).toBeCloseTo(1, 2);

@@ -60,6 +60,8 @@ describe('the docs/design.md §2 check', () => {
       style: 'european',
       horizonYears: 42 / 365, // 27 + 15
       view: { drift: 0.09, vol: 0.26 },
+      // the market vol: the iv of the leg nearest the money (105 of 105/115 at spot 100)
+      marketVol: 0.28,
     });
     expect(c.notes).toEqual([]);
   });
@@ -79,7 +81,7 @@ describe('defaults', () => {
   it('drift missing: the view drift is the rate, with the note', () => {
     const c = checkOk('+1 call 100 3m iv 30% spot 100 rate 4.5% yield 1%');
     expect(c.input.view.drift).toBe(0.045);
-    expect(c.notes).toContain('drift not given: the view uses the rate, so the outcome is the risk-neutral one');
+    expect(c.notes).toContain('drift not given: the view uses the rate, so its view edge is 0');
   });
 
   it('rate and yield missing: 0 with notes', () => {
@@ -214,8 +216,10 @@ describe('errors', () => {
 
   it('an option leg without expiry or iv: caret at the leg', () => {
     checkBad('+1 call 100 iv 30% spot 100', '+1', /leg 1 \(\+1 call 100\) has no expiry/);
-    const e = checkBad('+1 call 100 3m -1 call 110 3m iv 20% spot 100', '+1', /leg 1 \(\+1 call 100\) has no iv/);
-    expect(e.example).toBe('+1 call 100 3m iv 28% -1 call 110 3m iv 20% spot 100');
+    // (an iv written last after the last leg applies to every leg without one; here the last
+    // leg's entry follows its iv, so the iv is that leg's own)
+    const e = checkBad('+1 call 100 3m -1 call 110 3m iv 20% @1.20 spot 100', '+1', /leg 1 \(\+1 call 100\) has no iv/);
+    expect(e.example).toBe('+1 call 100 3m iv 28% -1 call 110 3m iv 20% @1.20 spot 100');
   });
 
   it('a strike absurdly far from spot', () => {
@@ -289,7 +293,8 @@ describe('resolveTouch', () => {
     const r = resolveTouch(req<TouchRequest>('touch 120 by 2027-03-19 spot 100 drift 8% vol 25%'), { today: TODAY });
     expect(r.ok).toBe(true);
     if (!r.ok) return;
-    expect(r.touch).toEqual({ level: 120, S: 100, T: 74 / 365, q: 0, view: { drift: 0.08, vol: 0.25 }, rate: 0, by: '2027-03-19', asof: TODAY });
+    // no iv written: the market figures use the view's vol (DESIGN.md §4)
+    expect(r.touch).toEqual({ level: 120, S: 100, T: 74 / 365, q: 0, view: { drift: 0.08, vol: 0.25 }, rate: 0, marketVol: 0.25, by: '2027-03-19', asof: TODAY });
   });
 
   it('vol from iv, drift from rate, both noted', () => {

@@ -101,7 +101,7 @@ describe('a check with a target and a stop', () => {
     const line = a.text.split('\n').find((l) => l.startsWith('Exits'));
     expect(line).toMatch(/monitoring is continuous/);
     expect(line).toMatch(/target \+80\.00 first/);
-    expect(line).toMatch(/stop −200\.00 first/);
+    expect(line).toMatch(/stop -200\.00 first/);
     expect(numbersIn(a.json).every(Number.isFinite)).toBe(true);
   });
 

@@ -61,8 +61,8 @@ export function rejected(r: Reply): Rejection {
 
 /** The figures of a check's JSON that depend only on the request's meaning (not on its wording or notes). */
 export function figures(json: Record<string, unknown>) {
-  const { legs, position, outcome, outcomeRiskNeutral, market, view, asof, horizon } = json as Record<string, unknown>;
-  return { legs, position, outcome, outcomeRiskNeutral, market, view, asof, horizon };
+  const { legs, position, outcome, outcomeMarket, marketVol, market, view, asof, horizon } = json as Record<string, unknown>;
+  return { legs, position, outcome, outcomeMarket, marketVol, market, view, asof, horizon };
 }
 
 /** Every number in a value (deep), for the no-NaN/Infinity check. */

@@ -94,7 +94,7 @@ describe('on SYMBOL', () => {
     expect(day.json.mark).toMatchObject({ stale: false });
     const stale = answered(await ask(d.store, ON, { now: at(24 + 1 / 60) }));
     expect(stale.json.mark).toMatchObject({ stale: true, ageMinutes: 24 * 60 + 1 });
-    expect(stale.text).toContain('STALE');
+    expect(stale.text).toMatch(/Warning: mark FERNWK is older than a day/);
     expect(stale.headline).toContain('mark FERNWK stale');
     const days = answered(await ask(d.store, ON, { now: at(75) }));
     expect(days.text).toContain('3 days 3 h old');

@@ -27,7 +27,7 @@ describe('drift with its uncertainty', () => {
     expect(forms[0].view.driftSe).toBe(0.3);
     const known = answered(await ask(null, `${CALL} drift 9%`)).json as J;
     expect(known.view.driftSe).toBeUndefined();
-    expect(forms[0].outcomeRiskNeutral).toEqual(known.outcomeRiskNeutral);
+    expect(forms[0].outcomeMarket).toEqual(known.outcomeMarket);
     expect(forms[0].outcome.pnlQuantiles.p95).toBeGreaterThan(known.outcome.pnlQuantiles.p95 + 100);
     expect(forms[0].knownDrift).toEqual({ probProfit: known.outcome.probProfit, pnlQuantiles: { p05: known.outcome.pnlQuantiles.p05, p95: known.outcome.pnlQuantiles.p95 } });
   });
@@ -65,7 +65,7 @@ describe('drift with its uncertainty', () => {
     const j = answered(await ask(null, 'touch 120 by 2028-01-04 spot 100 drift 8% ± 25% vol 25% asof 2027-01-04')).json as J;
     expect(j.view.driftSe).toBe(0.25);
     expect(j.probTouchView).toBeCloseTo(touchProbPredictive(100, 120, 365 / 365, 0.08, 0.25, 0, 0.25), 14);
-    expect(j.probTouchRiskNeutral).toBe((answered(await ask(null, 'touch 120 by 2028-01-04 spot 100 drift 8% vol 25% asof 2027-01-04')).json as J).probTouchRiskNeutral);
+    expect(j.probTouchMarket).toBe((answered(await ask(null, 'touch 120 by 2028-01-04 spot 100 drift 8% vol 25% asof 2027-01-04')).json as J).probTouchMarket);
   });
 
   it('again N with the uncertainty as an override', async () => {

@@ -1,5 +1,5 @@
 /**
- * Sampled curves for the chart: the spot densities under both walks and the P&L across spots at
+ * Sampled curves for the chart: the spot densities under the view and the market walk and the P&L across spots at
  * the horizon, and the P&L density under the view (a histogram of its continuous part between
  * the 0.5% and 99.5% quantiles, atoms listed apart).
  */
@@ -16,7 +16,7 @@ const PNL_BINS = 120;
 
 export interface CurvesInput {
   dView: SpotDist;
-  dRn: SpotDist;
+  dMkt: SpotDist;
   /** the P&L at S, with x = ln S given too */
   pnlAt: (x: number, s: number) => number;
   strikes: number[];
@@ -31,9 +31,9 @@ export interface CurvesInput {
 
 /** The spots sampled: the central 99% of both walks and the spot, strikes and breakevens near them. */
 function spotPoints(c: CurvesInput): number[] {
-  const { dView, dRn, spot } = c;
-  const qlo = Math.min(spotQuantile(dView, 0.005), spotQuantile(dRn, 0.005), spot);
-  const qhi = Math.max(spotQuantile(dView, 0.995), spotQuantile(dRn, 0.995), spot);
+  const { dView, dMkt, spot } = c;
+  const qlo = Math.min(spotQuantile(dView, 0.005), spotQuantile(dMkt, 0.005), spot);
+  const qhi = Math.max(spotQuantile(dView, 0.995), spotQuantile(dMkt, 0.995), spot);
   // strikes and breakevens are covered, within a window that keeps the chart readable
   const marks = [...c.strikes, ...c.breakevens].filter((x) => x >= qlo / 4 && x <= qhi * 4);
   let lo = Math.min(qlo, ...marks);
@@ -92,15 +92,15 @@ export function buildCurves(c: CurvesInput): Curves {
   const spot = spotPoints(c);
   const n = spot.length;
   const densityView: number[] = new Array(n);
-  const densityRiskNeutral: number[] = new Array(n);
+  const densityMarket: number[] = new Array(n);
   const pnl: number[] = new Array(n);
   for (let i = 0; i < n; i++) {
     // one logarithm per point for both densities and the P&L (density(d, x) is logDensity(d, ln x)/x)
     const s = spot[i];
     const x = Math.log(s);
     densityView[i] = s > 0 && s !== Infinity ? logDensity(c.dView, x) / s : 0;
-    densityRiskNeutral[i] = s > 0 && s !== Infinity ? logDensity(c.dRn, x) / s : 0;
+    densityMarket[i] = s > 0 && s !== Infinity ? logDensity(c.dMkt, x) / s : 0;
     pnl[i] = c.pnlAt(x, s);
   }
-  return { spot, densityView, densityRiskNeutral, pnl, pnlDensity: pnlDensity(c) };
+  return { spot, densityView, densityMarket, pnl, pnlDensity: pnlDensity(c) };
 }

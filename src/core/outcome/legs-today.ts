@@ -1,6 +1,6 @@
 /**
  * Per-leg figures today (value, Greeks, chances of finishing in the money under both walks),
- * the position totals and the price part of the attribution.
+ * the position totals and the first two parts of the attribution (entry vs fair, carry).
  */
 import { cdf as spotCdf, sf as spotSf, walkDistribution } from '../dist.js';
 import { legGreeks, type LegModel } from '../pricer.js';
@@ -13,8 +13,10 @@ export interface LegsToday {
   coefs: number[];
   /** entry price per share of each leg (its fair value when none was given) */
   entries: number[];
-  /** Σ coef × (value carried to the horizon at the rate − entry) */
-  price: number;
+  /** Σ coef × (fair value − entry) */
+  entryVsFair: number;
+  /** Σ coef × fair value × (e^{rh} − 1) for options, coef × S × (e^{(r−q)h} − 1) for shares */
+  carry: number;
   hasShares: boolean;
 }
 
@@ -37,7 +39,8 @@ export function legsToday(input: CheckInput, model: LegModel, h: number): LegsTo
   const pos: PositionTotals = { cost: 0, value: 0, delta: 0, gamma: 0, vega: 0, theta: 0, rho: 0 };
   const coefs: number[] = [];
   const entries: number[] = [];
-  let price = 0;
+  let entryVsFair = 0;
+  let carry = 0;
   let hasShares = false;
   for (const leg of input.legs) {
     const g = legGreeks(leg, model);
@@ -46,10 +49,11 @@ export function legsToday(input: CheckInput, model: LegModel, h: number): LegsTo
     coefs.push(coef);
     entries.push(entry);
     const { pRn, pView } = probItm(leg, input);
+    entryVsFair += coef * (g.value - entry);
     if (leg.kind === 'shares') {
       hasShares = true;
-      price += coef * (spot * Math.exp((rate - q) * h) - entry);
-    } else price += coef * (g.value * Math.exp(rate * h) - entry);
+      carry += coef * spot * Math.expm1((rate - q) * h);
+    } else carry += coef * g.value * Math.expm1(rate * h);
     legs.push({ ...g, probItmRiskNeutral: pRn, probItmView: pView });
     pos.cost += coef * entry;
     pos.value += coef * g.value;
@@ -59,5 +63,5 @@ export function legsToday(input: CheckInput, model: LegModel, h: number): LegsTo
     pos.theta += coef * g.theta;
     pos.rho += coef * g.rho;
   }
-  return { legs, position: pos, coefs, entries, price, hasShares };
+  return { legs, position: pos, coefs, entries, entryVsFair, carry, hasShares };
 }

@@ -29,6 +29,8 @@ export interface LiveInfo {
 export interface MeshInput {
   view: SplitDist;
   rn: SplitDist;
+  /** a third walk whose expectation alone is wanted on the same samples (the view's vol at the rate) */
+  extra?: SplitDist;
   /** strikes of the legs expiring at the horizon */
   kinks: number[];
   live: LiveInfo[];
@@ -49,7 +51,7 @@ export interface Mesh {
 /** The windows of local scale and the breakpoints (kinks of live legs with no width) they imply. */
 function windowsOf(m: MeshInput): { windows: Window[]; breaks: number[] } {
   const windows: Window[] = [];
-  for (const d of [m.view, m.rn]) {
+  for (const d of m.extra ? [m.view, m.rn, m.extra] : [m.view, m.rn]) {
     for (const c of d.cont.components) {
       if (c.weight < MESH_MIN_WEIGHT) continue;
       windows.push({ lo: c.mu - Z_RANGE * c.s, hi: c.mu + c.s * c.s + Z_RANGE * c.s, scale: c.s });
@@ -73,7 +75,7 @@ export function buildMesh(m: MeshInput): Mesh {
   const { windows, breaks } = windowsOf(m);
   let X0 = m.extraRange[0];
   let X1 = m.extraRange[1];
-  for (const d of [m.view, m.rn]) {
+  for (const d of m.extra ? [m.view, m.rn, m.extra] : [m.view, m.rn]) {
     const [a, b] = logRange(d);
     X0 = Math.min(X0, a);
     X1 = Math.max(X1, b);

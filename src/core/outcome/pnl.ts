@@ -12,6 +12,8 @@ import type { PnlFn } from './engine.js';
 export interface LegGroup {
   leg: LegInput;
   coef: number;
+  /** index of the first leg of the group in the input */
+  index: number;
 }
 
 export interface PositionPnl {
@@ -20,6 +22,8 @@ export interface PositionPnl {
   active: LegGroup[];
   /** −Σ coef × entry */
   c0: number;
+  /** each active group's per-share value at the horizon as a function of the spot then */
+  valuers: ((s: number) => number)[];
 }
 
 /** Identical legs merged (same kind, strike, expiry and iv; all shares together). */
@@ -29,7 +33,7 @@ function groupLegs(legs: LegInput[], coefs: number[]): LegGroup[] {
     const key = leg.kind === 'shares' ? 'shares' : `${leg.kind}|${leg.strike}|${leg.years}|${leg.iv}`;
     const g0 = groups.get(key);
     if (g0) g0.coef += coefs[i];
-    else groups.set(key, { leg, coef: coefs[i] });
+    else groups.set(key, { leg, coef: coefs[i], index: i });
   });
   return [...groups.values()].filter((g) => g.coef !== 0);
 }
@@ -63,5 +67,5 @@ export function positionPnl(legs: LegInput[], coefs: number[], entries: number[]
     B += g.coef * as.slope;
   }
   const scale = absCoef > 0 ? absCoef * model.market.spot : Math.max(1, Math.abs(c0));
-  return { pf: { f, fx, fAt, A, B, tolB: 1e-12 * Math.max(absCoef, 1e-300), scale }, active, c0 };
+  return { pf: { f, fx, fAt, A, B, tolB: 1e-12 * Math.max(absCoef, 1e-300), scale }, active, c0, valuers: terms.map((t) => t.v) };
 }

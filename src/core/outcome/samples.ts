@@ -19,14 +19,21 @@ export class Quadrature {
     private readonly rn: SplitDist,
     /** P&L as a function of log-spot */
     private readonly fx: (x: number) => number,
+    /** a third walk whose integral is wanted too (the view's vol at the rate) */
+    private readonly extra?: SplitDist,
   ) {}
 
-  /** [∫ P&L·f_view, ∫ P&L·f_rn] over [u, v]; with `sx`, `sfv` the nodes and P&L there are appended */
-  panel(u: number, v: number, sx?: number[], sfv?: number[]): [number, number] {
+  /**
+   * [∫ P&L·f_view, ∫ P&L·f_rn, ∫ P&L·f_extra (0 without it)] over [u, v]; with `sx`, `sfv` the
+   * nodes and P&L there are appended
+   */
+  panel(u: number, v: number, sx?: number[], sfv?: number[]): [number, number, number] {
     const half = 0.5 * (v - u);
     const mid = 0.5 * (u + v);
     let iv = 0;
     let ir = 0;
+    let ie = 0;
+    const extra = this.extra?.cont.components.length ? this.extra.cont : undefined;
     for (let k = 0; k < GL_N; k++) {
       const x = mid + half * GL.t[k];
       const p = this.fx(x);
@@ -38,8 +45,9 @@ export class Quadrature {
       const wr = this.rn.cont.components.length ? logDensity(this.rn.cont, x) : 0;
       iv += GL.w[k] * p * wv;
       ir += GL.w[k] * p * wr;
+      if (extra) ie += GL.w[k] * p * logDensity(extra, x);
     }
-    return [iv * half, ir * half];
+    return [iv * half, ir * half, ie * half];
   }
 }
 
@@ -48,9 +56,11 @@ export interface Samples {
   sx: number[];
   /** P&L at the samples */
   sfv: number[];
-  /** prefix sums of the panel integrals under the view and the risk-neutral walk */
+  /** prefix sums of the panel integrals under the view and the twin walk (at the rate, or the market) */
   prefV: Float64Array;
   prefR: Float64Array;
+  /** prefix sums under the third walk (zeros without it) */
+  prefE: Float64Array;
 }
 
 /** Samples and panel integrals over the whole mesh. */
@@ -61,16 +71,18 @@ export function sampleMesh(mesh: Mesh, quad: Quadrature, fx: (x: number) => numb
   const sfv: number[] = [];
   const prefV = new Float64Array(np + 1);
   const prefR = new Float64Array(np + 1);
+  const prefE = new Float64Array(np + 1);
   for (let i = 0; i < np; i++) {
     sx.push(pa[i]);
     sfv.push(fx(pa[i]));
-    const [iv, ir] = quad.panel(pa[i], pb[i], sx, sfv);
+    const [iv, ir, ie] = quad.panel(pa[i], pb[i], sx, sfv);
     prefV[i + 1] = prefV[i] + iv;
     prefR[i + 1] = prefR[i] + ir;
+    prefE[i + 1] = prefE[i] + ie;
   }
   sx.push(mesh.X1);
   sfv.push(fx(mesh.X1));
-  return { sx, sfv, prefV, prefR };
+  return { sx, sfv, prefV, prefR, prefE };
 }
 
 /**

@@ -29,8 +29,9 @@ export function sanitize(r: CheckCore): boolean {
   for (const l of r.legs) rec(l as unknown as Record<string, unknown>);
   rec(r.position as unknown as Record<string, unknown>);
   rec(r.outcome as unknown as Record<string, unknown>);
+  if (r.outcomeMarket) rec(r.outcomeMarket as unknown as Record<string, unknown>);
   const c = r.curves;
-  for (const a of [c.spot, c.densityView, c.densityRiskNeutral, c.pnl, c.pnlDensity.x, c.pnlDensity.density]) arr(a);
+  for (const a of [c.spot, c.densityView, c.densityMarket, c.pnl, c.pnlDensity.x, c.pnlDensity.density]) arr(a);
   for (const a of c.pnlDensity.atoms) rec(a as unknown as Record<string, unknown>);
   return hit;
 }

@@ -33,6 +33,8 @@ interface Sampled {
   sfv: number[];
   /** prefix sums of the panel integrals under the view ([0]) and the risk-neutral walk ([1]) */
   pref: [Float64Array, Float64Array];
+  /** prefix sums under the input's third walk (`extra`), if any */
+  prefE: Float64Array;
   runs: number[];
   /** P&L evaluations inside sample cells (SmoothEngine.crossing) */
   cells: Map<number, { x: number[]; f: number[] }>;
@@ -41,10 +43,10 @@ interface Sampled {
 function sampleAll(input: SmoothInput): Sampled {
   const fx = input.pf.fx;
   const mesh = buildMesh(input);
-  const quad = new Quadrature(input.view, input.rn, fx);
+  const quad = new Quadrature(input.view, input.rn, fx, input.extra);
   const s = sampleMesh(mesh, quad, fx);
   addLocalExtrema(s.sx, s.sfv, fx, 1e-13 * input.pf.scale);
-  return { pa: mesh.pa, pb: mesh.pb, X0: mesh.X0, X1: mesh.X1, quad, sx: s.sx, sfv: s.sfv, pref: [s.prefV, s.prefR], runs: monotoneRuns(s.sfv), cells: new Map() };
+  return { pa: mesh.pa, pb: mesh.pb, X0: mesh.X0, X1: mesh.X1, quad, sx: s.sx, sfv: s.sfv, pref: [s.prefV, s.prefR], prefE: s.prefE, runs: monotoneRuns(s.sfv), cells: new Map() };
 }
 
 export class SmoothEngine implements PnlEngine {
@@ -223,6 +225,12 @@ export class SmoothEngine implements PnlEngine {
 
   expectRiskNeutral(): number {
     return this.prefR[this.pa.length] + pointsAll(this.f, this.rn);
+  }
+
+  /** E[P&L] under the input's third walk (`extra`), from the same samples; undefined without one */
+  expectExtra(): number | undefined {
+    const e = this.input.extra;
+    return e ? this.sampled.prefE[this.pa.length] + pointsAll(this.f, e) : undefined;
   }
 
   /** sign of a P&L with |P&L| within 1e-13 of the scale counted as zero */

@@ -1,7 +1,7 @@
 /** The density chart of one check (design: ../chart.ts). */
 import type { ChartConfiguration, ChartDataset } from 'chart.js';
 import type { CheckCore, CheckInput, Curves } from '../../core/types.js';
-import { describeView, fmtChance, fmtMoney, fmtPrice, isNum } from '../format.js';
+import { describeView, fmtChance, fmtMoney, fmtPct, fmtPrice, isNum } from '../format.js';
 import { type ChartMarker, type KolmoPluginOptions, type ChartInput, type ChartSize, DEFAULT_SIZE, VIEW_LINE, VIEW_FILL, RN_LINE, PNL_LINE, PROFIT_BAND, TARGET_LINE, STOP_LINE, MAX_POINTS } from './style.js';
 import { niceRange, trapezoid, sampledQuantiles, thinIndices } from './scale.js';
 import { baseOptions, chartPlugins, densityAxis, emptyPluginOptions, profitBands, valueAxis } from './axes.js';
@@ -19,12 +19,12 @@ interface CleanCurves {
 function cleanCurves(c: Curves | undefined): CleanCurves {
   const out: CleanCurves = { spot: [], dv: [], drn: [], pnl: [] };
   if (!c || !Array.isArray(c.spot)) return out;
-  const n = Math.min(c.spot.length, c.densityView?.length ?? 0, c.densityRiskNeutral?.length ?? 0, c.pnl?.length ?? 0);
+  const n = Math.min(c.spot.length, c.densityView?.length ?? 0, c.densityMarket?.length ?? 0, c.pnl?.length ?? 0);
   let last = -Infinity;
   for (let i = 0; i < n; i++) {
     const s = c.spot[i];
     const a = c.densityView[i];
-    const b = c.densityRiskNeutral[i];
+    const b = c.densityMarket[i];
     const p = c.pnl[i];
     if (!isNum(s) || !isNum(a) || !isNum(b) || !isNum(p) || s <= last) continue;
     last = s;
@@ -119,7 +119,7 @@ function levelMarkers(lv: Levels): ChartMarker[] {
 
 type Points = { x: number; y: number }[];
 
-function checkDatasets(pts: (ys: number[]) => Points, w: ReturnType<typeof windowSamples>, view: ChartInput['view'] | undefined, exits: ChartInput['exits']): ChartDataset<'line', Points>[] {
+function checkDatasets(pts: (ys: number[]) => Points, w: ReturnType<typeof windowSamples>, view: ChartInput['view'] | undefined, exits: ChartInput['exits'], marketVol?: number): ChartDataset<'line', Points>[] {
   const datasets: ChartDataset<'line', Points>[] = [
     {
       label: isNum(view?.driftSe) && view.driftSe > 0 ? 'your view: predictive spot density (drift uncertain)' : 'your view: spot density',
@@ -132,7 +132,7 @@ function checkDatasets(pts: (ys: number[]) => Points, w: ReturnType<typeof windo
       order: 3,
     },
     {
-      label: 'risk-neutral: prices the options',
+      label: isNum(marketVol) ? `market walk (drift = rate, vol ${fmtPct(marketVol)}): prices the options` : 'market walk (drift = rate): prices the options',
       data: pts(w.sr),
       yAxisID: 'yDensity',
       borderColor: RN_LINE,
@@ -204,7 +204,7 @@ function checkTitles(input: ChartInput, size: ChartSize, cur: string | undefined
 }
 
 /**
- * The density chart of one check: the view's and the risk-neutral density of the spot at the
+ * The density chart of one check: the view's and the market walk's density of the spot at the
  * horizon (left axis), the P&L at the horizon (right axis, money) with its zero line, the profit
  * region shaded, markers at spot, strikes and breakevens. Pure; JSON-serialisable result.
  */
@@ -234,7 +234,7 @@ export function checkChartConfig(input: ChartInput, size: ChartSize = DEFAULT_SI
   const { title, subtitle } = checkTitles(input, size, cur, allZero);
   return {
     type: 'line',
-    data: { datasets: checkDatasets(pts, w, input.view, input.exits) },
+    data: { datasets: checkDatasets(pts, w, input.view, input.exits, input.marketVol) },
     options: {
       ...baseOptions(),
       scales: {

@@ -61,7 +61,9 @@ function pnlRange(list: CompareChartItem[], cleaned: Clean[]) {
 }
 
 /** One line a check (inside the range, thinned), and the tallest density and atom drawn. */
-function compareDatasets(list: CompareChartItem[], cleaned: Clean[], xr: { min: number; max: number }, cur: string | undefined) {
+function compareDatasets(list: CompareChartItem[], cleaned: Clean[], xr: { min: number; max: number; step: number }, cur: string | undefined) {
+  // the density axis reads as "chance per one x step of P&L": densities scaled by the step
+  const per = xr.step;
   let dMax = 0;
   let aMax = 0;
   const datasets: ChartDataset<'line', Points>[] = cleaned.map((c, k) => {
@@ -72,13 +74,13 @@ function compareDatasets(list: CompareChartItem[], cleaned: Clean[], xr: { min: 
     const sx = c.x.slice(i0, i1 + 1);
     const sd = c.d.slice(i0, i1 + 1);
     const keep = sx.length ? thinIndices(sx, [sd], MAX_POINTS, [0]) : [];
-    for (const i of keep) if (sx[i] >= xr.min && sx[i] <= xr.max) dMax = Math.max(dMax, sd[i]);
+    for (const i of keep) if (sx[i] >= xr.min && sx[i] <= xr.max) dMax = Math.max(dMax, sd[i] * per);
     for (const a of c.atoms) aMax = Math.max(aMax, a.prob);
     const st = COMPARE_STYLES[k];
     const it = list[k];
     return {
       label: `${it?.label || `check ${k + 1}`} · expected ${fmtMoney(it?.expectedPnl, cur)}`,
-      data: keep.map((i) => ({ x: sx[i], y: sd[i] })),
+      data: keep.map((i) => ({ x: sx[i], y: sd[i] * per })),
       yAxisID: 'yDensity',
       borderColor: st.color,
       backgroundColor: 'rgba(255,255,255,0)',
@@ -104,6 +106,21 @@ function compareMarks(list: CompareChartItem[], cleaned: Clean[], xr: { min: num
       stems.push({ x: a.x, y: a.prob, axis: 'yAtom', color: COMPARE_STYLES[k].color, label: `${fmtPct(Math.round(a.prob * 1000) / 1000)}` });
     }
   });
+  // equal atoms of several checks (the same max loss under three views) share one place: values
+  // within a billionth of the axis span are one P&L
+  const same = 1e-9 * (xr.max - xr.min);
+  const order = stems.map((_, i) => i).sort((i, j) => stems[i].x - stems[j].x);
+  for (let a = 0; a < order.length; ) {
+    let b = a + 1;
+    while (b < order.length && stems[order[b]].x - stems[order[a]].x <= same) b++;
+    if (b - a > 1) {
+      for (let k = a; k < b; k++) {
+        stems[order[k]].x = stems[order[a]].x;
+        stems[order[k]].together = true;
+      }
+    }
+    a = b;
+  }
   const markers: ChartMarker[] = [{ x: 0, label: 'P&L 0', kind: 'zero' }];
   list.forEach((it, k) => {
     if (isNum(it?.expectedPnl)) markers.push({ x: it.expectedPnl, label: '', kind: 'mean', color: COMPARE_STYLES[k].color });
@@ -156,8 +173,8 @@ export function compareChartConfig(
   };
   const unit = cur ? ` (${cur})` : '';
   const subtitle =
-    'density of P&L under each view (area = chance of a continuous outcome); ▲ expected P&L' +
-    (stems.length ? '; stems: chance of one exact P&L (right axis)' : '') +
+    "How likely each P&L is at the horizon under each check's view; ▲ marks the expected P&L" +
+    (stems.length ? '; a stem is the chance of one exact P&L, such as the most a position can lose (right axis)' : '') +
     (dropped ? `; first ${MAX_COMPARE} of ${list.length + dropped} shown` : '');
   return {
     type: 'line',
@@ -166,7 +183,16 @@ export function compareChartConfig(
       ...baseOptions(),
       scales: {
         x: valueAxis(xr, `P&L at horizon${unit}`),
-        yDensity: densityAxis(dMax, 'likelihood of P&L'),
+        yDensity: (() => {
+          const dr = niceRange(0, dMax > 0 ? dMax * 1.12 : 1, 5);
+          const d = Math.max(0, decimalsOf(dr.step) - 2);
+          return {
+            ...densityAxis(dMax, `chance per ${xr.step.toLocaleString('en-US', { maximumFractionDigits: decimalsOf(xr.step) })} of P&L`),
+            min: 0,
+            max: dr.max,
+            ticks: { display: true, stepSize: dr.step, font: TICK_FONT, color: MUTED, format: { style: 'percent', minimumFractionDigits: d, maximumFractionDigits: d } },
+          };
+        })(),
         yAtom: atomAxis(aMax, stems.length > 0),
       },
       plugins: chartPlugins(opts.title || "P&L at horizon under each check's view", subtitle, 12, plugin),

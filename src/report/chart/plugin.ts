@@ -108,8 +108,11 @@ function drawStems(chart: Chart, o: KolmoPluginOptions, family: string): void {
   for (const g of groups) {
     const centre = g.reduce((t, p) => t + p.px, 0) / g.length;
     const gap = 9;
+    // equal atoms (stems marked `together`: one P&L) are drawn at one place, the tallest behind
+    const oneValue = g.length > 1 && g.every((p) => p.s.together && p.s.x === g[0].s.x);
+    if (oneValue) g.sort((p1, p2) => p1.top - p2.top);
     g.forEach((p, i) => {
-      const px = g.length > 1 ? centre + (i - (g.length - 1) / 2) * gap : p.px;
+      const px = oneValue ? p.px : g.length > 1 ? centre + (i - (g.length - 1) / 2) * gap : p.px;
       ctx.strokeStyle = p.s.color;
       ctx.fillStyle = p.s.color;
       ctx.setLineDash([]);

@@ -28,6 +28,8 @@ export interface ChartStem {
   axis: string;
   color: string;
   label: string;
+  /** several checks' stems at one P&L (equal atoms): drawn at one place, not side by side */
+  together?: boolean;
 }
 
 export interface KolmoPluginOptions {
@@ -59,6 +61,8 @@ declare module 'chart.js' {
 
 /** What the density chart reads from a check result. Plain data: it may cross a thread boundary. */
 export interface ChartInput {
+  /** σ_m of the market walk drawn as the second density (DESIGN.md §4) */
+  marketVol?: number;
   /** the position in a few words, e.g. "+2/−2 call spread 105/115" (or give it as `title`) */
   position?: string;
   /** accepted in place of `position` (the same words), for callers that name it so */

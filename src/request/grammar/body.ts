@@ -2,7 +2,7 @@
  * Bodies: the legs and terms after a verb, read with the terms the verb takes (its `body` in the
  * registry); a check's body, and how a later part of a comparison inherits from the one before.
  */
-import { EXAMPLES } from '../examples.js';
+import { EXAMPLES, type ExampleKey } from '../examples.js';
 import { LIMITS } from '../limits.js';
 import { NUMBER, PERCENT, tokenize, type Tok } from '../lex.js';
 import type { CheckRequest, ExpirySpec, LegSpec, ParseError, TermName, Terms } from '../types.js';
@@ -30,7 +30,16 @@ function bodyOf(verb: BodyVerb): { terms: readonly AnyTerm[]; legs: boolean } {
 }
 
 /** Something that is neither a leg nor an allowed term: say what it is and what was expected. */
+/** `buy -2 call`: the word gives the sign, so a signed quantity after it is refused. */
+export function signedAfterBuySell(t: Tok, next: Tok | undefined, fallback: ExampleKey): Reject | undefined {
+  if ((t.low !== 'buy' && t.low !== 'sell') || !next || !/^[+-]\d+x?$/i.test(next.text)) return undefined;
+  const n = next.text.replace(/^[+-]/, '').replace(/x$/i, '');
+  return new Reject(`${t.low} gives the sign: write ${t.low} ${n} (or ${t.low === 'buy' ? '+' : '-'}${n} without ${t.low})`, next.at, next.len, { at: next.at, length: next.len, text: n }, fallback);
+}
+
 function stray(c: Cursor, t: Tok, verb: BodyVerb, legs: LegSpec[]): Reject {
+  const bs = signedAfterBuySell(t, c.peek(1), c.fallback);
+  if (bs) return bs;
   const { terms: allowed, legs: legsOk } = bodyOf(verb);
   const list = allowed.join(', ');
   if (t.text === ';') {

@@ -119,7 +119,16 @@ export function readSpec(c: Cursor, term: Tok, name: string, sample: string, spa
   return spec;
 }
 
+/** A horizon in minutes or hours (`30min`, `2h`): taken as such, and warned about in the answer. */
+const MINUTES = /^(\d+)(min|mins|minutes?|h|hrs?|hours?)$/i;
+
 export function specOf(c: Cursor, t: Tok, name: string, form: string, spans: boolean, sample: string): ExpirySpec {
+  const mins = name === 'horizon' ? MINUTES.exec(t.text) : null;
+  if (mins) {
+    const n = Number(mins[1]) * (/^h/i.test(mins[2]) ? 60 : 1);
+    if (n < 1 || n > 7 * 24 * 60) throw c.reject(t, `a horizon of ${t.text} is outside 1 minute … 7 days; write days instead (e.g. 30d)`, replaceTok(t, '30d'));
+    return { minutes: n };
+  }
   const span = SPAN.exec(t.text);
   if (span) {
     if (!spans) throw c.reject(t, `${name} takes a date (yyyy-mm-dd), not a span`, replaceTok(t, sample));

@@ -23,7 +23,7 @@ export function viewDrift(terms: { drift?: number; driftSe?: number }, base: Bas
     notes.push(`drift not given: the view uses the mark's drift, ${pct2(m.drift)}${se.driftSe ? ` ± ${pct2(se.driftSe)}` : ''}`);
     return { drift: m.drift, se };
   }
-  notes.push('drift not given: the view uses the rate, so the outcome is the risk-neutral one');
+  notes.push('drift not given: the view uses the rate, so its view edge is 0');
   return { drift: base.rate, se: {} };
 }
 

@@ -1,4 +1,5 @@
 /** A check: its legs (expiry, iv, strike), the horizon, the view's vol and drift, and the spread cap. */
+import { resolveSpec } from '../dates.js';
 import type { CheckInput, LegInput } from '../../core/types.js';
 import { hasJumps, jumpVariance } from '../../core/jumps.js';
 import { SAMPLE } from '../examples.js';
@@ -82,7 +83,16 @@ function resolveHorizon(R: Resolver, req: CheckRequest, asof: string, earliest: 
   const { terms, termsAt } = req;
   let horizon: string;
   let horizonDays: number;
-  if (terms.horizon) {
+  if (terms.horizon && 'minutes' in terms.horizon) {
+    // a horizon in minutes or hours: fractional days from asof (the answer warns about it)
+    const days = terms.horizon.minutes / (24 * 60);
+    if (earliest && days > earliest.days) {
+      const leg = req.legs[earliest.leg];
+      throw R.term(termsAt.horizon, `the horizon is after ${legLabel(leg, earliest.leg)} expires on ${earliest.date}: the horizon must be on or before the earliest expiry`, R.replace(R.valueAt(termsAt.horizon), earliest.date));
+    }
+    horizon = resolveSpec(terms.horizon, asof);
+    horizonDays = days;
+  } else if (terms.horizon) {
     const h = dateAfterAsof(R, terms.horizon, asof, termsAt.horizon, 'the horizon', true);
     if (earliest && h.days > earliest.days) {
       const leg = req.legs[earliest.leg];
@@ -142,12 +152,28 @@ function viewVol(R: Resolver, req: CheckRequest, base: Base, legs: LegInput[]): 
   return vol;
 }
 
-function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedCheck {
-  const end = req.end ?? (ctx.text ? ctx.text.trimEnd().length : 0);
+/**
+ * A trailing iv: written as the last term of the last leg while other option legs have none and
+ * no position-level iv is written, it is the position's iv (the natural way to type a condor:
+ * `+1 put 85 … +1 call 115 2027-03-19 iv 25% spot 100`); the note says so.
+ */
+function withTrailingIv(req: CheckRequest, notes: string[]): CheckRequest {
+  const last = req.legs[req.legs.length - 1];
+  if (req.terms.iv !== undefined || !last || last.kind === 'shares' || last.iv === undefined || last.termsAt.iv === undefined) return req;
+  const lastTerm = Math.max(...Object.values(last.termsAt).filter((v): v is number => v !== undefined));
+  const without = req.legs.filter((l) => l.kind !== 'shares' && l.iv === undefined);
+  if (last.termsAt.iv !== lastTerm || without.length === 0) return req;
+  notes.push(`iv ${pct(last.iv)} written after the last leg applies to every leg without its own iv (${without.length === 1 ? 'one leg' : `${without.length} legs`})`);
+  return { ...req, terms: { ...req.terms, iv: last.iv } };
+}
+
+function resolveCheckInner(typed: CheckRequest, ctx: ResolveContext): ResolvedCheck {
+  const end = typed.end ?? (ctx.text ? ctx.text.trimEnd().length : 0);
   const R = new Resolver(ctx, 'check', end);
-  const { terms } = req;
-  const base = resolveBase(R, terms, req.termsAt);
+  const base = resolveBase(R, typed.terms, typed.termsAt);
   const { asof, spot, notes } = base;
+  const req = withTrailingIv(typed, notes);
+  const { terms } = req;
   const { legs, legExpiries, earliest } = resolveLegs(R, req, ctx, base);
   const { horizon, horizonDays } = resolveHorizon(R, req, asof, earliest);
   const vol = viewVol(R, req, base, legs);
@@ -161,10 +187,12 @@ function resolveCheckInner(req: CheckRequest, ctx: ResolveContext): ResolvedChec
     style: terms.style ?? 'european',
     horizonYears: horizonDays / 365,
     view: { ...(terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol }), ...dv.se },
+    // σ_m: the request's iv, else the mark's, else the leg nearest the money (shares alone: the view's vol)
+    marketVol: marketVolOf(terms, base, legs, vol),
   };
   checkSpread(R, input, req.termsAt);
   const exits = terms.target || terms.stop ? { ...(terms.target ? { target: terms.target } : {}), ...(terms.stop ? { stop: terms.stop } : {}) } : undefined;
-  return { asof, horizon, input, legExpiries, notes, symbol: base.symbol, marketVol: marketVolOf(terms, base, legs, vol), ...(exits ? { exits } : {}) };
+  return { asof, horizon, input, legExpiries, notes, symbol: base.symbol, marketVol: input.marketVol ?? vol, ...(exits ? { exits } : {}) };
 }
 
 /** The market walk's vol: the request's iv, else the mark's, else the iv of the option leg nearest the money, else the view's. */

@@ -19,6 +19,8 @@ export interface ResolvedTouch {
   q: number;
   view: { drift: number; vol: number; jumps?: Jumps; driftSe?: number };
   rate: number;
+  /** σ_m of the market figures: the request's iv, else the mark's, else the view's vol */
+  marketVol: number;
   by: string;
   asof: string;
 }
@@ -99,6 +101,7 @@ export function resolveTouch(
     const touch: ResolvedTouch = {
       level: req.level,
       S: base.spot,
+      marketVol: terms.iv ?? base.markIv ?? vol,
       T: days / 365,
       q: base.yield,
       view: { ...(terms.jumps ? { drift, vol, jumps: { ...terms.jumps } } : { drift, vol }), ...dv.se },

@@ -264,7 +264,7 @@ describe('a logged request → the form, pre-filled', () => {
   });
 
   it('a comparison opens as its first part and says so; other verbs do not open', async () => {
-    const p = prefillFromRequest(EXAMPLES.compare, '2027-01-04');
+    const p = prefillFromRequest('compare +1 call 90 3m iv 30% on FERNWK ; drift 0% ; drift 12%', '2027-01-04');
     expect(p?.values.symbol).toBe('FERNWK');
     expect(p?.dropped[0]).toMatch(/parts 2–3 of the comparison/);
     expect(prefillFromRequest(EXAMPLES.touch, '2027-01-04')).toBeUndefined();
