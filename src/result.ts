@@ -2,9 +2,10 @@
  * The machine-readable result of a check (docs/design.md §4), assembled from the resolved request and
  * the core's figures. The text answer, the headline, the log summary and the chart all read this.
  */
-import type { CheckCore, Curves, ExerciseStyle, Jumps, LegKind, MarketOutcome, Outcome, PositionTotals } from './core/types.js';
+import type { CheckCore, Curves, ExerciseStyle, Greeks, Jumps, LegKind, MarketOutcome, Outcome, PositionTotals } from './core/types.js';
 
-export interface LegJson {
+/** One leg of the JSON: its terms, then its per-share value and Greeks (`Greeks`). */
+export interface LegJson extends Greeks {
   qty: number;
   type: LegKind;
   strike: number | null;
@@ -14,12 +15,6 @@ export interface LegJson {
   /** entry price per share used (the fair value when none was written) */
   entry: number;
   entryGiven: boolean;
-  value: number;
-  delta: number;
-  gamma: number;
-  vega: number;
-  theta: number;
-  rho: number;
   probItmRiskNeutral: number | null;
   probItmView: number | null;
 }

@@ -569,17 +569,9 @@ export function solveExitBackward(g: ExitGrid, walk: Walk, q: number, discount =
         const k2 = kind[o2 + i];
         if (k2 === K_TARGET || k2 === K_STOP) extend(T2, S2, N2, E2, o2, i);
       }
-      const hl = HL[o + i];
-      const hr = HR[o + i];
-      const sum = hl + hr;
-      // L u_i = cl(u_l − u_i) + cr(u_r − u_i): three-point non-uniform differences, upwinded
-      // where the central form would lose the signs
-      let cl = (a2s - b * hr) / (hl * sum);
-      let cr = (a2s + b * hl) / (hr * sum);
-      if (cl < 0 || cr < 0) {
-        cl = a2s / (hl * sum) + (b < 0 ? -b / hl : 0);
-        cr = a2s / (hr * sum) + (b > 0 ? b / hr : 0);
-      }
+      neighbourCoefs(a2s, b, HL[o + i], HR[o + i], CLR);
+      const cl = CLR[0];
+      const cr = CLR[1];
       const dl = dt * cl;
       const dr = dt * cr;
       di[i] = a0 + dl + dr + dt * discount;
@@ -629,6 +621,26 @@ export function solveExitBackward(g: ExitGrid, walk: Walk, q: number, discount =
     E0 = tmp;
   }
   return { uT: T1, uS: S1, uN: N1, uE: E1 };
+}
+
+/** [cl, cr] of one node, written into `neighbourCoefs`'s `out` (one scratch, no allocation per node). */
+const CLR = new Float64Array(2);
+
+/**
+ * L u_i = cl(u_l − u_i) + cr(u_r − u_i) for a2s u'' + b u' (a2s = σ², b the convection) at a node
+ * with gaps hl, hr to its neighbours: three-point non-uniform differences, upwinded where the
+ * central form would lose the signs. Writes cl, cr into out[0], out[1].
+ */
+function neighbourCoefs(a2s: number, b: number, hl: number, hr: number, out: Float64Array): void {
+  const sum = hl + hr;
+  let cl = (a2s - b * hr) / (hl * sum);
+  let cr = (a2s + b * hl) / (hr * sum);
+  if (cl < 0 || cr < 0) {
+    cl = a2s / (hl * sum) + (b < 0 ? -b / hl : 0);
+    cr = a2s / (hr * sum) + (b > 0 ? b / hr : 0);
+  }
+  out[0] = cl;
+  out[1] = cr;
 }
 
 /**
@@ -706,15 +718,9 @@ export function solveExitForward(g: ExitGrid, walk: Walk, q: number): Float64Arr
         p0[i] = 0;
         continue;
       }
-      const hl = HL[o + i];
-      const hr = HR[o + i];
-      const sum = hl + hr;
-      let cl = (a2s - b * hr) / (hl * sum);
-      let cr = (a2s + b * hl) / (hr * sum);
-      if (cl < 0 || cr < 0) {
-        cl = a2s / (hl * sum) + (b < 0 ? -b / hl : 0);
-        cr = a2s / (hr * sum) + (b > 0 ? b / hr : 0);
-      }
+      neighbourCoefs(a2s, b, HL[o + i], HR[o + i], CLR);
+      const cl = CLR[0];
+      const cr = CLR[1];
       di[i] = a0 + dt * (cl + cr);
       p0[i] = a1 * p1[i] - a2 * p2[i];
       lo[i] = LK[o + i] === K_IN ? -dt * cl : 0;

@@ -39,6 +39,24 @@ export interface Walk {
   driftSe?: number;
 }
 
+/**
+ * A mark's figures as every layer reads them (`mark SYMBOL spot … iv …`): the market terms it
+ * recorded and the view it may carry. The store adds who recorded it and the channel.
+ */
+export interface MarkFigures {
+  symbol: string;
+  spot?: number;
+  iv?: number;
+  yield?: number;
+  rate?: number;
+  /** the view a mark may carry (`mark … drift 9% ± 6% vol 28%`, or `history … save`) */
+  vol?: number;
+  drift?: number;
+  driftSe?: number;
+  /** ISO time the mark was recorded */
+  at: string;
+}
+
 /** Per-share value and Greeks of one option (units: docs/design.md §3). */
 export interface Greeks {
   value: number;
@@ -92,14 +110,9 @@ export interface LegResult extends Greeks {
   probItmView: number;
 }
 
-export interface PositionTotals {
+/** The position's cost and the legs' value and Greeks summed (each leg's × qty × multiplier). */
+export interface PositionTotals extends Record<keyof Greeks, number> {
   cost: number;
-  value: number;
-  delta: number;
-  gamma: number;
-  vega: number;
-  theta: number;
-  rho: number;
 }
 
 /**

@@ -5,6 +5,7 @@
 import { level, money, pct, rate, table } from './format.js';
 import { cut } from './compare.js';
 
+import type { MarkFigures } from '../core/types.js';
 import { DAY_MS } from '../core/units.js';
 
 /** "2027-01-04 14:02" (UTC) from an ISO time; the text itself when it does not read as a time. */
@@ -46,18 +47,8 @@ export interface LoggedCheck {
 }
 
 /** What a listing reads of a mark. */
-export interface MarkShown {
-  symbol: string;
-  spot?: number;
-  iv?: number;
-  yield?: number;
-  rate?: number;
-  /** the view a mark may carry */
-  vol?: number;
-  drift?: number;
-  driftSe?: number;
+export interface MarkShown extends MarkFigures {
   user: string;
-  at: string;
 }
 
 /** What a verb adds after the position words of one of its entries (e.g. " → iv 26.98%"). */

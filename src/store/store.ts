@@ -8,6 +8,7 @@
  * exactly as if it did not exist. Every foreseeable fault surfaces as a StoreError (see errors.ts)
  * whose message can be shown to the user, e.g. "the log could not be written: disk full".
  */
+import type { MarkFigures } from '../core/types.js';
 
 export interface CheckSummary {
   /** the position in a few words, e.g. "+2/−2 call spread 105/115 Mar 27" */
@@ -66,19 +67,9 @@ export interface UserDefaults {
 
 
 /** A stored market snapshot for a symbol in a channel. The symbol is kept in upper case. */
-export interface Mark {
+export interface Mark extends MarkFigures {
   channel: string;
-  symbol: string;
-  spot?: number;
-  iv?: number;
-  yield?: number;
-  rate?: number;
-  /** the view a mark may carry: vol, drift and the drift's uncertainty (`drift 9% ± 6%`, or `history … save`) */
-  vol?: number;
-  drift?: number;
-  driftSe?: number;
   user: string;
-  at: string;
 }
 
 /** One close of a stored price history (`history SYMBOL`): an ISO day, or none for undated closes. */

@@ -49,6 +49,9 @@ export interface FormValues {
   jumpRate?: string;
   jumpMean?: string;
   jumpSd?: string;
+  /** an exit level: money P&L of the whole position ("+400", "-300") or percent of |cost| ("50%") */
+  target?: string;
+  stop?: string;
 }
 
 /** The form's fields, as the block ids of its inputs. */
@@ -68,7 +71,9 @@ export type FieldId =
   | 'mult'
   | 'jump_rate'
   | 'jump_mean'
-  | 'jump_sd';
+  | 'jump_sd'
+  | 'target'
+  | 'stop';
 
 export function legField(i: number, f: LegField): FieldId {
   return `leg${i + 1}_${f}`;
@@ -83,6 +88,8 @@ export interface Span {
 export type Composed = { ok: true; text: string; spans: Span[] } | { ok: false; errors: Partial<Record<FieldId, string>> };
 
 const NUMERIC = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)$/;
+/** An exit level as the form takes it: one number, `%` optional (percent of the position's |cost|). */
+const EXIT_LEVEL = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)\s*%?$/;
 const DATE = /^\d{4}-\d{2}-\d{2}$/;
 
 const blank = (s: string | undefined): boolean => s === undefined || s.trim() === '';
@@ -94,6 +101,15 @@ export function plain(s: string): string {
   if (t === '' || !Number.isFinite(n)) return s.trim();
   // number inputs give plain decimals already; this only tidies "08.50" and "1e2"
   return String(Number(n.toPrecision(12)));
+}
+
+/** An exit level as written in a request: the sign as given (unsigned is read by the grammar), `%` kept. */
+function exitText(s: string): string {
+  const t = s.replace(/\s+/g, '');
+  const pct = t.endsWith('%');
+  const num = pct ? t.slice(0, -1) : t;
+  const sign = num.startsWith('-') ? '-' : num.startsWith('+') ? '+' : '';
+  return `${sign}${plain(num.replace(/^[+-]/, ''))}${pct ? '%' : ''}`;
 }
 
 function legUsed(l: LegValues): boolean {
@@ -133,6 +149,9 @@ function formErrors(v: FormValues): Partial<Record<FieldId, string>> {
   num(v.jumpRate, 'jump_rate', '0.5');
   num(v.jumpMean, 'jump_mean', '-8');
   num(v.jumpSd, 'jump_sd', '12');
+  for (const [s, f, ex] of [[v.target, 'target', '+400 or 50%'], [v.stop, 'stop', '-300 or 100%']] as const) {
+    if (!blank(s) && !EXIT_LEVEL.test(s!.trim())) errors[f] = `One level: a P&L in money or a percentage of the position’s cost, e.g. ${ex}.`;
+  }
   if (!blank(v.symbol) && !/^[A-Za-z][A-Za-z0-9.-]*$/.test(v.symbol!.trim())) errors.symbol = 'A symbol of this channel’s marks.';
   if (Object.keys(errors).length > 0) return errors;
   let used = 0;
@@ -157,7 +176,7 @@ function formErrors(v: FormValues): Partial<Record<FieldId, string>> {
 
 /**
  * Composes the request text. Order: legs, then `on SYMBOL`, spot, rate, yield, asof, horizon,
- * drift, vol, style, mult, jumps, and the position-wide iv last: an `iv` written right after a leg
+ * drift, vol, style, mult, jumps, target, stop, and the position-wide iv last: an `iv` written right after a leg
  * would be read as that leg's own (docs/design.md §2), so when it would come first it is preceded by
  * `style european` (the default, so the meaning is unchanged).
  */
@@ -212,6 +231,8 @@ export function composeRequest(v: FormValues): Composed {
     put(`${plain(v.jumpSd!)}%`, 'jump_sd');
     terms++;
   }
+  if (!blank(v.target)) term(`target ${exitText(v.target!)}`, 'target');
+  if (!blank(v.stop)) term(`stop ${exitText(v.stop!)}`, 'stop');
   if (!blank(v.iv)) {
     if (terms === 0 && !lastShares) put('style european');
     put(`iv ${plain(v.iv!)}%`, 'iv');

@@ -39,6 +39,9 @@ export function shorten(s: string, max: number): string {
 
 /** Words of a reason → the field they are about, in order of precedence. */
 const WORDS: Array<[RegExp, FieldId]> = [
+  [/\btargets? and stops?\b/i, 'target'],
+  [/\btarget\b/i, 'target'],
+  [/\bstop\b/i, 'stop'],
   [/\bhorizon\b/i, 'horizon'],
   [/\bspot\b/i, 'spot'],
   [/\bjump/i, 'jump_rate'],

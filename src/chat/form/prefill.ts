@@ -29,6 +29,12 @@ function dateOf(spec: ExpirySpec | undefined, asof: string): string | undefined 
   return 'date' in spec ? spec.date : resolveSpec(spec, asof);
 }
 
+/** An exit level as the form's text: the sign only where it was written, `%` for a percentage. */
+export function exitLevelText(l: { value: number; pct: boolean; signed: boolean }): string {
+  const body = l.pct ? `${percentText(Math.abs(l.value))}%` : numText(Math.abs(l.value));
+  return l.signed ? `${l.value < 0 ? '-' : '+'}${body}` : body;
+}
+
 /** The drift's uncertainty as written (`drift 9% ± 6%`, `9%±6%`, `9% +/- 6%`), in percent. */
 export function driftUncertaintyOf(text: string): string | undefined {
   const m = /\bdrift\s+[+-]?(?:\d+(?:\.\d*)?|\.\d+)%\s*(?:±|\+\/-)\s*((?:\d+(?:\.\d*)?|\.\d+))%/i.exec(text);
@@ -87,8 +93,10 @@ export function prefillFromRequest(text: string, day: string): Prefill | undefin
     v.jumpMean = percentText(t.jumps.mean);
     v.jumpSd = percentText(t.jumps.sd);
   }
-  // terms other engineers add to the grammar (targets, stops, …) that the form has no field for
-  const known = new Set(['spot', 'rate', 'yield', 'iv', 'exp', 'drift', 'vol', 'horizon', 'asof', 'mult', 'style', 'jumps', 'on']);
+  if (t.target) v.target = exitLevelText(t.target);
+  if (t.stop) v.stop = exitLevelText(t.stop);
+  // terms other engineers add to the grammar that the form has no field for
+  const known = new Set(['spot', 'rate', 'yield', 'iv', 'exp', 'drift', 'vol', 'horizon', 'asof', 'mult', 'style', 'jumps', 'on', 'target', 'stop']);
   for (const k of Object.keys(t)) {
     if (!known.has(k) && (t as Record<string, unknown>)[k] !== undefined && !/^drift/i.test(k)) dropped.push(k);
   }

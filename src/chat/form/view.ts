@@ -86,6 +86,17 @@ function numberInput(value: string | undefined, opts: { decimal?: boolean; place
   };
 }
 
+/** A short text input (a level with an optional `%`: a number input cannot hold the sign). */
+function textInput(value: string | undefined, placeholder: string): InputBlockElement {
+  return {
+    type: 'plain_text_input',
+    action_id: ACTION_ID,
+    max_length: 20,
+    ...(value !== undefined && value.trim() !== '' ? { initial_value: value.trim() } : {}),
+    placeholder: plainText(placeholder),
+  };
+}
+
 function datePicker(value: string | undefined, placeholder: string): InputBlockElement {
   return {
     type: 'datepicker',
@@ -134,7 +145,7 @@ export interface FormOptions {
 
 /** The fields the form with this many legs shows (for mapping errors onto fields that exist). */
 export function fieldsShown(legs: number, withSymbol: boolean): Set<FieldId> {
-  const out = new Set<FieldId>(['spot', 'rate', 'yield', 'iv', 'asof', 'drift', 'drift_se', 'vol', 'horizon', 'style', 'mult', 'jump_rate', 'jump_mean', 'jump_sd']);
+  const out = new Set<FieldId>(['spot', 'rate', 'yield', 'iv', 'asof', 'drift', 'drift_se', 'vol', 'horizon', 'style', 'mult', 'jump_rate', 'jump_mean', 'jump_sd', 'target', 'stop']);
   if (withSymbol) out.add('symbol');
   for (let i = 0; i < legs; i++) for (const f of LEG_FIELDS) out.add(legField(i, f));
   return out;
@@ -211,6 +222,9 @@ export function checkFormView(o: FormOptions): ModalView {
     input('jump_rate', 'Jumps a year', numberInput(v.jumpRate, { placeholder: '0.5' })),
     input('jump_mean', 'Mean jump (%)', numberInput(v.jumpMean, { placeholder: '-8' })),
     input('jump_sd', 'Spread of the jump (%)', numberInput(v.jumpSd, { placeholder: '12' })),
+    { type: 'section', text: md('*Target and stop* (optional): P&L of the whole position in money, or with % of its cost') },
+    input('target', 'Target', textInput(v.target, '+400 or 50%'), { hint: 'close at this profit' }),
+    input('stop', 'Stop', textInput(v.stop, '-300 or 100%'), { hint: 'close at this loss' }),
   );
   return {
     type: 'modal',
@@ -273,6 +287,8 @@ export function readForm(state: StateValues, legs: number): { values: FormValues
     ['jumpRate', 'jump_rate'],
     ['jumpMean', 'jump_mean'],
     ['jumpSd', 'jump_sd'],
+    ['target', 'target'],
+    ['stop', 'stop'],
   ];
   for (const [k, f] of simple) {
     const x = read(state, f);

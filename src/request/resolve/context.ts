@@ -5,23 +5,13 @@
  */
 import { EXAMPLES, type ExampleKey } from '../examples.js';
 import { Reject, parse, toParseError, type Edit } from '../parse.js';
+import type { MarkFigures } from '../../core/types.js';
 import type { ParseError } from '../types.js';
 import { resolveCheck } from './check.js';
 import { resolveIv, resolveTouch } from './iv-touch.js';
 
-export interface MarkTerms {
-  spot?: number;
-  iv?: number;
-  yield?: number;
-  rate?: number;
-  /** the view a mark may carry (`mark … drift 9% ± 6% vol 28%`, or `history … save`) */
-  vol?: number;
-  drift?: number;
-  driftSe?: number;
-  /** ISO time the mark was recorded */
-  at: string;
-  symbol: string;
-}
+/** The mark a request's `on SYMBOL` reads. */
+export type MarkTerms = MarkFigures;
 
 export interface ResolveContext {
   /** yyyy-mm-dd */

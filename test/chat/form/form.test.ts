@@ -124,6 +124,42 @@ describe('form → request text', () => {
   });
 });
 
+describe('form → request text: target and stop (issue 15)', () => {
+  it('money and percent levels compose into the grammar and read back through the parser', () => {
+    const c = composeRequest({ ...SPREAD, target: '+400', stop: '-300' });
+    if (!c.ok) throw new Error('compose failed');
+    expect(c.text.endsWith('vol 26% target +400 stop -300')).toBe(true);
+    expect(checkOf(c.text).terms).toMatchObject({ target: { value: 400, pct: false, signed: true }, stop: { value: -300, pct: false, signed: true } });
+    const p = composeRequest({ ...SPREAD, target: ' 50 % ', stop: '100%' });
+    if (!p.ok) throw new Error('compose failed');
+    expect(p.text.endsWith('target 50% stop 100%')).toBe(true);
+    expect(checkOf(p.text).terms).toMatchObject({ target: { value: 0.5, pct: true, signed: false }, stop: { value: 1, pct: true, signed: false } });
+    // either alone; each span covers the whole term
+    const s = composeRequest({ ...SPREAD, stop: '300' });
+    if (!s.ok) throw new Error('compose failed');
+    expect(checkOf(s.text).terms.target).toBeUndefined();
+    const span = s.spans.find((x) => x.field === 'stop')!;
+    expect(s.text.slice(span.from, span.to)).toBe('stop 300');
+  });
+
+  it('the form’s answer equals the typed request’s, and carries the exits', async () => {
+    const c = composeRequest({ ...SPREAD, target: '+400', stop: '-300' });
+    if (!c.ok) throw new Error('compose failed');
+    const formed = await ask(c.text);
+    const typed = await ask('+2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% spot 100 rate 4.5% yield 1% drift 9% vol 26% horizon 2027-02-15 asof 2027-01-04 target +400 stop -300');
+    if (formed.kind !== 'answer' || typed.kind !== 'answer') throw new Error('not answered');
+    expect(formed.json).toEqual(typed.json);
+    expect((formed.json as { exits?: unknown }).exits).toBeDefined();
+  });
+
+  it('a level that is not one number with an optional % stays on its field', () => {
+    const c = composeRequest({ ...SPREAD, target: '400 stop 1', stop: '5%%' });
+    expect(c.ok).toBe(false);
+    if (c.ok) return;
+    expect(Object.keys(c.errors).sort()).toEqual(['stop', 'target']);
+  });
+});
+
 describe('a rejection → the field that caused it', () => {
   const present = fieldsShown(2, false);
 
@@ -167,6 +203,22 @@ describe('a rejection → the field that caused it', () => {
     const r = await ask(c.text);
     if (r.kind === 'answer') return; // the grammar reads uncertainties: nothing to map
     expect(fieldOf(r, c.spans, present)).toBe('drift_se');
+  });
+
+  it('a target or stop that makes no sense for the position lands on its own field', async () => {
+    // this spread costs 410 (2 × 100 × (3.10 − 1.05)): nothing below −410 can be reached
+    const below = await mapped({ ...SPREAD, target: '+400', stop: '-600' });
+    expect(below.field).toBe('stop');
+    expect(below.errors.stop).toMatch(/maximum loss/);
+    const above = await mapped({ ...SPREAD, stop: '+5000' });
+    expect(above.field).toBe('stop');
+    expect(above.errors.stop).toMatch(/not below the position's P&L now/);
+    const low = await mapped({ ...SPREAD, target: '-300', stop: '-100' });
+    expect(low.field).toBe('target');
+    expect(low.errors.target).toMatch(/not above the position's P&L now/);
+    // a reason past every span is placed by its words
+    expect(fieldOf({ at: 10_000, message: 'the stop is below the maximum loss' }, [], present)).toBe('stop');
+    expect(fieldOf({ at: 10_000, message: 'targets and stops are computed for European exercise only' }, [], present)).toBe('target');
   });
 
   it('the reason is the line under the caret, cut to a field error’s length', async () => {
@@ -219,6 +271,19 @@ describe('a logged request → the form, pre-filled', () => {
     expect(prefillFromRequest('not a request', '2027-01-04')).toBeUndefined();
   });
 
+  it('a logged target and stop come back into their fields, as written, and nothing is listed as dropped', () => {
+    const p = prefillFromRequest('+1 call 100 3m iv 30% spot 100 target +400 stop 100%', '2027-01-04');
+    expect(p?.dropped).toEqual([]);
+    expect(p?.values).toMatchObject({ target: '+400', stop: '100%' });
+    const q = prefillFromRequest('+1 call 100 3m iv 30% spot 100 stop -250.5', '2027-01-04');
+    expect(q?.values.stop).toBe('-250.5');
+    expect(q?.values.target).toBeUndefined();
+    // round trip: form → text → form
+    const c = composeRequest({ ...SPREAD, target: '50%', stop: '-300' });
+    if (!c.ok) throw new Error('compose failed');
+    expect(prefillFromRequest(c.text, '2027-01-04')?.values).toMatchObject({ target: '50%', stop: '-300' });
+  });
+
   it('the drift’s uncertainty is read from the text when the grammar takes it', async () => {
     const text = '+1 call 100 3m iv 30% spot 100 drift 9% ± 6%';
     const p = prefillFromRequest(text, '2027-01-04');
@@ -255,7 +320,7 @@ describe('the modal', () => {
   });
 
   it('its inputs, as submitted, read back to the values it was filled with', async () => {
-    const values: FormValues = { ...SPREAD, symbol: 'FERNWK', driftSe: '6', style: 'american', mult: '10', jumpRate: '0.5', jumpMean: '-8', jumpSd: '12', iv: '29' };
+    const values: FormValues = { ...SPREAD, symbol: 'FERNWK', driftSe: '6', style: 'american', mult: '10', jumpRate: '0.5', jumpMean: '-8', jumpSd: '12', iv: '29', target: '+400', stop: '100%' };
     const v = checkFormView({ meta: { legs: 2 }, values, symbols: ['FERNWK'] });
     const back = readForm(stateOf(v), 2);
     expect(back.values).toEqual(values);
