@@ -108,8 +108,10 @@ const SECTIONS: Record<HelpTopic, Section> = {
     title: 'again — rerun a logged check, optionally with changes',
     lines: [
       'again N [TERMS or LEGS]   (terms override; legs replace the logged legs)',
+      'By default #N reruns exactly as logged: its day and the mark it used. again N now reruns',
+      'it as of today on the channel\'s mark as it is now; asof today moves only the day.',
     ],
-    examples: ['again 1', 'again 2 spot 102 drift 5%', 'again 1 asof today'],
+    examples: ['again 1', 'again 2 spot 102 drift 5%', 'again 1 now'],
   },
   history: {
     title: 'history — vol and drift, with their standard errors, from past closes',

@@ -20,6 +20,8 @@ import { cut } from '../report/compare.js';
 import { whenUtc } from '../report/log.js';
 import type { CheckSummary, LogEntry } from '../store/store.js';
 import { checkFigureChanges } from './check.js';
+import type { Mark } from '../store/store.js';
+import { markOfRecord, markTermsWords } from './marks.js';
 import { isoDay, needStore, refuse, refuseFact, Refused, storeCall, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 /** Start of the number in an `again N` request, for the caret. */
@@ -121,7 +123,11 @@ async function rerunOf(text: string, req: AgainRequest, env: VerbEnv) {
     // a tombstone keeps only its number (deleted by its asker from the answer's buttons)
     throw refuseFact(text, { message: `check #${n} was deleted by the person who asked it; only its number is kept`, at, length: String(n).length, example: 'log 20' });
   }
-  const pinned = pinAsof(entry, env);
+  let pinned: { text: string; day?: string };
+  if (req.now) {
+    const moved = applyAgain(entry.text, { verb: 'again', number: entry.number, rest: 'asof today', restAt: 0 });
+    pinned = { text: moved.ok ? moved.text : entry.text };
+  } else pinned = pinAsof(entry, env);
   const re = applyAgain(pinned.text, req, text);
   if (!re.ok) throw refuse(text, re.error);
   const p = parse(re.text);
@@ -134,9 +140,17 @@ async function rerunOf(text: string, req: AgainRequest, env: VerbEnv) {
 async function runAgain(text: string, req: AgainRequest, env: VerbEnv): Promise<Outcome> {
   const n = req.number;
   const { entry, pinned, eff, request, at } = await rerunOf(text, req, env);
+  // by default as logged: its day and the marks it used (the log keeps them; an entry logged
+  // without them falls back to the channel's marks as they are now); `now`: today's marks
+  const loggedMarks = Array.isArray(entry.summary.marks)
+    ? (entry.summary.marks as Record<string, unknown>[]).map((m) => markOfRecord(m, env.ctx.channel)).filter((m): m is Mark => !!m)
+    : [];
+  const used = env.used ?? new Map<string, Mark>();
+  const runEnv: VerbEnv = { ...env, used };
+  if (!req.now && loggedMarks.length) runEnv.marks = new Map([...(env.marks instanceof Map ? env.marks : []), ...loggedMarks.map((m) => [m.symbol, m] as const)]);
   let c: Outcome;
   try {
-    c = await env.verb(request.verb).run(eff, request, env);
+    c = await env.verb(request.verb).run(eff, request, runEnv);
   } catch (err) {
     if (!(err instanceof Refused)) throw err;
     throw new Refused({
@@ -148,7 +162,11 @@ async function runAgain(text: string, req: AgainRequest, env: VerbEnv): Promise<
   const after = c.log!.summary;
   const { changed, figures } = comparisonLines(n, request.verb, entry.summary, after, env);
   const lines = [
-    `Again #${n} (${entry.verb} by ${entry.user}, ${whenUtc(entry.at)} UTC)${req.rest.trim() ? ` with: ${req.rest.trim()}` : ', as logged'}`,
+    `Again #${n} (${entry.verb} by ${entry.user}, ${whenUtc(entry.at)} UTC), ${
+      req.now
+        ? `on today's mark${used.size ? ` (${[...used.values()].map((m) => `${m.symbol} of ${whenUtc(m.at)} UTC`).join(', ')})` : ''} and as of today`
+        : `as logged${loggedMarks.length ? ` (mark ${loggedMarks.map((m) => `${m.symbol} of ${whenUtc(m.at)} UTC: ${markTermsWords(m)}`).join('; ')}); \`again ${n} now\` reruns it on today's mark` : ''}`
+    }${req.rest.trim() ? ` with: ${req.rest.trim()}` : ''}`,
     changed.length ? `changed: ${changed.join(' · ')}` : `changed: nothing — the same inputs as #${n}`,
     ...(pinned.day && !/\basof\b/i.test(req.rest) ? [`asof ${pinned.day} kept from #${n} (add \`asof today\` to move it)`] : []),
     ...figures,
@@ -173,11 +191,17 @@ export function parseAgain(src: string, toks: Tok[]): AgainRequest {
   const nTok = c.peek();
   if (!nTok) throw c.missing(toks[0], 'again needs the number of a check in the log, e.g. again 17', '17');
   const number = readWholeNumber(c, nTok, 'again', 1, LIMITS.againMax, '17');
+  // `again N now`: on today's date and the channel's marks as they are now (default: as logged)
+  let now = false;
+  if (c.peek()?.low === 'now') {
+    c.next();
+    now = true;
+  }
   const restTok = c.peek();
-  if (!restTok) return { verb: 'again', number, rest: '', restAt: src.length };
+  if (!restTok) return { verb: 'again', number, rest: '', restAt: src.length, ...(now ? { now } : {}) };
   // validate the overrides now, so a typo is caught before the log is read
   readBody(c, 'again');
-  return { verb: 'again', number, rest: src.slice(restTok.at, c.end()), restAt: restTok.at };
+  return { verb: 'again', number, rest: src.slice(restTok.at, c.end()), restAt: restTok.at, ...(now ? { now } : {}) };
 }
 
 export const again: Verb<AgainRequest> = {

@@ -20,6 +20,7 @@ import { parse } from '../request/parse.js';
 import type { Answer, Rejection, Reply } from '../reply.js';
 import { StoreError } from '../store/store.js';
 import { budgetRejection, COMPUTE_BUDGET_DEFAULT } from './budget.js';
+import { markRecord } from './marks.js';
 import { verbNamed, verbs } from './registry.js';
 import { envOf, reject, Refused, type AnyRequest, type AskContext, type Cost, type CostContext, type Outcome, type VerbEnv } from './verb.js';
 
@@ -84,6 +85,8 @@ export function overBudget(text: string, budget: number, ctx: { now?: Date; logg
 async function logged(env: VerbEnv, o: Outcome): Promise<Answer> {
   const { ctx } = env;
   if (!ctx.store || !o.log) return o.answer;
+  // the marks the check used go into the log with it, so that `again N` reruns it as logged
+  const used = env.used?.size ? [...env.used.values()].map(markRecord) : [];
   try {
     const e = await ctx.store.appendCheck({
       channel: ctx.channel,
@@ -92,7 +95,7 @@ async function logged(env: VerbEnv, o: Outcome): Promise<Answer> {
       verb: o.log.verb,
       text: o.log.text,
       normalized: JSON.stringify(o.log.request),
-      summary: o.log.summary,
+      summary: used.length ? { ...o.log.summary, marks: used } : o.log.summary,
     });
     return { ...o.answer, logNumber: e.number };
   } catch (err) {
@@ -125,7 +128,7 @@ const INTERNAL: Rejection = {
 /** The seam: budget → parse → verb → log → reply. Never throws. */
 export async function ask(text: string, ctx: AskContext): Promise<Reply> {
   try {
-    const env = envOf(ctx, { verb: verbNamed, verbs });
+    const env: VerbEnv = { ...envOf(ctx, { verb: verbNamed, verbs }), used: new Map() };
     const p = parse(text);
     if (!p.ok) return await counted(ctx, reject(text, p.error));
     const req = p.request;

@@ -44,6 +44,7 @@ export function markFor(text: string, env: VerbEnv, symbol: string | undefined, 
       example,
     });
   }
+  env.used?.set(sym, m);
   return m;
 }
 
@@ -103,4 +104,17 @@ export function markRecord(m: Mark) {
     user: m.user,
     at: m.at,
   };
+}
+
+/** A mark as the log keeps it (markRecord) back into a Mark; undefined when it does not read. */
+export function markOfRecord(r: Record<string, unknown>, channel: string): Mark | undefined {
+  if (typeof r.symbol !== 'string' || typeof r.at !== 'string') return undefined;
+  const n = (v: unknown) => (typeof v === 'number' && Number.isFinite(v) ? v : undefined);
+  const m: Mark = { channel, symbol: r.symbol, user: typeof r.user === 'string' ? r.user : 'unknown', at: r.at };
+  for (const k of ['spot', 'iv', 'yield', 'rate', 'vol', 'drift', 'driftSe'] as const) {
+    const v = n(r[k]);
+    if (v !== undefined) m[k] = v;
+  }
+  if (m.drift === undefined || !m.driftSe) delete m.driftSe;
+  return m;
 }

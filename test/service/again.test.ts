@@ -152,3 +152,35 @@ describe('again of every verb', () => {
     expect(rejected(await ask(null, 'again 1')).message).toMatch(/needs the channel's log/);
   });
 });
+
+describe('again of a check on a mark', () => {
+  // identity: a check `on SYMBOL` is the same check with the mark's terms written out (design §2),
+  // so a rerun as logged must equal the check written with the old mark's terms, and `now` the one
+  // written with today's
+  const ON = '+1 call 90 2027-03-19 -1 call 100 2027-03-19 on FERNWK drift 9% asof 2027-01-04';
+  const written = (spot: string) => `+1 call 90 2027-03-19 -1 call 100 2027-03-19 spot ${spot} iv 31% yield 1.2% rate 4.5% drift 9% asof 2027-01-04`;
+
+  it('reruns as logged by default (the marks it used, kept in the log), and on today\'s mark with `now`', async () => {
+    answered(await ask(d.store, 'mark FERNWK spot 84.20 iv 31% yield 1.2% rate 4.5%'));
+    answered(await ask(d.store, ON, { now: at(1) }));
+    expect((d.store.get('C0DESKA', 1)!.summary.marks as { symbol: string; spot: number }[])[0]).toMatchObject({ symbol: 'FERNWK', spot: 84.2 });
+    answered(await ask(d.store, 'mark FERNWK spot 90', { now: at(2) }));
+    const logged = answered(await ask(d.store, 'again 1', { now: at(3) }));
+    expect(figures(logged.json)).toEqual(figures(answered(await ask(d.store, written('84.20'))).json));
+    expect(logged.text).toMatch(/as logged \(mark FERNWK of 2027-01-04 14:00 UTC: spot 84\.20/);
+    expect(logged.text).toContain('`again 1 now` reruns it on today\'s mark');
+    const now = answered(await ask(d.store, 'again 1 now', { now: at(3) }));
+    expect(figures(now.json)).toEqual(figures(answered(await ask(d.store, written('90'))).json));
+    expect(now.text).toMatch(/on today's mark \(FERNWK of 2027-01-04 16:00 UTC\) and as of today/);
+    // the rerun logs the marks it used, so again of it is as logged too
+    const again2 = answered(await ask(d.store, `again ${logged.logNumber}`, { now: at(4) }));
+    expect(figures(again2.json)).toEqual(figures(logged.json));
+  });
+
+  it('`now` is read before the changes: `again 1 now spot 95`', async () => {
+    answered(await ask(d.store, SPREAD));
+    const r = answered(await ask(d.store, 'again 1 now spot 95', { now: at(30) }));
+    expect(r.text).toMatch(/and as of today with: spot 95/);
+    expect((r.json as { market: { spot: number } }).market.spot).toBe(95);
+  });
+});
