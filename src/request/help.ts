@@ -50,7 +50,8 @@ const SECTIONS: Record<HelpTopic, Section> = {
       '       style european · a leg without @ is entered at its fair value.',
       'Answer: your view beside the market (drift = rate, vol = the market vol: the position\'s iv,',
       '       else the iv of the leg nearest the money), the expected P&L split into its parts',
-      '       (entry vs fair, carry, early exercise, legs\' iv, vol view, drift view).',
+      '       (entry vs fair, carry, early exercise, legs\' iv, vol view, drift view). End a request',
+      '       with verbose for the method notes.',
     ],
     examples: [
       '+2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% spot 100 rate 4.5% yield 1% drift 9% vol 26% horizon 2027-02-15 asof 2027-01-04',

@@ -126,9 +126,18 @@ const INTERNAL: Rejection = {
 };
 
 /** The seam: budget → parse → verb → log → reply. Never throws. */
-export async function ask(text: string, ctx: AskContext): Promise<Reply> {
+export async function ask(typed: string, ctx: AskContext): Promise<Reply> {
+  // a request may end with `verbose`: the text answer then carries the method notes too (the
+  // JSON always does); the word is not part of the check, so it is neither parsed nor logged
+  let text = typed;
+  let verbose = false;
+  const vb = typeof typed === 'string' ? /\s+verbose\s*$/i.exec(typed) : null;
+  if (vb && typed.slice(0, vb.index).trim()) {
+    text = typed.slice(0, vb.index);
+    verbose = true;
+  }
   try {
-    const env: VerbEnv = { ...envOf(ctx, { verb: verbNamed, verbs }), used: new Map() };
+    const env: VerbEnv = { ...envOf(ctx, { verb: verbNamed, verbs }), verbose, used: new Map() };
     const p = parse(text);
     if (!p.ok) return await counted(ctx, reject(text, p.error));
     const req = p.request;

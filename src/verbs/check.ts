@@ -142,7 +142,7 @@ function runCheckVerb(text: string, req: CheckRequest, env: VerbEnv): Outcome {
   const a = answer({
     verb: 'check',
     headline: checkHeadline(asm.json) + staleWords(mark, env.now),
-    text: checkText(asm.json) + (mark ? `\n${markLine(mark, env.now)}` : ''),
+    text: checkText(asm.json, { verbose: env.verbose }) + (mark ? `\n${markLine(mark, env.now)}` : ''),
     json: { ...asm.json, ...(mark ? { mark: markJson(mark, env.now) } : {}) } as unknown as Record<string, unknown>,
     chart: checkChartInput(asm),
   });

@@ -46,7 +46,7 @@ function runCompare(text: string, req: CompareRequest, env: VerbEnv): Outcome {
   const a = answer({
     verb: 'compare',
     headline: compareHeadline(parts) + (stale.length ? ` · mark ${stale.map((m) => m.symbol).join(', ')} stale` : ''),
-    text: [compareText(parts), ...ms.map((m) => markLine(m, env.now))].join('\n'),
+    text: [compareText(parts, { verbose: env.verbose }), ...ms.map((m) => markLine(m, env.now))].join('\n'),
     json: {
       kind: 'compare',
       checks: parts.map((p) => p.json),

@@ -40,6 +40,8 @@ export interface VerbEnv {
    * needs no I/O); the StoreError when they could not be read; undefined without a store
    */
   marks?: Map<string, Mark> | StoreError;
+  /** the request ended with `verbose`: method notes in the text too */
+  verbose?: boolean;
   /** the marks this request used (the seam logs them, so that `again N` reruns it as logged) */
   used?: Map<string, Mark>;
   /** the verb of that name, and all of them (from the registry, handed over by the seam) */

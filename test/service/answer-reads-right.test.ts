@@ -60,6 +60,13 @@ describe('the table reads right in a chat window', () => {
     expect(r.text).not.toMatch(/[\u2212]/);
     expect(r.text).not.toMatch(/Gauss-Legendre/);
     expect((r.json.notes as string[]).join(' ')).toMatch(/Gauss-Legendre/);
+    const v = answered(await ask(d.store, `+1 call 100 2027-04-16 @5 iv 30% -1 call 110 2027-03-19 @1 iv 28% ${MKT} vol 35% verbose`));
+    expect(v.text).toMatch(/Gauss-Legendre/);
+    // the word is not part of the check: the same JSON, and the log keeps the request without it
+    expect(v.json).toEqual(r.json);
+    expect(d.store.get('C0DESKA', v.logNumber!)!.text).not.toMatch(/verbose/);
+    const c = answered(await ask(d.store, `compare +1 call 100 2027-03-19 iv 30% ${MKT} ; +1 call 105 2027-03-19 iv 30% ${MKT} verbose`));
+    expect(c.text).toMatch(/Note[^:]*: (values|outcome):/);
   });
 
   it('the assumptions line stays under about 100 characters a line', async () => {
