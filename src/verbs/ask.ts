@@ -22,6 +22,7 @@ import { StoreError } from '../store/store.js';
 import { budgetRejection, COMPUTE_BUDGET_DEFAULT } from './budget.js';
 import { markRecord } from './marks.js';
 import { verbNamed, verbs } from './registry.js';
+import { workingExample } from './working-example.js';
 import { envOf, reject, Refused, type AnyRequest, type AskContext, type Cost, type CostContext, type Outcome, type VerbEnv } from './verb.js';
 
 export type { AskContext } from './verb.js';
@@ -136,17 +137,34 @@ export async function ask(typed: string, ctx: AskContext): Promise<Reply> {
     text = typed.slice(0, vb.index);
     verbose = true;
   }
+  let env: VerbEnv | undefined;
+  // every Example: of a rejection is a request this channel would answer (./working-example.ts);
+  // a check, comparison, iv or touch example is run for real (within the budget, nothing logged),
+  // because some of their refusals (targets and stops) come only once the position is valued
+  const runs = async (ex: string, req: AnyRequest): Promise<boolean> => {
+    if (!env || !['check', 'compare', 'iv', 'touch'].includes(req.verb)) return true;
+    if (budgetRejection(ex, costOf(req, ex, await costContext(ctx, env.now, req)), ctx.budget ?? COMPUTE_BUDGET_DEFAULT)) return false;
+    try {
+      const e: VerbEnv = { ...env, used: new Map() };
+      await withMarks(e, ex, req);
+      await verbNamed(req.verb).run(ex, req, e);
+      return true;
+    } catch {
+      return false;
+    }
+  };
+  const rejected = async (r: Rejection): Promise<Rejection> => counted(ctx, env ? await workingExample(r, ctx, env.today, env.nowIso, runs) : r);
   try {
-    const env: VerbEnv = { ...envOf(ctx, { verb: verbNamed, verbs }), verbose, used: new Map() };
+    env = { ...envOf(ctx, { verb: verbNamed, verbs }), verbose, used: new Map() };
     const p = parse(text);
-    if (!p.ok) return await counted(ctx, reject(text, p.error));
+    if (!p.ok) return await rejected(reject(text, p.error));
     const req = p.request;
     const over = budgetRejection(text, costOf(req, text, await costContext(ctx, env.now, req)), ctx.budget ?? COMPUTE_BUDGET_DEFAULT);
-    if (over) return await counted(ctx, over);
+    if (over) return await rejected(over);
     await withMarks(env, text, req);
     return await logged(env, await verbNamed(req.verb).run(text, req, env));
   } catch (err) {
-    if (err instanceof Refused) return counted(ctx, err.reply);
+    if (err instanceof Refused) return rejected(err.reply).catch(() => err.reply);
     return INTERNAL;
   }
 }
