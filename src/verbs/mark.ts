@@ -11,6 +11,7 @@ import { readSymbol } from '../request/grammar/values.js';
 import { TERM_WORDS } from '../request/grammar/words.js';
 import type { MarkRequest } from '../request/types.js';
 import { marksText, whenUtc } from '../report/log.js';
+import { level, rate } from '../report/format.js';
 import type { Mark } from '../store/store.js';
 import { markJson, markRecord, markTermsWords } from './marks.js';
 import { answer, needStore, refuseFact, storeCall, type Outcome, type VerbEnv, type Verb } from './verb.js';
@@ -27,21 +28,33 @@ function listing(marks: Mark[], env: VerbEnv): Outcome {
   };
 }
 
-/** What the answer to a recorded mark says beyond the terms: what it replaced, what it leaves unset. */
-function recordedLines(m: Mark, prev: Mark | undefined): string[] {
+/** The terms a mark holds; a new mark updates those it names and keeps the others. */
+const KEYS = ['spot', 'iv', 'yield', 'rate', 'vol', 'drift'] as const;
+type Key = (typeof KEYS)[number];
+
+function termWords(k: Key, m: Pick<Mark, Key | 'driftSe'>): string {
+  const v = m[k];
+  if (v === undefined) return 'none';
+  if (k === 'spot') return level(v);
+  return k === 'drift' && m.driftSe ? `${rate(v)} ± ${rate(m.driftSe)}` : rate(v);
+}
+
+/** What the answer to a recorded mark says beyond the terms: before → after, what it keeps, what is unset. */
+function recordedLines(m: Mark, prev: Mark | undefined, t: MarkRequest['terms']): string[] {
   const sym = m.symbol;
-  const lines = [
-    `Mark ${sym} recorded for this channel by ${m.user} at ${whenUtc(m.at)} UTC: ${markTermsWords(m)}.`,
-    `Requests that say \`on ${sym}\` take these terms; terms written in a request override them.`,
-  ];
-  const unset = (['spot', 'iv', 'yield', 'rate'] as const).filter((k) => m[k] === undefined);
+  const lines: string[] = [];
   if (prev) {
-    const dropped = unset.filter((k) => prev[k] !== undefined);
+    const changed = KEYS.filter((k) => t[k] !== undefined).map((k) => `${k} ${termWords(k, prev)} → ${termWords(k, m)}`);
+    const kept = KEYS.filter((k) => t[k] === undefined && m[k] !== undefined).map((k) => `${k} ${termWords(k, m)}`);
     lines.push(
-      `It replaces the mark of ${whenUtc(prev.at)} UTC by ${prev.user} (${markTermsWords(prev) || 'no terms'})` +
-        (dropped.length ? `; its ${dropped.join(', ')} ${dropped.length === 1 ? 'is' : 'are'} not carried over (a mark is one snapshot): write ${dropped.length === 1 ? 'it' : 'them'} again to keep ${dropped.length === 1 ? 'it' : 'them'}.` : '.'),
+      `Mark ${sym} updated for this channel by ${m.user} at ${whenUtc(m.at)} UTC: ${changed.join(', ')}` +
+        `${kept.length ? ` (kept: ${kept.join(', ')})` : ''}; it replaces the mark of ${whenUtc(prev.at)} UTC by ${prev.user}.`,
     );
+  } else {
+    lines.push(`Mark ${sym} recorded for this channel by ${m.user} at ${whenUtc(m.at)} UTC: ${markTermsWords(m)}.`);
   }
+  lines.push(`Requests that say \`on ${sym}\` take these terms; terms written in a request override them.`);
+  const unset = (['spot', 'iv', 'yield', 'rate'] as const).filter((k) => m[k] === undefined);
   if (unset.length) {
     const defaults = unset.filter((k) => k !== 'spot');
     lines.push(
@@ -61,31 +74,28 @@ async function runMark(text: string, req: MarkRequest, env: VerbEnv): Promise<Ou
   const symAt = Math.max(0, text.toUpperCase().indexOf(sym));
   const prev = await storeCall(text, 'the marks of this channel could not be read', symAt, () => store.getMark(channel, sym));
   const t = req.terms;
-  if (t.spot === undefined && t.iv === undefined && t.yield === undefined && t.rate === undefined && t.vol === undefined && t.drift === undefined) {
+  if (KEYS.every((k) => t[k] === undefined)) {
     // `mark SYMBOL` alone shows that mark
     if (!prev) {
       throw refuseFact(text, { message: `no mark for ${sym} in this channel: record one with spot, iv, yield or rate`, at: symAt, length: sym.length, example: `mark ${sym} spot 84.20 iv 31% yield 1.2%` });
     }
     return listing([prev], env);
   }
-  const m: Mark = {
-    channel,
-    symbol: sym,
-    ...(t.spot !== undefined ? { spot: t.spot } : {}),
-    ...(t.iv !== undefined ? { iv: t.iv } : {}),
-    ...(t.yield !== undefined ? { yield: t.yield } : {}),
-    ...(t.rate !== undefined ? { rate: t.rate } : {}),
-    ...(t.vol !== undefined ? { vol: t.vol } : {}),
-    ...(t.drift !== undefined ? { drift: t.drift, ...(t.driftSe ? { driftSe: t.driftSe } : {}) } : {}),
-    user: env.ctx.user,
-    at: env.nowIso,
-  };
+  // a mark updates only what it names and keeps the rest of the channel's mark for the symbol
+  // (the view's drift and its uncertainty go together: a drift written without ± has none)
+  const m: Mark = { channel, symbol: sym, user: env.ctx.user, at: env.nowIso };
+  for (const k of KEYS) {
+    const v = t[k] !== undefined ? t[k] : prev?.[k];
+    if (v !== undefined) m[k] = v;
+  }
+  const driftSe = t.drift !== undefined ? t.driftSe : prev?.driftSe;
+  if (m.drift !== undefined && driftSe) m.driftSe = driftSe;
   await storeCall(text, `the mark for ${sym} was not recorded`, symAt, () => store.putMark(m));
   return {
     answer: answer({
       verb: 'mark',
       headline: '',
-      text: recordedLines(m, prev).join('\n'),
+      text: recordedLines(m, prev, t).join('\n'),
       json: { kind: 'mark', ...markRecord(m), ...(prev ? { replaced: markRecord(prev) } : {}) },
     }),
   };

@@ -31,13 +31,18 @@ describe('mark SYMBOL …', () => {
     expect(d.store.recent('C0DESKA', 10)).toEqual([]);
   });
 
-  it('a new mark replaces the old one as a whole and says which terms were not carried over', async () => {
-    answered(await ask(d.store, MARK));
+  it('a new mark updates only the terms it names, keeps the rest (view included) and shows before → after', async () => {
+    answered(await ask(d.store, MARK + ' vol 28% drift 9% ± 6%'));
     const r = answered(await ask(d.store, 'mark fernwk spot 86', { now: at(3) }));
-    expect(d.store.getMark('C0DESKA', 'FERNWK')).toMatchObject({ spot: 86 });
-    expect(d.store.getMark('C0DESKA', 'FERNWK')!.iv).toBeUndefined();
-    expect(r.text).toMatch(/its iv, yield, rate are not carried over/);
-    expect(r.json.replaced).toMatchObject({ spot: 84.2, iv: 0.31 });
+    expect(d.store.getMark('C0DESKA', 'FERNWK')).toMatchObject({ spot: 86, iv: 0.31, yield: 0.012, rate: 0.045, vol: 0.28, drift: 0.09, driftSe: 0.06 });
+    expect(r.text).toContain('spot 84.20 → 86');
+    expect(r.text).toMatch(/kept: iv 31(\.0+)?%, yield 1\.2%, rate 4\.5%, vol 28(\.0+)?%, drift 9(\.0+)?% ± 6(\.0+)?%/);
+    expect(r.json).toMatchObject({ spot: 86, iv: 0.31, vol: 0.28, replaced: { spot: 84.2, iv: 0.31 } });
+    // a drift written again replaces the drift and its uncertainty together
+    answered(await ask(d.store, 'mark FERNWK drift 5%', { now: at(4) }));
+    const m = d.store.getMark('C0DESKA', 'FERNWK')!;
+    expect(m).toMatchObject({ spot: 86, iv: 0.31, vol: 0.28, drift: 0.05 });
+    expect(m.driftSe).toBeUndefined();
   });
 
   it('`mark` lists the channel\'s marks to the asker with age and stale flag; `mark SYMBOL` shows one', async () => {
