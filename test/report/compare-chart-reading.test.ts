@@ -1,5 +1,5 @@
 /**
- * The comparison chart reads without a legend lecture: equal point masses of several checks (the
+ * The comparison chart reads without a key to decode: equal point masses of several checks (the
  * same max loss in three checks) are drawn at one place, the density axis carries a scale, and the
  * subtitle says in plain words what is drawn. Densities here are normal curves computed in the
  * test; the identities are that a stem's height is its probability and that the density axis's
