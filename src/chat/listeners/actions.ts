@@ -68,15 +68,17 @@ export function registerActions(ctx: ListenerContext): void {
   const { app, store, log, intake } = ctx;
   const client = ctx.delivery.client;
 
-  const entryFor = (channel: string, user: string, value: unknown): { log: string; number: number; entry?: LogEntry } | undefined => {
+  /** The check a button names, in the log of the conversation it was pressed in (`unread`: the log could not be read). */
+  const entryFor = async (channel: string, user: string, value: unknown): Promise<{ log: string; number: number; entry?: LogEntry; unread?: true } | undefined> => {
     const number = parseCheckKey(value);
     if (number === undefined) return undefined;
     const logKey = logOf(channel, user);
     let entry: LogEntry | undefined;
     try {
-      entry = store?.get(logKey, number);
-    } catch {
-      entry = undefined;
+      entry = await store?.get(logKey, number);
+    } catch (err) {
+      log.warn({ err: String(err) }, 'a button: the log could not be read');
+      return { log: logKey, number, unread: true };
     }
     return { log: logKey, number, ...(entry && !entry.deletedAt ? { entry } : {}) };
   };
@@ -86,16 +88,24 @@ export function registerActions(ctx: ListenerContext): void {
     return { key, ok: intake.admit({ key, source: 'mention', channel: p.channel, user: p.user }, {}) };
   };
 
-  const missing = (p: Press, number: number | undefined) =>
-    notice(ctx, originFor(p, p.threadTs), number === undefined ? 'Kolmo could not tell which check this button belongs to.' : `Check #${number} is not in this conversation’s log (it may have been deleted).`);
+  const missing = (p: Press, found: { number: number; unread?: true } | undefined) =>
+    notice(
+      ctx,
+      originFor(p, p.threadTs),
+      found === undefined
+        ? 'Kolmo could not tell which check this button belongs to.'
+        : found.unread
+          ? `Kolmo could not read this conversation’s log just now, so nothing was done for check #${found.number}; press the button again in a minute.`
+          : `Check #${found.number} is not in this conversation’s log (it may have been deleted).`,
+    );
 
   /** The logged check a button under it was pressed for; undefined (the asker told why) when it is gone. */
   const pressedEntry = async (body: unknown): Promise<{ p: Press; e: LogEntry; logKey: string } | undefined> => {
     const p = pressOf(body);
     if (!p) return undefined;
-    const found = entryFor(p.channel, p.user, p.value);
+    const found = await entryFor(p.channel, p.user, p.value);
     if (!found?.entry) {
-      await missing(p, found?.number);
+      await missing(p, found);
       return undefined;
     }
     return { p, e: found.entry, logKey: found.log };
@@ -169,7 +179,7 @@ export function registerActions(ctx: ListenerContext): void {
     }
     let done = false;
     try {
-      done = store?.tombstone(logKey, e.number, new Date().toISOString()) ?? false;
+      done = (await store?.tombstone(logKey, e.number, new Date().toISOString())) ?? false;
     } catch (err) {
       log.warn({ err: String(err) }, 'the log could not record a deletion');
     }
@@ -187,8 +197,8 @@ export function registerActions(ctx: ListenerContext): void {
     await ack();
     const p = pressOf(body);
     if (!p) return;
-    const found = entryFor(p.channel, p.user, p.value);
-    if (!found?.entry || !found.log.startsWith('im:')) return missing(p, found?.number);
+    const found = await entryFor(p.channel, p.user, p.value);
+    if (!found?.entry || !found.log.startsWith('im:')) return missing(p, found);
     if (!(await openView(ctx, p.triggerId, postToChannelView(found.number), 'post to a channel'))) {
       await notice(ctx, originFor(p), 'Kolmo could not open the channel picker (the button press expired). Press it again.');
     }

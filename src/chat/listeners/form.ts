@@ -13,14 +13,14 @@ import { prefillFromRequest } from '../form/prefill.js';
 import { quickCheck } from '../form/validate.js';
 import { ADD_LEG, REMOVE_LEG, checkFormView, decodeMeta, fieldsShown, FORM_CALLBACK, readForm, type FormMeta, type StateValues } from '../form/view.js';
 import type { ListenerContext } from './context.js';
-import { apiError, interactionKey, logOf, markTermsOf, notice, openView, privateLog, symbolsOf, typedLine } from './shared.js';
+import { apiError, interactionKey, logOf, marksOf, notice, openView, privateLog, termsIn, typedLine } from './shared.js';
 
 export const SHORTCUT_CALLBACK = 'kolmo_open_form';
 
 /** Opens the check form: empty, or pre-filled from a logged check. */
 export async function openForm(ctx: ListenerContext, triggerId: string, meta: FormMeta, from?: LogEntry): Promise<boolean> {
   const logKey = meta.channel ? logOf(meta.channel, '') : undefined;
-  const symbols = logKey && !logKey.startsWith('im:') ? symbolsOf(ctx.store, logKey) : [];
+  const symbols = logKey && !logKey.startsWith('im:') ? (await marksOf(ctx.store, logKey)).map((m) => m.symbol) : [];
   let values: FormValues | undefined;
   let note: string | undefined;
   if (from) {
@@ -51,7 +51,7 @@ export function registerForm(ctx: ListenerContext): void {
     const meta = decodeMeta(view.private_metadata);
     const { values } = readForm(view.state?.values ?? {}, meta.legs);
     values.legs = values.legs.slice(0, legs);
-    const symbols = meta.channel && !/^D/.test(meta.channel) ? symbolsOf(store, meta.channel) : [];
+    const symbols = meta.channel && !/^D/.test(meta.channel) ? (await marksOf(store, meta.channel)).map((m) => m.symbol) : [];
     try {
       await client.views.update({ view_id: view.id, ...(view.hash ? { hash: view.hash } : {}), view: checkFormView({ meta: { ...meta, legs }, values, symbols }) });
     } catch (err) {
@@ -86,9 +86,10 @@ export function registerForm(ctx: ListenerContext): void {
     const dm = target === undefined || /^D/.test(target);
     const logKey = dm ? privateLog(user) : target!;
     const now = new Date();
-    const refused = quickCheck(composed.text, { now, mark: (sym) => (dm ? undefined : markTermsOf(store, logKey, sym)), budget: ctx.budget });
+    const marks = dm ? [] : await marksOf(store, logKey);
+    const refused = quickCheck(composed.text, { now, mark: (sym) => termsIn(marks, sym), budget: ctx.budget });
     if (refused) {
-      const present = fieldsShown(meta.legs, !dm && symbolsOf(store, logKey).length > 0);
+      const present = fieldsShown(meta.legs, marks.length > 0);
       await ack({ response_action: 'errors', errors: formErrorsOf(refused, composed.spans, present) as Record<string, string> });
       return;
     }
@@ -126,11 +127,18 @@ export function registerForm(ctx: ListenerContext): void {
       return;
     }
     // only the presser's own private log: the number is a lookup key in it, nothing more
-    const e = of === undefined ? undefined : store?.get(privateLog(user), of);
+    let e: LogEntry | undefined;
+    let unread = false;
+    try {
+      e = of === undefined ? undefined : await store?.get(privateLog(user), of);
+    } catch (err) {
+      unread = true;
+      log.warn({ err: String(err) }, 'post to a channel: the log could not be read');
+    }
     await ack({ response_action: 'clear' });
     const dmOrigin: Origin = { source: 'form', channel: user, user, flat: true };
     if (!e || e.deletedAt) {
-      await notice(ctx, dmOrigin, `Check #${of ?? '?'} is not in your private log.`);
+      await notice(ctx, dmOrigin, unread ? `Kolmo could not read your private log just now, so check #${of ?? '?'} was not posted; try again in a minute.` : `Check #${of ?? '?'} is not in your private log.`);
       return;
     }
     const now = new Date().toISOString();
