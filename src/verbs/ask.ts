@@ -184,6 +184,7 @@ export {
   type LogEntry,
   type LogEntryInput,
   type QueuedRequest,
+  type Interaction,
   type ClaimedRequest,
   type Progress,
   type RequestQueue,

@@ -11,7 +11,7 @@ import { variationText, type Variation } from '../actions/variations.js';
 import type { FormMeta } from '../form/view.js';
 import type { ListenerContext } from './context.js';
 import { openForm } from './form.js';
-import { apiError, interactionKey, logOf, notice, openView, privateLog, typedLine } from './shared.js';
+import { ackOnce, apiError, interactionKey, logOf, notice, openView, privateLog, typedLine } from './shared.js';
 
 const WHAT: Record<Variation, (n: number) => string> = {
   spot_down: (n) => `Spot 5% lower than #${n}`,
@@ -83,10 +83,10 @@ export function registerActions(ctx: ListenerContext): void {
     return { log: logKey, number, ...(entry && !entry.deletedAt ? { entry } : {}) };
   };
 
-  const fresh = (kind: string, p: Press): { key: string; ok: boolean } => {
-    const key = interactionKey(kind, p.triggerId, `${p.channel}\n${p.user}\n${p.messageTs}\n${String(p.value)}`);
-    return { key, ok: intake.admit({ key, source: 'mention', channel: p.channel, user: p.user }, {}) };
-  };
+  /** The delivery key of a press: its trigger (unique per press), else what the press names. */
+  const keyOf = (kind: string, p: Press): string => interactionKey(kind, p.triggerId, `${p.channel}\n${p.user}\n${p.messageTs}\n${String(p.value)}`);
+  /** A press that asks for no answer: false when it was acted on before (a replayed payload). */
+  const fresh = (kind: string, p: Press): Promise<boolean> => intake.once({ key: keyOf(kind, p), source: 'action', channel: p.channel, user: p.user }, {});
 
   const missing = (p: Press, found: { number: number; unread?: true } | undefined) =>
     notice(
@@ -100,11 +100,12 @@ export function registerActions(ctx: ListenerContext): void {
     );
 
   /** The logged check a button under it was pressed for; undefined (the asker told why) when it is gone. */
-  const pressedEntry = async (body: unknown): Promise<{ p: Press; e: LogEntry; logKey: string } | undefined> => {
+  const pressedEntry = async (body: unknown, acked: () => Promise<void>): Promise<{ p: Press; e: LogEntry; logKey: string } | undefined> => {
     const p = pressOf(body);
     if (!p) return undefined;
     const found = await entryFor(p.channel, p.user, p.value);
     if (!found?.entry) {
+      await acked();
       await missing(p, found);
       return undefined;
     }
@@ -113,35 +114,39 @@ export function registerActions(ctx: ListenerContext): void {
 
   for (const kind of Object.keys(VARY_ACTIONS) as Variation[]) {
     app.action(VARY_ACTIONS[kind], async ({ ack, body }) => {
-      await ack();
       const t0 = performance.now();
-      const pressed = await pressedEntry(body);
-      if (!pressed) return;
-      const { p, e } = pressed;
-      const now = new Date().toISOString();
-      const v = variationText(e, kind, now.slice(0, 10));
-      const threadTs = e.threadTs ?? p.threadTs ?? p.messageTs;
-      if (!v.ok) {
-        if (fresh('vary', p).ok) await notice(ctx, originFor(p, threadTs), `Kolmo could not vary check #${e.number}: ${v.reason}.`);
-        return;
+      const acked = ackOnce(ack);
+      try {
+        // record first: the variation is in the shared queue before the press is acknowledged
+        const pressed = await pressedEntry(body, acked);
+        if (!pressed) return;
+        const { p, e } = pressed;
+        const now = new Date().toISOString();
+        const v = variationText(e, kind, now.slice(0, 10));
+        const threadTs = e.threadTs ?? p.threadTs ?? p.messageTs;
+        if (!v.ok) {
+          await acked();
+          if (await fresh('vary', p)) await notice(ctx, originFor(p, threadTs), `Kolmo could not vary check #${e.number}: ${v.reason}.`);
+          return;
+        }
+        await intake.submit({
+          origin: originFor(p, /^D/.test(p.channel) ? undefined : threadTs),
+          text: v.text,
+          t0,
+          key: keyOf('vary', p),
+          now,
+          variedFrom: e.number,
+          preface: typedLine(WHAT[kind](e.number), v.text),
+        });
+      } finally {
+        await acked();
       }
-      const { key, ok } = fresh('vary', p);
-      if (!ok) return;
-      intake.submit({
-        origin: originFor(p, /^D/.test(p.channel) ? undefined : threadTs),
-        text: v.text,
-        t0,
-        key,
-        now,
-        variedFrom: e.number,
-        preface: typedLine(WHAT[kind](e.number), v.text),
-      });
     });
   }
 
   app.action(EDIT_ACTION, async ({ ack, body }) => {
     await ack();
-    const pressed = await pressedEntry(body);
+    const pressed = await pressedEntry(body, async () => undefined);
     if (!pressed) return;
     const { p, e } = pressed;
     const meta: FormMeta = { legs: 2, of: e.number, channel: p.channel, ...(e.threadTs && !/^D/.test(p.channel) ? { thread: e.threadTs } : {}) };
@@ -150,7 +155,7 @@ export function registerActions(ctx: ListenerContext): void {
 
   app.action(DELETE_ACTION, async ({ ack, body }) => {
     await ack();
-    const pressed = await pressedEntry(body);
+    const pressed = await pressedEntry(body, async () => undefined);
     if (!pressed) return;
     const { p, e, logKey } = pressed;
     const origin = originFor(p, e.threadTs ?? p.threadTs);
@@ -158,7 +163,7 @@ export function registerActions(ctx: ListenerContext): void {
       log.info({ channel: p.channel, user: p.user, number: e.number, outcome: 'refused' }, 'delete');
       return notice(ctx, origin, `Only <@${e.user}>, who asked check #${e.number}, can delete it.`);
     }
-    if (!fresh('delete', p).ok) return;
+    if (!(await fresh('delete', p))) return;
     const posted = e.posted;
     let left = 0;
     if (posted) {

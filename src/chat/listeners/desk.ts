@@ -10,7 +10,7 @@ import { DEFAULTS_CALLBACK, defaultsView, readDefaults } from '../desk/defaults.
 import { DESK_CHECKS, DESK_EDIT_DEFAULTS, DESK_MARK_CHANNELS, DESK_OPEN_FORM, DESK_RERUN, myDeskView, type DeskCheck } from '../desk/view.js';
 import type { ListenerContext } from './context.js';
 import { openForm } from './form.js';
-import { apiError, interactionKey, marksOf, notice, openView, privateLog, typedLine } from './shared.js';
+import { ackOnce, apiError, interactionKey, marksOf, notice, openView, privateLog, typedLine } from './shared.js';
 
 type UserDefaults = Awaited<ReturnType<LogStore['getDefaults']>>;
 
@@ -66,7 +66,16 @@ export function registerDesk(ctx: ListenerContext): void {
   });
 
   app.action(DESK_RERUN, async ({ ack, body }) => {
-    await ack();
+    const acked = ackOnce(ack);
+    try {
+      await rerun(body, acked);
+    } finally {
+      await acked();
+    }
+  });
+
+  /** A check of the person's re-run from my desk: recorded in the shared queue before the press is acknowledged. */
+  const rerun = async (body: unknown, acked: () => Promise<void>): Promise<void> => {
     const t0 = performance.now();
     const b = body as { user?: { id?: string }; trigger_id?: string; actions?: Array<{ value?: unknown }> };
     const user = b.user?.id;
@@ -86,6 +95,7 @@ export function registerDesk(ctx: ListenerContext): void {
       log.warn({ err: String(err) }, 'my desk: the log could not be read');
     }
     if (!e || e.deletedAt || e.user !== user) {
+      await acked();
       await notice(ctx, dmOrigin, unread ? 'Kolmo could not read the log just now, so nothing was re-run; press it again in a minute.' : 'That check is not one of yours any more (it may have been deleted).');
       return;
     }
@@ -93,8 +103,7 @@ export function registerDesk(ctx: ListenerContext): void {
     const priv = e.channel.startsWith('im:');
     const origin: Origin = priv ? dmOrigin : { source: 'action', channel: e.channel, user, ...(e.threadTs ? { threadTs: e.threadTs } : {}) };
     const now = new Date().toISOString();
-    if (!intake.admit({ key, source: 'mention', channel: origin.channel, user }, {})) return;
-    intake.submit({
+    await intake.submit({
       origin: priv ? { ...origin, log: e.channel } : origin,
       text: e.text,
       t0,
@@ -103,7 +112,7 @@ export function registerDesk(ctx: ListenerContext): void {
       variedFrom: e.number,
       preface: typedLine(`#${e.number} again, from my desk`, e.text),
     });
-  });
+  };
 
   app.action(DESK_EDIT_DEFAULTS, async ({ ack, body }) => {
     await ack();

@@ -93,14 +93,13 @@ export function registerForm(ctx: ListenerContext): void {
       await ack({ response_action: 'errors', errors: formErrorsOf(refused, composed.spans, present) as Record<string, string> });
       return;
     }
-    await ack({ response_action: 'clear' });
     const key = interactionKey('form', (body as { trigger_id?: string }).trigger_id, `${view.id}\n${view.hash ?? ''}`);
     const origin: Origin = dm
       ? { source: 'form', channel: target ?? user, user, log: logKey, flat: true }
       : { source: 'form', channel: target!, user, ...(meta.thread ? { threadTs: meta.thread } : {}) };
-    if (!intake.admit({ key, source: 'mention', channel: origin.channel, user }, {})) return;
     const lead = meta.of ? `Check #${meta.of}, edited in the check form` : 'From the check form';
-    intake.submit({
+    // record first (the shared queue), then close the form
+    await intake.submit({
       origin,
       text: composed.text,
       t0,
@@ -109,6 +108,7 @@ export function registerForm(ctx: ListenerContext): void {
       ...(meta.of && !dm ? { variedFrom: meta.of } : {}),
       preface: typedLine(lead, composed.text),
     });
+    await ack({ response_action: 'clear' });
   });
 
   app.view(POST_CALLBACK, async ({ ack, body, view }) => {
@@ -135,9 +135,9 @@ export function registerForm(ctx: ListenerContext): void {
       unread = true;
       log.warn({ err: String(err) }, 'post to a channel: the log could not be read');
     }
-    await ack({ response_action: 'clear' });
     const dmOrigin: Origin = { source: 'form', channel: user, user, flat: true };
     if (!e || e.deletedAt) {
+      await ack({ response_action: 'clear' });
       await notice(ctx, dmOrigin, unread ? `Kolmo could not read your private log just now, so check #${of ?? '?'} was not posted; try again in a minute.` : `Check #${of ?? '?'} is not in your private log.`);
       return;
     }
@@ -146,8 +146,8 @@ export function registerForm(ctx: ListenerContext): void {
     const day = typeof e.summary.asof === 'string' ? e.summary.asof : undefined;
     const text = day && day !== now.slice(0, 10) && !/\basof\b/i.test(e.text) ? `${e.text} asof ${day}` : e.text;
     const key = interactionKey('post', (body as { trigger_id?: string }).trigger_id, `${view.id}\n${postTo}\n${of}`);
-    if (!intake.admit({ key, source: 'mention', channel: postTo, user }, {})) return;
-    intake.submit({
+    // record first (the shared queue), then close the picker
+    await intake.submit({
       origin: { source: 'form', channel: postTo, user, tellIn: user },
       text,
       t0,
@@ -155,6 +155,7 @@ export function registerForm(ctx: ListenerContext): void {
       now,
       preface: typedLine(`Posted by its asker from their private check #${e.number}`, text),
     });
+    await ack({ response_action: 'clear' });
   });
 
   ctx.forms.open = (triggerId, meta) => openForm(ctx, triggerId, meta);

@@ -81,3 +81,13 @@ export async function openView(ctx: ListenerContext, triggerId: string, view: Mo
     return false;
   }
 }
+
+/**
+ * An acknowledgement sent at most once: a listener whose press becomes a request records it
+ * first and acknowledges after; on a path that only tells the person something it acknowledges
+ * before; and in any case once when it ends.
+ */
+export function ackOnce(ack: () => Promise<void>): () => Promise<void> {
+  let sent: Promise<void> | undefined;
+  return () => (sent ??= ack());
+}
