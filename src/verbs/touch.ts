@@ -13,7 +13,7 @@ import { activeJumps } from '../core/jumps.js';
 import { TOUCH_MC_SEED, touchFigures } from '../core/models.js';
 import { resolveTouch } from '../request/resolve.js';
 import type { TouchRequest } from '../request/types.js';
-import { level, num, pct, pts, rate, isNum, table } from '../report/format.js';
+import { jumpWords, level, pct, pts, rate, isNum, table } from '../report/format.js';
 import { wrapParts } from '../report/text.js';
 import type { CheckSummary } from '../store/store.js';
 import { figurePair, joinFigures } from './check.js';
@@ -61,7 +61,7 @@ function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
     '',
     wrapParts('Assumptions:', [
       `asof ${t.asof}`,
-      `view drift ${rate(t.view.drift)}${t.view.driftSe ? ` ± ${rate(t.view.driftSe)} (view figures averaged over the uncertain drift)` : ''}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''}`,
+      `view drift ${rate(t.view.drift)}${t.view.driftSe ? ` ± ${rate(t.view.driftSe)} (view figures averaged over the uncertain drift)` : ''}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${jumpWords(jumps)}` : ''}`,
       `rate ${rate(t.rate)}`,
       `yield ${rate(t.q)}`,
       `${jumps ? 'Merton jump diffusion' : 'lognormal walk'}, continuous monitoring`,
