@@ -253,6 +253,14 @@ export const MIGRATIONS: readonly Migration[] = [
       );
     `,
   },
+  {
+    version: 6,
+    description: 'interactive requests on the shared queue: how each is answered (its log, flat, notices, variation, preface)',
+    up(db) {
+      db.exec('ALTER TABLE requests ADD COLUMN interaction TEXT');
+    },
+    postgres: 'ALTER TABLE requests ADD COLUMN interaction TEXT;',
+  },
 ];
 
 /** The schema version this code reads and writes. */

@@ -185,6 +185,7 @@ export {
   type LogEntry,
   type LogEntryInput,
   type QueuedRequest,
+  type Interaction,
   type ClaimedRequest,
   type Progress,
   type RequestQueue,
