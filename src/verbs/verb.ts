@@ -10,6 +10,8 @@ import type { z } from 'zod';
 import type { ParseError } from '../request/types.js';
 import type { Tok } from '../request/lex.js';
 import type { AnyTerm } from '../request/grammar/words.js';
+import type { HelpPage } from '../request/help.js';
+import type { ResolveContext } from '../request/resolve/context.js';
 import { CAUTION, type Answer, type Rejection } from '../reply.js';
 import { StoreError, type CheckSummary, type LogStore, type Mark } from '../store/store.js';
 
@@ -91,8 +93,22 @@ export interface Verb<R extends AnyRequest = AnyRequest> {
   body?: { terms: readonly AnyTerm[]; legs: boolean };
   /** reads `;` itself (every other verb refuses it as a misplaced comparison) */
   readsSemicolons?: boolean;
-  /** `again N` can rerun it (and the log keeps it under this verb) */
-  rerunnable: boolean;
+  /**
+   * how `again N` rewrites a logged request of this verb with changes (absent: `again` cannot
+   * rerun it, and the log never keeps it): 'legs' — its legs and terms (a check); 'parts' — each
+   * part of a comparison; `{ head }` — its first `head` words kept, then its terms (iv, touch)
+   */
+  rerun?: 'legs' | 'parts' | { head: number };
+  /** its canonical example (invented symbols, market terms written out): rejections fall back to it */
+  example: string;
+  /** its page of `help NAME` (the verb's name is the topic); `help` itself has none */
+  help?: HelpPage;
+  /**
+   * whether a request of this verb resolves in this context: a rejection offers the user's own
+   * request corrected as its example only when it does (absent: never offered, the canonical
+   * example is)
+   */
+  resolves?(req: R, ctx: ResolveContext): boolean;
   /** resolve, compute, render; refusals are thrown as `Refused` */
   run(text: string, req: R, env: VerbEnv): Outcome | Promise<Outcome>;
   /** units against the compute budget; absent: its work is small */

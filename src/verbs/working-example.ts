@@ -5,7 +5,7 @@
  * kept when it would be answered; else the verb's canonical example (they write their market terms
  * out), else the canonical check (or, for `again` and `log`, `log 20`, which lists the numbers).
  */
-import { EXAMPLES } from '../request/examples.js';
+import { exampleOf } from '../request/examples.js';
 import { parse } from '../request/parse.js';
 import { resolveCheck, resolveIv, resolveTouch } from '../request/resolve.js';
 import type { Rejection } from '../reply.js';
@@ -80,9 +80,9 @@ export async function workingExample(r: Rejection, ctx: AskContext, today: strin
     const ex = last.slice('Example: '.length);
     if (await answersHere(ex, ctx, today, nowIso, runs)) return r;
     const verb = parse(ex);
-    const key = verb.ok && verb.request.verb in EXAMPLES ? (verb.request.verb as keyof typeof EXAMPLES) : 'check';
-    const candidates = key === 'again' || key === 'log' ? ['log 20', EXAMPLES.check] : [EXAMPLES[key], EXAMPLES.check];
-    let pick: string = EXAMPLES.check;
+    const key = verb.ok ? verb.request.verb : 'check';
+    const candidates = key === 'again' || key === 'log' ? ['log 20', exampleOf('check')] : [exampleOf(key), exampleOf('check')];
+    let pick: string = exampleOf('check');
     for (const c of candidates) {
       if (await answersHere(c, ctx, today, nowIso, runs)) {
         pick = c;
