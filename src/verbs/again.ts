@@ -222,6 +222,11 @@ export const again: Verb<AgainRequest> = {
     examples: ['again 1', 'again 2 spot 102 drift 5%', 'again 1 now'],
   },
   run: runAgain,
+  // the entry it names is in this channel's log
+  answersHere: async (req, here) => {
+    const e = await here.store?.get(here.channel, req.number);
+    return !!e && !e.deletedAt;
+  },
   // the cost of the check it reruns: its logged text with the changes applied
   cost: (req, text, ctx) => {
     const stored = ctx.logged?.(req.number);

@@ -154,7 +154,7 @@ export async function ask(typed: string, ctx: AskContext): Promise<Reply> {
       return false;
     }
   };
-  const rejected = async (r: Rejection): Promise<Rejection> => counted(ctx, env ? await workingExample(r, ctx, env.today, env.nowIso, runs) : r);
+  const rejected = async (r: Rejection): Promise<Rejection> => counted(ctx, env ? await workingExample(r, ctx, env, runs) : r);
   try {
     env = { ...envOf(ctx, { verb: verbNamed, verbs }), verbose, used: new Map() };
     const p = parse(text);

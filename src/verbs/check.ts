@@ -188,6 +188,10 @@ export const check: Verb<CheckRequest> = {
     ],
   },
   resolves: (req, ctx) => resolveCheck(req, ctx).ok,
+  answersHere: async (req, here) => {
+    const c = await here.context(req.terms.on);
+    return c !== null && resolveCheck(req, c).ok;
+  },
   run: runCheckVerb,
   cost: (req, _text, ctx) => ({ units: checkCost(req, ctx.now), at: req.termsAt.jumps ?? req.termsAt.style ?? req.termsAt.target ?? req.termsAt.stop ?? 0, what: 'check' }),
   figureChanges: checkFigureChanges,

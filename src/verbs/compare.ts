@@ -144,6 +144,16 @@ export const compare: Verb<CompareRequest> = {
     ],
   },
   resolves: (req, ctx) => (req.checks ?? []).every((c) => resolveCheck(c, ctx).ok),
+  // each part on its own mark
+  answersHere: async (req, here) => {
+    const checks = req.checks ?? [];
+    if (checks.length < 2 || checks.length > LIMITS.compareParts) return false;
+    for (const k of checks) {
+      const c = await here.context(k.terms.on);
+      if (!c || !resolveCheck(k, c).ok) return false;
+    }
+    return true;
+  },
   run: runCompare,
   cost: (req, _text, ctx) => ({ units: (req.checks ?? []).reduce((s, c) => s + checkCost(c, ctx.now), 0), at: 0, what: 'comparison' }),
 };

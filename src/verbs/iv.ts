@@ -149,6 +149,10 @@ export const iv: Verb<IvRequest> = {
     ],
   },
   resolves: (req, ctx) => resolveIv(req, ctx).ok,
+  answersHere: async (req, here) => {
+    const c = await here.context(req.terms.on);
+    return c !== null && resolveIv(req, c).ok;
+  },
   run: runIv,
   figureChanges: (before: CheckSummary, after: CheckSummary) => joinFigures([figurePair('iv', before.iv, after.iv, (x) => pct(x, 2), pts)]),
   logWords: (s) => (isNum(s.iv) ? ` → iv ${pct(s.iv, 2)}` : ''),

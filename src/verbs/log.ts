@@ -52,6 +52,8 @@ export const log: Verb<LogRequest> = {
   words: ['log'],
   grammar: parseLog,
   run: runLog,
+  // it needs the channel's store
+  answersHere: async (_req, here) => !!here.store,
   example: 'log 20',
   help: {
     title: 'log — the channel\'s past checks',

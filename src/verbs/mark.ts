@@ -129,6 +129,8 @@ export const mark: Verb<MarkRequest> = {
   words: ['mark'],
   grammar: parseMark,
   run: runMark,
+  // it needs the channel's store
+  answersHere: async (_req, here) => !!here.store,
   example: 'mark FERNWK spot 84.20 iv 31% yield 1.2%',
   help: {
     title: 'mark — store the market for a symbol in this channel',

@@ -127,6 +127,10 @@ export const touch: Verb<TouchRequest> = {
     examples: ['touch 120 by 2027-03-19 spot 100 drift 8% vol 25%', 'touch 70 by 2m on FERNWK vol 34%'],
   },
   resolves: (req, ctx) => resolveTouch(req, ctx).ok,
+  answersHere: async (req, here) => {
+    const c = await here.context(req.terms.on);
+    return c !== null && resolveTouch(req, c).ok;
+  },
   run: runTouch,
   figureChanges: (before: CheckSummary, after: CheckSummary) =>
     joinFigures([figurePair('chance of touching', before.probTouch, after.probTouch, (x) => pct(x), pts)]),

@@ -31,6 +31,14 @@ export interface AskContext {
   files?: { name: string; base64: string }[];
 }
 
+/** What `answersHere` may look at: the channel, its store, and a resolve context per `on SYMBOL`. */
+export interface Here {
+  channel: string;
+  store?: LogStore | null;
+  /** the context a request resolves in, with the channel's mark for `on` (null: there is no such mark) */
+  context(on: string | undefined): Promise<ResolveContext | null>;
+}
+
 /** A verb's work as the seam hands it over: the request's time and day, once, and the store. */
 export interface VerbEnv {
   ctx: AskContext;
@@ -109,6 +117,13 @@ export interface Verb<R extends AnyRequest = AnyRequest> {
    * example is)
    */
   resolves?(req: R, ctx: ResolveContext): boolean;
+  /**
+   * whether a request of this verb would be answered in this channel, short of running it (the
+   * test an "Example:" of a rejection passes before it is offered, ./working-example.ts): the
+   * marks it names exist and it resolves, the log entry it names exists, the store it needs is
+   * there. Absent: it is always answered. (Verbs that resolve a position are then also run.)
+   */
+  answersHere?(req: R, here: Here): Promise<boolean>;
   /** resolve, compute, render; refusals are thrown as `Refused` */
   run(text: string, req: R, env: VerbEnv): Outcome | Promise<Outcome>;
   /** units against the compute budget; absent: its work is small */
