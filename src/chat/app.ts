@@ -150,7 +150,7 @@ export async function startChatApp(config: WorkspaceConfig, log: Log): Promise<C
   };
   const intake = createIntake({ config, settings, log, store: counted, engine, deps, metrics, botUserId: bot.botUserId, errText });
   const dispatcher = counted
-    ? new Dispatcher({ queue: counted, owner, capacity: Math.max(1, engine.size), handle: intake.handle, onError: (what, err) => log.warn({ err: errText(err) }, what) })
+    ? new Dispatcher({ queue: counted, owner, capacity: Math.max(1, engine.size), ...settings.queue, handle: intake.handle, onError: (what, err) => log.warn({ err: errText(err) }, what) })
     : null;
   if (dispatcher) intake.useDispatcher(dispatcher);
   running = () => (dispatcher?.running ?? 0) + intake.localSize;

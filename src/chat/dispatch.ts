@@ -5,14 +5,15 @@
  * - Whichever instance recorded a request, any instance may answer it: each claims the oldest
  *   request that is the first unanswered one of its channel, so a channel's answers go out in
  *   request order across instances while other channels run side by side.
- * - Leases: a claimed request is this instance's for `leaseMs` (10 s), renewed every `renewMs`
- *   (3 s) while it runs. If the instance dies, the lease runs out and another instance (or this
+ * - Leases: a claimed request is this instance's for `leaseMs` (KOLMO_LEASE_MS, default 10 s),
+ *   renewed every `renewMs` (KOLMO_LEASE_RENEW_MS, 3 s) while it runs. If the instance dies, the lease runs out and another instance (or this
  *   one after a restart) takes the request over at its next poll: within leaseMs + pollMs.
- * - Polling every `pollMs` (500 ms) finds work recorded by other instances and leases that ran
+ * - Polling every `pollMs` (KOLMO_QUEUE_POLL_MS, 500 ms) finds work recorded by other instances and leases that ran
  *   out; work recorded here wakes the dispatcher at once (`wake()`).
  * - A queue that cannot be read (the database away) is retried with a growing pause; `healthy`
  *   says whether the last poll got through.
  */
+import { LEASE_DEFAULT_MS, LEASE_RENEW_DEFAULT_MS, QUEUE_POLL_DEFAULT_MS } from '../config.js';
 import type { ClaimedRequest, Progress, RequestQueue } from '../verbs/ask.js';
 
 export interface Claim {
@@ -39,9 +40,6 @@ export interface DispatcherOptions {
   onError?(what: string, err: unknown): void;
 }
 
-export const LEASE_MS = 10_000;
-export const RENEW_MS = 3_000;
-export const POLL_MS = 500;
 
 export class Dispatcher {
   private readonly held = new Map<string, ClaimedRequest>();
@@ -58,8 +56,8 @@ export class Dispatcher {
   readonly pollMs: number;
 
   constructor(private readonly o: DispatcherOptions) {
-    this.leaseMs = o.leaseMs ?? LEASE_MS;
-    this.pollMs = o.pollMs ?? POLL_MS;
+    this.leaseMs = o.leaseMs ?? LEASE_DEFAULT_MS;
+    this.pollMs = o.pollMs ?? QUEUE_POLL_DEFAULT_MS;
   }
 
   /** requests this instance is running */
@@ -74,7 +72,7 @@ export class Dispatcher {
 
   start(): void {
     this.poll = setInterval(() => this.wake(), this.pollMs);
-    this.heartbeat = setInterval(() => void this.renew(), this.o.renewMs ?? RENEW_MS);
+    this.heartbeat = setInterval(() => void this.renew(), this.o.renewMs ?? LEASE_RENEW_DEFAULT_MS);
     this.poll.unref();
     this.heartbeat.unref();
     this.wake();

@@ -5,6 +5,7 @@
  * PostgreSQL backend: the worker holds no database connection of its own). It ends when the app
  * goes away (the channel disconnects) or is told to stop.
  */
+import { workerSettings } from '../config.js';
 import { asyncOf, openStore, type LogStore } from '../verbs/ask.js';
 import { ipcStore, type StoreAnswer, type StoreCall } from './ipc-store.js';
 import { work, type Job } from './work.js';
@@ -15,17 +16,22 @@ if (!send) {
   process.exit(2);
 }
 
+const settings = workerSettings();
+if (!settings.ok) {
+  process.stderr.write(`kolmo worker: ${settings.errors.join(' ')}\n`);
+  process.exit(2);
+}
+const where = settings.log;
+
 let store: LogStore | null = null;
 let closeStore: () => void = () => undefined;
 let storeNote: string | undefined;
 let viaParent: ReturnType<typeof ipcStore> | undefined;
-const dbPath = process.env.KOLMO_WORKER_DB;
-const parent = process.env.KOLMO_WORKER_STORE;
-if (parent) {
-  const [backend, ...where] = parent.split(' ');
-  viaParent = ipcStore((m: StoreCall) => send!(m), backend === 'postgres' ? 'postgres' : 'sqlite', where.join(' '));
+if (where.kind === 'parent') {
+  viaParent = ipcStore((m: StoreCall) => send!(m), where.backend, where.where);
   store = viaParent.store;
-} else if (dbPath) {
+} else if (where.kind === 'file') {
+  const dbPath = where.path;
   try {
     const s = openStore(dbPath);
     store = asyncOf(s, dbPath);

@@ -189,6 +189,7 @@ export {
   type RequestQueue,
   type RateOptions,
   type RateDecision,
+  type Admission,
 } from '../store/store.js';
 export { verbOfText } from './registry.js';
 

@@ -15,36 +15,23 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { spawn } from 'node:child_process';
-import { mkdtempSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { FakeWebApi, type Call } from '../chat/fake-web-api.js';
+import type { Call, FakeWebApi } from '../chat/fake-web-api.js';
 import { BOT_TOKEN, MAIN_JS, SECRET, httpEnv, slashBody } from '../chat/harness.js';
-import { signedPost, startIn, until, type App } from '../robust/harness.js';
+import { appsFixture } from '../robust/fixture.js';
+import { signedPost, until, type App } from '../robust/harness.js';
 import { openDatabase, openStore } from '../../src/verbs/ask.js';
 import { freshDatabase } from '../support/pg.js';
 import { TcpProxy, targetOf, throughProxy } from '../support/tcp-proxy.js';
 import { clusterCheck } from './harness.js';
 
 const WAIT = 60_000;
+const fx = appsFixture('kolmo-faults');
 let fake: FakeWebApi;
-const dirs: string[] = [];
-const apps: App[] = [];
-
-beforeAll(async () => {
-  fake = await FakeWebApi.start();
+beforeAll(() => {
+  fake = fx.fake;
 });
-afterAll(async () => {
-  for (const a of apps) await a.stop('SIGKILL');
-  await fake?.close();
-  for (const d of dirs) rmSync(d, { recursive: true, force: true });
-});
-
-function freshDir(): string {
-  const d = mkdtempSync(join(tmpdir(), 'kolmo-faults-'));
-  dirs.push(d);
-  return d;
-}
+const freshDir = () => fx.freshDir();
 
 const inChannel = (method: string, channel: string): Call[] => fake.okCallsOf(method).filter((c) => (c.body.channel ?? c.body.channel_id) === channel);
 const completes = (channel: string) => inChannel('files.completeUploadExternal', channel);
@@ -72,8 +59,7 @@ function runMain(env: Record<string, string>, dir: string): Promise<{ code: numb
 describe('record first, then acknowledge', () => {
   it('one instance on SQLite: slash commands acknowledged just before a SIGKILL are answered after the restart, once', { timeout: 180_000 }, async () => {
     const dir = freshDir();
-    let app = await startIn(dir, httpEnv(fake.apiUrl, { KOLMO_WORKERS: '1' }));
-    apps.push(app);
+    let app = await fx.start(dir, httpEnv(fake.apiUrl, { KOLMO_WORKERS: '1' }));
     const channel = 'C0RECFIRST';
     const acks = [];
     for (let k = 1; k <= 3; k++) acks.push(await slash(app.port, channel, clusterCheck(100 + k), `rf${k}`));
@@ -81,8 +67,7 @@ describe('record first, then acknowledge', () => {
     app.child.kill('SIGKILL');
     await app.exited;
     expect(acks.map((a) => a.status)).toEqual([200, 200, 200]);
-    app = await startIn(dir, httpEnv(fake.apiUrl, { KOLMO_WORKERS: '1' }));
-    apps.push(app);
+    app = await fx.start(dir, httpEnv(fake.apiUrl, { KOLMO_WORKERS: '1' }));
     await until(() => completes(channel).length >= 3, WAIT, 'the three answered after the restart');
     const spots = threadAnswers(channel).map((c) => Number(/· spot (\d+)/.exec(String(c.body.text))?.[1]));
     expect(spots).toEqual([101, 102, 103]);
@@ -127,8 +112,7 @@ describe('a PostgreSQL database that goes away mid-run', () => {
   beforeAll(async () => {
     db = await freshDatabase('away_app');
     proxy = await TcpProxy.start(targetOf(db.url));
-    app = await startIn(freshDir(), httpEnv(fake.apiUrl, { KOLMO_WORKERS: '1', KOLMO_DATABASE_URL: throughProxy(db.url, proxy.port) }));
-    apps.push(app);
+    app = await fx.start(freshDir(), httpEnv(fake.apiUrl, { KOLMO_WORKERS: '1', KOLMO_DATABASE_URL: throughProxy(db.url, proxy.port) }));
   });
   afterAll(async () => {
     await app?.stop();
