@@ -20,7 +20,7 @@ import { verbOfText, StoreError, type Admission, type AsyncStore, type ClaimedRe
 import type { ChatSettings } from '../config.js';
 import { plainNotice } from './blocks.js';
 import { buttonsFor } from './actions/buttons.js';
-import { privateLog } from './interactive.js';
+import { privateLog } from './listeners/shared.js';
 import { deliver, tellAsker, type DeliverDeps, type Origin, type Outcome } from './deliver.js';
 import type { Claim, Dispatcher } from './dispatch.js';
 import { downloadFile, fileRefsOf } from './files.js';

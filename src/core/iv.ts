@@ -40,6 +40,22 @@ const MILLS_0 = 1.2533141373155002512078826424055; // M(0) = √(π/2)
 const MAX_ITER = 60;
 const SQRT_2PI = 2.506628274631000502415765284811;
 
+/** No implied vol: the bound the price is at or beyond, its value, and why (shared by every solver). */
+export function noIv(bound: 'lower' | 'upper', boundValue: number, message: string): IvResult {
+  return { ok: false, bound, boundValue, message };
+}
+
+/**
+ * The failure an implied-vol solver returns for inputs the request layer should never pass: S, K
+ * or T not positive (T = 0 allowed when `expiredOk`), anything not finite, or `othersOk` false
+ * (e.g. invalid jumps); undefined when the inputs are fine.
+ */
+export function badIvInputs(price: number, S: number, K: number, T: number, r: number, q: number, expiredOk: boolean, othersOk = true): IvResult | undefined {
+  const tOk = expiredOk ? T >= 0 : T > 0;
+  if (S > 0 && K > 0 && tOk && othersOk && [price, S, K, T, r, q].every(Number.isFinite)) return undefined;
+  return noIv('lower', 0, 'implied vol needs a finite price and positive spot, strike and time to expiry');
+}
+
 function fmt(v: number): string {
   if (v === 0) return '0';
   const a = Math.abs(v);
@@ -64,40 +80,30 @@ export function impliedVol(
   r: number,
   q: number,
 ): IvResult {
-  if (!(S > 0 && K > 0 && T > 0) || ![price, S, K, T, r, q].every(Number.isFinite)) {
-    return {
-      ok: false,
-      bound: 'lower',
-      boundValue: 0,
-      message: 'implied vol needs a finite price and positive spot, strike and time to expiry',
-    };
-  }
+  const bad = badIvInputs(price, S, K, T, r, q, false);
+  if (bad) return bad;
   const fS = S * Math.exp(-q * T);
   const fK = K * Math.exp(-r * T);
   const isCall = kind === 'call';
   const lower = Math.max(isCall ? fS - fK : fK - fS, 0);
   const upper = isCall ? fS : fK;
   if (!(price > lower)) {
-    return {
-      ok: false,
-      bound: 'lower',
-      boundValue: lower,
-      message:
-        `price ${fmt(price)} is at or below the no-arbitrage lower bound ${fmt(lower)} ` +
+    return noIv(
+      'lower',
+      lower,
+      `price ${fmt(price)} is at or below the no-arbitrage lower bound ${fmt(lower)} ` +
         `(the discounted intrinsic value of the forward, max(${isCall ? 'S·e^(−qT) − K·e^(−rT)' : 'K·e^(−rT) − S·e^(−qT)'}, 0)); ` +
         'no volatility gives a price that low',
-    };
+    );
   }
   if (!(price < upper)) {
-    return {
-      ok: false,
-      bound: 'upper',
-      boundValue: upper,
-      message:
-        `price ${fmt(price)} is at or above the no-arbitrage upper bound ${fmt(upper)} ` +
+    return noIv(
+      'upper',
+      upper,
+      `price ${fmt(price)} is at or above the no-arbitrage upper bound ${fmt(upper)} ` +
         `(${isCall ? 'the stock less its dividends, S·e^(−qT)' : 'the discounted strike, K·e^(−rT)'}); ` +
         'no volatility gives a price that high',
-    };
+    );
   }
   const norm = Math.sqrt(fS) * Math.sqrt(fK);
   const x = -Math.abs(Math.log(fS / fK));

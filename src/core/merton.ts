@@ -26,6 +26,7 @@ import type { IvResult } from './iv.js';
 import type { Greeks, Jumps, OptionKind } from './types.js';
 import { logFactorial } from './numeric/special.js';
 import { hasJumps, jumpCompensator } from './jumps.js';
+import { checkMarketInputs } from './inputs.js';
 
 const TAIL = 1e-15;
 const MAX_TERMS = 20000;
@@ -36,12 +37,10 @@ function jumpsAct(j: Jumps | undefined, T: number): j is Jumps {
   return hasJumps(j) && T > 0;
 }
 
+const NAMES = { S: 'spot', K: 'strike', T: 'time', rq: 'rate and yield', sigma: 'sigma' };
+
 function checkInputs(S: number, K: number, T: number, r: number, q: number, sigma: number, j: Jumps): void {
-  if (!(Number.isFinite(S) && S > 0)) throw new RangeError(`merton: spot must be finite and > 0 (got ${S})`);
-  if (!(Number.isFinite(K) && K > 0)) throw new RangeError(`merton: strike must be finite and > 0 (got ${K})`);
-  if (!(Number.isFinite(T) && T >= 0)) throw new RangeError(`merton: time must be finite and ≥ 0 (got ${T})`);
-  if (!Number.isFinite(r) || !Number.isFinite(q)) throw new RangeError(`merton: rate and yield must be finite (got ${r}, ${q})`);
-  if (!(Number.isFinite(sigma) && sigma >= 0)) throw new RangeError(`merton: sigma must be finite and ≥ 0 (got ${sigma})`);
+  checkMarketInputs('merton', NAMES, S, K, T, r, q, sigma);
   if (!(Number.isFinite(j.intensity) && j.intensity >= 0)) throw new RangeError(`merton: jump intensity must be finite and ≥ 0 (got ${j.intensity})`);
   if (!Number.isFinite(j.mean)) throw new RangeError(`merton: mean log jump must be finite (got ${j.mean})`);
   if (!(Number.isFinite(j.sd) && j.sd >= 0)) throw new RangeError(`merton: s.d. of the log jump must be finite and ≥ 0 (got ${j.sd})`);

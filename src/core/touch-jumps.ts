@@ -19,6 +19,7 @@
  */
 import type { Jumps } from './types.js';
 import { hasJumps, jumpCompensator, validJumps } from './jumps.js';
+import { checkMarketInputs } from './inputs.js';
 
 export interface TouchJumpsOptions {
   /** number of simulated paths (default 20 000) */
@@ -110,6 +111,8 @@ export class Xoshiro128 {
 }
 
 
+const NAMES = { S: 'spot', K: 'level', T: 'time', rq: 'drift and yield', sigma: 'vol' };
+
 /**
  * Monte Carlo probability that the spot touches `level` by T, and that it ends beyond it, under
  * dS/S = (drift − q) dt + σ dW + compensated Merton jumps. `drift` is the expected total return
@@ -126,11 +129,7 @@ export function touchProbJumps(
   jumps: Jumps | undefined,
   opts: TouchJumpsOptions = {},
 ): TouchJumpsResult {
-  if (!(Number.isFinite(S) && S > 0)) throw new RangeError(`touchProbJumps: spot must be finite and > 0 (got ${S})`);
-  if (!(Number.isFinite(level) && level > 0)) throw new RangeError(`touchProbJumps: level must be finite and > 0 (got ${level})`);
-  if (!(Number.isFinite(T) && T >= 0)) throw new RangeError(`touchProbJumps: time must be finite and ≥ 0 (got ${T})`);
-  if (!Number.isFinite(drift) || !Number.isFinite(q)) throw new RangeError(`touchProbJumps: drift and yield must be finite (got ${drift}, ${q})`);
-  if (!(Number.isFinite(sigma) && sigma >= 0)) throw new RangeError(`touchProbJumps: vol must be finite and ≥ 0 (got ${sigma})`);
+  checkMarketInputs('touchProbJumps', NAMES, S, level, T, drift, q, sigma);
   const lam = jumps ? jumps.intensity : 0;
   const jm = jumps ? jumps.mean : 0;
   const jsd = jumps ? jumps.sd : 0;

@@ -31,7 +31,7 @@ import { verbNamed, verbNames, verbOfWord } from '../verbs/registry.js';
 import { Cursor, plainNumber, plainReject } from './grammar/cursor.js';
 import { isLegStart } from './grammar/legs.js';
 import { signedAfterBuySell } from './grammar/body.js';
-import { Reject, after, fmtBig, insertAfter, insertBefore, rejectAt, replaceTok, toParseError } from './grammar/errors.js';
+import { Reject, after, fmtBig, internalFailure, insertAfter, insertBefore, rejectAt, replaceTok, toParseError } from './grammar/errors.js';
 import { TERM_WORDS, TYPE_WORDS, closest } from './grammar/words.js';
 
 export { Reject, formatError, toParseError, type Edit } from './grammar/errors.js';
@@ -118,15 +118,7 @@ function parseAt(text: string, depth: number): ParseResult {
         error: toParseError(text, e, depth === 0 ? (c) => parseAt(c, depth + 1).ok : () => false),
       };
     }
-    return {
-      ok: false,
-      error: {
-        message: `Kolmo could not read this request (internal error: ${e instanceof Error ? e.message : String(e)})`,
-        at: 0,
-        length: 1,
-        example: EXAMPLES.check,
-      },
-    };
+    return internalFailure('read', e, EXAMPLES.check);
   }
 }
 

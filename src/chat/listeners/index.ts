@@ -1,19 +1,25 @@
 /**
- * The app's listeners, registered by kind (commands, events, and the interactive ones: actions,
- * views, shortcuts, my desk and direct messages): each kind turns what the platform sent into a
- * request for the intake.
+ * The app's listeners, registered by kind: commands, events, and the interactive ones (the
+ * buttons under answers, the check form, my desk, direct messages): each kind turns what the
+ * platform sent into a request for the intake.
  */
-import { registerInteractive } from '../interactive.js';
+import { registerActions } from './actions.js';
 import { registerCommands } from './commands.js';
 import type { ListenerContext } from './context.js';
+import { registerDesk } from './desk.js';
 import { registerEvents } from './events.js';
+import { registerForm } from './form.js';
+import { registerMessages } from './messages.js';
 
 export type { ListenerContext } from './context.js';
 
 export const LISTENERS: Record<string, (ctx: ListenerContext) => void> = {
   commands: registerCommands,
   events: registerEvents,
-  interactive: registerInteractive,
+  actions: registerActions,
+  form: registerForm,
+  desk: registerDesk,
+  messages: registerMessages,
 };
 
 export function registerListeners(ctx: ListenerContext): void {

@@ -1,5 +1,5 @@
 /** The implied volatility of an American option (Brent on σ over the backward solves). */
-import type { IvResult } from '../iv.js';
+import { badIvInputs, type IvResult } from '../iv.js';
 import { validJumps } from '../jumps.js';
 import { brentRoot } from '../numeric/root.js';
 import type { Jumps, OptionKind } from '../types.js';
@@ -23,15 +23,8 @@ export function americanImpliedVol(
   q: number,
   jumps?: Jumps,
 ): IvResult {
-  const badJumps = !!jumps && !validJumps(jumps);
-  if (!(S > 0 && K > 0 && T >= 0) || ![price, S, K, T, r, q].every(Number.isFinite) || badJumps) {
-    return {
-      ok: false,
-      bound: 'lower',
-      boundValue: 0,
-      message: 'implied vol needs a finite price and positive spot, strike and time to expiry',
-    };
-  }
+  const bad = badIvInputs(price, S, K, T, r, q, true, !jumps || validJumps(jumps));
+  if (bad) return bad;
   const intrinsic = payoff(kind, S, K);
   const lower = Math.max(intrinsic, kind === 'call' ? S * Math.exp(-q * T) - K * Math.exp(-r * T) : K * Math.exp(-r * T) - S * Math.exp(-q * T), 0);
   const upper = kind === 'call' ? S : K;

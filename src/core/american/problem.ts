@@ -2,6 +2,7 @@
  * The problem of one backward solve (an option under the walk with rate r, yield q, diffusion vol
  * σ and optional Merton jumps), its payoff and its values at the far ends of the grid.
  */
+import { checkMarketInputs } from '../inputs.js';
 import { jumpCompensator, jumpVariance, validJumps } from '../jumps.js';
 import type { Jumps, OptionKind } from '../types.js';
 
@@ -44,17 +45,12 @@ export function halfWidth(p: Problem, sds: number): number {
   return sds * s + nu + 0.02;
 }
 
+const NAMES = { S: 'S', K: 'K', T: 'T', rq: 'rate and yield', sigma: 'sigma' };
+
 /** Programming errors only (the request edge rejects bad input first): throws a RangeError. */
 export function checkInputs(S: number | null, K: number, T: number, r: number, q: number, sigma: number, jumps?: Jumps): void {
   if (jumps && !validJumps(jumps)) {
     throw new RangeError(`american: jumps need a finite intensity ≥ 0, a finite mean and an s.d. ≥ 0 (got ${jumps.intensity}, ${jumps.mean}, ${jumps.sd})`);
   }
-  const bad = (what: string, v: number): never => {
-    throw new RangeError(`american: ${what} must be ${what === 'T' ? 'finite and ≥ 0' : 'finite and > 0'} (got ${v})`);
-  };
-  if (S !== null && !(Number.isFinite(S) && S > 0)) bad('S', S);
-  if (!(Number.isFinite(K) && K > 0)) bad('K', K);
-  if (!(Number.isFinite(T) && T >= 0)) bad('T', T);
-  if (!Number.isFinite(r) || !Number.isFinite(q)) throw new RangeError(`american: rate and yield must be finite (got ${r}, ${q})`);
-  if (!(Number.isFinite(sigma) && sigma >= 0)) throw new RangeError(`american: sigma must be finite and ≥ 0 (got ${sigma})`);
+  checkMarketInputs('american', NAMES, S, K, T, r, q, sigma);
 }

@@ -21,3 +21,18 @@ export function dedupe(xs: number[]): number[] {
   }
   return out;
 }
+
+/**
+ * The interval of an ascending grid that holds `t`: the largest `lo` < n − 1 with x[lo] ≤ t
+ * (0 when t is below x[0]), by bisection; the interval is [x[lo], x[lo + 1]]. n ≥ 2.
+ */
+export function bracket(x: ArrayLike<number>, t: number, n: number = x.length): number {
+  let lo = 0;
+  let hi = n - 1;
+  while (hi - lo > 1) {
+    const k = (lo + hi) >> 1;
+    if (x[k] <= t) lo = k;
+    else hi = k;
+  }
+  return lo;
+}

@@ -1,4 +1,5 @@
 /** Interpolation by splines. */
+import { bracket } from './sorted.js';
 
 /** Natural cubic spline through (x_i, y_i). */
 export function naturalSpline(x: Float64Array, y: Float64Array): (t: number) => number {
@@ -19,13 +20,8 @@ export function naturalSpline(x: Float64Array, y: Float64Array): (t: number) => 
   }
   for (let i = n - 2; i >= 1; i--) m[i] = dp[i] - cp[i] * m[i + 1];
   return (t: number): number => {
-    let lo = 0;
-    let hi = n - 1;
-    while (hi - lo > 1) {
-      const k = (lo + hi) >> 1;
-      if (x[k] <= t) lo = k;
-      else hi = k;
-    }
+    const lo = bracket(x, t, n);
+    const hi = lo + 1;
     const h = x[hi] - x[lo];
     const A = (x[hi] - t) / h;
     const B = 1 - A;

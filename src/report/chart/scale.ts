@@ -1,4 +1,5 @@
 /** Small numeric helpers of the charts (display only: ranges, ticks, areas, quantiles, thinning). */
+import { bracket } from '../../core/numeric/sorted.js';
 import { isNum } from '../format.js';
 
 // ---------------------------------------------------------------------------------------------
@@ -87,13 +88,8 @@ export function sampledQuantiles(
   const contBelow = (v: number): number => {
     if (n === 0 || v <= x[0]) return 0;
     if (v >= x[n - 1]) return cum[n - 1];
-    let lo = 0;
-    let hi = n - 1;
-    while (hi - lo > 1) {
-      const mid = (lo + hi) >> 1;
-      if (x[mid] <= v) lo = mid;
-      else hi = mid;
-    }
+    const lo = bracket(x, v, n);
+    const hi = lo + 1;
     const w = x[hi] - x[lo];
     const t = w > 0 ? (v - x[lo]) / w : 1;
     return cum[lo] + t * (cum[hi] - cum[lo]);

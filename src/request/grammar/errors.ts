@@ -54,6 +54,14 @@ export function toParseError(
   return { message: r.message, at: Math.min(Math.max(0, r.at), end), length: Math.max(1, r.length), example };
 }
 
+/** The failure for anything unexpected inside the request layer (a fault of Kolmo, not of the text): `doing` is read or resolve. */
+export function internalFailure(doing: string, e: unknown, example: string): { ok: false; error: ParseError } {
+  return {
+    ok: false,
+    error: { message: `Kolmo could not ${doing} this request (internal error: ${e instanceof Error ? e.message : String(e)})`, at: 0, length: 1, example },
+  };
+}
+
 export function rejectAt(t: Tok, message: string, fix?: Edit, fallback?: ExampleKey): Reject {
   return new Reject(message, t.at, t.len, fix, fallback);
 }

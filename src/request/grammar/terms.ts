@@ -19,6 +19,9 @@ export interface Collected {
   termToks: Partial<Record<AnyTerm, [number, number]>>;
 }
 
+/** The kind of percentage each plain percentage term takes (what a bare number there probably meant). */
+const PERCENT_KIND = { rate: 'rate', yield: 'rate', iv: 'vol', vol: 'vol' } as const;
+
 export function readTermValue(c: Cursor, name: AnyTerm, t: Tok, into: Collected): void {
   const terms = into.terms;
   switch (name) {
@@ -26,16 +29,10 @@ export function readTermValue(c: Cursor, name: AnyTerm, t: Tok, into: Collected)
       terms.spot = readPrice(c, t, 'spot', SAMPLE.spot);
       return;
     case 'rate':
-      terms.rate = readPercent(c, t, 'rate', 'rate');
-      return;
     case 'yield':
-      terms.yield = readPercent(c, t, 'yield', 'rate');
-      return;
     case 'iv':
-      terms.iv = readPercent(c, t, 'iv', 'vol');
-      return;
     case 'vol':
-      terms.vol = readPercent(c, t, 'vol', 'vol');
+      terms[name] = readPercent(c, t, name, PERCENT_KIND[name]);
       return;
     case 'drift': {
       terms.drift = readPercent(c, t, 'drift', 'drift');

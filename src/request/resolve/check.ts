@@ -6,7 +6,7 @@ import { SAMPLE } from '../examples.js';
 import { LIMITS } from '../limits.js';
 import type { CheckRequest, ExitLevelSpec, ParseError } from '../types.js';
 import { checkStrike, dateAfterAsof, resolveBase, viewDrift } from './base.js';
-import { Resolver, endOf, guard, num, pct, pct2, tokLen, type ResolveContext } from './context.js';
+import { type Resolver, num, pct, pct2, resolveWith, tokLen, type ResolveContext } from './context.js';
 
 export interface ResolvedCheck {
   asof: string;
@@ -167,9 +167,7 @@ function withTrailingIv(req: CheckRequest, notes: string[]): CheckRequest {
   return { ...req, terms: { ...req.terms, iv: last.iv } };
 }
 
-function resolveCheckInner(typed: CheckRequest, ctx: ResolveContext): ResolvedCheck {
-  const end = typed.end ?? (ctx.text ? ctx.text.trimEnd().length : 0);
-  const R = new Resolver(ctx, 'check', end);
+function resolveCheckInner(R: Resolver, typed: CheckRequest, ctx: ResolveContext): ResolvedCheck {
   const base = resolveBase(R, typed.terms, typed.termsAt);
   const { asof, spot, notes } = base;
   const req = withTrailingIv(typed, notes);
@@ -239,10 +237,6 @@ export function resolveCheck(
   req: CheckRequest,
   ctx: ResolveContext,
 ): { ok: true; check: ResolvedCheck } | { ok: false; error: ParseError } {
-  const out = guard(
-    () => new Resolver(ctx, 'check', endOf(req, ctx)),
-    () => resolveCheckInner(req, ctx),
-  );
-  return 'ok' in out ? out : { ok: true, check: out };
+  return resolveWith(ctx, 'check', req, (R) => ({ check: resolveCheckInner(R, req, ctx) }));
 }
 

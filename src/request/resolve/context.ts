@@ -5,6 +5,7 @@
  */
 import { EXAMPLES, type ExampleKey } from '../examples.js';
 import { Reject, parse, toParseError, type Edit } from '../parse.js';
+import { internalFailure } from '../grammar/errors.js';
 import type { MarkFigures } from '../../core/types.js';
 import type { ParseError } from '../types.js';
 import { resolveCheck } from './check.js';
@@ -123,16 +124,18 @@ export function guard<T>(R: () => Resolver, f: () => T): T | Fail {
   } catch (e) {
     const r = R();
     if (e instanceof Reject) return r.error(e);
-    return {
-      ok: false,
-      error: {
-        message: `Kolmo could not resolve this request (internal error: ${e instanceof Error ? e.message : String(e)})`,
-        at: 0,
-        length: 1,
-        example: EXAMPLES[r.fallback],
-      },
-    };
+    return internalFailure('resolve', e, EXAMPLES[r.fallback]);
   }
+}
+
+/**
+ * Runs a resolution under the guard with a Resolver for `verb` (its example is the fallback):
+ * what `body` returns, marked ok, or the failure. Never throws.
+ */
+export function resolveWith<T extends object>(ctx: ResolveContext, verb: ExampleKey, req: { end?: number }, body: (R: Resolver) => T): ({ ok: true } & T) | Fail {
+  const mk = () => new Resolver(ctx, verb, endOf(req, ctx));
+  const out = guard(mk, () => body(mk()));
+  return 'ok' in out ? out : { ok: true, ...out };
 }
 
 export function endOf(req: { end?: number }, ctx: ResolveContext): number {

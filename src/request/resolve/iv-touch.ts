@@ -5,7 +5,7 @@ import type { IvQuestion } from '../../core/models.js';
 import { SAMPLE } from '../examples.js';
 import type { IvRequest, ParseError, TouchRequest } from '../types.js';
 import { checkStrike, dateAfterAsof, resolveBase, viewDrift } from './base.js';
-import { Resolver, endOf, guard, num, pct, pct2, type ResolveContext } from './context.js';
+import { num, pct, pct2, resolveWith, type ResolveContext } from './context.js';
 
 export interface ResolvedIv extends IvQuestion {
   expiry: string;
@@ -30,9 +30,7 @@ export function resolveIv(
   req: IvRequest,
   ctx: ResolveContext,
 ): { ok: true; iv: ResolvedIv; notes: string[] } | { ok: false; error: ParseError } {
-  const mk = () => new Resolver(ctx, 'iv', endOf(req, ctx));
-  const out = guard(mk, () => {
-    const R = mk();
+  return resolveWith(ctx, 'iv', req, (R) => {
     const base = resolveBase(R, req.terms, req.termsAt);
     const { date, days } = dateAfterAsof(R, req.expiry, base.asof, req.termsAt.expiry, 'the expiry');
     checkStrike(R, req.strike, base.spot, req.termsAt.strike, 'the strike');
@@ -70,7 +68,6 @@ export function resolveIv(
     };
     return { iv, notes: base.notes };
   });
-  return 'ok' in out ? out : { ok: true, ...out };
 }
 
 /** Resolve a touch request: level, spot, time, view (drift defaults to the rate). Never throws. */
@@ -78,9 +75,7 @@ export function resolveTouch(
   req: TouchRequest,
   ctx: ResolveContext,
 ): { ok: true; touch: ResolvedTouch; notes: string[] } | { ok: false; error: ParseError } {
-  const mk = () => new Resolver(ctx, 'touch', endOf(req, ctx));
-  const out = guard(mk, () => {
-    const R = mk();
+  return resolveWith(ctx, 'touch', req, (R) => {
     const { terms, termsAt } = req;
     const base = resolveBase(R, terms, termsAt);
     const { date, days } = dateAfterAsof(R, req.by, base.asof, termsAt.by, 'the date', true);
@@ -111,5 +106,4 @@ export function resolveTouch(
     };
     return { touch, notes };
   });
-  return 'ok' in out ? out : { ok: true, ...out };
 }
