@@ -181,7 +181,8 @@ export function createIntake(d: IntakeDeps) {
       counts.handedBack++;
       return;
     }
-    const got = await answer(r, resumed, { progress: r.progress, onProgress: (p) => claim.progress(p) });
+    // taken over, or handed back at a shutdown: its check may be in the log already
+    const got = await answer(r, resumed || r.progress.handedBack === true, { progress: r.progress, onProgress: (p) => claim.progress(p) });
     if (got.outcome === 'closed') {
       await claim.release();
       counts.handedBack++;

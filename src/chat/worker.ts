@@ -8,6 +8,7 @@
 import { workerSettings } from '../config.js';
 import { asyncOf, openStore, type LogStore } from '../verbs/ask.js';
 import { ipcStore, type StoreAnswer, type StoreCall } from './ipc-store.js';
+import type { Ping } from './pool.js';
 import { work, type Job } from './work.js';
 
 const send = process.send?.bind(process);
@@ -52,9 +53,11 @@ const stop = () => {
 process.on('disconnect', stop);
 process.on('SIGTERM', stop);
 
-process.on('message', (m: { id: number; job: Job } | StoreAnswer) => {
+process.on('message', (m: { id: number; job: Job } | StoreAnswer | Ping) => {
   if ('kind' in m) {
     if (m.kind === 'store-answer') viaParent?.answer(m);
+    // the app's health check: answered as soon as this process reads its channel
+    else if (m.kind === 'ping') send!({ kind: 'pong', id: m.id } satisfies Ping);
     return;
   }
   work(m.job, store).then(
@@ -67,3 +70,6 @@ process.on('message', (m: { id: number; job: Job } | StoreAnswer) => {
     },
   );
 });
+
+// up: the pool counts this worker as started (until then a silent worker is loading, not stuck)
+send({ kind: 'pong', id: 0 } satisfies Ping);

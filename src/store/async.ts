@@ -43,6 +43,8 @@ export interface Progress {
   answered?: boolean;
   /** the chart was uploaded */
   chart?: boolean;
+  /** an instance handed it back unanswered (shutdown): its check may already be in the log */
+  handedBack?: boolean;
 }
 
 export interface ClaimedRequest extends QueuedRequest {
@@ -77,8 +79,10 @@ export interface RequestQueue {
    * Claims the oldest request that is the first unanswered one of its channel and is not under
    * another owner's live lease (a lease that ran out is taken over), for `leaseMs`. Undefined when
    * there is none. A channel's next request is never claimed while an earlier one is unanswered.
+   * With `takeover: false` only requests nobody holds are claimed (leases that ran out are left
+   * to their holders: the dispatcher's grace after an outage).
    */
-  claim(owner: string, leaseMs: number): Promise<ClaimedRequest | undefined>;
+  claim(owner: string, leaseMs: number, opts?: { takeover?: boolean }): Promise<ClaimedRequest | undefined>;
   /** Extends the leases `owner` still holds on these keys; returns how many it still holds. */
   renew(owner: string, keys: readonly string[], leaseMs: number): Promise<number>;
   /** Records what of the answer has been posted; false when `owner` no longer holds the request. */
@@ -207,7 +211,7 @@ export function asyncOf(s: SqliteStore, where: string): AsyncStore {
     ping: async () => s.ping(),
     accept: async (r, done) => s.accept(r, done),
     admit: async (r, rate, limit) => s.admit(r, rate, limit),
-    claim: async (owner, leaseMs) => s.claim(owner, leaseMs),
+    claim: async (owner, leaseMs, opts) => s.claim(owner, leaseMs, opts),
     renew: async (owner, keys, leaseMs) => s.renew(owner, keys, leaseMs),
     setProgress: async (key, owner, p) => s.setProgress(key, owner, p),
     finish: async (key, owner) => s.finish(key, owner),

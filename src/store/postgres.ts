@@ -185,17 +185,27 @@ class PgStore implements AsyncStore {
   private async tx<T>(op: StoreOp, fn: (c: pg.PoolClient) => Promise<T>): Promise<T> {
     if (this.closed) throw new StoreError('unavailable', op, 'the log has been closed');
     let client: pg.PoolClient | undefined;
+    let broken: unknown;
+    // a connection that breaks while checked out emits 'error' on its client, which the pool only
+    // listens to while the client is idle: without a listener here it would end the process
+    const onError = (e: unknown) => {
+      broken ??= e;
+    };
     try {
       client = await this.pool.connect();
+      client.on('error', onError);
       await client.query('BEGIN');
       const out = await fn(client);
       await client.query('COMMIT');
       return out;
     } catch (e) {
+      broken ??= e;
       await client?.query('ROLLBACK').catch(() => undefined);
       throw pgStoreError(e, op, this.where);
     } finally {
-      client?.release();
+      client?.removeListener('error', onError);
+      // a client that failed is dropped, not handed back to the pool
+      client?.release(broken === undefined ? undefined : broken instanceof Error ? broken : new Error(String(broken)));
     }
   }
 
@@ -335,19 +345,19 @@ class PgStore implements AsyncStore {
    * SKIP LOCKED (so instances claiming at the same moment take different requests instead of
    * waiting on each other), is marked running under `owner`.
    */
-  async claim(owner: string, leaseMs: number): Promise<ClaimedRequest | undefined> {
+  async claim(owner: string, leaseMs: number, opts: { takeover?: boolean } = {}): Promise<ClaimedRequest | undefined> {
     const r = await this.q<RequestRow>(
       'write',
       `UPDATE requests SET state = 'running', owner = $1, lease_ms = ${NOW_MS} + $2, attempts = attempts + 1
        WHERE seq = (
          SELECT h.seq FROM requests h
-         WHERE h.state <> 'done' AND (h.state = 'queued' OR h.lease_ms < ${NOW_MS})
+         WHERE h.state <> 'done' AND (h.state = 'queued' OR ($3 AND h.lease_ms < ${NOW_MS}))
            AND NOT EXISTS (SELECT 1 FROM requests e WHERE e.channel = h.channel AND e.state <> 'done' AND e.seq < h.seq)
          ORDER BY h.seq LIMIT 1
          FOR UPDATE SKIP LOCKED
        )
        RETURNING ${REQUEST_COLUMNS}`,
-      [owner, Math.round(leaseMs)],
+      [owner, Math.round(leaseMs), opts.takeover !== false],
     );
     return r.rows[0] && toClaimed(r.rows[0]);
   }

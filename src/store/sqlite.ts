@@ -313,16 +313,16 @@ export class SqliteStore implements Store {
     return this.guard('write', () => tx.immediate());
   }
 
-  claim(owner: string, leaseMs: number): ClaimedRequest | undefined {
+  claim(owner: string, leaseMs: number, opts: { takeover?: boolean } = {}): ClaimedRequest | undefined {
     const pick = this.q('write', `SELECT h.key FROM requests h
-      WHERE h.state <> 'done' AND (h.state = 'queued' OR h.lease_ms < @t)
+      WHERE h.state <> 'done' AND (h.state = 'queued' OR (@takeover = 1 AND h.lease_ms < @t))
         AND NOT EXISTS (SELECT 1 FROM requests e WHERE e.channel = h.channel AND e.state <> 'done' AND e.seq < h.seq)
       ORDER BY h.seq LIMIT 1`);
     const take = this.q('write', `UPDATE requests SET state = 'running', owner = @owner, lease_ms = @until, attempts = attempts + 1
       WHERE key = @key RETURNING seq, key, source, channel, user, thread_ts, response_url, text, now, received_ms, attempts, progress, files`);
     const tx = this.db.transaction(() => {
       const t = Date.now();
-      const key = pick.pluck().get({ t }) as string | undefined;
+      const key = pick.pluck().get({ t, takeover: opts.takeover === false ? 0 : 1 }) as string | undefined;
       if (key === undefined) return undefined;
       return take.get({ owner, until: t + leaseMs, key }) as RequestRow;
     });

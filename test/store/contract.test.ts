@@ -441,6 +441,21 @@ describe.each(backends)('the store contract on $name', (backend) => {
     expect((await s.claim('other', 10000))?.key).toBe('t2');
   });
 
+  it('queue: without take-over only requests nobody holds are claimed; a lease that ran out stays its holder\'s', async () => {
+    const { s } = await open();
+    await s.accept(req('g1', 'C0QG'));
+    await s.accept(req('g2', 'C0QH'));
+    expect((await s.claim('holder', 150))?.key).toBe('g1');
+    await sleep(300);
+    // g1's lease ran out: not taken over, and its channel waits; g2 (nobody's) is claimed
+    expect((await s.claim('back', 10000, { takeover: false }))?.key).toBe('g2');
+    expect(await s.claim('back', 10000, { takeover: false })).toBeUndefined();
+    // the holder can still record it (nobody took it)
+    expect(await s.setProgress('g1', 'holder', { answered: true })).toBe(true);
+    await s.finish('g1', 'holder');
+    expect(await s.claim('back', 10000)).toBeUndefined();
+  });
+
   it('queue: renewing keeps a lease; releasing hands the request back without counting the attempt', async () => {
     const { s } = await open();
     await s.accept(req('r1', 'C0QR'));
