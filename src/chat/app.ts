@@ -28,7 +28,7 @@ import type { IncomingMessage, ServerResponse } from 'node:http';
 import { hostname } from 'node:os';
 import { monitorEventLoopDelay, type IntervalHistogram } from 'node:perf_hooks';
 import { scrub, type Log } from '../log.js';
-import { databaseFromEnv, defaultDbPath, openDatabase, openStore, StoreError, type AsyncStore, type DatabaseChoice, type Store } from '../verbs/ask.js';
+import { databaseFromEnv, defaultDbPath, openDatabase, StoreError, type AsyncStore, type DatabaseChoice } from '../verbs/ask.js';
 import { BoundedClient } from './client.js';
 import type { DeliverDeps } from './deliver.js';
 import { Dispatcher } from './dispatch.js';
@@ -215,17 +215,7 @@ export async function startChatApp(config: WorkspaceConfig, log: Log): Promise<C
 
   const app = createBoltApp(config, settings, clientOptions, bot, log, ops);
   intake.recordFirst(app);
-  // buttons and my desk read the log through its synchronous face: the SQLite file (a connection
-  // of their own); on PostgreSQL they have none yet and answer without the log
-  let syncLog: Store | null = null;
-  if (choice?.backend === 'sqlite') {
-    try {
-      syncLog = openStore(choice.path, { synchronous: 'normal' });
-    } catch (err) {
-      log.warn({ err: errText(err) }, 'the log is unavailable to buttons and my desk');
-    }
-  }
-  registerListeners({ app, intake, botUserId: bot.botUserId, store: syncLog, delivery: deps, log, budget: settings.computeBudget, forms: {} });
+  registerListeners({ app, intake, botUserId: bot.botUserId, store: counted, delivery: deps, log, budget: settings.computeBudget, forms: {} });
   app.error(async (err) => {
     log.error({ err: errText(err), code: (err as { code?: string }).code }, 'listener error');
   });
@@ -284,7 +274,6 @@ export async function startChatApp(config: WorkspaceConfig, log: Log): Promise<C
         );
         await new Promise<void>((r) => (opsServer ? opsServer.close(() => r()) : r()));
         await counted?.close();
-        syncLog?.close();
       })();
       return stopped;
     },

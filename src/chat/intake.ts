@@ -12,11 +12,15 @@
  *      the engine in a worker, the delivery (each posted part recorded, so a take-over posts only
  *      the rest), then the request is marked done;
  *   4. one log line per request: channel, user, verb, duration, outcome.
+ * Interactive requests take the same path: direct messages are read off the delivery like
+ * mentions; a button's variation, a form submission, post to a channel and a re-run from my desk
+ * come through `submit`, awaited by their listener before it acknowledges, and carry how they are
+ * answered (their `interaction`: private log, flat messages, notices, the check varied, preface).
  * Without a store (the SQLite file cannot be opened) or when it fails mid-run, requests are
  * answered from memory (queue.ts, ratelimit.ts, an in-memory inbox) and flagged "Not logged".
  */
 import type { Log } from '../log.js';
-import { verbOfText, StoreError, type Admission, type AsyncStore, type ClaimedRequest, type Progress, type QueuedRequest, type RateDecision } from '../verbs/ask.js';
+import { verbOfText, StoreError, type Admission, type AsyncStore, type ClaimedRequest, type Interaction, type Progress, type QueuedRequest, type RateDecision } from '../verbs/ask.js';
 import type { ChatSettings } from '../config.js';
 import { plainNotice } from './blocks.js';
 import { buttonsFor } from './actions/buttons.js';
@@ -37,9 +41,12 @@ import { responder } from './response-url.js';
 /** The verb a request text starts with, for the log line (the engine decides what it means). */
 export const verbOf = verbOfText;
 
-/** A request from the interactive listeners (buttons, the check form, my desk). */
+/** A request from the interactive listeners (buttons, the check form, my desk, post to a channel). */
 export interface Incoming {
-  origin: Origin;
+  /** where and how it is answered (a response URL, not a function, so any instance can answer it) */
+  origin: Omit<Origin, 'respond'>;
+  /** a slash command's response URL (the empty `/kolmo` whose form could not open) */
+  responseUrl?: string;
   text: string;
   /** performance.now() when it arrived */
   t0: number;
@@ -84,9 +91,28 @@ export function createIntake(d: IntakeDeps) {
   const limiter = new UserRateLimit({ ...USER_RATE_DEFAULTS, ...settings.userRate });
   let stopping = false;
   const counts = { accepted: 0, duplicate: 0, rateLimited: 0, busy: 0, handedBack: 0, resumed: 0, local: 0 };
-  const line = (r: Pick<QueuedRequest, 'channel' | 'user' | 'source'>, extra: Record<string, unknown> = {}) => ({ channel: r.channel, user: r.user, source: r.source, ...extra });
+  const line = (r: Pick<QueuedRequest, 'channel' | 'user' | 'source' | 'interaction'>, extra: Record<string, unknown> = {}) => ({
+    channel: r.channel,
+    user: r.user,
+    source: r.interaction?.source ?? r.source,
+    ...extra,
+  });
   const originOf = (r: QueuedRequest): Origin => {
     const respond = responder(r.responseUrl);
+    const i = r.interaction;
+    if (i) {
+      // an interactive request: answered exactly as its listener said, whichever instance claims it
+      return {
+        source: i.source,
+        channel: r.channel,
+        user: r.user,
+        ...(i.log ? { log: i.log } : {}),
+        ...(i.flat ? { flat: true } : {}),
+        ...(i.tellIn ? { tellIn: i.tellIn } : {}),
+        ...(r.threadTs ? { threadTs: r.threadTs } : {}),
+        ...(respond ? { respond } : {}),
+      };
+    }
     // a request written to the app in the person's messages with it: answered there, in their private log
     const dm = /^D/.test(r.channel);
     return {
@@ -104,9 +130,9 @@ export function createIntake(d: IntakeDeps) {
     r: QueuedRequest,
     resumed: boolean,
     resume: { progress?: Progress; onProgress?: (p: Progress) => Promise<unknown> } = {},
-    extra: { origin?: Origin; variedFrom?: number; preface?: string } = {},
   ): Promise<{ outcome: Outcome | 'error' | 'closed' | 'file-unreadable'; verb: string; computeMs?: number; logNumber?: number; failures: number }> => {
-    const origin = extra.origin ?? originOf(r);
+    const origin = originOf(r);
+    const extra: Partial<Interaction> = r.interaction ?? {};
     const text = r.text.trim() === '' ? 'help' : r.text;
     let verb = verbOf(text);
     // files shared with a `history` mention: downloaded by the instance that answers
@@ -273,6 +299,13 @@ export function createIntake(d: IntakeDeps) {
       const files = verbOf(text) === 'history' ? fileRefsOf((ev as { files?: unknown }).files) : [];
       return { key, source: 'mention', channel: ev.channel, user: ev.user, ...(ev.thread_ts ? { threadTs: ev.thread_ts } : {}), text, now, ...(files.length ? { files } : {}) };
     }
+    const dm = ev as { channel_type?: string; subtype?: string; bot_id?: string } | undefined;
+    if (body.type === 'event_callback' && ev?.type === 'message' && dm?.channel_type === 'im' && dm.subtype === undefined && dm.bot_id === undefined && ev.user && ev.channel && ev.user !== botUserId) {
+      // a direct message: answered in that conversation, logged in the person's private log
+      const key = eventKey(typeof body.event_id === 'string' ? body.event_id : undefined, `${ev.channel}\n${ev.ts}`);
+      const interaction: Interaction = { source: 'dm', log: privateLog(ev.user), flat: true };
+      return { key, source: 'mention', channel: ev.channel, user: ev.user, ...(ev.thread_ts ? { threadTs: ev.thread_ts } : {}), text: (ev.text ?? '').trim(), now, interaction };
+    }
     return null;
   };
 
@@ -306,10 +339,14 @@ export function createIntake(d: IntakeDeps) {
     };
   };
 
-  const after = (body: unknown, retry: { retryNum?: number; retryReason?: string }): void => {
+  const after = (body: unknown, retry: RetryInfo): void => {
     const it = body && typeof body === 'object' ? intake.get(body) : undefined;
     if (!it) return;
-    const { r, got, t0 } = it;
+    settle(it.r, it.got, it.t0, retry);
+  };
+
+  /** What follows the record: wake the dispatcher, or turn the request away, or answer it from memory. */
+  const settle = (r: QueuedRequest, got: Intake, t0: number, retry: RetryInfo): void => {
     metrics.ack.observe((performance.now() - t0) / 1000);
     log.debug({ ...line(r), text: r.text }, 'request text');
     switch (got.kind) {
@@ -334,41 +371,63 @@ export function createIntake(d: IntakeDeps) {
 
 
   /**
-   * The interactive listeners' way in (buttons, the check form, my desk): a delivery key seen
-   * before in this process is a re-sent one. Their requests are answered from memory (the
-   * in-process line), not through the shared queue.
+   * The interactive listeners' way in (buttons, the check form, my desk, post to a channel): the
+   * same record-first path as a typed request. The listener awaits this before it acknowledges;
+   * a delivery key recorded before (by any instance) is a replayed payload, not answered again.
+   * What the interactive path needs besides the text (a private log, flat messages, where notices
+   * go, the check varied, the preface) travels with the request in the queue.
    */
-  const admitLocal = (e: { key: string; channel: string; user: string; source: string }, retry: RetryInfo): boolean => {
-    if (localInbox.accept(e.key)) return true;
+  const submit = async (req: Incoming): Promise<void> => {
+    const o = req.origin;
+    const interaction: Interaction | undefined =
+      o.source === 'command' && !o.log && !o.flat && !o.tellIn && req.variedFrom === undefined && !req.preface
+        ? undefined
+        : {
+            source: o.source,
+            ...(o.log ? { log: o.log } : {}),
+            ...(o.flat ? { flat: true } : {}),
+            ...(o.tellIn ? { tellIn: o.tellIn } : {}),
+            ...(req.variedFrom !== undefined ? { variedFrom: req.variedFrom } : {}),
+            ...(req.preface ? { preface: req.preface } : {}),
+          };
+    const r: QueuedRequest = {
+      key: req.key,
+      source: o.source === 'command' ? 'command' : 'mention',
+      channel: o.channel,
+      user: o.user,
+      ...(o.threadTs ? { threadTs: o.threadTs } : {}),
+      ...(req.responseUrl ? { responseUrl: req.responseUrl } : {}),
+      text: req.text,
+      now: req.now,
+      ...(req.fileRefs?.length ? { files: req.fileRefs } : {}),
+      ...(interaction ? { interaction } : {}),
+    };
+    settle(r, await admit(r), req.t0, {});
+  };
+
+  /**
+   * An interaction that asks for no answer (a deletion, a variation that cannot be made): its
+   * delivery key is recorded as already answered, so a replayed payload, on any instance, is not
+   * acted on again. In memory when there is no store or it fails.
+   */
+  const once = async (e: { key: string; channel: string; user: string; source: string }, retry: RetryInfo): Promise<boolean> => {
+    let fresh: boolean;
+    try {
+      fresh = counted && !stopping ? await counted.accept({ key: e.key, source: 'mention', channel: e.channel, user: e.user, text: '', now: new Date().toISOString() }, true) : localInbox.accept(e.key);
+    } catch (err) {
+      if (!(err instanceof StoreError)) throw err;
+      fresh = localInbox.accept(e.key);
+    }
+    if (fresh) return true;
     counts.duplicate++;
     metrics.requests.inc({ verb: 'unknown', outcome: 'duplicate' });
     log.info({ channel: e.channel, user: e.user, source: e.source, outcome: 'duplicate', retryNum: retry.retryNum, retryReason: retry.retryReason }, 'request');
     return false;
   };
 
-  const submit = (req: Incoming): void => {
-    const r: QueuedRequest = {
-      key: req.key,
-      source: req.origin.source === 'mention' ? 'mention' : 'command',
-      channel: req.origin.channel,
-      user: req.origin.user,
-      ...(req.origin.threadTs ? { threadTs: req.origin.threadTs } : {}),
-      text: req.text,
-      now: req.now,
-      ...(req.fileRefs?.length ? { files: req.fileRefs } : {}),
-    };
-    const extra = { origin: req.origin, ...(req.variedFrom !== undefined ? { variedFrom: req.variedFrom } : {}), ...(req.preface ? { preface: req.preface } : {}) };
-    const accepted = local.offer(r.channel, async () => {
-      const got = await answer(r, false, {}, extra);
-      metrics.requests.inc({ verb: got.verb, outcome: got.outcome === 'closed' ? 'dropped' : got.outcome });
-      log.info(line(r, { verb: got.verb, outcome: got.outcome, ms: Math.round(performance.now() - req.t0), computeMs: got.computeMs, logNumber: got.logNumber, failures: got.failures }), 'request');
-    });
-    if (!accepted) turnAway(r, { kind: 'busy', depth: local.size }, req.t0);
-  };
-
   return {
     counts,
-    admit: admitLocal,
+    once,
     submit,
     recordFirst,
     after,

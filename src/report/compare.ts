@@ -6,7 +6,7 @@
 import type { CompareChartItem } from './chart.js';
 import type { CheckJson } from '../result.js';
 import { hasJumps } from '../core/jumps.js';
-import { level, money, pct, rate, shortDate, table } from './format.js';
+import { jumpWords, level, money, pct, rate, shortDate, table } from './format.js';
 import { isMethodNote, positionWords, wrapParts } from './text.js';
 
 export interface ComparePart {
@@ -31,7 +31,7 @@ function termRows(parts: ComparePart[]): { rows: string[][]; same: string[] } {
     ['yield', (c) => rate(c.market.yield)],
     ['drift', (c) => rate(c.view.drift)],
     ['vol', (c) => rate(c.view.vol)],
-    ['jumps', (c) => (hasJumps(c.view.jumps) ? `${c.view.jumps.intensity}/yr ${rate(c.view.jumps.mean)} ${rate(c.view.jumps.sd)}` : 'none')],
+    ['jumps', (c) => (hasJumps(c.view.jumps) ? jumpWords(c.view.jumps) : 'none')],
     ['style', (c) => c.style],
     ['mult', (c) => String(c.mult)],
   ];

@@ -133,13 +133,21 @@ export function fmtChance(p: number): string {
   return fmtPct(Math.round(Math.min(1, Math.max(0, p)) * 1000) / 1000);
 }
 
-/** The view as a chart title says it: "drift 9%, vol 26%, jumps 0.5/yr mean −5% sd 10%" */
+/**
+ * The view's jumps, worded one way in the text answer, the comparison table and on the charts:
+ * "0.5/yr mean -8% sd 12%" (the request's order: rate per year, mean and s.d. of the log jump).
+ */
+export function jumpWords(j: Jumps): string {
+  return `${fmtPrice(j.intensity)}/yr mean ${fmtPct(j.mean)} sd ${fmtPct(j.sd)}`;
+}
+
+/** The view as a chart title says it: "drift 9%, vol 26%, jumps 0.5/yr mean -5% sd 10%" */
 export function describeView(view: { drift: number; vol: number; jumps?: Jumps; driftSe?: number }): string {
   const se = isNum(view.driftSe) && view.driftSe > 0 ? ` ± ${fmtPct(view.driftSe)}` : '';
   let s = `drift ${fmtPct(view.drift)}${se}, vol ${fmtPct(view.vol)}`;
   const j = view.jumps;
   if (j && isNum(j.intensity) && hasJumps(j)) {
-    s += `, jumps ${fmtPrice(j.intensity)}/yr mean ${fmtPct(j.mean)} sd ${fmtPct(j.sd)}`;
+    s += `, jumps ${jumpWords(j)}`;
   }
   return s;
 }

@@ -7,7 +7,7 @@ import { hasJumps } from '../core/jumps.js';
 import { DAY_MS } from '../core/units.js';
 import { describePosition } from './describe.js';
 import { exitsLine } from './exits.js';
-import { level, money, num, pct, qty as fmtQty, rate, shortDate, table } from './format.js';
+import { jumpWords, level, money, num, pct, qty as fmtQty, rate, shortDate, table } from './format.js';
 
 function daysBetween(a: string, b: string): number {
   return Math.round((Date.parse(b + 'T00:00:00Z') - Date.parse(a + 'T00:00:00Z')) / DAY_MS);
@@ -23,7 +23,7 @@ export function positionWords(c: CheckJson): string {
 /** The view in a few words: "drift 9% vol 26%" (+ jumps). */
 export function viewWords(c: Pick<CheckJson, 'view'>): string {
   const v = c.view;
-  const j = hasJumps(v.jumps) ? `, jumps ${num(v.jumps.intensity, 2)}/yr ${rate(v.jumps.mean)} ±${rate(v.jumps.sd)}` : '';
+  const j = hasJumps(v.jumps) ? `, jumps ${jumpWords(v.jumps)}` : '';
   return `drift ${rate(v.drift)}${v.driftSe ? ` ± ${rate(v.driftSe)}` : ''}, vol ${rate(v.vol)}${j}`;
 }
 

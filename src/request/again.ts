@@ -11,7 +11,8 @@
  * the changes; the layout keeps a position-wide `iv` from being read as the last leg's own.
  */
 
-import { EXAMPLES } from './examples.js';
+import { exampleOf } from './examples.js';
+import { verbNamed, verbs } from '../verbs/registry.js';
 import { mergeCheck, parse, parseCheckPart, type CheckPart } from './parse.js';
 import type { AgainRequest, CheckRequest, ParseError, Request } from './types.js';
 import type { Tok } from './lex.js';
@@ -80,7 +81,7 @@ function lastIsShares(part: CheckPart, overLegs: boolean, over: CheckPart): bool
   return legs.length > 0 && legs[legs.length - 1].kind === 'shares';
 }
 
-function fail(message: string, at: number, length = 1, example: string = EXAMPLES.again): AgainResult {
+function fail(message: string, at: number, length = 1, example: string = exampleOf('again')): AgainResult {
   return { ok: false, error: { message, at, length, example } };
 }
 
@@ -111,26 +112,29 @@ export function applyAgain(stored: string, again: AgainRequest, againText?: stri
     if (!again.rest.trim()) return { ok: true, text: stored.trim() };
     const req: Request = logged.request;
     const verb = req.verb;
-    if (verb !== 'check' && verb !== 'compare' && verb !== 'iv' && verb !== 'touch') {
-      return fail(`again reruns checks, comparisons, iv and touch requests; entry ${again.number} is a ${verb} request`, 0, 5);
+    // how the verb's request is rewritten (its `rerun` in src/verbs/<verb>.ts); a comparison's changes read as a check's
+    const shape = verbNamed(verb).rerun;
+    if (!shape) {
+      const names = verbs().filter((v) => v.rerun).map((v) => v.name);
+      return fail(`again reruns ${names.slice(0, -1).join(', ')} and ${names[names.length - 1]} requests; entry ${again.number} is a ${verb} request`, 0, 5);
     }
-    const overVerb = verb === 'compare' ? 'check' : verb;
+    const overVerb = shape === 'parts' ? 'check' : verb;
     const over = parseCheckPart(again.rest, overVerb);
     if (!over.ok) {
       const e = over.error;
-      const fixed = e.example !== EXAMPLES[overVerb] ? `again ${again.number} ${e.example}` : EXAMPLES.again;
+      const fixed = e.example !== exampleOf(overVerb) ? `again ${again.number} ${e.example}` : exampleOf('again');
       return { ok: false, error: { ...e, at: e.at + again.restAt, example: fixed } };
     }
     const o = over.part;
 
     let text: string;
     let want: CheckRequest[] | null = null;
-    if (verb === 'check') {
+    if (shape === 'legs' && req.verb === 'check') {
       const r = rewriteCheck(checkBody(stored), o, again.rest, true, true);
       if ('message' in r) return fail(`check ${again.number} in the log no longer reads: ${r.message}`, 0);
       text = r.text;
       want = [mergeCheck(req, o.check)];
-    } else if (verb === 'compare') {
+    } else if (shape === 'parts' && req.verb === 'compare') {
       const parts: string[] = [];
       const intended: CheckRequest[] = [];
       req.parts.forEach((part, k) => {
@@ -153,8 +157,9 @@ export function applyAgain(stored: string, again: AgainRequest, againText?: stri
       text = `compare ${parts.join(' ; ')}`;
       want = intended;
     } else {
-      // iv / touch: keep the head (iv call 105 2027-03-19 / touch 120), then the terms
-      const headLen = verb === 'iv' ? 4 : 2;
+      // keep the head (iv call 105 2027-03-19 / touch 120: `rerun.head` words), then the terms
+      if (typeof shape !== 'object') throw new Error(`a ${verb} request is not rewritten as its rerun shape says`);
+      const headLen = shape.head;
       const toks = stored.trim().split(/\s+/);
       // the head tokens never contain '@', ';' or spaces, so a whitespace split finds them
       const head = toks.slice(0, headLen).join(' ');

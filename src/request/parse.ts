@@ -23,7 +23,7 @@
  * - limits: ./limits.ts.
  */
 
-import { EXAMPLES } from './examples.js';
+import { exampleOf } from './examples.js';
 import { LIMITS } from './limits.js';
 import { NUMBER, tokenize } from './lex.js';
 import type { ParseResult, Request } from './types.js';
@@ -94,7 +94,7 @@ function parseRequest(src: string): Request {
 function parseAt(text: string, depth: number): ParseResult {
   try {
     if (typeof text !== 'string') {
-      return { ok: false, error: { message: 'the request must be text', at: 0, length: 1, example: EXAMPLES.check } };
+      return { ok: false, error: { message: 'the request must be text', at: 0, length: 1, example: exampleOf('check') } };
     }
     const request = parseRequest(text);
     const checked = verbNamed(request.verb).schema.safeParse(request);
@@ -106,7 +106,7 @@ function parseAt(text: string, depth: number): ParseResult {
           message: `Kolmo could not read this request (a value failed the final check: ${issue?.path.join('.') ?? ''} ${issue?.message ?? ''})`,
           at: 0,
           length: Math.max(1, text.length),
-          example: EXAMPLES.check,
+          example: exampleOf('check'),
         },
       };
     }
@@ -118,7 +118,7 @@ function parseAt(text: string, depth: number): ParseResult {
         error: toParseError(text, e, depth === 0 ? (c) => parseAt(c, depth + 1).ok : () => false),
       };
     }
-    return internalFailure('read', e, EXAMPLES.check);
+    return internalFailure('read', e, exampleOf('check'));
   }
 }
 

@@ -33,6 +33,27 @@ export interface QueuedRequest {
   now: string;
   /** files shared with the message (a `history` mention): where to download them, in whichever instance answers */
   files?: { name: string; url: string; size?: number }[];
+  /** an interactive request (a button, the check form, my desk): how it is answered beyond its channel, user and thread */
+  interaction?: Interaction;
+}
+
+/**
+ * What an interactive request needs besides its text, kept with it in the queue (store v6) so that
+ * whichever instance claims it answers it as the listener meant.
+ */
+export interface Interaction {
+  /** what asked: a button or my desk (`action`), the check form or its channel picker (`form`), a direct message (`dm`) */
+  source: 'command' | 'mention' | 'action' | 'form' | 'dm';
+  /** the log the check is numbered in when it is not the conversation's own (a private log, `im:<user>`) */
+  log?: string;
+  /** answered as plain messages, no root line, no thread (the person's messages with the app) */
+  flat?: boolean;
+  /** where notices for the asker go instead of an ephemeral in the channel (their messages with the app) */
+  tellIn?: string;
+  /** the check (same log) this one is a variation or an edit of */
+  variedFrom?: number;
+  /** the line put before the answer: what the button or the form did, and the request typed out */
+  preface?: string;
 }
 
 /** What of an answer has reached the channel, so an instance taking the request over posts only the rest. */

@@ -176,6 +176,7 @@ export const MIGRATIONS: readonly Migration[] = [
     );
     `,
   ),
+  step(6, 'interactive requests on the shared queue: how each is answered (its log, flat, notices, variation, preface)', 'ALTER TABLE requests ADD COLUMN interaction TEXT;'),
 ];
 
 /** The schema version this code reads and writes. */

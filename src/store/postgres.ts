@@ -152,7 +152,7 @@ export async function openPostgres(url: string, opts: DatabaseOptions = {}): Pro
 
 /** the database's clock in ms since the epoch (one value per statement): leases and buckets use one clock for every host */
 const NOW_MS = '(extract(epoch from now()) * 1000)::bigint';
-const REQUEST_COLUMNS = 'seq, key, source, channel, "user", thread_ts, response_url, text, now, received_ms, attempts, progress, files';
+const REQUEST_COLUMNS = 'seq, key, source, channel, "user", thread_ts, response_url, text, now, received_ms, attempts, progress, files, interaction';
 
 const CHECK_COLUMNS = 'channel, number, "user", at, verb, text, normalized, summary, thread_ts, permalink, delivered, varied_from, deleted_at, posted';
 const MARK_COLUMNS = 'channel, symbol, spot, iv, yield, rate, vol, drift, drift_se, "user", at';
@@ -316,10 +316,10 @@ class PgStore implements AsyncStore {
     const row = requestRowOf(r);
     const res = await this.q(
       'write',
-      `INSERT INTO requests (key, source, channel, "user", thread_ts, response_url, text, now, files, received_ms, state, finished_ms)
-       VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $10, ${NOW_MS}, $9, CASE WHEN $9 = 'done' THEN ${NOW_MS} END)
+      `INSERT INTO requests (key, source, channel, "user", thread_ts, response_url, text, now, files, interaction, received_ms, state, finished_ms)
+       VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $10, $11, ${NOW_MS}, $9, CASE WHEN $9 = 'done' THEN ${NOW_MS} END)
        ON CONFLICT (key) DO NOTHING`,
-      [row.key, row.source, row.channel, row.user, row.thread_ts, row.response_url, row.text, row.now, done ? 'done' : 'queued', row.files],
+      [row.key, row.source, row.channel, row.user, row.thread_ts, row.response_url, row.text, row.now, done ? 'done' : 'queued', row.files, row.interaction],
       on,
     );
     return res.rowCount === 1;

@@ -5,7 +5,7 @@
  */
 import { StoreError } from './errors.js';
 import type { CheckSummary, DeliveryState, LogEntry, LogEntryInput, Mark, Posted, StoredClose, UserDefaults } from './store.js';
-import type { Admission, ClaimedRequest, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
+import type { Admission, ClaimedRequest, Interaction, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
 
 /**
  * Size limits. Identifiers are refused when too long (cutting a channel id could merge two
@@ -381,6 +381,7 @@ export interface RequestRow {
   attempts: number;
   progress: string;
   files: string | null;
+  interaction: string | null;
 }
 
 /** A request ready to be queued (identifiers checked, the text kept whole up to the request limit). */
@@ -399,7 +400,37 @@ export function requestRowOf(r: QueuedRequest) {
     text: cutBytes(r.text.replaceAll('\u0000', '\uFFFD'), 64 * 1024),
     now: isoTime(r.now),
     files: filesJson(r.files),
+    interaction: interactionJson(r.interaction),
   };
+}
+
+const INTERACTION_SOURCES: ReadonlySet<string> = new Set(['command', 'mention', 'action', 'form', 'dm']);
+
+/** An interactive request's answering terms as JSON (checked like every other field), or null. */
+function interactionJson(i: Interaction | undefined): string | null {
+  if (i === undefined) return null;
+  if (typeof i !== 'object' || i === null || !INTERACTION_SOURCES.has(i.source)) throw invalid('an interaction names its source: command, mention, action, form or dm');
+  if (i.variedFrom !== undefined && !(Number.isInteger(i.variedFrom) && i.variedFrom >= 1)) throw invalid('variedFrom must be a check number (an integer ≥ 1)');
+  const clean: Interaction = {
+    source: i.source,
+    ...(i.log !== undefined ? { log: id(i.log, 'log') } : {}),
+    ...(i.flat ? { flat: true } : {}),
+    ...(i.tellIn !== undefined ? { tellIn: id(i.tellIn, 'conversation for notices') } : {}),
+    ...(i.variedFrom !== undefined ? { variedFrom: i.variedFrom } : {}),
+    // the preface quotes the request: kept whole up to the request's own bound
+    ...(i.preface ? { preface: cutBytes(i.preface.replaceAll('\u0000', '\uFFFD'), 66 * 1024) } : {}),
+  };
+  return JSON.stringify(clean);
+}
+
+function interactionOf(json: string | null): { interaction?: Interaction } {
+  if (!json) return {};
+  try {
+    const i = JSON.parse(json) as Interaction;
+    return i && typeof i === 'object' && INTERACTION_SOURCES.has(i.source) ? { interaction: i } : {};
+  } catch {
+    return {};
+  }
 }
 
 /** The shared files' references as JSON (at most 5, each a name and an http(s) URL), or null. */
@@ -438,6 +469,7 @@ export function toClaimed(r: RequestRow): ClaimedRequest {
     receivedMs: Number(r.received_ms),
     progress: progressOf(r.progress),
     ...(r.files ? { files: JSON.parse(r.files) as NonNullable<QueuedRequest['files']> } : {}),
+    ...interactionOf(r.interaction),
   };
 }
 

@@ -296,8 +296,8 @@ export class SqliteStore implements Store {
   accept(r: QueuedRequest, done = false): boolean {
     const row = requestRowOf(r);
     const t = Date.now();
-    const st = this.q('write', `INSERT INTO requests (key, source, channel, user, thread_ts, response_url, text, now, files, received_ms, state, finished_ms)
-      VALUES (@key, @source, @channel, @user, @thread_ts, @response_url, @text, @now, @files, @t, @state, @finished) ON CONFLICT (key) DO NOTHING`);
+    const st = this.q('write', `INSERT INTO requests (key, source, channel, user, thread_ts, response_url, text, now, files, interaction, received_ms, state, finished_ms)
+      VALUES (@key, @source, @channel, @user, @thread_ts, @response_url, @text, @now, @files, @interaction, @t, @state, @finished) ON CONFLICT (key) DO NOTHING`);
     return this.guard('write', () => st.run({ ...row, t, state: done ? 'done' : 'queued', finished: done ? t : null }).changes === 1);
   }
 
@@ -319,7 +319,7 @@ export class SqliteStore implements Store {
         AND NOT EXISTS (SELECT 1 FROM requests e WHERE e.channel = h.channel AND e.state <> 'done' AND e.seq < h.seq)
       ORDER BY h.seq LIMIT 1`);
     const take = this.q('write', `UPDATE requests SET state = 'running', owner = @owner, lease_ms = @until, attempts = attempts + 1
-      WHERE key = @key RETURNING seq, key, source, channel, user, thread_ts, response_url, text, now, received_ms, attempts, progress, files`);
+      WHERE key = @key RETURNING seq, key, source, channel, user, thread_ts, response_url, text, now, received_ms, attempts, progress, files, interaction`);
     const tx = this.db.transaction(() => {
       const t = Date.now();
       const key = pick.pluck().get({ t, takeover: opts.takeover === false ? 0 : 1 }) as string | undefined;

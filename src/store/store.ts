@@ -154,6 +154,7 @@ export {
   type DatabaseChoice,
   type DatabaseOptions,
   type QueuedRequest,
+  type Interaction,
   type ClaimedRequest,
   type Progress,
   type RequestQueue,

@@ -12,7 +12,7 @@ import { rejectAt } from '../request/grammar/errors.js';
 import { readWholeNumber } from '../request/grammar/values.js';
 import { ALL_TERMS } from '../request/grammar/words.js';
 import { applyAgain } from '../request/again.js';
-import { EXAMPLES } from '../request/examples.js';
+import { exampleOf } from '../request/examples.js';
 import { parse } from '../request/parse.js';
 import type { AgainRequest, Request } from '../request/types.js';
 import { level, num, rate } from '../report/format.js';
@@ -37,7 +37,7 @@ function isIsoDay(v: unknown): v is string {
 /** The asofs a logged request wrote (one per part of a comparison). */
 function asofsOf(r: Request, env: VerbEnv): (string | undefined)[] {
   if (r.verb === 'compare') return (r.checks ?? []).map((c) => c.terms.asof);
-  return env.verb(r.verb).rerunnable && 'terms' in r ? [(r.terms as { asof?: string }).asof] : [];
+  return env.verb(r.verb).rerun !== undefined && 'terms' in r ? [(r.terms as { asof?: string }).asof] : [];
 }
 
 /**
@@ -131,8 +131,8 @@ async function rerunOf(text: string, req: AgainRequest, env: VerbEnv) {
   const re = applyAgain(pinned.text, req, text);
   if (!re.ok) throw refuse(text, re.error);
   const p = parse(re.text);
-  if (!p.ok || !env.verb(p.request.verb).rerunnable) {
-    throw refuseFact(text, { message: `check #${n} could not be rerun from the log; write the request out in full`, at, length: String(n).length, example: EXAMPLES.check });
+  if (!p.ok || env.verb(p.request.verb).rerun === undefined) {
+    throw refuseFact(text, { message: `check #${n} could not be rerun from the log; write the request out in full`, at, length: String(n).length, example: exampleOf('check') });
   }
   return { entry, pinned, eff: re.text, request: p.request, at };
 }
@@ -211,8 +211,22 @@ export const again: Verb<AgainRequest> = {
   words: ['again'],
   grammar: parseAgain,
   readsSemicolons: true,
-  rerunnable: false,
+  example: 'again 1 spot 102',
+  help: {
+    title: 'again — rerun a logged check, optionally with changes',
+    lines: [
+      'again N [TERMS or LEGS]   (terms override; legs replace the logged legs)',
+      'By default #N reruns exactly as logged: its day and the mark it used. again N now reruns',
+      'it as of today on the channel\'s mark as it is now; asof today moves only the day.',
+    ],
+    examples: ['again 1', 'again 2 spot 102 drift 5%', 'again 1 now'],
+  },
   run: runAgain,
+  // the entry it names is in this channel's log
+  answersHere: async (req, here) => {
+    const e = await here.store?.get(here.channel, req.number);
+    return !!e && !e.deletedAt;
+  },
   // the cost of the check it reruns: its logged text with the changes applied
   cost: (req, text, ctx) => {
     const stored = ctx.logged?.(req.number);

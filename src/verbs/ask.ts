@@ -139,10 +139,11 @@ export async function ask(typed: string, ctx: AskContext): Promise<Reply> {
   }
   let env: VerbEnv | undefined;
   // every Example: of a rejection is a request this channel would answer (./working-example.ts);
-  // a check, comparison, iv or touch example is run for real (within the budget, nothing logged),
-  // because some of their refusals (targets and stops) come only once the position is valued
+  // an example of a verb that resolves a position (check, comparison, iv, touch: its `resolves`)
+  // is run for real (within the budget, nothing logged), because some of their refusals (targets
+  // and stops) come only once the position is valued
   const runs = async (ex: string, req: AnyRequest): Promise<boolean> => {
-    if (!env || !['check', 'compare', 'iv', 'touch'].includes(req.verb)) return true;
+    if (!env || !verbNamed(req.verb).resolves) return true;
     if (budgetRejection(ex, costOf(req, ex, await costContext(ctx, env.now, req)), ctx.budget ?? COMPUTE_BUDGET_DEFAULT)) return false;
     try {
       const e: VerbEnv = { ...env, used: new Map() };
@@ -153,7 +154,7 @@ export async function ask(typed: string, ctx: AskContext): Promise<Reply> {
       return false;
     }
   };
-  const rejected = async (r: Rejection): Promise<Rejection> => counted(ctx, env ? await workingExample(r, ctx, env.today, env.nowIso, runs) : r);
+  const rejected = async (r: Rejection): Promise<Rejection> => counted(ctx, env ? await workingExample(r, ctx, env, runs) : r);
   try {
     env = { ...envOf(ctx, { verb: verbNamed, verbs }), verbose, used: new Map() };
     const p = parse(text);
@@ -184,6 +185,7 @@ export {
   type LogEntry,
   type LogEntryInput,
   type QueuedRequest,
+  type Interaction,
   type ClaimedRequest,
   type Progress,
   type RequestQueue,
@@ -191,7 +193,7 @@ export {
   type RateDecision,
   type Admission,
 } from '../store/store.js';
-export { verbOfText } from './registry.js';
+export { isRerunnable, verbOfText } from './registry.js';
 
 // What the shells may read of the grammar: they build request text (the check form, the buttons'
 // variations, personal defaults) and check it against the parser before it comes back here.

@@ -11,7 +11,7 @@ import { Reject, after, insertAfter, insertBefore, rejectAt } from '../request/g
 import { LIMITS } from '../request/limits.js';
 import type { CheckRequest } from '../request/types.js';
 import { resolveCheck } from '../request/resolve.js';
-import { EXAMPLES } from '../request/examples.js';
+import { exampleOf } from '../request/examples.js';
 import type { CompareRequest } from '../request/types.js';
 import type { CheckAssembly } from '../result.js';
 import { compareChartInput, compareHeadline, compareText, type ComparePart } from '../report/compare.js';
@@ -26,7 +26,7 @@ import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js
 function runCompare(text: string, req: CompareRequest, env: VerbEnv): Outcome {
   const checks = req.checks ?? [];
   if (checks.length !== req.parts.length) {
-    throw refuse(text, { message: 'Kolmo could not read the parts of this comparison', at: 0, length: 7, example: EXAMPLES.compare });
+    throw refuse(text, { message: 'Kolmo could not read the parts of this comparison', at: 0, length: 7, example: exampleOf('compare') });
   }
   const parts: ComparePart[] = [];
   const asms: CheckAssembly[] = [];
@@ -73,7 +73,7 @@ export function parseCompare(src: string, toks: Tok[]): CompareRequest {
         const msg = groups.length === 0 && i === 1 && toks.length === 1
           ? 'compare needs checks separated by ;'
           : 'an empty part: each part between ; needs a leg or a term (e.g. drift 0%)';
-        if (toks.length === 1) throw new Reject(msg, after(head), 1, insertAfter(head, EXAMPLES.compare.slice(8)), 'compare');
+        if (toks.length === 1) throw new Reject(msg, after(head), 1, insertAfter(head, exampleOf('compare').slice(8)), 'compare');
         throw rejectAt(semi, msg, undefined, 'compare');
       }
       groups.push([start, i]);
@@ -129,7 +129,31 @@ export const compare: Verb<CompareRequest> = {
   words: ['compare'],
   grammar: parseCompare,
   readsSemicolons: true,
-  rerunnable: true,
+  rerun: 'parts',
+  example: 'compare +1 call 90 3m iv 30% spot 84.20 ; drift 0% ; drift 12%',
+  help: {
+    title: 'compare — several checks side by side',
+    lines: [
+      'compare CHECK ; PART ; PART …   (2 to 6 checks)',
+      'Each part inherits from the one before: terms written in a part override,',
+      'legs written in a part replace the legs. A leg\'s own iv is kept unless the leg is restated.',
+    ],
+    examples: [
+      'compare +1 call 90 3m iv 30% on FERNWK ; drift 0% ; drift 12%',
+      'compare +1 put 45 6w iv 35% spot 47.10 drift 5% ; +1 put 42 6w iv 38% ; vol 45%',
+    ],
+  },
+  resolves: (req, ctx) => (req.checks ?? []).every((c) => resolveCheck(c, ctx).ok),
+  // each part on its own mark
+  answersHere: async (req, here) => {
+    const checks = req.checks ?? [];
+    if (checks.length < 2 || checks.length > LIMITS.compareParts) return false;
+    for (const k of checks) {
+      const c = await here.context(k.terms.on);
+      if (!c || !resolveCheck(k, c).ok) return false;
+    }
+    return true;
+  },
   run: runCompare,
   cost: (req, _text, ctx) => ({ units: (req.checks ?? []).reduce((s, c) => s + checkCost(c, ctx.now), 0), at: 0, what: 'comparison' }),
 };

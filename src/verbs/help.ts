@@ -2,18 +2,17 @@
 import { helpSchema } from '../request/schema.js';
 import type { Tok } from '../request/lex.js';
 import type { HelpRequest } from '../request/types.js';
-import { HELP_TOPICS } from '../request/help.js';
 import { Cursor } from '../request/grammar/cursor.js';
 import { replaceTok } from '../request/grammar/errors.js';
 import { closest } from '../request/grammar/words.js';
-import { helpText } from '../request/help.js';
+import { helpText, helpTopics } from '../request/help.js';
 import { answer, type Verb } from './verb.js';
 
 export function parseHelp(src: string, toks: Tok[]): HelpRequest {
   const c = new Cursor(src, toks, 1, toks.length, 'help');
   const t = c.peek();
   if (!t) return { verb: 'help' };
-  const topics = HELP_TOPICS as readonly string[];
+  const topics = helpTopics();
   if (!topics.includes(t.low)) {
     const guess = closest(t.low, topics);
     throw c.reject(
@@ -33,7 +32,7 @@ export const help: Verb<HelpRequest> = {
   schema: helpSchema,
   words: ['help', '?'],
   grammar: parseHelp,
-  rerunnable: false,
+  example: 'help check',
   run: (_text, req) => ({
     // help pages carry no caution: they state no figures
     answer: answer({ verb: 'help', headline: '', text: helpText(req.topic), json: { kind: 'help', topic: req.topic ?? null }, ephemeral: true, caution: '' }),

@@ -12,7 +12,6 @@
  */
 import { appendCloses, checkCloses, estimateHistory, HISTORY_LIMITS, type Close } from '../core/history.js';
 import { fileText, readClosesText } from '../request/closes.js';
-import { EXAMPLES } from '../request/examples.js';
 import { LIMITS } from '../request/limits.js';
 import type { HistoryRequest } from '../request/history.js';
 import { historyChartInput, type HistoryChartInput } from '../report/history-chart.js';
@@ -23,6 +22,11 @@ import { Reject } from '../request/parse.js';
 import type { LogStore, Mark } from '../store/store.js';
 import { answer, refuse, refuseFact, type Outcome, type Verb, type VerbEnv } from './verb.js';
 import { historySchema } from '../request/schema.js';
+
+/** The canonical example: a dated FERNWK fortnight (invented closes). */
+const HISTORY_EXAMPLE =
+  'history FERNWK 2026-01-05:84.10 2026-01-06:84.95 2026-01-07:85.40 2026-01-08:84.70 2026-01-09:85.90 2026-01-12:86.25 ' +
+  '2026-01-13:85.80 2026-01-14:86.90 2026-01-15:87.35 2026-01-16:86.60 2026-01-19:87.80 2026-01-20:88.15';
 
 /** A file shared with the request: its name and its bytes (base64, so it crosses process boundaries). */
 export interface SharedFile {
@@ -119,7 +123,7 @@ export async function runHistory(text: string, req: HistoryRequest, env: History
     try {
       stored = await store.getCloses(env.channel, sym);
     } catch (err) {
-      if (given.length === 0) return refusal(`the stored history of ${sym} could not be read: ${why(err)}`, symAt, sym.length, EXAMPLES.history, true);
+      if (given.length === 0) return refusal(`the stored history of ${sym} could not be read: ${why(err)}`, symAt, sym.length, HISTORY_EXAMPLE, true);
       warnings.push(`the stored history of ${sym} could not be read (${why(err)}): estimated from the closes given alone`);
     }
   }
@@ -130,7 +134,7 @@ export async function runHistory(text: string, req: HistoryRequest, env: History
         : `no closes given (and this session keeps no stored history): write the closes, oldest first`,
       symAt,
       sym.length,
-      EXAMPLES.history,
+      HISTORY_EXAMPLE,
       true,
     );
   }
@@ -139,7 +143,7 @@ export async function runHistory(text: string, req: HistoryRequest, env: History
     const p = checkCloses(given);
     if (p && !(p.code === 'few' && stored.length > 0)) {
       const loc = place(p.code === 'few' ? Math.max(0, given.length - 1) : p.index);
-      return refusal(`${p.message}${loc.where}`, loc.at, loc.len, EXAMPLES.history);
+      return refusal(`${p.message}${loc.where}`, loc.at, loc.len, HISTORY_EXAMPLE);
     }
   }
   let closes = given;
@@ -150,7 +154,7 @@ export async function runHistory(text: string, req: HistoryRequest, env: History
         `the stored history of ${sym} ${stored[0].date !== undefined ? 'has dates and these closes have none' : 'has no dates and these closes have them'}: write them the same way`,
         place(0).at,
         place(0).len,
-        EXAMPLES.history,
+        HISTORY_EXAMPLE,
       );
     }
     closes = joined;
@@ -279,7 +283,24 @@ export const history: Verb<HistoryRequest> = {
   schema: historySchema,
   words: ['history'],
   grammar,
-  rerunnable: false,
+  example: HISTORY_EXAMPLE,
+  help: {
+    title: 'history — vol and drift, with their standard errors, from past closes',
+    lines: [
+      'history SYMBOL [CLOSE …] [yield PCT] [save]',
+      'CLOSE: a price (84.10: closes without dates are consecutive trading days, 252 a year) or',
+      '       DATE:PRICE (2026-01-05:84.10), oldest first; at least 10 closes, at most 20 years.',
+      'Or share a CSV/TSV file of date, close with the request (`kolmo "history SYM" --file F.csv`',
+      'on the command line). The closes are kept for the channel: `history SYMBOL` alone re-reads',
+      'them, and new closes append. vol = s.d. of log returns scaled to a year of calendar days/365',
+      '(the 252-trading-day figure beside it as a check), ± vol/√(2·returns); drift = price drift +',
+      'vol²/2 (+ yield) ± vol/√(years). save stores vol and drift ± s.e. into the mark SYMBOL.',
+    ],
+    examples: [
+      HISTORY_EXAMPLE,
+      'history QUILLOP 41.05 41.30 40.85 41.60 42.10 41.75 42.40 42.15 42.90 43.35 43.05 43.60 yield 2% save',
+    ],
+  },
   run: runHistoryVerb,
   // a few microseconds a close and the chart: small (bench: 0.1 ms for 20 years of closes)
 };

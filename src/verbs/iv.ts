@@ -135,7 +135,24 @@ export const iv: Verb<IvRequest> = {
   body: { terms: ['price', 'spot', 'rate', 'yield', 'asof', 'on', 'style', 'jumps'], legs: false },
   words: ['iv'],
   grammar: parseIv,
-  rerunnable: true,
+  rerun: { head: 4 },
+  example: 'iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5% yield 1%',
+  help: {
+    title: 'iv — the implied vol of one option price',
+    lines: [
+      'iv call|put STRIKE EXPIRY price P [spot P] [rate PCT] [yield PCT] [asof DATE] [on SYMBOL] [style …]',
+      'The price must lie strictly between the option\'s value at zero vol and its largest possible value.',
+    ],
+    examples: [
+      'iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5% yield 1%',
+      'iv put 22 6w price 0.85 on BRISAND',
+    ],
+  },
+  resolves: (req, ctx) => resolveIv(req, ctx).ok,
+  answersHere: async (req, here) => {
+    const c = await here.context(req.terms.on);
+    return c !== null && resolveIv(req, c).ok;
+  },
   run: runIv,
   figureChanges: (before: CheckSummary, after: CheckSummary) => joinFigures([figurePair('iv', before.iv, after.iv, (x) => pct(x, 2), pts)]),
   logWords: (s) => (isNum(s.iv) ? ` → iv ${pct(s.iv, 2)}` : ''),

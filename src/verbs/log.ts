@@ -46,4 +46,18 @@ export function parseLog(src: string, toks: Tok[]): LogRequest {
   return { verb: 'log', count };
 }
 
-export const log: Verb<LogRequest> = { name: 'log', schema: logSchema, words: ['log'], grammar: parseLog, rerunnable: false, run: runLog };
+export const log: Verb<LogRequest> = {
+  name: 'log',
+  schema: logSchema,
+  words: ['log'],
+  grammar: parseLog,
+  run: runLog,
+  // it needs the channel's store
+  answersHere: async (_req, here) => !!here.store,
+  example: 'log 20',
+  help: {
+    title: 'log — the channel\'s past checks',
+    lines: ['log [N]   (the last N checks, default 10, at most 100)'],
+    examples: ['log', 'log 25'],
+  },
+};

@@ -122,4 +122,24 @@ export function parseMark(src: string, toks: Tok[]): MarkRequest {
   return { verb: 'mark', symbol, terms };
 }
 
-export const mark: Verb<MarkRequest> = { name: 'mark', schema: markSchema, body: { terms: ['spot', 'iv', 'yield', 'rate', 'vol', 'drift'], legs: false }, words: ['mark'], grammar: parseMark, rerunnable: false, run: runMark };
+export const mark: Verb<MarkRequest> = {
+  name: 'mark',
+  schema: markSchema,
+  body: { terms: ['spot', 'iv', 'yield', 'rate', 'vol', 'drift'], legs: false },
+  words: ['mark'],
+  grammar: parseMark,
+  run: runMark,
+  // it needs the channel's store
+  answersHere: async (_req, here) => !!here.store,
+  example: 'mark FERNWK spot 84.20 iv 31% yield 1.2%',
+  help: {
+    title: 'mark — store the market for a symbol in this channel',
+    lines: [
+      'mark SYMBOL [spot P] [iv PCT] [yield PCT] [rate PCT] [vol PCT] [drift PCT [± PCT]]   ·   mark   (lists the channel\'s marks)',
+      'Later requests say on SYMBOL; terms written in the request override the mark. A mark\'s vol and',
+      'drift (± its uncertainty) are the view where a request writes none (history … save sets them).',
+      'A mark older than a day is flagged as stale in the answer.',
+    ],
+    examples: ['mark FERNWK spot 84.20 iv 31% yield 1.2%', 'mark QUORVEL spot 145.10', 'mark'],
+  },
+};

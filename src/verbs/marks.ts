@@ -2,7 +2,7 @@
  * The channel's marks as the verbs use them: the mark for `on SYMBOL`, and the line and JSON every
  * answer that used one carries (who recorded it, when, its age, stale or not).
  */
-import { EXAMPLES } from '../request/examples.js';
+import { exampleOf } from '../request/examples.js';
 import type { MarkTerms } from '../request/resolve.js';
 import { ageWords, isStale, whenUtc } from '../report/log.js';
 import { level, rate } from '../report/format.js';
@@ -28,7 +28,7 @@ export function markFor(text: string, env: VerbEnv, symbol: string | undefined, 
       message: `no mark for ${sym}: this session has no log to keep marks in; write the market terms instead (spot, iv, rate, yield)`,
       at: where,
       length: symbol.length + 3,
-      example: EXAMPLES.check,
+      example: exampleOf('check'),
     });
   }
   const marks = env.marks;

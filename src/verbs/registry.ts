@@ -1,7 +1,9 @@
 /**
  * The verbs, in one list: everything that lists or dispatches verbs reads it (the parser's
- * dispatch and its "unknown verb" message, the reply's `verb`, the seam, the budget, `again`'s
- * set of rerunnable verbs, the chat app's log lines). Adding a verb: DEVELOPERS.md, "Adding a verb".
+ * dispatch and its "unknown verb" message, the reply's `verb`, the seam, the budget, the help
+ * topics and pages, the canonical examples, `again`'s rerunnable verbs and how it rewrites them,
+ * the resolver's check of a corrected example, the chat app's log lines). Adding a verb:
+ * DEVELOPERS.md, "Adding a verb".
  *
  * The list is read through functions, never at module load: the grammar (src/request/parse.ts)
  * reads it for its dispatch while the verb files import the grammar, and an import cycle is only
@@ -48,6 +50,11 @@ export function verbOfWord(word: string): Verb | undefined {
 /** The verbs' names, in the registry's order. */
 export function verbNames(): VerbName[] {
   return verbs().map((v) => v.name);
+}
+
+/** Whether `again N` can rerun a logged entry of this verb (its `rerun`; false for a name no verb has). */
+export function isRerunnable(name: string): boolean {
+  return (verbs() as readonly Verb[]).some((v) => v.name === name && v.rerun !== undefined);
 }
 
 /** The verb a request text starts with, for a log line: its name, `check` for a leg, else `unknown`. */

@@ -13,7 +13,7 @@ import { activeJumps } from '../core/jumps.js';
 import { TOUCH_MC_SEED, touchFigures } from '../core/models.js';
 import { resolveTouch } from '../request/resolve.js';
 import type { TouchRequest } from '../request/types.js';
-import { level, num, pct, pts, rate, isNum, table } from '../report/format.js';
+import { jumpWords, level, pct, pts, rate, isNum, table } from '../report/format.js';
 import { wrapParts } from '../report/text.js';
 import type { CheckSummary } from '../store/store.js';
 import { figurePair, joinFigures } from './check.js';
@@ -61,7 +61,7 @@ function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
     '',
     wrapParts('Assumptions:', [
       `asof ${t.asof}`,
-      `view drift ${rate(t.view.drift)}${t.view.driftSe ? ` ± ${rate(t.view.driftSe)} (view figures averaged over the uncertain drift)` : ''}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${num(jumps.intensity, 2)}/yr ${rate(jumps.mean)} ±${rate(jumps.sd)}` : ''}`,
+      `view drift ${rate(t.view.drift)}${t.view.driftSe ? ` ± ${rate(t.view.driftSe)} (view figures averaged over the uncertain drift)` : ''}, vol ${rate(t.view.vol)}${jumps ? `, jumps ${jumpWords(jumps)}` : ''}`,
       `rate ${rate(t.rate)}`,
       `yield ${rate(t.q)}`,
       `${jumps ? 'Merton jump diffusion' : 'lognormal walk'}, continuous monitoring`,
@@ -116,7 +116,21 @@ export const touch: Verb<TouchRequest> = {
   body: { terms: ['by', 'spot', 'rate', 'yield', 'drift', 'vol', 'iv', 'asof', 'on', 'jumps'], legs: false },
   words: ['touch'],
   grammar: parseTouch,
-  rerunnable: true,
+  rerun: { head: 2 },
+  example: 'touch 120 by 2027-03-19 spot 100 drift 8% vol 25%',
+  help: {
+    title: 'touch — the chance that the stock touches a level by a date',
+    lines: [
+      'touch LEVEL by DATE|SPAN [spot P] [drift PCT [± PCT]] [vol PCT | iv PCT] [rate PCT] [yield PCT] [jumps …] [asof DATE] [on SYMBOL]',
+      'Both your view (drift and vol) and the market (drift = rate, vol = iv, else your vol) are shown.',
+    ],
+    examples: ['touch 120 by 2027-03-19 spot 100 drift 8% vol 25%', 'touch 70 by 2m on FERNWK vol 34%'],
+  },
+  resolves: (req, ctx) => resolveTouch(req, ctx).ok,
+  answersHere: async (req, here) => {
+    const c = await here.context(req.terms.on);
+    return c !== null && resolveTouch(req, c).ok;
+  },
   run: runTouch,
   figureChanges: (before: CheckSummary, after: CheckSummary) =>
     joinFigures([figurePair('chance of touching', before.probTouch, after.probTouch, (x) => pct(x), pts)]),

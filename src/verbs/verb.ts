@@ -10,6 +10,8 @@ import type { z } from 'zod';
 import type { ParseError } from '../request/types.js';
 import type { Tok } from '../request/lex.js';
 import type { AnyTerm } from '../request/grammar/words.js';
+import type { HelpPage } from '../request/help.js';
+import type { ResolveContext } from '../request/resolve/context.js';
 import { CAUTION, type Answer, type Rejection } from '../reply.js';
 import { StoreError, type CheckSummary, type LogStore, type Mark } from '../store/store.js';
 
@@ -27,6 +29,14 @@ export interface AskContext {
   budget?: number;
   /** files shared with the request (a workspace upload, or `--file` on the command line): read by `history` */
   files?: { name: string; base64: string }[];
+}
+
+/** What `answersHere` may look at: the channel, its store, and a resolve context per `on SYMBOL`. */
+export interface Here {
+  channel: string;
+  store?: LogStore | null;
+  /** the context a request resolves in, with the channel's mark for `on` (null: there is no such mark) */
+  context(on: string | undefined): Promise<ResolveContext | null>;
 }
 
 /** A verb's work as the seam hands it over: the request's time and day, once, and the store. */
@@ -91,8 +101,29 @@ export interface Verb<R extends AnyRequest = AnyRequest> {
   body?: { terms: readonly AnyTerm[]; legs: boolean };
   /** reads `;` itself (every other verb refuses it as a misplaced comparison) */
   readsSemicolons?: boolean;
-  /** `again N` can rerun it (and the log keeps it under this verb) */
-  rerunnable: boolean;
+  /**
+   * how `again N` rewrites a logged request of this verb with changes (absent: `again` cannot
+   * rerun it, and the log never keeps it): 'legs' — its legs and terms (a check); 'parts' — each
+   * part of a comparison; `{ head }` — its first `head` words kept, then its terms (iv, touch)
+   */
+  rerun?: 'legs' | 'parts' | { head: number };
+  /** its canonical example (invented symbols, market terms written out): rejections fall back to it */
+  example: string;
+  /** its page of `help NAME` (the verb's name is the topic); `help` itself has none */
+  help?: HelpPage;
+  /**
+   * whether a request of this verb resolves in this context: a rejection offers the user's own
+   * request corrected as its example only when it does (absent: never offered, the canonical
+   * example is)
+   */
+  resolves?(req: R, ctx: ResolveContext): boolean;
+  /**
+   * whether a request of this verb would be answered in this channel, short of running it (the
+   * test an "Example:" of a rejection passes before it is offered, ./working-example.ts): the
+   * marks it names exist and it resolves, the log entry it names exists, the store it needs is
+   * there. Absent: it is always answered. (Verbs that resolve a position are then also run.)
+   */
+  answersHere?(req: R, here: Here): Promise<boolean>;
   /** resolve, compute, render; refusals are thrown as `Refused` */
   run(text: string, req: R, env: VerbEnv): Outcome | Promise<Outcome>;
   /** units against the compute budget; absent: its work is small */

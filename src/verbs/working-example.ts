@@ -5,66 +5,41 @@
  * kept when it would be answered; else the verb's canonical example (they write their market terms
  * out), else the canonical check (or, for `again` and `log`, `log 20`, which lists the numbers).
  */
-import { EXAMPLES } from '../request/examples.js';
+import { exampleOf } from '../request/examples.js';
 import { parse } from '../request/parse.js';
-import { resolveCheck, resolveIv, resolveTouch } from '../request/resolve.js';
 import type { Rejection } from '../reply.js';
 import type { Request } from '../request/types.js';
 import { termsOfMark } from './marks.js';
-import type { AskContext } from './verb.js';
-
-/** Most checks in one comparison the seam answers. */
-const COMPARE_MAX = 6;
+import type { AskContext, Here, Verb } from './verb.js';
 
 /** Runs an example for real (nothing logged): true when it is answered. */
 export type Runs = (example: string, req: Request) => Promise<boolean>;
 
-export async function answersHere(example: string, ctx: AskContext, today: string, nowIso: string, runs?: Runs): Promise<boolean> {
+/** The clock of the request and the registry's verb of a name (handed over by the seam). */
+export interface ExampleEnv {
+  today: string;
+  nowIso: string;
+  verb(name: string): Verb;
+}
+
+export async function answersHere(example: string, ctx: AskContext, env: ExampleEnv, runs?: Runs): Promise<boolean> {
   try {
     const p = parse(example);
     if (!p.ok) return false;
     const r = p.request;
     const store = ctx.store;
-    const ctxFor = async (on: string | undefined) => {
-      if (!on) return { today, now: nowIso };
-      const m = await store?.getMark(ctx.channel, on.toUpperCase());
-      return m ? { today, now: nowIso, mark: termsOfMark(m) } : null;
+    const { today, nowIso } = env;
+    const here: Here = {
+      channel: ctx.channel,
+      store,
+      context: async (on) => {
+        if (!on) return { today, now: nowIso };
+        const m = await store?.getMark(ctx.channel, on.toUpperCase());
+        return m ? { today, now: nowIso, mark: termsOfMark(m) } : null;
+      },
     };
-    switch (r.verb) {
-      case 'check': {
-        const c = await ctxFor(r.terms.on);
-        if (!c || !resolveCheck(r, c).ok) return false;
-        break;
-      }
-      case 'compare': {
-        const checks = r.checks ?? [];
-        if (checks.length < 2 || checks.length > COMPARE_MAX) return false;
-        for (const k of checks) {
-          const c = await ctxFor(k.terms.on);
-          if (!c || !resolveCheck(k, c).ok) return false;
-        }
-        break;
-      }
-      case 'iv': {
-        const c = await ctxFor(r.terms.on);
-        if (!c || !resolveIv(r, c).ok) return false;
-        break;
-      }
-      case 'touch': {
-        const c = await ctxFor(r.terms.on);
-        if (!c || !resolveTouch(r, c).ok) return false;
-        break;
-      }
-      case 'again': {
-        const e = await store?.get(ctx.channel, r.number);
-        return !!e && !e.deletedAt;
-      }
-      case 'mark':
-      case 'log':
-        return !!store;
-      default:
-        return true;
-    }
+    const v = env.verb(r.verb);
+    if (v.answersHere && !(await v.answersHere(r, here))) return false;
     // some refusals (targets and stops) come only once the position is valued
     return runs ? await runs(example, r) : true;
   } catch {
@@ -72,19 +47,20 @@ export async function answersHere(example: string, ctx: AskContext, today: strin
   }
 }
 
-export async function workingExample(r: Rejection, ctx: AskContext, today: string, nowIso: string, runs?: Runs): Promise<Rejection> {
+export async function workingExample(r: Rejection, ctx: AskContext, env: ExampleEnv, runs?: Runs): Promise<Rejection> {
   try {
     const lines = r.message.split('\n');
     const last = lines[lines.length - 1];
     if (!last.startsWith('Example: ')) return r;
     const ex = last.slice('Example: '.length);
-    if (await answersHere(ex, ctx, today, nowIso, runs)) return r;
+    if (await answersHere(ex, ctx, env, runs)) return r;
     const verb = parse(ex);
-    const key = verb.ok && verb.request.verb in EXAMPLES ? (verb.request.verb as keyof typeof EXAMPLES) : 'check';
-    const candidates = key === 'again' || key === 'log' ? ['log 20', EXAMPLES.check] : [EXAMPLES[key], EXAMPLES.check];
-    let pick: string = EXAMPLES.check;
+    const key = verb.ok ? verb.request.verb : 'check';
+    // again's own example names a number this log may not have: `log`'s lists the numbers
+    const candidates = [exampleOf(key === 'again' ? 'log' : key), exampleOf('check')];
+    let pick: string = exampleOf('check');
     for (const c of candidates) {
-      if (await answersHere(c, ctx, today, nowIso, runs)) {
+      if (await answersHere(c, ctx, env, runs)) {
         pick = c;
         break;
       }

@@ -24,11 +24,25 @@ interface Edge {
 }
 
 /** Every relative import of a file, as paths under src/ ("verbs/ask.ts"). */
+const IMPORT = /(?:^|\n)\s*(import|export)\s+(type\s+)?([^;]*?)\s*from\s*'([^']+)'|import\(\s*'([^']+)'\s*\)/g;
+
+/** The packages a file imports (node:…, zod, …), with whether the import is of types only. */
+function packages(file: string): { from: string; pkg: string; typeOnly: boolean }[] {
+  const text = readFileSync(file, 'utf8');
+  const re = new RegExp(IMPORT.source, 'g');
+  const out = [];
+  for (let m = re.exec(text); m; m = re.exec(text)) {
+    const spec = m[4] ?? m[5];
+    if (!spec.startsWith('.')) out.push({ from: relative(SRC, file), pkg: spec, typeOnly: Boolean(m[2]) });
+  }
+  return out;
+}
+
 function edges(file: string): Edge[] {
   const text = readFileSync(file, 'utf8');
   const from = relative(SRC, file);
   const out: Edge[] = [];
-  const re = /(?:^|\n)\s*(import|export)\s+(type\s+)?([^;]*?)\s*from\s*'([^']+)'|import\(\s*'([^']+)'\s*\)/g;
+  const re = new RegExp(IMPORT.source, 'g');
   for (let m = re.exec(text); m; m = re.exec(text)) {
     const spec = m[4] ?? m[5];
     if (!spec.startsWith('.')) continue;
@@ -52,16 +66,21 @@ describe('import direction in src/', () => {
 
   it('core imports only core', () => {
     expect(show(ALL.filter((e) => layer(e.from) === 'core' && layer(e.to) !== 'core'))).toEqual([]);
+    // and no package either (no I/O, no platform): pure numerics
+    const core = files(join(SRC, 'core')).flatMap(packages);
+    expect(core.map((p) => `${p.from} → ${p.pkg}`)).toEqual([]);
   });
 
-  it('request imports core and request only, and the verb registry for its dispatch', () => {
+  it('request imports core and request only, and the verb registry where it lists verbs', () => {
     const bad = ALL.filter((e) => layer(e.from) === 'request' && !['core', 'request'].includes(layer(e.to)) && e.to !== 'verbs/registry.ts');
     expect(show(bad)).toEqual([]);
-    // the registry is read by the grammar only (its dispatch, the keywords, each verb's body terms),
-    // and types.ts takes the union of the verbs' requests from it
+    // the registry is read where the request layer lists or picks verbs: the grammar (its dispatch,
+    // the keywords, each verb's body terms), the examples and help pages, again's rewriting, the
+    // resolver's check of a corrected example; types.ts takes the union of the verbs' requests
     const readers = ALL.filter((e) => layer(e.from) === 'request' && e.to === 'verbs/registry.ts');
-    const grammar = (e: Edge) => e.from === 'request/parse.ts' || e.from.startsWith('request/grammar/') || (e.from === 'request/types.ts' && e.typeOnly);
-    expect(show(readers.filter((e) => !grammar(e)))).toEqual([]);
+    const listers = ['request/parse.ts', 'request/examples.ts', 'request/help.ts', 'request/again.ts', 'request/resolve/context.ts'];
+    const allowed = (e: Edge) => listers.includes(e.from) || e.from.startsWith('request/grammar/') || (e.from === 'request/types.ts' && e.typeOnly);
+    expect(show(readers.filter((e) => !allowed(e)))).toEqual([]);
   });
 
   it('report imports no chat, store, verbs or request code', () => {
@@ -79,6 +98,12 @@ describe('import direction in src/', () => {
     );
     expect(show(bad)).toEqual([]);
     expect(show(ALL.filter((e) => layer(e.from) === 'verbs' && (SHELLS(e.to) || layer(e.to) === 'chat')))).toEqual([]);
+  });
+
+  it('a verb file never imports the registry or the seam: what it needs of them arrives in its VerbEnv', () => {
+    const seamSide = ['verbs/registry.ts', 'verbs/ask.ts'];
+    const bad = ALL.filter((e) => layer(e.from) === 'verbs' && !seamSide.includes(e.from) && seamSide.includes(e.to));
+    expect(show(bad)).toEqual([]);
   });
 
   it('shells import only the seam, what renders, the reply, config, logging and their own modules', () => {

@@ -14,8 +14,8 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { afterAll, describe, expect, it } from 'vitest';
 import { answerLocal, DEMO_MARKS } from '../../src/cli.js';
-import { HELP_TOPICS, helpExamples } from '../../src/request/help.js';
-import { EXAMPLES } from '../../src/request/examples.js';
+import { helpExamples, helpTopics } from '../../src/request/help.js';
+import { canonicalExamples } from '../support/examples.js';
 import { asyncOf, openStore } from '../../src/store/store.js';
 import { mulberry32 } from '../support/rng.js';
 
@@ -24,7 +24,7 @@ const bin = join(root, 'bin', 'kolmo.js');
 
 function helpExampleList(): string[] {
   const out: string[] = [];
-  for (const t of HELP_TOPICS) for (const e of helpExamples(t)) if (!out.includes(e)) out.push(e);
+  for (const t of helpTopics()) for (const e of helpExamples(t)) if (!out.includes(e)) out.push(e);
   return out;
 }
 
@@ -102,7 +102,7 @@ describe('every Example: of an error message is itself answered', () => {
     // a few logged checks first, so that `again N` examples have something to rerun
     for (const e of helpExampleList().slice(0, 6)) await answerLocal(e, ctx);
     const rnd = mulberry32(11);
-    const seeds = [...helpExampleList(), ...Object.values(EXAMPLES)];
+    const seeds = [...helpExampleList(), ...canonicalExamples()];
     const bad: string[] = [
       '+1 call 100 2027-03-19 -1 call 110 2027-03-19 iv 25% spot 100',
       '3 c 100 p 95 3m',

@@ -16,8 +16,8 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { afterAll, describe, expect, it } from 'vitest';
 import { answerLocal, replyText, CONSOLE_EXAMPLES, DEMO_MARKS } from '../../src/cli.js';
-import { HELP_TOPICS, helpExamples } from '../../src/request/help.js';
-import { EXAMPLES } from '../../src/request/examples.js';
+import { helpExamples, helpTopics } from '../../src/request/help.js';
+import { canonicalExamples } from '../support/examples.js';
 import type { Reply } from '../../src/reply.js';
 import { openStore, asyncOf } from '../../src/store/store.js';
 
@@ -26,9 +26,9 @@ const NOW = new Date('2027-01-04T15:30:00Z');
 
 /** The requests, in order (later ones read the log and marks the earlier ones wrote). */
 function requests(): string[] {
-  const out: string[] = ['help', ...HELP_TOPICS.map((t) => `help ${t}`)];
-  for (const t of HELP_TOPICS) out.push(...helpExamples(t));
-  out.push(...Object.values(EXAMPLES), ...CONSOLE_EXAMPLES);
+  const out: string[] = ['help', ...helpTopics().map((t) => `help ${t}`)];
+  for (const t of helpTopics()) out.push(...helpExamples(t));
+  out.push(...canonicalExamples(), ...CONSOLE_EXAMPLES);
   out.push(
     'log',
     'log 3',

@@ -9,7 +9,7 @@ import { describe, expect, it } from 'vitest';
 import { formatError, parse } from '../../src/request/parse.js';
 import { resolveCheck, resolveIv, resolveTouch } from '../../src/request/resolve.js';
 import { helpExamples } from '../../src/request/help.js';
-import { EXAMPLES } from '../../src/request/examples.js';
+import { exampleKeys, exampleOf } from '../../src/request/examples.js';
 import type { CheckRequest, ParseResult, Request } from '../../src/request/types.js';
 
 /** Every number anywhere in a value. */
@@ -74,14 +74,14 @@ function resolvedSound(req: Request, text: string): void {
 }
 
 const SEEDS = [
-  EXAMPLES.check,
-  EXAMPLES.shares,
-  EXAMPLES.compare,
-  EXAMPLES.iv,
-  EXAMPLES.touch,
-  EXAMPLES.mark,
-  EXAMPLES.jumps,
-  EXAMPLES.american,
+  exampleOf('check'),
+  exampleOf('shares'),
+  exampleOf('compare'),
+  exampleOf('iv'),
+  exampleOf('touch'),
+  exampleOf('mark'),
+  exampleOf('jumps'),
+  exampleOf('american'),
   'again 17 spot 102 drift 5%',
   'log 20',
   'help jumps',
@@ -301,7 +301,8 @@ describe('requests generated from the grammar round-trip', () => {
 
 describe('examples', () => {
   it('every canonical example parses', () => {
-    for (const [k, text] of Object.entries(EXAMPLES)) {
+    for (const k of exampleKeys()) {
+      const text = exampleOf(k);
       const r = parse(text);
       if (!r.ok) throw new Error(`${k}: ${r.error.message}`);
     }

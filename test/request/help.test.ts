@@ -4,18 +4,30 @@
  * letters) and parse; `help TOPIC` requests are accepted for exactly these topics.
  */
 import { describe, expect, it } from 'vitest';
-import { HELP_TOPICS, helpExamples, helpText } from '../../src/request/help.js';
+import { helpExamples, helpText, helpTopics } from '../../src/request/help.js';
+import { verbs } from '../../src/verbs/registry.js';
 import { parse } from '../../src/request/parse.js';
 
 describe('helpText', () => {
   it('the overview names every verb and every topic', () => {
     const t = helpText();
     for (const v of ['compare', 'iv', 'touch', 'mark', 'log', 'again', 'help']) expect(t).toContain(v);
-    for (const topic of HELP_TOPICS) expect(t).toContain(topic);
+    for (const topic of helpTopics()) expect(t).toContain(topic);
+  });
+
+  it('reads the verbs from the registry: every verb but help has a page, named in the overview\'s verb lines', () => {
+    const lines = helpText().split('\n');
+    const verbLines = lines.slice(lines.indexOf('Verbs:') + 1, lines.indexOf('', lines.indexOf('Verbs:')));
+    for (const v of verbs()) {
+      if (v.name !== 'help') expect(helpTopics(), v.name).toContain(v.name);
+      // check is written as its legs (LEG …) in the overview
+      if (v.name !== 'check') expect(verbLines.some((l) => new RegExp(`(^|\\s)${v.name}\\b`).test(l)), `${v.name} in the overview`).toBe(true);
+      expect(parse(v.example).ok, `${v.name}: ${v.example}`).toBe(true);
+    }
   });
 
   it('each topic has its own section with its examples, each of which parses', () => {
-    for (const topic of HELP_TOPICS) {
+    for (const topic of helpTopics()) {
       const t = helpText(topic);
       expect(t).not.toBe(helpText());
       const ex = helpExamples(topic);
@@ -37,7 +49,7 @@ describe('helpText', () => {
   });
 
   it('symbols in examples are invented (six or more letters)', () => {
-    for (const topic of HELP_TOPICS) {
+    for (const topic of helpTopics()) {
       for (const e of helpExamples(topic)) {
         const syms = [...e.matchAll(/\b(?:on|mark)\s+([A-Za-z][A-Za-z0-9.-]*)/g)].map((m) => m[1]);
         for (const s of syms) expect(s.length).toBeGreaterThanOrEqual(6);

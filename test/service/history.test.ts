@@ -10,7 +10,7 @@
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { estimateHistory } from '../../src/core/history.js';
 import { DEMO_HISTORY } from '../../src/demo/history.js';
-import { EXAMPLES } from '../../src/request/examples.js';
+import { exampleOf } from '../../src/request/examples.js';
 import { answered, ask, desk, rejected, type Desk } from './helpers.js';
 
 const HULL = '20.00 20.10 19.90 20.00 20.50 20.25 20.90 20.90 20.90 20.75 20.75 21.00 21.10 20.90 20.90 21.25 21.40 21.40 21.25 21.75 22.00';
@@ -37,7 +37,7 @@ describe('history', () => {
   });
 
   it('dated closes inline; the help example runs from a fresh store', async () => {
-    const j = answered(await ask(d.store, EXAMPLES.history)).json as J;
+    const j = answered(await ask(d.store, exampleOf('history'))).json as J;
     expect(j).toMatchObject({ n: 12, first: '2026-01-05', last: '2026-01-20', clock: 'calendar' });
     expect(j.years).toBeCloseTo(15 / 365, 14);
     expect(j.warnings.some((w: string) => w.startsWith('short history'))).toBe(true);

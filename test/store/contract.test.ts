@@ -407,6 +407,22 @@ describe.each(backends)('the store contract on $name', (backend) => {
     expect(await s.depth()).toBe(0);
   });
 
+  it('queue: an interactive request keeps how it is answered (its log, flat, notices, variation, preface) for whichever claimer', async () => {
+    const { s } = await open();
+    const interaction = { source: 'action' as const, log: 'im:U0MAYA', flat: true, tellIn: 'U0MAYA', variedFrom: 7, preface: 'Spot 5% higher than #7. Typed, it is: /kolmo check …' };
+    expect(await s.accept(req('i1', 'D0MAYA', { source: 'mention', responseUrl: undefined, interaction }))).toBe(true);
+    expect(await s.accept(req('i2', 'C0QI', { interaction: { source: 'form' } }))).toBe(true);
+    expect((await s.claim('inst-a', 10000))?.interaction).toEqual(interaction);
+    expect((await s.claim('inst-b', 10000))?.interaction).toEqual({ source: 'form' });
+    await s.accept(req('i3', 'C0QJ'));
+    expect((await s.claim('inst-a', 10000))?.interaction).toBeUndefined();
+    // refused like any other field: an unknown source, a check number that is not one, a log that is too long
+    for (const bad of [{ source: 'robot' }, { source: 'action', variedFrom: 0 }, { source: 'form', log: 'x'.repeat(300) }]) {
+      expect((await storeError(s.accept(req('i4', 'C0QK', { interaction: bad as QueuedRequest['interaction'] })))).code).toBe('invalid');
+    }
+    expect(await s.depth()).toBe(3); // i1, i2, i3 claimed and running; nothing of the refused ones recorded
+  });
+
   it("queue: requests are claimed in arrival order, a channel's next only after its earlier one is answered", async () => {
     const { s } = await open();
     for (const [k, ch] of [['a1', 'C0QA'], ['b1', 'C0QB'], ['a2', 'C0QA'], ['a3', 'C0QA'], ['b2', 'C0QB']]) await s.accept(req(k, ch));

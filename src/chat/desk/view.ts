@@ -9,6 +9,7 @@
 import type { types } from '@slack/bolt';
 import { money, pct } from '../../report/format.js';
 import { ageWords, isStale } from '../../report/log.js';
+import { isRerunnable } from '../../verbs/ask.js';
 import { escapeMrkdwn } from '../blocks.js';
 import { shorten } from '../form/errors.js';
 import { checkKey } from '../actions/buttons.js';
@@ -79,7 +80,7 @@ function checkBlock(c: DeskCheck, now: Date): types.KnownBlock {
   const age = ageWords(Math.max(0, now.getTime() - Date.parse(c.at)));
   const title = c.permalink && /^https:\/\/[^\s<>|]+$/.test(c.permalink) ? `<${c.permalink}|#${c.number}>` : `#${c.number}`;
   const line = `${title} in ${where(c)} · ${escapeMrkdwn(summaryLine(c))} · ${age} ago`;
-  const rerunnable = c.verb === 'check' || c.verb === 'compare' || c.verb === 'iv' || c.verb === 'touch';
+  const rerunnable = isRerunnable(c.verb);
   return {
     type: 'section',
     text: md(line),

@@ -11,7 +11,7 @@ import { variationText, type Variation } from '../actions/variations.js';
 import type { FormMeta } from '../form/view.js';
 import type { ListenerContext } from './context.js';
 import { openForm } from './form.js';
-import { apiError, interactionKey, logOf, notice, openView, privateLog, typedLine } from './shared.js';
+import { ackOnce, apiError, interactionKey, logOf, notice, openView, privateLog, typedLine } from './shared.js';
 
 const WHAT: Record<Variation, (n: number) => string> = {
   spot_down: (n) => `Spot 5% lower than #${n}`,
@@ -68,34 +68,45 @@ export function registerActions(ctx: ListenerContext): void {
   const { app, store, log, intake } = ctx;
   const client = ctx.delivery.client;
 
-  const entryFor = (channel: string, user: string, value: unknown): { log: string; number: number; entry?: LogEntry } | undefined => {
+  /** The check a button names, in the log of the conversation it was pressed in (`unread`: the log could not be read). */
+  const entryFor = async (channel: string, user: string, value: unknown): Promise<{ log: string; number: number; entry?: LogEntry; unread?: true } | undefined> => {
     const number = parseCheckKey(value);
     if (number === undefined) return undefined;
     const logKey = logOf(channel, user);
     let entry: LogEntry | undefined;
     try {
-      entry = store?.get(logKey, number);
-    } catch {
-      entry = undefined;
+      entry = await store?.get(logKey, number);
+    } catch (err) {
+      log.warn({ err: String(err) }, 'a button: the log could not be read');
+      return { log: logKey, number, unread: true };
     }
     return { log: logKey, number, ...(entry && !entry.deletedAt ? { entry } : {}) };
   };
 
-  const fresh = (kind: string, p: Press): { key: string; ok: boolean } => {
-    const key = interactionKey(kind, p.triggerId, `${p.channel}\n${p.user}\n${p.messageTs}\n${String(p.value)}`);
-    return { key, ok: intake.admit({ key, source: 'mention', channel: p.channel, user: p.user }, {}) };
-  };
+  /** The delivery key of a press: its trigger (unique per press), else what the press names. */
+  const keyOf = (kind: string, p: Press): string => interactionKey(kind, p.triggerId, `${p.channel}\n${p.user}\n${p.messageTs}\n${String(p.value)}`);
+  /** A press that asks for no answer: false when it was acted on before (a replayed payload). */
+  const fresh = (kind: string, p: Press): Promise<boolean> => intake.once({ key: keyOf(kind, p), source: 'action', channel: p.channel, user: p.user }, {});
 
-  const missing = (p: Press, number: number | undefined) =>
-    notice(ctx, originFor(p, p.threadTs), number === undefined ? 'Kolmo could not tell which check this button belongs to.' : `Check #${number} is not in this conversation’s log (it may have been deleted).`);
+  const missing = (p: Press, found: { number: number; unread?: true } | undefined) =>
+    notice(
+      ctx,
+      originFor(p, p.threadTs),
+      found === undefined
+        ? 'Kolmo could not tell which check this button belongs to.'
+        : found.unread
+          ? `Kolmo could not read this conversation’s log just now, so nothing was done for check #${found.number}; press the button again in a minute.`
+          : `Check #${found.number} is not in this conversation’s log (it may have been deleted).`,
+    );
 
   /** The logged check a button under it was pressed for; undefined (the asker told why) when it is gone. */
-  const pressedEntry = async (body: unknown): Promise<{ p: Press; e: LogEntry; logKey: string } | undefined> => {
+  const pressedEntry = async (body: unknown, acked: () => Promise<void>): Promise<{ p: Press; e: LogEntry; logKey: string } | undefined> => {
     const p = pressOf(body);
     if (!p) return undefined;
-    const found = entryFor(p.channel, p.user, p.value);
+    const found = await entryFor(p.channel, p.user, p.value);
     if (!found?.entry) {
-      await missing(p, found?.number);
+      await acked();
+      await missing(p, found);
       return undefined;
     }
     return { p, e: found.entry, logKey: found.log };
@@ -103,35 +114,39 @@ export function registerActions(ctx: ListenerContext): void {
 
   for (const kind of Object.keys(VARY_ACTIONS) as Variation[]) {
     app.action(VARY_ACTIONS[kind], async ({ ack, body }) => {
-      await ack();
       const t0 = performance.now();
-      const pressed = await pressedEntry(body);
-      if (!pressed) return;
-      const { p, e } = pressed;
-      const now = new Date().toISOString();
-      const v = variationText(e, kind, now.slice(0, 10));
-      const threadTs = e.threadTs ?? p.threadTs ?? p.messageTs;
-      if (!v.ok) {
-        if (fresh('vary', p).ok) await notice(ctx, originFor(p, threadTs), `Kolmo could not vary check #${e.number}: ${v.reason}.`);
-        return;
+      const acked = ackOnce(ack);
+      try {
+        // record first: the variation is in the shared queue before the press is acknowledged
+        const pressed = await pressedEntry(body, acked);
+        if (!pressed) return;
+        const { p, e } = pressed;
+        const now = new Date().toISOString();
+        const v = variationText(e, kind, now.slice(0, 10));
+        const threadTs = e.threadTs ?? p.threadTs ?? p.messageTs;
+        if (!v.ok) {
+          await acked();
+          if (await fresh('vary', p)) await notice(ctx, originFor(p, threadTs), `Kolmo could not vary check #${e.number}: ${v.reason}.`);
+          return;
+        }
+        await intake.submit({
+          origin: originFor(p, /^D/.test(p.channel) ? undefined : threadTs),
+          text: v.text,
+          t0,
+          key: keyOf('vary', p),
+          now,
+          variedFrom: e.number,
+          preface: typedLine(WHAT[kind](e.number), v.text),
+        });
+      } finally {
+        await acked();
       }
-      const { key, ok } = fresh('vary', p);
-      if (!ok) return;
-      intake.submit({
-        origin: originFor(p, /^D/.test(p.channel) ? undefined : threadTs),
-        text: v.text,
-        t0,
-        key,
-        now,
-        variedFrom: e.number,
-        preface: typedLine(WHAT[kind](e.number), v.text),
-      });
     });
   }
 
   app.action(EDIT_ACTION, async ({ ack, body }) => {
     await ack();
-    const pressed = await pressedEntry(body);
+    const pressed = await pressedEntry(body, async () => undefined);
     if (!pressed) return;
     const { p, e } = pressed;
     const meta: FormMeta = { legs: 2, of: e.number, channel: p.channel, ...(e.threadTs && !/^D/.test(p.channel) ? { thread: e.threadTs } : {}) };
@@ -140,7 +155,7 @@ export function registerActions(ctx: ListenerContext): void {
 
   app.action(DELETE_ACTION, async ({ ack, body }) => {
     await ack();
-    const pressed = await pressedEntry(body);
+    const pressed = await pressedEntry(body, async () => undefined);
     if (!pressed) return;
     const { p, e, logKey } = pressed;
     const origin = originFor(p, e.threadTs ?? p.threadTs);
@@ -148,7 +163,7 @@ export function registerActions(ctx: ListenerContext): void {
       log.info({ channel: p.channel, user: p.user, number: e.number, outcome: 'refused' }, 'delete');
       return notice(ctx, origin, `Only <@${e.user}>, who asked check #${e.number}, can delete it.`);
     }
-    if (!fresh('delete', p).ok) return;
+    if (!(await fresh('delete', p))) return;
     const posted = e.posted;
     let left = 0;
     if (posted) {
@@ -169,7 +184,7 @@ export function registerActions(ctx: ListenerContext): void {
     }
     let done = false;
     try {
-      done = store?.tombstone(logKey, e.number, new Date().toISOString()) ?? false;
+      done = (await store?.tombstone(logKey, e.number, new Date().toISOString())) ?? false;
     } catch (err) {
       log.warn({ err: String(err) }, 'the log could not record a deletion');
     }
@@ -187,8 +202,8 @@ export function registerActions(ctx: ListenerContext): void {
     await ack();
     const p = pressOf(body);
     if (!p) return;
-    const found = entryFor(p.channel, p.user, p.value);
-    if (!found?.entry || !found.log.startsWith('im:')) return missing(p, found?.number);
+    const found = await entryFor(p.channel, p.user, p.value);
+    if (!found?.entry || !found.log.startsWith('im:')) return missing(p, found);
     if (!(await openView(ctx, p.triggerId, postToChannelView(found.number), 'post to a channel'))) {
       await notice(ctx, originFor(p), 'Kolmo could not open the channel picker (the button press expired). Press it again.');
     }

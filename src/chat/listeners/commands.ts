@@ -1,8 +1,6 @@
 /** Slash commands: `/kolmo <request>` (an empty one opens the check form; `help` when it cannot). */
 import { createHash } from 'node:crypto';
-import type { Origin } from '../deliver.js';
 import type { RetryInfo } from '../intake.js';
-import { responder } from '../response-url.js';
 import type { ListenerContext } from './context.js';
 
 export const COMMAND = '/kolmo';
@@ -27,9 +25,14 @@ export function registerCommands({ app, intake, forms, log }: ListenerContext): 
       // no form: `help`, answered from memory
       const now = new Date().toISOString();
       const key = commandKey(command.trigger_id, command.response_url, `${command.channel_id}\n${command.user_id}\n${now}`);
-      const respond = responder(command.response_url);
-      const origin: Origin = { source: 'command', channel: command.channel_id, user: command.user_id, ...(respond ? { respond } : {}) };
-      if (intake.admit({ key, source: 'command', channel: origin.channel, user: origin.user }, context as RetryInfo)) intake.submit({ origin, text, t0, key, now });
+      await intake.submit({
+        origin: { source: 'command', channel: command.channel_id, user: command.user_id },
+        ...(command.response_url ? { responseUrl: command.response_url } : {}),
+        text,
+        t0,
+        key,
+        now,
+      });
       return;
     }
     intake.after(body, context as RetryInfo);

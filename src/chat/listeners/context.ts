@@ -1,6 +1,6 @@
 /** What every listener is handed: the app to register on, and the intake that takes requests in. */
 import type { Log } from '../../log.js';
-import type { Store } from '../../verbs/ask.js';
+import type { LogStore } from '../../verbs/ask.js';
 import type { DeliverDeps } from '../deliver.js';
 import type { FormMeta } from '../form/view.js';
 import type { Intake } from '../intake.js';
@@ -11,8 +11,8 @@ export interface ListenerContext {
   intake: Intake;
   /** the bot's own user id (from auth.test), to strip mentions of it */
   botUserId: string | undefined;
-  /** the app's own connection to the log (null: answering without it), for buttons and my desk */
-  store: Store | null;
+  /** the instance's store, the one the intake records in (null: answering without it), for buttons, the form and my desk */
+  store: LogStore | null;
   delivery: DeliverDeps;
   log: Log;
   /** compute units one request may use (the check form's quick check) */

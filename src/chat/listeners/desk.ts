@@ -3,17 +3,16 @@
  * channels they were asked in, and their personal defaults; a check re-run from there, the
  * check form opened from there, and the defaults edited (the person's own only).
  */
-import type { LogEntry, Store } from '../../verbs/ask.js';
+import type { LogEntry, LogStore } from '../../verbs/ask.js';
 import type { Origin } from '../deliver.js';
 import { parseCheckKey } from '../actions/buttons.js';
 import { DEFAULTS_CALLBACK, defaultsView, readDefaults } from '../desk/defaults.js';
 import { DESK_CHECKS, DESK_EDIT_DEFAULTS, DESK_MARK_CHANNELS, DESK_OPEN_FORM, DESK_RERUN, myDeskView, type DeskCheck } from '../desk/view.js';
 import type { ListenerContext } from './context.js';
 import { openForm } from './form.js';
-import { apiError, interactionKey, notice, openView, privateLog, typedLine } from './shared.js';
+import { ackOnce, apiError, interactionKey, marksOf, notice, openView, privateLog, typedLine } from './shared.js';
 
-type Mark = ReturnType<Store['listMarks']>[number];
-type UserDefaults = ReturnType<Store['getDefaults']>;
+type UserDefaults = Awaited<ReturnType<LogStore['getDefaults']>>;
 
 export function registerDesk(ctx: ListenerContext): void {
   const { app, store, log, intake } = ctx;
@@ -23,7 +22,7 @@ export function registerDesk(ctx: ListenerContext): void {
     if (!store) return;
     let entries: LogEntry[] = [];
     try {
-      entries = store.recentOfUser(user, DESK_CHECKS);
+      entries = await store.recentOfUser(user, DESK_CHECKS);
     } catch (err) {
       log.warn({ err: String(err) }, 'my desk: the log could not be read');
     }
@@ -41,18 +40,10 @@ export function registerDesk(ctx: ListenerContext): void {
       };
     });
     const channels = [...new Set(entries.map((e) => e.channel).filter((c) => !c.startsWith('im:')))].slice(0, DESK_MARK_CHANNELS);
-    const marks = channels.map((channel) => {
-      let ms: Mark[] = [];
-      try {
-        ms = store.listMarks(channel);
-      } catch {
-        ms = [];
-      }
-      return { channel, marks: ms };
-    });
+    const marks = await Promise.all(channels.map(async (channel) => ({ channel, marks: await marksOf(store, channel) })));
     let defaults: UserDefaults = {};
     try {
-      defaults = store.getDefaults(user);
+      defaults = await store.getDefaults(user);
     } catch {
       defaults = {};
     }
@@ -75,7 +66,16 @@ export function registerDesk(ctx: ListenerContext): void {
   });
 
   app.action(DESK_RERUN, async ({ ack, body }) => {
-    await ack();
+    const acked = ackOnce(ack);
+    try {
+      await rerun(body, acked);
+    } finally {
+      await acked();
+    }
+  });
+
+  /** A check of the person's re-run from my desk: recorded in the shared queue before the press is acknowledged. */
+  const rerun = async (body: unknown, acked: () => Promise<void>): Promise<void> => {
     const t0 = performance.now();
     const b = body as { user?: { id?: string }; trigger_id?: string; actions?: Array<{ value?: unknown }> };
     const user = b.user?.id;
@@ -86,17 +86,24 @@ export function registerDesk(ctx: ListenerContext): void {
     const dmOrigin: Origin = { source: 'action', channel: user, user, flat: true };
     // the lookup key names a log and a number; only the presser's own checks are re-run from my desk
     const logKey = m?.[1];
-    const e = logKey && number !== undefined && (!logKey.startsWith('im:') || logKey === privateLog(user)) ? store?.get(logKey, number) : undefined;
+    let e: LogEntry | undefined;
+    let unread = false;
+    try {
+      e = logKey && number !== undefined && (!logKey.startsWith('im:') || logKey === privateLog(user)) ? await store?.get(logKey, number) : undefined;
+    } catch (err) {
+      unread = true;
+      log.warn({ err: String(err) }, 'my desk: the log could not be read');
+    }
     if (!e || e.deletedAt || e.user !== user) {
-      await notice(ctx, dmOrigin, 'That check is not one of yours any more (it may have been deleted).');
+      await acked();
+      await notice(ctx, dmOrigin, unread ? 'Kolmo could not read the log just now, so nothing was re-run; press it again in a minute.' : 'That check is not one of yours any more (it may have been deleted).');
       return;
     }
     const key = interactionKey('rerun', b.trigger_id, `${raw}\n${user}`);
     const priv = e.channel.startsWith('im:');
     const origin: Origin = priv ? dmOrigin : { source: 'action', channel: e.channel, user, ...(e.threadTs ? { threadTs: e.threadTs } : {}) };
     const now = new Date().toISOString();
-    if (!intake.admit({ key, source: 'mention', channel: origin.channel, user }, {})) return;
-    intake.submit({
+    await intake.submit({
       origin: priv ? { ...origin, log: e.channel } : origin,
       text: e.text,
       t0,
@@ -105,7 +112,7 @@ export function registerDesk(ctx: ListenerContext): void {
       variedFrom: e.number,
       preface: typedLine(`#${e.number} again, from my desk`, e.text),
     });
-  });
+  };
 
   app.action(DESK_EDIT_DEFAULTS, async ({ ack, body }) => {
     await ack();
@@ -114,7 +121,7 @@ export function registerDesk(ctx: ListenerContext): void {
     if (typeof user !== 'string') return;
     let d: UserDefaults = {};
     try {
-      d = store?.getDefaults(user) ?? {};
+      d = (await store?.getDefaults(user)) ?? {};
     } catch {
       d = {};
     }
@@ -133,7 +140,7 @@ export function registerDesk(ctx: ListenerContext): void {
       return;
     }
     try {
-      store.putDefaults(user, r.defaults, new Date().toISOString());
+      await store.putDefaults(user, r.defaults, new Date().toISOString());
     } catch (err) {
       await ack({ response_action: 'errors', errors: { rate: `Not stored: ${err instanceof Error ? err.message : String(err)}`.slice(0, 150) } });
       return;

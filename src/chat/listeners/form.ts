@@ -13,14 +13,14 @@ import { prefillFromRequest } from '../form/prefill.js';
 import { quickCheck } from '../form/validate.js';
 import { ADD_LEG, REMOVE_LEG, checkFormView, decodeMeta, fieldsShown, FORM_CALLBACK, readForm, type FormMeta, type StateValues } from '../form/view.js';
 import type { ListenerContext } from './context.js';
-import { apiError, interactionKey, logOf, markTermsOf, notice, openView, privateLog, symbolsOf, typedLine } from './shared.js';
+import { apiError, interactionKey, logOf, marksOf, notice, openView, privateLog, termsIn, typedLine } from './shared.js';
 
 export const SHORTCUT_CALLBACK = 'kolmo_open_form';
 
 /** Opens the check form: empty, or pre-filled from a logged check. */
 export async function openForm(ctx: ListenerContext, triggerId: string, meta: FormMeta, from?: LogEntry): Promise<boolean> {
   const logKey = meta.channel ? logOf(meta.channel, '') : undefined;
-  const symbols = logKey && !logKey.startsWith('im:') ? symbolsOf(ctx.store, logKey) : [];
+  const symbols = logKey && !logKey.startsWith('im:') ? (await marksOf(ctx.store, logKey)).map((m) => m.symbol) : [];
   let values: FormValues | undefined;
   let note: string | undefined;
   if (from) {
@@ -51,7 +51,7 @@ export function registerForm(ctx: ListenerContext): void {
     const meta = decodeMeta(view.private_metadata);
     const { values } = readForm(view.state?.values ?? {}, meta.legs);
     values.legs = values.legs.slice(0, legs);
-    const symbols = meta.channel && !/^D/.test(meta.channel) ? symbolsOf(store, meta.channel) : [];
+    const symbols = meta.channel && !/^D/.test(meta.channel) ? (await marksOf(store, meta.channel)).map((m) => m.symbol) : [];
     try {
       await client.views.update({ view_id: view.id, ...(view.hash ? { hash: view.hash } : {}), view: checkFormView({ meta: { ...meta, legs }, values, symbols }) });
     } catch (err) {
@@ -86,20 +86,20 @@ export function registerForm(ctx: ListenerContext): void {
     const dm = target === undefined || /^D/.test(target);
     const logKey = dm ? privateLog(user) : target!;
     const now = new Date();
-    const refused = quickCheck(composed.text, { now, mark: (sym) => (dm ? undefined : markTermsOf(store, logKey, sym)), budget: ctx.budget });
+    const marks = dm ? [] : await marksOf(store, logKey);
+    const refused = quickCheck(composed.text, { now, mark: (sym) => termsIn(marks, sym), budget: ctx.budget });
     if (refused) {
-      const present = fieldsShown(meta.legs, !dm && symbolsOf(store, logKey).length > 0);
+      const present = fieldsShown(meta.legs, marks.length > 0);
       await ack({ response_action: 'errors', errors: formErrorsOf(refused, composed.spans, present) as Record<string, string> });
       return;
     }
-    await ack({ response_action: 'clear' });
     const key = interactionKey('form', (body as { trigger_id?: string }).trigger_id, `${view.id}\n${view.hash ?? ''}`);
     const origin: Origin = dm
       ? { source: 'form', channel: target ?? user, user, log: logKey, flat: true }
       : { source: 'form', channel: target!, user, ...(meta.thread ? { threadTs: meta.thread } : {}) };
-    if (!intake.admit({ key, source: 'mention', channel: origin.channel, user }, {})) return;
     const lead = meta.of ? `Check #${meta.of}, edited in the check form` : 'From the check form';
-    intake.submit({
+    // record first (the shared queue), then close the form
+    await intake.submit({
       origin,
       text: composed.text,
       t0,
@@ -108,6 +108,7 @@ export function registerForm(ctx: ListenerContext): void {
       ...(meta.of && !dm ? { variedFrom: meta.of } : {}),
       preface: typedLine(lead, composed.text),
     });
+    await ack({ response_action: 'clear' });
   });
 
   app.view(POST_CALLBACK, async ({ ack, body, view }) => {
@@ -126,11 +127,18 @@ export function registerForm(ctx: ListenerContext): void {
       return;
     }
     // only the presser's own private log: the number is a lookup key in it, nothing more
-    const e = of === undefined ? undefined : store?.get(privateLog(user), of);
-    await ack({ response_action: 'clear' });
+    let e: LogEntry | undefined;
+    let unread = false;
+    try {
+      e = of === undefined ? undefined : await store?.get(privateLog(user), of);
+    } catch (err) {
+      unread = true;
+      log.warn({ err: String(err) }, 'post to a channel: the log could not be read');
+    }
     const dmOrigin: Origin = { source: 'form', channel: user, user, flat: true };
     if (!e || e.deletedAt) {
-      await notice(ctx, dmOrigin, `Check #${of ?? '?'} is not in your private log.`);
+      await ack({ response_action: 'clear' });
+      await notice(ctx, dmOrigin, unread ? `Kolmo could not read your private log just now, so check #${of ?? '?'} was not posted; try again in a minute.` : `Check #${of ?? '?'} is not in your private log.`);
       return;
     }
     const now = new Date().toISOString();
@@ -138,8 +146,8 @@ export function registerForm(ctx: ListenerContext): void {
     const day = typeof e.summary.asof === 'string' ? e.summary.asof : undefined;
     const text = day && day !== now.slice(0, 10) && !/\basof\b/i.test(e.text) ? `${e.text} asof ${day}` : e.text;
     const key = interactionKey('post', (body as { trigger_id?: string }).trigger_id, `${view.id}\n${postTo}\n${of}`);
-    if (!intake.admit({ key, source: 'mention', channel: postTo, user }, {})) return;
-    intake.submit({
+    // record first (the shared queue), then close the picker
+    await intake.submit({
       origin: { source: 'form', channel: postTo, user, tellIn: user },
       text,
       t0,
@@ -147,6 +155,7 @@ export function registerForm(ctx: ListenerContext): void {
       now,
       preface: typedLine(`Posted by its asker from their private check #${e.number}`, text),
     });
+    await ack({ response_action: 'clear' });
   });
 
   ctx.forms.open = (triggerId, meta) => openForm(ctx, triggerId, meta);

@@ -16,10 +16,12 @@
  */
 import { createHash } from 'node:crypto';
 import type { ModalView } from '@slack/types';
-import { termsOfMark, type MarkTerms, type Store } from '../../verbs/ask.js';
+import { termsOfMark, type LogStore, type MarkTerms } from '../../verbs/ask.js';
 import { plainNotice } from '../blocks.js';
 import { tellAsker, type Origin } from '../deliver.js';
 import type { ListenerContext } from './context.js';
+
+export type Mark = Awaited<ReturnType<LogStore['listMarks']>>[number];
 
 /** The log a conversation's checks are numbered in: a channel's own, or the person's private log. */
 export function logOf(channel: string, user: string): string {
@@ -45,22 +47,23 @@ export function apiError(err: unknown): string {
   return (err as { data?: { error?: string } }).data?.error ?? String(err);
 }
 
-export function markTermsOf(store: Store | null, log: string, symbol: string): MarkTerms | undefined {
+/**
+ * The marks of a log, by symbol ([] when the log cannot be read: the form then offers no symbols
+ * and checks a request as if the log had no marks; the engine, which reads the log again, decides).
+ */
+export async function marksOf(store: LogStore | null, log: string): Promise<Mark[]> {
   try {
-    const m = store?.getMark(log, symbol);
-    return m ? termsOfMark(m) : undefined;
-  } catch {
-    return undefined;
-  }
-}
-
-/** The symbols with a mark in a log ([] when the log cannot be read). */
-export function symbolsOf(store: Store | null, log: string): string[] {
-  try {
-    return store?.listMarks(log).map((m) => m.symbol) ?? [];
+    return (await store?.listMarks(log)) ?? [];
   } catch {
     return [];
   }
+}
+
+/** A mark's terms from a list of marks (the form's quick check). */
+export function termsIn(marks: readonly Mark[], symbol: string): MarkTerms | undefined {
+  const key = symbol.trim().toUpperCase();
+  const m = marks.find((x) => x.symbol === key);
+  return m ? termsOfMark(m) : undefined;
 }
 
 /** Tells the asker something (an ephemeral in the conversation, or their messages with the app). */
@@ -77,4 +80,14 @@ export async function openView(ctx: ListenerContext, triggerId: string, view: Mo
     ctx.log.warn({ what, err: apiError(err) }, 'could not open a view');
     return false;
   }
+}
+
+/**
+ * An acknowledgement sent at most once: a listener whose press becomes a request records it
+ * first and acknowledges after; on a path that only tells the person something it acknowledges
+ * before; and in any case once when it ends.
+ */
+export function ackOnce(ack: () => Promise<void>): () => Promise<void> {
+  let sent: Promise<void> | undefined;
+  return () => (sent ??= ack());
 }

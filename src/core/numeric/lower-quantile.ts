@@ -2,33 +2,28 @@
 
 /**
  * Evaluations of a nondecreasing function G (a P&L cdf), kept sorted to bracket later solves:
- * ys[0 … n) ascending with gs = G(ys), in arrays that grow by doubling (no reallocation per
- * evaluation).
+ * ys[0 … n) ascending with gs = G(ys). Plain arrays: a check makes a few dozen evaluations, and
+ * typed arrays of that size cost more to allocate than the whole insertion work.
  */
 export class CdfCache {
-  ys = new Float64Array(64);
-  gs = new Float64Array(64);
+  ys: number[] = [];
+  gs: number[] = [];
   n = 0;
   constructor(private readonly G: (y: number) => number) {}
   at(y: number): number {
     const g = this.G(y);
-    const n = this.n;
-    if (n === this.ys.length) {
-      const ys = new Float64Array(2 * n);
-      const gs = new Float64Array(2 * n);
-      ys.set(this.ys);
-      gs.set(this.gs);
-      this.ys = ys;
-      this.gs = gs;
-    }
     const { ys, gs } = this;
-    let i = n;
-    while (i > 0 && ys[i - 1] > y) i--;
-    ys.copyWithin(i + 1, i, n);
-    gs.copyWithin(i + 1, i, n);
+    let i = this.n;
+    ys.push(y);
+    gs.push(g);
+    while (i > 0 && ys[i - 1] > y) {
+      ys[i] = ys[i - 1];
+      gs[i] = gs[i - 1];
+      i--;
+    }
     ys[i] = y;
     gs[i] = g;
-    this.n = n + 1;
+    this.n++;
     return g;
   }
   /** index of the last evaluation below y, or −1 */
@@ -40,11 +35,20 @@ export class CdfCache {
 }
 
 /**
+ * Below this margin a jump's left limit G(a) − jump is not trusted to be under p: the solve runs.
+ * (The engines' G and jumps agree to about 1e-15 at expiry and 1e-12 before it.)
+ */
+const JUMP_MARGIN = 1e-9;
+
+/**
  * Lower quantile inf{y : G(y) ≥ p} of a nondecreasing G (a P&L cdf, possibly with jumps), given
  * G(lo) < p ≤ G(hi) among the cached values: Illinois regula falsi with bisection safeguards, to a
  * bracket of width `tol`; a jump (atom) inside the final bracket is returned exactly.
+ * `jumps` (optional, beside `atoms`): the size of G's jump at each atom. When the tightest bracket
+ * ends on an atom whose left limit G(a) − jump is below p, every y < a has G(y) < p, so the
+ * quantile is that atom: it is returned at once (the solve would close on it from below).
  */
-export function lowerQuantile(cache: CdfCache, p: number, tol: number, atoms: number[]): number {
+export function lowerQuantile(cache: CdfCache, p: number, tol: number, atoms: number[], jumps?: number[]): number {
   const { ys, gs, n } = cache;
   // tightest bracket among the known evaluations (the first and last are the outer bracket)
   let lo = ys[0];
@@ -63,6 +67,11 @@ export function lowerQuantile(cache: CdfCache, p: number, tol: number, atoms: nu
   }
   if (glo >= 0) return lo;
   if (ghi < 0) return hi;
+  if (jumps) {
+    const k = atoms.indexOf(hi);
+    // G(a) − jump < p − margin, with ghi = G(a) − p (NaN jumps never take this exit)
+    if (k >= 0 && ghi - jumps[k] < -JUMP_MARGIN) return hi;
+  }
   let side = 0;
   let lastWidth = hi - lo;
   for (let it = 0; it < 300 && hi - lo > tol; it++) {

@@ -33,6 +33,9 @@ export function walkFigures(e: PnlEngine, seeds: number[], scale: number): WalkF
   const tolY = 1e-9 * scale;
   const atoms = e.atoms();
   const atomLevels = atoms.map((a) => a.x);
+  // the jump of the P&L cdf at each atom level; NaN for an atom spread over [lo, x] (its level
+  // is not a single jump, so the quantile solve runs there)
+  const atomProbs = atoms.map((a) => (a.lo === undefined || a.lo === a.x ? a.prob : NaN));
   const [y0, y1] = e.yRange();
   const pad = Math.max(1e-7 * scale, 1e-12 * Math.max(Math.abs(y0), Math.abs(y1)));
   const yLo = y0 - pad;
@@ -41,7 +44,7 @@ export function walkFigures(e: PnlEngine, seeds: number[], scale: number): WalkF
   cache.at(yLo);
   cache.at(yHi);
   for (const y of dedupe([...atomLevels, ...seeds])) if (y > yLo && y < yHi) cache.at(y);
-  const quantile = (p: number, tol: number): number => lowerQuantile(cache, p, tol, atomLevels);
+  const quantile = (p: number, tol: number): number => lowerQuantile(cache, p, tol, atomLevels, atomProbs);
   const Q = (p: number): number => quantile(p, tolY);
   const probProfit = Math.min(1, Math.max(0, 1 - cache.at(1e-14 * scale)));
   const qs = LEVELS.map(Q);

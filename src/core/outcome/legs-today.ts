@@ -54,7 +54,8 @@ export function legsToday(input: CheckInput, model: LegModel, h: number): LegsTo
       hasShares = true;
       carry += coef * spot * Math.expm1((rate - q) * h);
     } else carry += coef * g.value * Math.expm1(rate * h);
-    legs.push({ ...g, probItmRiskNeutral: pRn, probItmView: pView });
+    // written out: an object spread of the Greeks costs more than the rest of the leg together
+    legs.push({ value: g.value, delta: g.delta, gamma: g.gamma, vega: g.vega, theta: g.theta, rho: g.rho, probItmRiskNeutral: pRn, probItmView: pView });
     pos.cost += coef * entry;
     pos.value += coef * g.value;
     pos.delta += coef * g.delta;

@@ -2,7 +2,7 @@
  * Bodies: the legs and terms after a verb, read with the terms the verb takes (its `body` in the
  * registry); a check's body, and how a later part of a comparison inherits from the one before.
  */
-import { EXAMPLES, type ExampleKey } from '../examples.js';
+import { exampleOf, type ExampleKey } from '../examples.js';
 import { LIMITS } from '../limits.js';
 import { NUMBER, PERCENT, tokenize, type Tok } from '../lex.js';
 import type { CheckRequest, ExpirySpec, LegSpec, ParseError, TermName, Terms } from '../types.js';
@@ -192,7 +192,7 @@ export function mergeCheck(prev: CheckRequest, next: CheckRequest): CheckRequest
  */
 export function parseCheckPart(
   text: string,
-  verb: 'check' | 'iv' | 'touch' = 'check',
+  verb: BodyVerb = 'check',
   depth = 0,
 ): { ok: true; part: CheckPart; price?: number; by?: ExpirySpec } | { ok: false; error: ParseError } {
   try {
@@ -209,7 +209,7 @@ export function parseCheckPart(
     if (e instanceof Reject) {
       return { ok: false, error: toParseError(text, e, (cand) => depth === 0 && parseCheckPart(cand, verb, 1).ok) };
     }
-    return { ok: false, error: { message: 'Kolmo could not read this request', at: 0, length: 1, example: EXAMPLES[verb] } };
+    return { ok: false, error: { message: 'Kolmo could not read this request', at: 0, length: 1, example: exampleOf(verb) } };
   }
 }
 

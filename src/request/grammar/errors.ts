@@ -4,7 +4,7 @@
  * one screen a rejected request is shown as (`formatError`).
  */
 import type { Tok } from '../lex.js';
-import { EXAMPLES, type ExampleKey } from '../examples.js';
+import { exampleOf, type ExampleKey } from '../examples.js';
 import { LIMITS } from '../limits.js';
 import type { ParseError } from '../types.js';
 
@@ -39,7 +39,7 @@ export function toParseError(
   r: Reject,
   accept: (candidate: string) => boolean,
 ): ParseError {
-  let example: string = EXAMPLES[r.fallback];
+  let example: string = exampleOf(r.fallback);
   if (r.fix && typeof text === 'string') {
     const candidate = applyEdit(text, r.fix);
     if (candidate.length > 0 && candidate.length <= LIMITS.textLength && candidate !== text.trim()) {

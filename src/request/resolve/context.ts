@@ -3,13 +3,12 @@
  * turns a problem into a rejection with the caret on the offending term and the user's own request
  * corrected as the example, and the guard that keeps anything unexpected from escaping.
  */
-import { EXAMPLES, type ExampleKey } from '../examples.js';
+import { exampleOf, type ExampleKey } from '../examples.js';
 import { Reject, parse, toParseError, type Edit } from '../parse.js';
 import { internalFailure } from '../grammar/errors.js';
 import type { MarkFigures } from '../../core/types.js';
 import type { ParseError } from '../types.js';
-import { resolveCheck } from './check.js';
-import { resolveIv, resolveTouch } from './iv-touch.js';
+import { verbNamed } from '../../verbs/registry.js';
 
 /** The mark a request's `on SYMBOL` reads. */
 export type MarkTerms = MarkFigures;
@@ -91,18 +90,14 @@ export class Resolver {
   error(r: Reject): Fail {
     const text = this.ctx.text;
     if (!text) {
-      return { ok: false, error: { message: r.message, at: Math.max(0, r.at), length: Math.max(1, r.length), example: EXAMPLES[r.fallback] } };
+      return { ok: false, error: { message: r.message, at: Math.max(0, r.at), length: Math.max(1, r.length), example: exampleOf(r.fallback) } };
     }
     const accept = (candidate: string): boolean => {
       const p = parse(candidate);
       if (!p.ok) return false;
       const sub: ResolveContext = { ...this.ctx, text: undefined };
-      const req = p.request;
-      if (req.verb === 'check') return resolveCheck(req, sub).ok;
-      if (req.verb === 'iv') return resolveIv(req, sub).ok;
-      if (req.verb === 'touch') return resolveTouch(req, sub).ok;
-      if (req.verb === 'compare') return (req.checks ?? []).every((c) => resolveCheck(c, sub).ok);
-      return false;
+      // the verb says whether its request resolves here (its `resolves` in src/verbs/<verb>.ts)
+      return verbNamed(p.request.verb).resolves?.(p.request, sub) ?? false;
     };
     return { ok: false, error: toParseError(text, r, accept) };
   }
@@ -124,7 +119,7 @@ export function guard<T>(R: () => Resolver, f: () => T): T | Fail {
   } catch (e) {
     const r = R();
     if (e instanceof Reject) return r.error(e);
-    return internalFailure('resolve', e, EXAMPLES[r.fallback]);
+    return internalFailure('resolve', e, exampleOf(r.fallback));
   }
 }
 

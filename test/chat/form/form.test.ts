@@ -9,7 +9,7 @@ import { fieldOf, formErrorsOf, reasonOf } from '../../../src/chat/form/errors.j
 import { prefillFromRequest } from '../../../src/chat/form/prefill.js';
 import { checkFormView, decodeMeta, encodeMeta, fieldsShown, readForm, MODAL_BLOCKS_MAX, type StateValues } from '../../../src/chat/form/view.js';
 import { parse } from '../../../src/request/parse.js';
-import { EXAMPLES } from '../../../src/request/examples.js';
+import { exampleOf } from '../../../src/request/examples.js';
 import type { CheckRequest } from '../../../src/request/types.js';
 import { ask as askSeam } from '../../../src/verbs/ask.js';
 import type { Reply } from '../../../src/reply.js';
@@ -255,7 +255,7 @@ describe('a logged request → the form, pre-filled', () => {
 
   it('every example of the design notes that is a check pre-fills a form that composes and reads', async () => {
     for (const key of ['check', 'leg', 'shares', 'jumps', 'american'] as const) {
-      const p = prefillFromRequest(EXAMPLES[key], '2027-01-04');
+      const p = prefillFromRequest(exampleOf(key), '2027-01-04');
       expect(p, key).toBeDefined();
       const c = composeRequest(p!.values);
       expect(c.ok, key).toBe(true);
@@ -267,7 +267,7 @@ describe('a logged request → the form, pre-filled', () => {
     const p = prefillFromRequest('compare +1 call 90 3m iv 30% on FERNWK ; drift 0% ; drift 12%', '2027-01-04');
     expect(p?.values.symbol).toBe('FERNWK');
     expect(p?.dropped[0]).toMatch(/parts 2–3 of the comparison/);
-    expect(prefillFromRequest(EXAMPLES.touch, '2027-01-04')).toBeUndefined();
+    expect(prefillFromRequest(exampleOf('touch'), '2027-01-04')).toBeUndefined();
     expect(prefillFromRequest('not a request', '2027-01-04')).toBeUndefined();
   });
 
