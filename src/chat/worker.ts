@@ -6,7 +6,7 @@
  * goes away (the channel disconnects) or is told to stop.
  */
 import { workerSettings } from '../config.js';
-import { asyncOf, openStore, type LogStore } from '../verbs/ask.js';
+import { openDatabase, type LogStore } from '../verbs/ask.js';
 import { ipcStore, type StoreAnswer, type StoreCall } from './ipc-store.js';
 import type { Ping } from './pool.js';
 import { work, type Job } from './work.js';
@@ -34,9 +34,9 @@ if (where.kind === 'parent') {
 } else if (where.kind === 'file') {
   const dbPath = where.path;
   try {
-    const s = openStore(dbPath);
-    store = asyncOf(s, dbPath);
-    closeStore = () => s.close();
+    const s = await openDatabase({ backend: 'sqlite', path: dbPath });
+    store = s;
+    closeStore = () => void s.close();
   } catch (err) {
     storeNote = `the log is unavailable (${err instanceof Error ? err.message : String(err)}); answered without it`;
   }
