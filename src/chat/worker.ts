@@ -5,7 +5,7 @@
  * PostgreSQL backend: the worker holds no database connection of its own). It ends when the app
  * goes away (the channel disconnects) or is told to stop.
  */
-import { asyncOf, openStore, type LogStore } from '../verbs/ask.js';
+import { openDatabase, type LogStore } from '../verbs/ask.js';
 import { ipcStore, type StoreAnswer, type StoreCall } from './ipc-store.js';
 import { work, type Job } from './work.js';
 
@@ -27,9 +27,9 @@ if (parent) {
   store = viaParent.store;
 } else if (dbPath) {
   try {
-    const s = openStore(dbPath);
-    store = asyncOf(s, dbPath);
-    closeStore = () => s.close();
+    const s = await openDatabase({ backend: 'sqlite', path: dbPath });
+    store = s;
+    closeStore = () => void s.close();
   } catch (err) {
     storeNote = `the log is unavailable (${err instanceof Error ? err.message : String(err)}); answered without it`;
   }

@@ -8,14 +8,14 @@
  *
  * Both refuse the same inputs with the same words (rows.ts) and turn their faults into the same
  * StoreError codes (errors.ts), so a shell answers "Not logged: …" the same way whichever runs.
- * Every query is scoped to one channel, as in the synchronous face (store.ts).
+ * Every query is scoped to one channel.
  */
 import { setting } from '../config.js';
 import { StoreError } from './errors.js';
 import { openPostgres, redactUrl } from './postgres.js';
 
 export { redactUrl };
-import { defaultDbPath, openStore, type SqliteStore } from './sqlite.js';
+import { defaultDbPath, openSqlite, type SqliteStore } from './sqlite.js';
 import type { LogEntry, LogEntryInput, Mark, OpenOptions, Posted, StoredClose, UserDefaults } from './store.js';
 
 /** A request as the app acknowledged it: what the queue keeps until it is answered. */
@@ -186,7 +186,7 @@ export type LogStore = Pick<
 >;
 
 /** The SQLite backend through the async interface. */
-export function asyncOf(s: SqliteStore, where: string): AsyncStore {
+function asyncOf(s: SqliteStore, where: string): AsyncStore {
   let closed = false;
   return {
     backend: 'sqlite',
@@ -276,5 +276,5 @@ export function checkPostgresUrl(raw: string): string {
 /** Opens (creating and migrating if needed) the chosen backend. Throws a StoreError when it cannot. */
 export async function openDatabase(choice: DatabaseChoice, opts: DatabaseOptions = {}): Promise<AsyncStore> {
   if (choice.backend === 'postgres') return openPostgres(checkPostgresUrl(choice.url), opts);
-  return asyncOf(openStore(choice.path, opts), choice.path);
+  return asyncOf(openSqlite(choice.path, opts), choice.path);
 }

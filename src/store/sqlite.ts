@@ -1,5 +1,5 @@
 /**
- * SQLite implementation of the Store (better-sqlite3, synchronous).
+ * The SQLite backend of the store (better-sqlite3, synchronous underneath; used through AsyncStore).
  *
  * Decisions:
  * - WAL journal: readers never block the writer and a commit is one append to the -wal file.
@@ -55,7 +55,7 @@ import {
   type DefaultsRow,
 } from './rows.js';
 import type { ClaimedRequest, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
-import type { LogEntry, LogEntryInput, Mark, OpenOptions, Posted, Store, StoredClose, UserDefaults } from './store.js';
+import type { LogEntry, LogEntryInput, Mark, OpenOptions, Posted, StoredClose, UserDefaults } from './store.js';
 
 export { LIMITS, cutBytes } from './rows.js';
 
@@ -73,7 +73,7 @@ export function defaultDbPath(setting: string | undefined = readSetting('KOLMO_D
 }
 
 /** Opens (creating and migrating if needed) the log at `path`; ':memory:' gives a private in-memory log. */
-export function openStore(path: string, opts: OpenOptions = {}): SqliteStore {
+export function openSqlite(path: string, opts: OpenOptions = {}): SqliteStore {
   const readonly = opts.readonly === true;
   const busyTimeoutMs = opts.busyTimeoutMs ?? DEFAULT_BUSY_TIMEOUT_MS;
   if (!Number.isFinite(busyTimeoutMs) || busyTimeoutMs < 0) {
@@ -131,8 +131,8 @@ export function openStore(path: string, opts: OpenOptions = {}): SqliteStore {
 const CHECK_COLUMNS = 'channel, number, user, at, verb, text, normalized, summary, thread_ts, permalink, delivered, varied_from, deleted_at, posted';
 const MARK_COLUMNS = 'channel, symbol, spot, iv, yield, rate, vol, drift, drift_se, user, at';
 
-/** The SQLite store: the synchronous face plus the request queue and rate buckets (used through asyncOf). */
-export class SqliteStore implements Store {
+/** The SQLite backend: synchronous underneath (better-sqlite3), used through the async interface (async.ts, asyncOf). */
+export class SqliteStore {
   private readonly s;
   private readonly allocTx;
 

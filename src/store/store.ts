@@ -1,10 +1,10 @@
 /**
  * The channel's memory: the per-channel log of checks and the channel's marks.
  *
- * Two faces: `AsyncStore` (async.ts), the one interface with two backends (SQLite, the embedded
- * default, and PostgreSQL for several instances), and `Store` below, the synchronous face of the
- * SQLite backend that the engine still calls directly (better-sqlite3 is synchronous) until the
- * verbs take the async interface. Every query is scoped to one channel: an entry of another channel is invisible,
+ * One interface, `AsyncStore` (async.ts), with two backends: SQLite, the embedded default
+ * (sqlite.ts; better-sqlite3 is synchronous underneath), and PostgreSQL for several instances
+ * (postgres.ts); `openDatabase` opens either. This file holds the records both read and write.
+ * Every query is scoped to one channel: an entry of another channel is invisible,
  * exactly as if it did not exist. Every foreseeable fault surfaces as a StoreError (see errors.ts)
  * whose message can be shown to the user, e.g. "the log could not be written: disk full".
  */
@@ -78,54 +78,6 @@ export interface StoredClose {
   close: number;
 }
 
-export interface Store {
-  /** Appends a check under the channel's next number (allocated atomically, also across processes). */
-  appendCheck(e: LogEntryInput): LogEntry;
-  /**
-   * Records the thread the answer was posted in. `permalink` undefined keeps the stored one.
-   * Returns false when the channel has no entry with that number.
-   */
-  setThread(channel: string, number: number, threadTs: string, permalink?: string | null): boolean;
-  /** Records whether the answer reached the channel. Returns false when there is no such entry. */
-  setDelivery(channel: string, number: number, state: 'delivered' | 'undelivered'): boolean;
-  /** The channel's entry with that number; undefined for a number of another channel or none. */
-  get(channel: string, number: number): LogEntry | undefined;
-  /** The channel's last `n` entries, newest first (n is clamped to 0..LIMITS.recentMax). */
-  recent(channel: string, n: number): LogEntry[];
-  /** Stores the mark, replacing the channel's previous mark for that symbol as a whole. */
-  putMark(m: Mark): void;
-  /** The channel's stored price history for a symbol, oldest first ([] when none). */
-  getCloses(channel: string, symbol: string): StoredClose[];
-  /** Replaces the channel's stored price history for a symbol as a whole. */
-  putCloses(channel: string, symbol: string, closes: StoredClose[]): void;
-  getMark(channel: string, symbol: string): Mark | undefined;
-  /** The channel's marks in symbol order. */
-  listMarks(channel: string): Mark[];
-  /** Counts one rejected request (nothing else of it is stored). */
-  countRejected(channel: string): void;
-  rejectedCount(channel: string): number;
-  /** Runs `fn` in one write transaction: every change inside it is kept, or none is. */
-  batch<T>(fn: () => T): T;
-  /** Records the check (same log) this one is a variation of; false when there is no such entry. */
-  setVariedFrom(channel: string, number: number, from: number): boolean;
-  /** Records the messages and files the answer posted (replacing what was recorded). */
-  setPosted(channel: string, number: number, posted: Posted): boolean;
-  /**
-   * Deletes a check's content and keeps its number (a tombstone: text, request and figures gone,
-   * `deletedAt` set). False when there is no such entry or it is already a tombstone.
-   */
-  tombstone(channel: string, number: number, at: string): boolean;
-  /** A person's last `n` checks across every log, newest first, tombstones left out. */
-  recentOfUser(user: string, n: number): LogEntry[];
-  /** A person's defaults (empty when none). */
-  getDefaults(user: string): UserDefaults;
-  /** Stores a person's defaults whole (an empty record removes them). */
-  putDefaults(user: string, d: UserDefaults, at: string): void;
-  /** Returns when the log answers a read; a StoreError otherwise. */
-  ping(): void;
-  close(): void;
-}
-
 export interface OpenOptions {
   /** open an existing log for reading only; writes fail with StoreError 'readonly' */
   readonly?: boolean;
@@ -143,12 +95,11 @@ export interface OpenOptions {
 }
 
 export { StoreError, type StoreErrorCode, type StoreOp } from './errors.js';
-export { openStore, defaultDbPath, LIMITS } from './sqlite.js';
+export { defaultDbPath, LIMITS } from './sqlite.js';
 export { MIGRATIONS, SCHEMA_VERSION, migrate, type Migration } from './migrations.js';
 export {
   openDatabase,
   databaseFromEnv,
-  asyncOf,
   type AsyncStore,
   type LogStore,
   type DatabaseChoice,

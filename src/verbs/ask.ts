@@ -172,13 +172,10 @@ export async function ask(typed: string, ctx: AskContext): Promise<Reply> {
 
 // The store a shell opens and hands back in the context (the shells import nothing else of it).
 export {
-  openStore,
   defaultDbPath,
   openDatabase,
   databaseFromEnv,
-  asyncOf,
   StoreError,
-  type Store,
   type AsyncStore,
   type LogStore,
   type DatabaseChoice,

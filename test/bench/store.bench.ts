@@ -1,5 +1,5 @@
 /**
- * Store latency on a log holding 100,000 checks across 200 channels (built at the start in a
+ * SQLite backend latency on a log holding 100,000 checks across 200 channels (built at the start in a
  * temporary file, in one transaction). Figures are medians and 99th percentiles of single calls,
  * with ratios against baselines measured in the same process: a bare `SELECT 1` through
  * better-sqlite3 on the same file, and a bare in-memory INSERT.
@@ -8,7 +8,8 @@ import Database from 'better-sqlite3';
 import { mkdtempSync, rmSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { openStore, type LogEntryInput } from '../../src/store/store.js';
+import type { LogEntryInput } from '../../src/store/store.js';
+import { openSqlite } from '../../src/store/sqlite.js';
 import { fmtTime, measure, sink, type Measure } from './harness.js';
 
 const CHANNELS = 200;
@@ -49,7 +50,7 @@ export function run(): void {
   try {
     // build: 100k checks, 500 per channel, interleaved as they would arrive
     const t0 = process.hrtime.bigint();
-    const builder = openStore(path, { synchronous: 'normal' });
+    const builder = openSqlite(path, { synchronous: 'normal' });
     builder.batch(() => {
       for (let i = 0; i < CHECKS; i++) builder.appendCheck(entry(i, channelId(i % CHANNELS)));
     });
@@ -72,10 +73,10 @@ export function run(): void {
     line(baseInsert, baselines);
 
     let k = 0;
-    const full = openStore(path); // default: synchronous=FULL
+    const full = openSqlite(path); // default: synchronous=FULL
     line(measure('appendCheck, synchronous=FULL', () => full.appendCheck(entry(CHECKS + k, channelId(k++ % CHANNELS))), 1, 1), baselines);
     full.close();
-    const normal = openStore(path, { synchronous: 'normal' });
+    const normal = openSqlite(path, { synchronous: 'normal' });
     line(measure('appendCheck, synchronous=NORMAL', () => normal.appendCheck(entry(CHECKS + k, channelId(k++ % CHANNELS))), 1, 1), baselines);
 
     let r = 0;

@@ -15,7 +15,8 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { openStore } from '../../src/store/store.js';
+import { openDatabase, type AsyncStore } from '../../src/store/store.js';
+import { untilAsync } from '../robust/harness.js';
 import { FakeWebApi, FAKE_BOT, type Call } from './fake-web-api.js';
 import {
   actionBody,
@@ -61,14 +62,15 @@ function buttonsOf(channel: string, n: number): Call | undefined {
   return posts(channel).find((c) => blocksText(c).includes('kolmo_answer_actions') && blocksText(c).includes(`"value":"n${n}"`));
 }
 
-function readLog<T>(fn: (s: ReturnType<typeof openStore>) => T): T {
-  const s = openStore(join(app.dir, 'kolmo.db'), { readonly: true });
+async function readLog<T>(fn: (s: AsyncStore) => Promise<T>): Promise<T> {
+  const s = await openDatabase({ backend: 'sqlite', path: join(app.dir, 'kolmo.db') }, { readonly: true });
   try {
-    return fn(s);
+    return await fn(s);
   } finally {
-    s.close();
+    await s.close();
   }
 }
+const entry = (channel: string, n: number) => readLog((s) => s.get(channel, n));
 
 const input = (v: string | undefined) => ({ v: { type: 'number_input', value: v ?? null } });
 const date = (d: string | undefined) => ({ v: { type: 'datepicker', selected_date: d ?? null } });
@@ -171,8 +173,8 @@ describe('a person who never saw the grammar', () => {
       expect(blocksText(answer)).toContain(a);
     }
     expect(blocksText(answer)).not.toContain('kolmo_rerun_mark');
-    await fake.waitFor(() => (readLog((s) => s.get(CHANNEL, 1))?.posted?.files.length ?? 0) > 0, WAIT, 'the chart recorded');
-    const e = readLog((s) => s.get(CHANNEL, 1))!;
+    await untilAsync(async () => ((await entry(CHANNEL, 1))?.posted?.files.length ?? 0) > 0, WAIT, 'the chart recorded');
+    const e = (await entry(CHANNEL, 1))!;
     expect(e.user).toBe(ASKER);
     expect(e.posted?.ts).toEqual([rootTs, tsOf(answer)]);
     expect(e.posted?.files).toHaveLength(1);
@@ -193,7 +195,7 @@ describe('a person who never saw the grammar', () => {
     expect(answer3.body.thread_ts).toBe(rootTs);
     expect(blocksText(answer3)).toContain('vol 31%');
     expect(blocksText(answer3)).toContain('spot 95 ');
-    const [e2, e3] = readLog((s) => [s.get(CHANNEL, 2)!, s.get(CHANNEL, 3)!]);
+    const [e2, e3] = [(await entry(CHANNEL, 2))!, (await entry(CHANNEL, 3))!];
     expect([e2.variedFrom, e3.variedFrom]).toEqual([1, 2]);
     expect(e2.summary.spot).toBe(95);
     expect(e3.summary.vol).toBeCloseTo(0.31, 12);
@@ -215,8 +217,8 @@ describe('a person who never saw the grammar', () => {
 
   it('deletes one: refused for someone else, done for the asker (messages and chart gone, the number kept)', async () => {
     const answer2 = buttonsOf(CHANNEL, 2)!;
-    await fake.waitFor(() => (readLog((s) => s.get(CHANNEL, 2))?.posted?.files.length ?? 0) > 0, WAIT, 'the chart of #2 recorded');
-    const e2 = readLog((s) => s.get(CHANNEL, 2))!;
+    await untilAsync(async () => ((await entry(CHANNEL, 2))?.posted?.files.length ?? 0) > 0, WAIT, 'the chart of #2 recorded');
+    const e2 = (await entry(CHANNEL, 2))!;
     const ephemerals = () => fake.okCallsOf('chat.postEphemeral').filter((c) => c.body.channel === CHANNEL);
     const n0 = ephemerals().length;
     await press({ user: OTHER, channel: CHANNEL, messageTs: tsOf(answer2), threadTs: rootTs, actionId: 'kolmo_delete', value: 'n2' });
@@ -225,7 +227,7 @@ describe('a person who never saw the grammar', () => {
     expect(refusal.body.user).toBe(OTHER);
     expect(String(refusal.body.text)).toContain(`Only <@${ASKER}>, who asked check #2, can delete it.`);
     expect(fake.okCallsOf('chat.delete')).toHaveLength(0);
-    expect(readLog((s) => s.get(CHANNEL, 2))?.deletedAt).toBeNull();
+    expect((await entry(CHANNEL, 2))?.deletedAt).toBeNull();
 
     await press({ user: ASKER, channel: CHANNEL, messageTs: tsOf(answer2), threadTs: rootTs, actionId: 'kolmo_delete', value: 'n2' });
     await fake.waitFor(() => ephemerals().some((c) => String(c.body.text).startsWith('Check #2 is deleted')), WAIT, 'the deletion');
@@ -234,11 +236,11 @@ describe('a person who never saw the grammar', () => {
     for (const f of e2.posted!.files) expect(fake.files.has(f)).toBe(false);
     expect(live).toContain(rootTs); // #1's root line stays
     expect(live).toContain(tsOf(buttonsOf(CHANNEL, 3)!));
-    const t = readLog((s) => s.get(CHANNEL, 2))!;
+    const t = (await entry(CHANNEL, 2))!;
     expect(t.deletedAt).not.toBeNull();
     expect(t.text).toBe('');
     expect(t.summary).toEqual({ position: 'deleted by the asker', deleted: true });
-    expect(readLog((s) => s.recent(CHANNEL, 10).map((e) => e.number))).toEqual([3, 2, 1]);
+    expect((await readLog((s) => s.recent(CHANNEL, 10))).map((e) => e.number)).toEqual([3, 2, 1]);
     // the log lists the tombstone under its number; `again` of it says it was deleted
     await sendSlash(app.port, { text: 'log 5', channel: CHANNEL, user: OTHER, responseUrl: fake.responseUrl('log-del') });
     await sendSlash(app.port, { text: 'again 2', channel: CHANNEL, user: OTHER, responseUrl: fake.responseUrl('again-del') });
@@ -267,7 +269,7 @@ describe('done: the whole story in one test', () => {
     expect(JSON.parse(r.body)).toEqual({ response_action: 'clear' });
     await fake.waitFor(() => buttonsOf(channel, 1) !== undefined, WAIT, 'check #1');
     const rootTs = tsOf(posts(channel)[0]);
-    expect(readLog((s) => s.get(channel, 1))!.text.match(/ call /g)).toHaveLength(2);
+    expect((await entry(channel, 1))!.text.match(/ call /g)).toHaveLength(2);
     // 3. two variations by button, each in the thread, each quoting its typed request
     await press({ user: me, channel, messageTs: tsOf(buttonsOf(channel, 1)!), threadTs: rootTs, actionId: 'kolmo_vary_spot_up', value: 'n1' });
     await fake.waitFor(() => buttonsOf(channel, 2) !== undefined, WAIT, 'check #2');
@@ -277,7 +279,7 @@ describe('done: the whole story in one test', () => {
       expect(buttonsOf(channel, n)!.body.thread_ts).toBe(rootTs);
       expect(blocksText(buttonsOf(channel, n)!)).toContain('Typed, it is: /kolmo ');
     }
-    expect(readLog((s) => [s.get(channel, 2)!.summary.spot, s.get(channel, 3)!.summary.drift])).toEqual([105, 0.045]);
+    expect([(await entry(channel, 2))!.summary.spot, (await entry(channel, 3))!.summary.drift]).toEqual([105, 0.045]);
     // 4. my desk shows both
     const published = fake.okCallsOf('views.publish').length;
     await post(app.port, homeOpenedBody({ user: me, botUserId: FAKE_BOT.user_id }), 'application/json');
@@ -286,12 +288,12 @@ describe('done: the whole story in one test', () => {
     expect(desk).toContain(`"value":"${channel}:n2"`);
     expect(desk).toContain(`"value":"${channel}:n3"`);
     // 5. delete one (once its chart is in the log too)
-    await fake.waitFor(() => (readLog((s) => s.get(channel, 3))!.posted?.files.length ?? 0) > 0, WAIT, 'the chart of #3 recorded');
-    const e3 = readLog((s) => s.get(channel, 3))!;
+    await untilAsync(async () => ((await entry(channel, 3))!.posted?.files.length ?? 0) > 0, WAIT, 'the chart of #3 recorded');
+    const e3 = (await entry(channel, 3))!;
     await press({ user: me, channel, messageTs: tsOf(buttonsOf(channel, 3)!), threadTs: rootTs, actionId: 'kolmo_delete', value: 'n3' });
-    await fake.waitFor(() => readLog((s) => s.get(channel, 3))!.deletedAt !== null, WAIT, 'the tombstone');
+    await untilAsync(async () => (await entry(channel, 3))!.deletedAt !== null, WAIT, 'the tombstone');
     await fake.waitFor(() => e3.posted!.ts.every((ts) => !fake.live(channel).some((m) => m.ts === ts)), WAIT, 'its messages gone');
-    expect(readLog((s) => s.recent(channel, 5).map((e) => [e.number, e.deletedAt === null]))).toEqual([
+    expect((await readLog((s) => s.recent(channel, 5))).map((e) => [e.number, e.deletedAt === null])).toEqual([
       [3, false],
       [2, true],
       [1, true],
@@ -310,8 +312,8 @@ describe('the other buttons and paths', () => {
     await press({ user: ASKER, channel: CHANNEL, messageTs: tsOf(answer1), actionId: 'kolmo_vary_vol_down', value: 'n1' });
     await fake.waitFor(() => buttonsOf(CHANNEL, 5) !== undefined, WAIT, 'check #5');
     expect(blocksText(buttonsOf(CHANNEL, 5)!)).toContain('Vol 5 points lower than #1');
-    expect(readLog((s) => s.get(CHANNEL, 6))).toBeUndefined();
-    expect(readLog((s) => s.get(CHANNEL, 4))?.variedFrom).toBe(1);
+    expect(await entry(CHANNEL, 6)).toBeUndefined();
+    expect((await entry(CHANNEL, 4))?.variedFrom).toBe(1);
   });
 
   it('a press naming a check of another channel finds nothing there', async () => {
@@ -319,7 +321,7 @@ describe('the other buttons and paths', () => {
     await press({ user: ASKER, channel: 'CDESKELSE1', messageTs: '1798761600.000001', actionId: 'kolmo_delete', value: 'n1' });
     await fake.waitFor(() => fake.okCallsOf('chat.postEphemeral').length > n0, WAIT, 'the answer');
     expect(String(fake.okCallsOf('chat.postEphemeral')[n0].body.text)).toContain('Check #1 is not in this conversation’s log');
-    expect(readLog((s) => s.get(CHANNEL, 1))?.deletedAt).toBeNull();
+    expect((await entry(CHANNEL, 1))?.deletedAt).toBeNull();
   });
 
   it('the edit button opens the form pre-filled from the answer; submitted, it is a new check in the thread', async () => {
@@ -350,7 +352,7 @@ describe('the other buttons and paths', () => {
     await fake.waitFor(() => buttonsOf(CHANNEL, 6) !== undefined, WAIT, 'check #6');
     expect(buttonsOf(CHANNEL, 6)!.body.thread_ts).toBe(tsOf(posts(CHANNEL)[0]));
     expect(blocksText(buttonsOf(CHANNEL, 6)!)).toContain('Check #1, edited in the check form. Typed, it is: /kolmo');
-    expect(readLog((s) => s.get(CHANNEL, 6))?.variedFrom).toBe(1);
+    expect((await entry(CHANNEL, 6))?.variedFrom).toBe(1);
   });
 
   it('the form grows by a leg on "Add a leg", keeping what was typed', async () => {
@@ -385,11 +387,11 @@ describe('private checks', () => {
     const a = buttonsOf(DM, 1)!;
     expect(a.body.thread_ts).toBeUndefined();
     expect(blocksText(a)).toContain('kolmo_post');
-    const e = readLog((s) => s.get(`im:${ME}`, 1))!;
+    const e = (await entry(`im:${ME}`, 1))!;
     expect(e.user).toBe(ME);
     // nothing in any channel, and the channel logs know nothing of it
     expect(fake.okCallsOf('chat.postMessage').filter((c) => String(c.body.channel).startsWith('C') && blocksText(c).includes('put 95'))).toHaveLength(0);
-    expect(readLog((s) => s.get(DM, 1))).toBeUndefined();
+    expect(await entry(DM, 1)).toBeUndefined();
     // the bot's own messages are not answered
     await post(app.port, JSON.stringify({ ...JSON.parse(imMessageBody({ user: ME, channel: DM, text: 'help', ts: '1798761600.100002', botUserId: FAKE_BOT.user_id })), event: { type: 'message', channel_type: 'im', channel: DM, bot_id: FAKE_BOT.bot_id, text: 'x', ts: '1798761600.100003' } }), 'application/json');
   });
@@ -431,23 +433,23 @@ describe('personal defaults', () => {
     expect(JSON.parse(good.body)).toEqual({ response_action: 'clear' });
     await fake.waitFor(() => fake.homeOf(ME) !== undefined, WAIT, 'my desk republished');
     expect(JSON.stringify(fake.homeOf(ME)!.view)).toContain('rate 3%, mult 10');
-    expect(readLog((s) => s.getDefaults(ME))).toEqual({ rate: 0.03, mult: 10 });
+    expect(await readLog((s) => s.getDefaults(ME))).toEqual({ rate: 0.03, mult: 10 });
 
     const channel = 'CDESKDEF01';
     await sendSlash(app.port, { text: '+1 call 100 2027-03-19 iv 30% spot 100 asof 2027-01-04', channel, user: ME, responseUrl: fake.responseUrl('def') });
     await fake.waitFor(() => buttonsOf(channel, 1) !== undefined, WAIT, 'the answer');
     expect(blocksText(buttonsOf(channel, 1)!)).toContain('Used your defaults (my desk): rate 3%, mult 10.');
-    const e = readLog((s) => s.get(channel, 1))!;
+    const e = (await entry(channel, 1))!;
     expect(e.text).toBe('+1 call 100 2027-03-19 iv 30% spot 100 asof 2027-01-04 rate 3% mult 10');
     expect(e.summary.rate).toBe(0.03);
     // a rate written in the request wins over the default
     await sendSlash(app.port, { text: '+1 call 100 2027-03-19 iv 30% spot 100 rate 5% asof 2027-01-04', channel, user: ME, responseUrl: fake.responseUrl('def2') });
     await fake.waitFor(() => buttonsOf(channel, 2) !== undefined, WAIT, 'the second answer');
-    expect(readLog((s) => s.get(channel, 2))!.summary.rate).toBe(0.05);
+    expect((await entry(channel, 2))!.summary.rate).toBe(0.05);
     // another person's requests are untouched
     await sendSlash(app.port, { text: '+1 call 100 2027-03-19 iv 30% spot 100 asof 2027-01-04', channel, user: OTHER, responseUrl: fake.responseUrl('def3') });
     await fake.waitFor(() => buttonsOf(channel, 3) !== undefined, WAIT, 'the third answer');
-    expect(readLog((s) => s.get(channel, 3))!.summary.rate).toBe(0);
+    expect((await entry(channel, 3))!.summary.rate).toBe(0);
   });
 });
 

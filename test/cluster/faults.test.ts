@@ -21,7 +21,7 @@ import { join } from 'node:path';
 import { FakeWebApi, type Call } from '../chat/fake-web-api.js';
 import { BOT_TOKEN, MAIN_JS, SECRET, httpEnv, slashBody } from '../chat/harness.js';
 import { signedPost, startIn, until, type App } from '../robust/harness.js';
-import { openDatabase, openStore } from '../../src/verbs/ask.js';
+import { openDatabase } from '../../src/verbs/ask.js';
 import { freshDatabase } from '../support/pg.js';
 import { TcpProxy, targetOf, throughProxy } from '../support/tcp-proxy.js';
 import { clusterCheck } from './harness.js';
@@ -86,11 +86,11 @@ describe('record first, then acknowledge', () => {
     await until(() => completes(channel).length >= 3, WAIT, 'the three answered after the restart');
     const spots = threadAnswers(channel).map((c) => Number(/· spot (\d+)/.exec(String(c.body.text))?.[1]));
     expect(spots).toEqual([101, 102, 103]);
-    const s = openStore(join(dir, 'kolmo.db'), { readonly: true });
+    const s = await openDatabase({ backend: 'sqlite', path: join(dir, 'kolmo.db') }, { readonly: true });
     try {
-      expect(s.recent(channel, 10).map((e) => e.number)).toEqual([3, 2, 1]);
+      expect((await s.recent(channel, 10)).map((e) => e.number)).toEqual([3, 2, 1]);
     } finally {
-      s.close();
+      await s.close();
     }
     expect(await app.stop()).toBe(0);
   });

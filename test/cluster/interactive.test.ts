@@ -20,7 +20,7 @@ import { join } from 'node:path';
 import { FakeWebApi, FAKE_BOT, type Call } from '../chat/fake-web-api.js';
 import { actionBody, homeOpenedBody, httpEnv, imMessageBody, slashBody, viewSubmissionBody } from '../chat/harness.js';
 import { signedPost, startIn, until } from '../robust/harness.js';
-import { openDatabase, openStore, type AsyncStore } from '../../src/verbs/ask.js';
+import { openDatabase, type AsyncStore } from '../../src/verbs/ask.js';
 import { freshDatabase } from '../support/pg.js';
 import { clusterCheck, startCluster, type Instance } from './harness.js';
 
@@ -183,14 +183,14 @@ describe('one instance on SQLite', () => {
       app = await startIn(dir, env);
       await until(() => charts().length === 2, WAIT, 'check #2 answered after the restart');
       expect(posts().filter((x) => blocks(x).includes('Spot 5% lower than #1'))).toHaveLength(1);
-      const s = openStore(join(dir, 'kolmo.db'), { readonly: true });
+      const s = await openDatabase({ backend: 'sqlite', path: join(dir, 'kolmo.db') }, { readonly: true });
       try {
-        expect(s.recent(channel, 10).map((e) => [e.number, e.variedFrom ?? null])).toEqual([
+        expect((await s.recent(channel, 10)).map((e) => [e.number, e.variedFrom ?? null])).toEqual([
           [2, 1],
           [1, null],
         ]);
       } finally {
-        s.close();
+        await s.close();
       }
     } finally {
       await app.stop();

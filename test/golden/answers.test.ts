@@ -14,12 +14,12 @@ import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { afterAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { answerLocal, replyText, CONSOLE_EXAMPLES, DEMO_MARKS } from '../../src/cli.js';
 import { helpExamples, helpTopics } from '../../src/request/help.js';
 import { canonicalExamples } from '../support/examples.js';
 import type { Reply } from '../../src/reply.js';
-import { openStore, asyncOf } from '../../src/store/store.js';
+import { openDatabase, type AsyncStore } from '../../src/store/store.js';
 
 const GOLDEN = fileURLToPath(new URL('./answers.json', import.meta.url));
 const NOW = new Date('2027-01-04T15:30:00Z');
@@ -66,18 +66,20 @@ function record(text: string, r: Reply) {
 
 describe('answers to the help examples are unchanged', () => {
   const dir = mkdtempSync(join(tmpdir(), 'kolmo-golden-'));
-  const store = openStore(join(dir, 'log.db'));
-  afterAll(() => {
-    store.close();
+  let log: AsyncStore;
+  beforeAll(async () => {
+    log = await openDatabase({ backend: 'sqlite', path: join(dir, 'log.db') });
+    for (const m of DEMO_MARKS) {
+      await log.putMark({ channel: 'cli', symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, user: 'demo', at: '2027-01-04T09:00:00.000Z' });
+    }
+    await log.putMark({ channel: 'cli', symbol: 'QUILLOP', spot: 41.05, iv: 0.36, rate: 0.0425, user: 'demo', at: '2027-01-02T09:00:00.000Z' });
+  });
+  afterAll(async () => {
+    await log?.close();
     rmSync(dir, { recursive: true, force: true });
   });
-  for (const m of DEMO_MARKS) {
-    store.putMark({ channel: 'cli', symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, user: 'demo', at: '2027-01-04T09:00:00.000Z' });
-  }
-  store.putMark({ channel: 'cli', symbol: 'QUILLOP', spot: 41.05, iv: 0.36, rate: 0.0425, user: 'demo', at: '2027-01-02T09:00:00.000Z' });
 
   it('byte for byte', async () => {
-    const log = asyncOf(store, 'golden');
     const got = [];
     for (const text of requests()) got.push(record(text, await answerLocal(text, { channel: 'cli', user: 'golden', now: NOW, store: log })));
     if (process.env.KOLMO_GOLDEN_WRITE === '1') writeFileSync(GOLDEN, JSON.stringify(got, null, 1) + '\n');

@@ -13,7 +13,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { FakeWebApi, type Call } from '../chat/fake-web-api.js';
 import { BOT_TOKEN, SECRET, httpEnv, sendSlash } from '../chat/harness.js';
-import { openStore } from '../../src/store/store.js';
+import { openDatabase } from '../../src/store/store.js';
 import { signedPost, startIn, until, type App } from './harness.js';
 
 const WAIT = 45000;
@@ -46,12 +46,12 @@ afterAll(async () => {
 const responses = (id: string): Call[] => fake.okCallsOf('response').filter((c) => c.body.response_id === id);
 const said = (id: string) => responses(id).map((c) => `${String(c.body.text)}\n${JSON.stringify(c.body.blocks)}`).join('\n');
 const inChannel = (method: string, channel: string): Call[] => fake.okCallsOf(method).filter((c) => (c.body.channel ?? c.body.channel_id) === channel);
-function entries(channel: string) {
-  const s = openStore(join(dir, 'kolmo.db'), { readonly: true });
+async function entries(channel: string) {
+  const s = await openDatabase({ backend: 'sqlite', path: join(dir, 'kolmo.db') }, { readonly: true });
   try {
-    return s.recent(channel, 1000);
+    return await s.recent(channel, 1000);
   } finally {
-    s.close();
+    await s.close();
   }
 }
 
@@ -80,12 +80,12 @@ describe('abuse and bad input', () => {
     expect(msg).toMatch(/\^{5}/); // quoted with a caret under `jumps`, the term that makes it costly
     expect(responses('budget-big')[0].body.response_type).toBe('ephemeral');
     expect(inChannel('chat.postMessage', channel)).toHaveLength(0);
-    expect(entries(channel)).toHaveLength(0);
+    expect(await entries(channel)).toHaveLength(0);
     const small = 'check +1 p 95 3m iv 30% spot 100 rate 4% drift 8% asof 2027-01-04 style american';
     await sendSlash(app.port, { text: small, channel, user: 'UBUDGET001', responseUrl: fake.responseUrl('budget-small') });
     await until(() => inChannel('files.completeUploadExternal', channel).length > 0, WAIT, 'the small check answered with its chart');
     expect(said('budget-small')).not.toMatch(/units of computing/);
-    expect(entries(channel)).toHaveLength(1);
+    expect(await entries(channel)).toHaveLength(1);
   });
 
   it('one user over the rate limit is told politely once; the next user is answered', async () => {
@@ -117,7 +117,7 @@ describe('abuse and bad input', () => {
     const seenFromOther = said('log-other') + said('again-other') + inChannel('chat.postMessage', other).map((c) => JSON.stringify(c.body)).join('');
     expect(seenFromOther).not.toMatch(/137/);
     expect(seenFromOther).not.toContain('ULOGOWNER1');
-    expect(entries(other)).toHaveLength(0);
+    expect(await entries(other)).toHaveLength(0);
     // the control: from its own channel the same `log` does show it
     const own = said('log-own') + inChannel('chat.postMessage', mine).slice(2).map((c) => JSON.stringify(c.body)).join('');
     expect(own).toMatch(/137/);

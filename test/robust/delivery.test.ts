@@ -14,8 +14,8 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { FakeWebApi, FAKE_BOT, type Call } from '../chat/fake-web-api.js';
 import { APP_TOKEN, BOT_TOKEN, httpEnv, mentionBody, sendSlash, slashBody } from '../chat/harness.js';
-import { openStore } from '../../src/store/store.js';
-import { FaultProxy, signedPost, startIn, until, type App } from './harness.js';
+import { openDatabase } from '../../src/store/store.js';
+import { FaultProxy, signedPost, startIn, until, untilAsync, type App } from './harness.js';
 
 const WAIT = 45000;
 const check = (spot = 100) =>
@@ -55,12 +55,12 @@ const inChannel = (method: string, channel: string): Call[] =>
 const completes = (channel: string) => inChannel('files.completeUploadExternal', channel);
 const roots = (channel: string) => inChannel('chat.postMessage', channel).filter((c) => c.body.thread_ts === undefined);
 const responses = (id: string) => fake.okCallsOf('response').filter((c) => c.body.response_id === id);
-function entries(dir: string, channel: string) {
-  const s = openStore(join(dir, 'kolmo.db'), { readonly: true });
+async function entries(dir: string, channel: string) {
+  const s = await openDatabase({ backend: 'sqlite', path: join(dir, 'kolmo.db') }, { readonly: true });
   try {
-    return s.recent(channel, 1000);
+    return await s.recent(channel, 1000);
   } finally {
-    s.close();
+    await s.close();
   }
 }
 /** the spots of the answers posted in the channel's threads, in posting order */
@@ -90,7 +90,7 @@ describe('re-sent deliveries are answered and logged once', () => {
     await until(() => inChannel('chat.postEphemeral', channel).length > 0, WAIT, 'the help after the re-sent event');
     expect(completes(channel)).toHaveLength(1);
     expect(roots(channel)).toHaveLength(1);
-    expect(entries(dir, channel)).toHaveLength(1);
+    expect(await entries(dir, channel)).toHaveLength(1);
     expect(app.lines.find((l) => l.outcome === 'duplicate' && l.channel === channel)).toMatchObject({ retryNum: 1, retryReason: 'http_timeout' });
   });
 
@@ -104,7 +104,7 @@ describe('re-sent deliveries are answered and logged once', () => {
     await until(() => responses('dup-cmd-help').length > 0, WAIT, 'the help after the re-sent command');
     expect(completes(channel)).toHaveLength(1);
     expect(roots(channel)).toHaveLength(1);
-    expect(entries(dir, channel)).toHaveLength(1);
+    expect(await entries(dir, channel)).toHaveLength(1);
   });
 
   it('an event re-sent after a restart is still recognised', async () => {
@@ -118,7 +118,7 @@ describe('re-sent deliveries are answered and logged once', () => {
     await signedPost(app.port, mentionBody({ text: 'help', channel, ts: '1798800101.000100', botUserId: FAKE_BOT.user_id }), 'application/json');
     await until(() => inChannel('chat.postEphemeral', channel).length > 0, WAIT, 'the help after the restart');
     expect(completes(channel)).toHaveLength(1);
-    expect(entries(dir, channel)).toHaveLength(1);
+    expect(await entries(dir, channel)).toHaveLength(1);
   });
 });
 
@@ -137,7 +137,7 @@ describe('re-sent Socket Mode envelopes are answered once', () => {
     fake.sendEnvelope({ envelope_id: 'env-dup-3', type: 'slash_commands', accepts_response_payload: true, payload: help });
     await until(() => responses('dup-sock-help').length > 0, WAIT, 'the help after the re-sent envelope');
     expect(completes(channel)).toHaveLength(1);
-    expect(entries(dir, channel)).toHaveLength(1);
+    expect(await entries(dir, channel)).toHaveLength(1);
     expect(await sock.stop()).toBe(0);
   });
 });
@@ -182,7 +182,7 @@ describe('platform faults are retried within limits', () => {
     expect(String(told[0].body.text)).toMatch(/HTTP 503/);
     expect(String(told[0].body.text)).toMatch(/in the log as #1/);
     expect(JSON.stringify(told[0].body.blocks)).toMatch(/call 105/); // the answer itself comes with it
-    const e = entries(dir, channel);
+    const e = await entries(dir, channel);
     expect(e).toHaveLength(1);
     expect(e[0].delivered).toBe('undelivered');
     expect(app.lines.find((l) => l.msg === 'request' && l.channel === channel)).toMatchObject({ outcome: 'undelivered' });
@@ -197,7 +197,7 @@ describe('platform faults are retried within limits', () => {
     await sendSlash(app.port, { text: check(), channel: other, responseUrl: fake.responseUrl('hour-other') });
     await until(() => completes(other).length > 0 && responses('hour').length > 0, WAIT, 'the other channel answered and the asker told');
     expect(String(responses('hour')[0].body.text)).toMatch(/rate-limit/);
-    expect(entries(dir, slow)[0].delivered).toBe('undelivered');
+    expect((await entries(dir, slow))[0].delivered).toBe('undelivered');
   });
 });
 
@@ -219,8 +219,8 @@ describe('shutdown and restart', () => {
     await until(() => completes(channel).length >= 6, WAIT * 2, 'all six answered across the restart');
     expect(threadSpots(channel)).toEqual([101, 102, 103, 104, 105, 106]);
     // the delivery state is written just after the last upload completes at the fake
-    await until(() => entries(dir, channel).every((x) => x.delivered === 'delivered'), WAIT, 'every entry marked delivered');
-    const e = entries(dir, channel);
+    await untilAsync(async () => (await entries(dir, channel)).every((x) => x.delivered === 'delivered'), WAIT, 'every entry marked delivered');
+    const e = await entries(dir, channel);
     expect(e.map((x) => x.number).sort((a, b) => a - b)).toEqual([1, 2, 3, 4, 5, 6]);
     expect(e.every((x) => x.delivered === 'delivered')).toBe(true);
     expect(app.lines.some((l) => l.msg === 'picked up requests left by the previous run')).toBe(true);
@@ -238,10 +238,10 @@ describe('shutdown and restart', () => {
     const titles = () => new Set(completes(channel).map((c) => (c.body.files as Array<{ title?: string }>)[0]?.title));
     await until(() => titles().size >= 4, WAIT * 2, 'all four answered across the crash');
     expect([...titles()].sort()).toEqual(['Check #1', 'Check #2', 'Check #3', 'Check #4']);
-    const e = entries(dir, channel);
+    const e = await entries(dir, channel);
     expect(e).toHaveLength(4);
     expect(new Set(e.map((x) => x.at)).size).toBe(4);
-    await until(() => entries(dir, channel).every((x) => x.delivered === 'delivered'), WAIT, 'every entry delivered');
+    await untilAsync(async () => (await entries(dir, channel)).every((x) => x.delivered === 'delivered'), WAIT, 'every entry delivered');
     expect(await app.stop()).toBe(0);
   });
 });

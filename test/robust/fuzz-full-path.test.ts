@@ -21,9 +21,8 @@ import { describe, it, expect } from 'vitest';
 import fc from 'fast-check';
 import { ask } from '../../src/verbs/ask.js';
 import { renderAnswerChart } from '../../src/report/answer-chart.js';
-import { asyncOf, openStore } from '../../src/store/store.js';
+import { openDatabase, type AsyncStore } from '../../src/store/store.js';
 
-type Store = ReturnType<typeof openStore>;
 import { COMPUTE_BUDGET_DEFAULT, overBudget } from '../../src/verbs/ask.js';
 
 const RUNS = Number(process.env.KOLMO_FUZZ_RUNS ?? 100_000);
@@ -204,12 +203,13 @@ interface Tally {
 describe('the full request path on 100,000 generated and mutated requests', () => {
   it('never crashes, never shows NaN or Infinity, rejects with clear messages', { timeout: 600_000 }, async () => {
     const t: Tally = { requests: 0, answers: 0, rejections: 0, notYet: 0, overBudget: 0, charts: 0, chartNotes: 0, answersWithChart: 0 };
-    let store: Store = openStore(':memory:');
-    const seedStore = async (s: Store) => {
+    const memory = () => openDatabase({ backend: 'sqlite', path: ':memory:' });
+    let store: AsyncStore = await memory();
+    const seedStore = async (s: AsyncStore) => {
       // a mark for `on FERNWK` and a few log entries for `again N` and `log`
-      await ask('mark FERNWK spot 84.20 iv 31% yield 1.2%', { channel: 'CFUZZ00001', user: 'UFUZZ00001', now: NOW, store: asyncOf(s, ':memory:'), inWorkspace: true });
+      await ask('mark FERNWK spot 84.20 iv 31% yield 1.2%', { channel: 'CFUZZ00001', user: 'UFUZZ00001', now: NOW, store: s, inWorkspace: true });
       for (let i = 0; i < 3; i++) {
-        await ask(`check +1 call ${90 + i * 5} 2027-03-19 iv 28% spot 100 rate 4.5% drift 8% asof 2027-01-04`, { channel: 'CFUZZ00001', user: 'UFUZZ00001', now: NOW, store: asyncOf(s, ':memory:'), inWorkspace: true });
+        await ask(`check +1 call ${90 + i * 5} 2027-03-19 iv 28% spot 100 rate 4.5% drift 8% asof 2027-01-04`, { channel: 'CFUZZ00001', user: 'UFUZZ00001', now: NOW, store: s, inWorkspace: true });
       }
     };
     await seedStore(store);
@@ -219,12 +219,12 @@ describe('the full request path on 100,000 generated and mutated requests', () =
         t.requests++;
         if (t.requests % 5000 === 0) {
           // a fresh log now and then keeps memory flat over 100,000 checks
-          store.close();
-          store = openStore(':memory:');
+          await store.close();
+          store = await memory();
           await seedStore(store);
         }
         const refused = overBudget(text, COMPUTE_BUDGET_DEFAULT);
-        const reply = refused ?? (await ask(text, { channel: 'CFUZZ00001', user: 'UFUZZ00001', now: NOW, store: asyncOf(store, ':memory:'), inWorkspace: true }));
+        const reply = refused ?? (await ask(text, { channel: 'CFUZZ00001', user: 'UFUZZ00001', now: NOW, store, inWorkspace: true }));
         if (refused) t.overBudget++;
         if (reply.kind === 'rejected') {
           t.rejections++;

@@ -39,13 +39,18 @@ export async function startIn(dir: string, env: Record<string, string>, timeoutM
   };
 }
 
-/** Resolves once `pred` holds, polling every 25 ms; throws after `timeoutMs`. */
-export async function until(pred: () => boolean, timeoutMs: number, what: string): Promise<void> {
+/** Resolves once the async `pred` holds (one check at a time), polling every 25 ms; throws after `timeoutMs`. */
+export async function untilAsync(pred: () => Promise<boolean>, timeoutMs: number, what: string): Promise<void> {
   const deadline = performance.now() + timeoutMs;
-  while (!pred()) {
+  while (!(await pred())) {
     if (performance.now() > deadline) throw new Error(`timed out after ${timeoutMs} ms waiting for ${what}`);
     await new Promise((r) => setTimeout(r, 25));
   }
+}
+
+/** Resolves once `pred` holds, polling every 25 ms; throws after `timeoutMs`. */
+export function until(pred: () => boolean, timeoutMs: number, what: string): Promise<void> {
+  return untilAsync(async () => pred(), timeoutMs, what);
 }
 
 type Mode = 'drop' | 'hang';

@@ -14,8 +14,8 @@ import { money, pct } from '../../src/report/format.js';
 import { SPREAD, answered, ask, at, desk, figures, rejected, type Desk } from './helpers.js';
 
 let d: Desk;
-beforeEach(() => {
-  d = desk();
+beforeEach(async () => {
+  d = await desk();
 });
 afterEach(() => d.close());
 
@@ -29,7 +29,7 @@ describe('again of a check', () => {
     expect(figures(b.json)).toEqual(figures(a.json));
     expect(b.text).toContain('changed: nothing');
     expect(b.headline).toMatch(/^again #1 · /);
-    expect(d.store.get('C0DESKA', 2)!.text).toBe(SPREAD);
+    expect((await d.store.get('C0DESKA', 2))!.text).toBe(SPREAD);
   });
 
   it('with terms: the same as the merged request asked directly, says what changed and the change in chance of profit and expected P&L', async () => {
@@ -73,7 +73,7 @@ describe('again of a check', () => {
     const r = rejected(await ask(d.store, 'again 1 vol 0.3'));
     expect(r.at).toBe('again 1 '.length + 'vol '.length);
     expect(r.message).toContain('30%');
-    expect(d.store.recent('C0DESKA', 10)).toHaveLength(1);
+    expect(await d.store.recent('C0DESKA', 10)).toHaveLength(1);
   });
 
   it('a change the rerun cannot take (a horizon after the expiry) quotes the request that was run', async () => {
@@ -81,7 +81,7 @@ describe('again of a check', () => {
     const r = rejected(await ask(d.store, 'again 1 horizon 2027-06-01'));
     expect(r.message).toContain('again 1 reruns check #1');
     expect(r.message).toContain('horizon 2027-06-01');
-    expect(d.store.recent('C0DESKA', 10)).toHaveLength(1);
+    expect(await d.store.recent('C0DESKA', 10)).toHaveLength(1);
   });
 });
 
@@ -97,7 +97,7 @@ describe('again of every verb', () => {
     expect(b.text).toContain('part 1: spot 100 → 98');
     expect(b.text).toContain('part 3: spot 100 → 98');
     expect((b.chart as { kind: string }).kind).toBe('compare');
-    expect(d.store.get('C0DESKA', 2)!.verb).toBe('compare');
+    expect((await d.store.get('C0DESKA', 2))!.verb).toBe('compare');
   });
 
   it('an iv request: the new price gives the iv of the request written out, and the change in iv', async () => {
@@ -135,7 +135,7 @@ describe('again of every verb', () => {
   it('again of an again entry reruns the request that entry ran', async () => {
     answered(await ask(d.store, SPREAD));
     const b = answered(await ask(d.store, 'again 1 spot 103'));
-    expect(d.store.get('C0DESKA', 2)!.text).toContain('spot 103');
+    expect((await d.store.get('C0DESKA', 2))!.text).toContain('spot 103');
     const c = answered(await ask(d.store, 'again 2', { now: at(50) }));
     expect(figures(c.json)).toEqual(figures(b.json));
     const e = answered(await ask(d.store, 'again 2 drift 0%'));
@@ -163,7 +163,7 @@ describe('again of a check on a mark', () => {
   it('reruns as logged by default (the marks it used, kept in the log), and on today\'s mark with `now`', async () => {
     answered(await ask(d.store, 'mark FERNWK spot 84.20 iv 31% yield 1.2% rate 4.5%'));
     answered(await ask(d.store, ON, { now: at(1) }));
-    expect((d.store.get('C0DESKA', 1)!.summary.marks as { symbol: string; spot: number }[])[0]).toMatchObject({ symbol: 'FERNWK', spot: 84.2 });
+    expect(((await d.store.get('C0DESKA', 1))!.summary.marks as { symbol: string; spot: number }[])[0]).toMatchObject({ symbol: 'FERNWK', spot: 84.2 });
     answered(await ask(d.store, 'mark FERNWK spot 90', { now: at(2) }));
     const logged = answered(await ask(d.store, 'again 1', { now: at(3) }));
     expect(figures(logged.json)).toEqual(figures(answered(await ask(d.store, written('84.20'))).json));

@@ -11,8 +11,8 @@ import { CAUTION } from '../../src/reply.js';
 import { answered, ask, at, desk, type Desk } from './helpers.js';
 
 let d: Desk;
-beforeEach(() => {
-  d = desk();
+beforeEach(async () => {
+  d = await desk();
 });
 afterEach(() => d.close());
 
@@ -64,7 +64,7 @@ describe('the table reads right in a chat window', () => {
     expect(v.text).toMatch(/Gauss-Legendre/);
     // the word is not part of the check: the same JSON, and the log keeps the request without it
     expect(v.json).toEqual(r.json);
-    expect(d.store.get('C0DESKA', v.logNumber!)!.text).not.toMatch(/verbose/);
+    expect((await d.store.get('C0DESKA', v.logNumber!))!.text).not.toMatch(/verbose/);
     const c = answered(await ask(d.store, `compare +1 call 100 2027-03-19 iv 30% ${MKT} ; +1 call 105 2027-03-19 iv 30% ${MKT} verbose`));
     expect(c.text).toMatch(/Note[^:]*: (values|outcome):/);
   });

@@ -15,8 +15,8 @@ import { money, pct } from '../../src/report/format.js';
 import { SPREAD, answered, ask, desk, figures, numbersIn, rejected, type Desk } from './helpers.js';
 
 let d: Desk;
-beforeEach(() => {
-  d = desk();
+beforeEach(async () => {
+  d = await desk();
 });
 afterEach(() => d.close());
 
@@ -66,7 +66,7 @@ describe('compare', () => {
     const a = answered(await ask(d.store, six));
     expect(checksOf(a)).toHaveLength(6);
     expect(a.logNumber).toBe(1);
-    const entries = d.store.recent('C0DESKA', 10);
+    const entries = (await d.store.recent('C0DESKA', 10));
     expect(entries).toHaveLength(1);
     expect(entries[0]).toMatchObject({ verb: 'compare', text: six });
     expect((entries[0].summary.parts as unknown[]).length).toBe(6);
@@ -81,7 +81,7 @@ describe('compare', () => {
     expect(r.at).toBe(seven.indexOf('drift 6%'));
     // the example is the asker's own comparison without the parts beyond six
     expect(r.message.split('\n').at(-1)).toBe(`Example: compare ${SPREAD} ; drift 1% ; drift 2% ; drift 3% ; drift 4% ; drift 5%`);
-    expect(d.store.recent('C0DESKA', 10)).toEqual([]);
+    expect(await d.store.recent('C0DESKA', 10)).toEqual([]);
   });
 
   it('a part that cannot be resolved is named, with the caret in the whole request', async () => {
@@ -89,7 +89,7 @@ describe('compare', () => {
     const r = rejected(await ask(d.store, text));
     expect(r.message).toContain('part 2 of the comparison');
     expect(r.at).toBeGreaterThanOrEqual(text.indexOf('horizon 2027-06-01'));
-    expect(d.store.recent('C0DESKA', 10)).toEqual([]);
+    expect(await d.store.recent('C0DESKA', 10)).toEqual([]);
   });
 
   it('a call beside a put satisfies put-call parity and matches the textbook example', async () => {

@@ -21,8 +21,8 @@ import { resolveCheck } from '../../src/request/resolve.js';
 import { answered, ask, desk, numbersIn, rejected, type Desk } from './helpers.js';
 
 let d: Desk;
-beforeEach(() => {
-  d = desk();
+beforeEach(async () => {
+  d = await desk();
 });
 afterEach(() => d.close());
 

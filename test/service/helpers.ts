@@ -4,35 +4,34 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { ask as askSeam, type AskContext } from '../../src/verbs/ask.js';
 import type { Answer, Rejection, Reply } from '../../src/reply.js';
-import { asyncOf, openStore, type OpenOptions } from '../../src/store/store.js';
-
-type Store = ReturnType<typeof openStore>;
+import { openDatabase, type AsyncStore, type DatabaseOptions } from '../../src/store/store.js';
 
 export interface Desk {
   dir: string;
   path: string;
-  store: Store;
-  open(opts?: OpenOptions): Store;
-  close(): void;
+  store: AsyncStore;
+  /** another connection to the same file (read-only, size-capped…) */
+  open(opts?: DatabaseOptions): Promise<AsyncStore>;
+  close(): Promise<void>;
 }
 
-export function desk(): Desk {
+export async function desk(): Promise<Desk> {
   const dir = mkdtempSync(join(tmpdir(), 'kolmo-service-test-'));
   const path = join(dir, 'log.db');
-  const opened: Store[] = [];
-  const open = (opts?: OpenOptions) => {
-    const s = openStore(path, opts);
+  const opened: AsyncStore[] = [];
+  const open = async (opts?: DatabaseOptions) => {
+    const s = await openDatabase({ backend: 'sqlite', path }, opts);
     opened.push(s);
     return s;
   };
-  const store = open();
+  const store = await open();
   return {
     dir,
     path,
     store,
     open,
-    close() {
-      for (const s of opened) s.close();
+    async close() {
+      for (const s of opened) await s.close();
       rmSync(dir, { recursive: true, force: true });
     },
   };
@@ -44,9 +43,9 @@ export function at(hoursAfterT0: number): Date {
   return new Date(T0.getTime() + hoursAfterT0 * 3_600_000);
 }
 
-/** Asks the seam with the desk's log (the SQLite file, through the async interface). */
-export function ask(store: Store | null, text: string, ctx: Partial<AskContext> = {}): Promise<Reply> {
-  return askSeam(text, { channel: 'C0DESKA', user: 'U0ALICE', now: T0, store: store ? asyncOf(store, 'test') : null, ...ctx });
+/** Asks the seam with the desk's log (the SQLite file). */
+export function ask(store: AsyncStore | null, text: string, ctx: Partial<AskContext> = {}): Promise<Reply> {
+  return askSeam(text, { channel: 'C0DESKA', user: 'U0ALICE', now: T0, store, ...ctx });
 }
 
 export function answered(r: Reply): Answer {

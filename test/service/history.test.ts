@@ -18,8 +18,8 @@ type J = Record<string, any>;
 const csv = (rows: [string, number][], head = 'date,close') => Buffer.from([head, ...rows.map(([d, c]) => `${d},${c}`)].join('\n')).toString('base64');
 
 let d: Desk;
-beforeEach(() => {
-  d = desk();
+beforeEach(async () => {
+  d = await desk();
 });
 afterEach(() => d.close());
 
@@ -65,7 +65,7 @@ describe('history', () => {
   it('save puts vol and drift ± s.e. into the mark; the next `on SYMBOL` check uses them as its view', async () => {
     answered(await ask(d.store, 'mark FERNWK spot 84.20 iv 31% yield 1.2% rate 4.5%'));
     const h = answered(await ask(d.store, `history FERNWK ${HULL} save`)).json as J;
-    const m = d.store.getMark('C0DESKA', 'FERNWK')!;
+    const m = (await d.store.getMark('C0DESKA', 'FERNWK'))!;
     expect(m).toMatchObject({ spot: 84.2, iv: 0.31, yield: 0.012, rate: 0.045 });
     expect(m.vol).toBe(h.vol);
     expect(m.drift).toBe(h.drift);
@@ -79,12 +79,12 @@ describe('history', () => {
     expect(c2.view.driftSe).toBeUndefined();
     // without a mark, save makes one at the last close
     answered(await ask(d.store, `history QUILLOP ${HULL} save`));
-    expect(d.store.getMark('C0DESKA', 'QUILLOP')).toMatchObject({ spot: 22, vol: h.vol });
+    expect(await d.store.getMark('C0DESKA', 'QUILLOP')).toMatchObject({ spot: 22, vol: h.vol });
   });
 
   it('a mark can carry a drift with its uncertainty and a vol', async () => {
     answered(await ask(d.store, 'mark FERNWK spot 84.20 iv 31% drift 9% ± 6% vol 28%'));
-    expect(d.store.getMark('C0DESKA', 'FERNWK')).toMatchObject({ drift: 0.09, driftSe: 0.06, vol: 0.28 });
+    expect(await d.store.getMark('C0DESKA', 'FERNWK')).toMatchObject({ drift: 0.09, driftSe: 0.06, vol: 0.28 });
     const t = answered(await ask(d.store, 'touch 100 by 2027-12-17 on FERNWK')).json as J;
     expect(t.view).toMatchObject({ drift: 0.09, driftSe: 0.06, vol: 0.28 });
     expect(answered(await ask(d.store, 'mark')).text).toMatch(/drift 9% ± 6%/);
@@ -105,7 +105,7 @@ describe('history', () => {
     expect(rejected(await ask(d.store, few)).message).toMatch(/at least 10/);
     expect(rejected(await ask(d.store, 'history FERNWK 1 2 x3')).at).toBe('history FERNWK 1 2 '.length);
     expect(rejected(await ask(d.store, 'history 42')).message).toMatch(/not a symbol/);
-    expect(d.store.getCloses('C0DESKA', 'FERNWK')).toEqual([]);
+    expect(await d.store.getCloses('C0DESKA', 'FERNWK')).toEqual([]);
   });
 
   it('a file that is not text, or with a bad line, is refused with its line named', async () => {
@@ -127,16 +127,16 @@ describe('history', () => {
 
 describe('history save', () => {
   it('estimates a check could not use (beyond the request limits) are not saved, and the answer says why', async () => {
-    const dd = desk();
+    const dd = await desk();
     try {
       // ten closes doubling every day: a drift far beyond 200% a year
       const wild = `history FERNWK ${Array.from({ length: 10 }, (_, i) => (10 * 2 ** i * (1 + 0.02 * (-1) ** i)).toFixed(2)).join(" ")} save`;
       const a = answered(await ask(dd.store, wild));
       expect(a.text).toMatch(/Not saved into the mark FERNWK: drift .* is outside −?200% … 200%/);
       expect((a.json as J).notSaved).toBeDefined();
-      expect(dd.store.getMark('C0DESKA', 'FERNWK')).toBeUndefined();
+      expect(await dd.store.getMark('C0DESKA', 'FERNWK')).toBeUndefined();
     } finally {
-      dd.close();
+      await dd.close();
     }
   });
 });

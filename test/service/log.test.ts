@@ -14,8 +14,8 @@ import { pct } from '../../src/report/format.js';
 import { SPREAD, answered, ask, at, desk, numbersIn, rejected, type Desk } from './helpers.js';
 
 let d: Desk;
-beforeEach(() => {
-  d = desk();
+beforeEach(async () => {
+  d = await desk();
 });
 afterEach(() => d.close());
 
@@ -36,18 +36,18 @@ describe('numbering and what is logged', () => {
     expect(answered(await ask(s, IV)).logNumber).toBe(3);
     expect(answered(await ask(s, TOUCH)).logNumber).toBe(4);
     expect(answered(await ask(s, 'again 1')).logNumber).toBe(5);
-    expect(s.recent('C0DESKA', 100).map((e) => e.number)).toEqual([5, 4, 3, 2, 1]);
-    expect(s.recent('C0DESKA', 100).map((e) => e.verb)).toEqual(['check', 'touch', 'iv', 'compare', 'check']);
-    expect(s.rejectedCount('C0DESKA')).toBe(1);
+    expect((await s.recent('C0DESKA', 100)).map((e) => e.number)).toEqual([5, 4, 3, 2, 1]);
+    expect((await s.recent('C0DESKA', 100)).map((e) => e.verb)).toEqual(['check', 'touch', 'iv', 'compare', 'check']);
+    expect(await s.rejectedCount('C0DESKA')).toBe(1);
     // a request refused after reading (no such check) counts as rejected too, and takes no number
     rejected(await ask(s, 'again 99'));
-    expect(s.rejectedCount('C0DESKA')).toBe(2);
+    expect(await s.rejectedCount('C0DESKA')).toBe(2);
     expect(answered(await ask(s, TOUCH)).logNumber).toBe(6);
   });
 
   it('stores who, when, the request as typed, the parsed request and the figures of the answer', async () => {
     const a = answered(await ask(d.store, SPREAD, { user: 'U0BOB', now: at(2) }));
-    const e = d.store.get('C0DESKA', a.logNumber!)!;
+    const e = (await d.store.get('C0DESKA', a.logNumber!))!;
     expect(e.user).toBe('U0BOB');
     expect(e.at).toBe(at(2).toISOString());
     expect(e.text).toBe(SPREAD);
@@ -100,8 +100,8 @@ describe('log [N]', () => {
     const s = d.store;
     answered(await ask(s, SPREAD));
     answered(await ask(s, PUT));
-    s.setThread('C0DESKA', 1, '1700000000.000100', 'https://desk.example.test/archives/C0DESKA/p1700000000000100');
-    s.setThread('C0DESKA', 2, '1700000000.000200', 'javascript:alert(1)');
+    await s.setThread('C0DESKA', 1, '1700000000.000100', 'https://desk.example.test/archives/C0DESKA/p1700000000000100');
+    await s.setThread('C0DESKA', 2, '1700000000.000200', 'javascript:alert(1)');
     const ws = answered(await ask(s, 'log', { inWorkspace: true }));
     expect(ws.links).toEqual([{ label: '#1', url: 'https://desk.example.test/archives/C0DESKA/p1700000000000100' }]);
     expect(ws.text).not.toContain('https://');

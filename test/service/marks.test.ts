@@ -12,8 +12,8 @@ import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { answered, ask, at, desk, figures, rejected, type Desk } from './helpers.js';
 
 let d: Desk;
-beforeEach(() => {
-  d = desk();
+beforeEach(async () => {
+  d = await desk();
 });
 afterEach(() => d.close());
 
@@ -27,20 +27,20 @@ describe('mark SYMBOL …', () => {
     expect(r.ephemeral).toBe(false);
     expect(r.logNumber).toBeUndefined();
     expect(r.json).toMatchObject({ kind: 'mark', symbol: 'FERNWK', spot: 84.2, iv: 0.31, yield: 0.012, rate: 0.045, user: 'U0BOB' });
-    expect(d.store.getMark('C0DESKA', 'FERNWK')).toMatchObject({ spot: 84.2, user: 'U0BOB', at: '2027-01-04T14:00:00.000Z' });
-    expect(d.store.recent('C0DESKA', 10)).toEqual([]);
+    expect(await d.store.getMark('C0DESKA', 'FERNWK')).toMatchObject({ spot: 84.2, user: 'U0BOB', at: '2027-01-04T14:00:00.000Z' });
+    expect(await d.store.recent('C0DESKA', 10)).toEqual([]);
   });
 
   it('a new mark updates only the terms it names, keeps the rest (view included) and shows before → after', async () => {
     answered(await ask(d.store, MARK + ' vol 28% drift 9% ± 6%'));
     const r = answered(await ask(d.store, 'mark fernwk spot 86', { now: at(3) }));
-    expect(d.store.getMark('C0DESKA', 'FERNWK')).toMatchObject({ spot: 86, iv: 0.31, yield: 0.012, rate: 0.045, vol: 0.28, drift: 0.09, driftSe: 0.06 });
+    expect(await d.store.getMark('C0DESKA', 'FERNWK')).toMatchObject({ spot: 86, iv: 0.31, yield: 0.012, rate: 0.045, vol: 0.28, drift: 0.09, driftSe: 0.06 });
     expect(r.text).toContain('spot 84.20 → 86');
     expect(r.text).toMatch(/kept: iv 31(\.0+)?%, yield 1\.2%, rate 4\.5%, vol 28(\.0+)?%, drift 9(\.0+)?% ± 6(\.0+)?%/);
     expect(r.json).toMatchObject({ spot: 86, iv: 0.31, vol: 0.28, replaced: { spot: 84.2, iv: 0.31 } });
     // a drift written again replaces the drift and its uncertainty together
     answered(await ask(d.store, 'mark FERNWK drift 5%', { now: at(4) }));
-    const m = d.store.getMark('C0DESKA', 'FERNWK')!;
+    const m = (await d.store.getMark('C0DESKA', 'FERNWK'))!;
     expect(m).toMatchObject({ spot: 86, iv: 0.31, vol: 0.28, drift: 0.05 });
     expect(m.driftSe).toBeUndefined();
   });
@@ -109,6 +109,6 @@ describe('on SYMBOL', () => {
     const r = rejected(await ask(d.store, ON));
     expect(r.at).toBe(ON.indexOf('on FERNWK'));
     expect(r.message).toContain('mark FERNWK spot');
-    expect(d.store.recent('C0DESKA', 10)).toEqual([]);
+    expect(await d.store.recent('C0DESKA', 10)).toEqual([]);
   });
 });

@@ -10,8 +10,8 @@ import { StoreError } from '../../src/store/store.js';
 import { SPREAD, answered, ask, desk, figures, rejected, type Desk } from './helpers.js';
 
 let d: Desk;
-beforeEach(() => {
-  d = desk();
+beforeEach(async () => {
+  d = await desk();
 });
 afterEach(() => d.close());
 
@@ -19,7 +19,7 @@ describe('a read-only log', () => {
   it('answers, flags the answer as not logged, still reads the log and the marks, and refuses to record a mark', async () => {
     answered(await ask(d.store, 'mark FERNWK spot 84.20 iv 31%'));
     const first = answered(await ask(d.store, SPREAD));
-    const ro = d.open({ readonly: true });
+    const ro = await d.open({ readonly: true });
     const a = answered(await ask(ro, SPREAD));
     expect(a.logNumber).toBeUndefined();
     expect(a.warnings.join(' ')).toMatch(/Not logged: the log could not be written: the log file is read-only/);
@@ -35,14 +35,14 @@ describe('a read-only log', () => {
     const m = rejected(await ask(ro, 'mark FERNWK spot 90'));
     expect(m.message).toContain('the mark for FERNWK was not recorded');
     expect(m.message).toContain('read-only');
-    expect(d.store.getMark('C0DESKA', 'FERNWK')!.spot).toBe(84.2);
-    expect(d.store.recent('C0DESKA', 10)).toHaveLength(1);
+    expect((await d.store.getMark('C0DESKA', 'FERNWK'))!.spot).toBe(84.2);
+    expect(await d.store.recent('C0DESKA', 10)).toHaveLength(1);
   });
 });
 
 describe('a full log', () => {
   it('answers checks and comparisons, flagged as not logged (disk full); what was logged stays', async () => {
-    const full = d.open({ maxBytes: 96 * 1024 });
+    const full = await d.open({ maxBytes: 96 * 1024 });
     const first = answered(await ask(full, SPREAD));
     expect(first.logNumber).toBe(1);
     // fill it for real, in another channel, until SQLite refuses
@@ -52,7 +52,7 @@ describe('a full log', () => {
       err = undefined;
       for (let i = 0; i < 5000 && !err; i++) {
         try {
-          full.appendCheck({ channel: 'C0FILL', user: 'U0FILL', at: '2027-01-04T14:00:00Z', verb: 'check', text: 'x'.repeat(size), normalized: '{}', summary: { position: 'p' } });
+          await full.appendCheck({ channel: 'C0FILL', user: 'U0FILL', at: '2027-01-04T14:00:00Z', verb: 'check', text: 'x'.repeat(size), normalized: '{}', summary: { position: 'p' } });
         } catch (e) {
           err = e;
         }
@@ -67,7 +67,7 @@ describe('a full log', () => {
     const c = answered(await ask(full, `compare ${SPREAD} ; drift 0%`));
     expect(c.warnings.join(' ')).toContain('disk full');
     expect((c.json.checks as unknown[]).length).toBe(2);
-    expect(full.get('C0DESKA', 1)!.text).toBe(SPREAD);
+    expect((await full.get('C0DESKA', 1))!.text).toBe(SPREAD);
   });
 });
 

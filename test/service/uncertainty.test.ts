@@ -11,8 +11,8 @@ import { touchProbPredictive } from '../../src/core/predictive.js';
 import { SPREAD, answered, ask, desk, figures, rejected, type Desk } from './helpers.js';
 
 let d: Desk;
-beforeEach(() => {
-  d = desk();
+beforeEach(async () => {
+  d = await desk();
 });
 afterEach(() => d.close());
 

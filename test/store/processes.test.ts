@@ -25,7 +25,7 @@ import { chmodSync, mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { createInterface } from 'node:readline';
-import { openStore, type Store } from '../../src/store/store.js';
+import { openSqlite, type SqliteStore } from '../../src/store/sqlite.js';
 import { compileStore, type CompiledStore } from './fixtures/compile.js';
 
 let compiled: CompiledStore;
@@ -106,7 +106,7 @@ function integrity(path: string): string {
 }
 
 /** Checks that, per channel, the acknowledged numbers are distinct and the stored ones are exactly 1..max. */
-function expectContiguous(store: Store, channels: string[], acks: Ack[]): Map<string, number> {
+function expectContiguous(store: SqliteStore, channels: string[], acks: Ack[]): Map<string, number> {
   const max = new Map<string, number>();
   for (const ch of channels) {
     const mine = acks.filter((a) => a.channel === ch).map((a) => a.number);
@@ -142,7 +142,7 @@ describe('several processes writing one log file at once', () => {
 
     const all = writers.flatMap((w) => w.acks);
     expect(all).toHaveLength(4 * 120);
-    const store = openStore(path, { readonly: true });
+    const store = openSqlite(path, { readonly: true });
     try {
       const max = expectContiguous(store, channels, all);
       // the writers really ran at the same time: in each channel, consecutive numbers often
@@ -174,7 +174,7 @@ describe('several processes writing one log file at once', () => {
 
   it('a writer process and this process writing and reading the same file do not corrupt it', async () => {
     const path = join(dir, 'two.db');
-    const here = openStore(path, { busyTimeoutMs: 20000 });
+    const here = openSqlite(path, { busyTimeoutMs: 20000 });
     const w = startWriter({ db: path, mode: 'append', user: 'U0CHILD', channels: ['C0DESKA', 'C0DESKB'], count: 300 });
     let mine = 0;
     let reads = 0;
@@ -226,7 +226,7 @@ describe('a writer killed with SIGKILL mid-burst', () => {
         everAcked.push(...w.acks);
 
         expect(integrity(path)).toBe('ok');
-        const store = openStore(path);
+        const store = openSqlite(path);
         try {
           for (const a of everAcked) {
             const e = store.get(a.channel, a.number);
@@ -265,7 +265,7 @@ describe('a log file made read-only with chmod 0444', () => {
   for (const folder of ['writable', 'read-only'] as const) {
     it(`gives a StoreError 'readonly' to a writer (folder ${folder}), and the file keeps its entries`, async () => {
       const path = join(dir, 'locked.db');
-      const s = openStore(path);
+      const s = openSqlite(path);
       s.appendCheck({
         channel: 'C0DESKA', user: 'U0MAYA', at: '2027-01-04T15:30:00Z', verb: 'check',
         text: 'check +1 call 105 2027-03-19', normalized: '{}', summary: { position: 'long call' },
@@ -289,7 +289,7 @@ describe('a log file made read-only with chmod 0444', () => {
       }
       chmodSync(dir, 0o700);
       chmodSync(path, 0o644);
-      const r = openStore(path, { readonly: true });
+      const r = openSqlite(path, { readonly: true });
       try {
         expect(r.recent('C0DESKA', 10).map((e) => e.user)).toEqual(['U0MAYA']);
       } finally {

@@ -26,13 +26,12 @@ import {
   StoreError,
   defaultDbPath,
   migrate,
-  openStore,
   type LogEntryInput,
-  type Store,
 } from '../../src/store/store.js';
+import { openSqlite, type SqliteStore } from '../../src/store/sqlite.js';
 
 let dir: string;
-const opened: Store[] = [];
+const opened: SqliteStore[] = [];
 beforeEach(() => {
   dir = mkdtempSync(join(tmpdir(), 'kolmo-store-test-'));
 });
@@ -42,8 +41,8 @@ afterEach(() => {
   rmSync(dir, { recursive: true, force: true });
 });
 
-function open(name = 'log.db', opts?: Parameters<typeof openStore>[1]): Store {
-  const s = openStore(join(dir, name), opts);
+function open(name = 'log.db', opts?: Parameters<typeof openSqlite>[1]): SqliteStore {
+  const s = openSqlite(join(dir, name), opts);
   opened.push(s);
   return s;
 }
@@ -175,8 +174,8 @@ describe('isolation between channels', () => {
   });
 
   it("':memory:' gives a private log: two in-memory stores share nothing", () => {
-    const a = openStore(':memory:');
-    const b = openStore(':memory:');
+    const a = openSqlite(':memory:');
+    const b = openSqlite(':memory:');
     opened.push(a, b);
     a.appendCheck(input('C0DESKA'));
     a.appendCheck(input('C0DESKA'));
@@ -316,7 +315,7 @@ describe('faults become StoreError with a code and a user-facing message', () =>
     // Running as root, chmod 0444 does not stop writes (root bypasses file permissions), so the
     // read-only case is produced with SQLite's own read-only open (SQLITE_OPEN_READONLY).
     const path = join(dir, 'log.db');
-    const w = openStore(path);
+    const w = openSqlite(path);
     w.appendCheck(input('C0DESKA'));
     w.close();
     const r = open('log.db', { readonly: true });
@@ -383,13 +382,13 @@ describe('faults become StoreError with a code and a user-facing message', () =>
   });
 
   it('unavailable: a missing folder, a file that is not a database, a log from a newer version', () => {
-    const e1 = storeError(() => openStore(join(dir, 'no-such-folder', 'log.db')));
+    const e1 = storeError(() => openSqlite(join(dir, 'no-such-folder', 'log.db')));
     expect(e1.code).toBe('unavailable');
     expect(e1.message).toMatch(/^the log could not be opened: the log folder does not exist/);
 
     const junk = join(dir, 'junk.db');
     writeFileSync(junk, 'this is a text file, not a database '.repeat(200));
-    const e2 = storeError(() => openStore(junk));
+    const e2 = storeError(() => openSqlite(junk));
     expect(e2.code).toBe('unavailable');
     expect(e2.message).toMatch(/not a Kolmo log/);
     expect(readFileSync(junk, 'utf8')).toMatch(/^this is a text file/);
@@ -398,21 +397,21 @@ describe('faults become StoreError with a code and a user-facing message', () =>
     const db = new Database(newer);
     db.pragma(`user_version = ${SCHEMA_VERSION + 5}`);
     db.close();
-    const e3 = storeError(() => openStore(newer));
+    const e3 = storeError(() => openSqlite(newer));
     expect(e3.code).toBe('unavailable');
     expect(e3.message).toMatch(/newer version of Kolmo/);
     const check = new Database(newer, { readonly: true });
     expect(check.pragma('user_version', { simple: true })).toBe(SCHEMA_VERSION + 5);
     check.close();
 
-    const e4 = storeError(() => openStore(join(dir, 'absent.db'), { readonly: true }));
+    const e4 = storeError(() => openSqlite(join(dir, 'absent.db'), { readonly: true }));
     expect(e4.code).toBe('unavailable');
     expect(e4.sqliteCode).toMatch(/^SQLITE_CANTOPEN/);
     expect(e4.message).toMatch(/^the log could not be opened: the log file cannot be opened/);
   });
 
   it('a closed store answers with a StoreError, not a raw exception', () => {
-    const s = openStore(join(dir, 'log.db'));
+    const s = openSqlite(join(dir, 'log.db'));
     s.close();
     s.close(); // twice is harmless
     const e = storeError(() => s.recent('C0DESKA', 5));
@@ -502,7 +501,7 @@ describe('migrations', () => {
     const db = new Database(path);
     migrate(db, 1);
     db.close();
-    const e = storeError(() => openStore(path, { readonly: true }));
+    const e = storeError(() => openSqlite(path, { readonly: true }));
     expect(e.code).toBe('readonly');
     expect(e.message).toMatch(/open it once with write access/);
   });

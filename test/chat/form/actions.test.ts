@@ -8,7 +8,7 @@ import { answerActions, parseCheckKey, variationOfAction, VARY_ACTIONS, checkKey
 import { usesMark, variationText, type Variation } from '../../../src/chat/actions/variations.js';
 import { ask as askSeam } from '../../../src/verbs/ask.js';
 import type { Answer } from '../../../src/reply.js';
-import { asyncOf, openStore } from '../../../src/store/store.js';
+import { openDatabase } from '../../../src/store/store.js';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -84,8 +84,8 @@ describe('variations of a check', () => {
     expect(variationText(await logged(SPREAD), 'rerun_mark', TODAY).ok).toBe(false);
     const dir = mkdtempSync(join(tmpdir(), 'kolmo-var-'));
     try {
-      const store = openStore(join(dir, 'k.db'));
-      const ask = (t: string) => askSeam(t, { channel: 'CVARTEST01', user: 'UVAR000001', store: asyncOf(store, 'k.db'), now: NOW });
+      const store = await openDatabase({ backend: 'sqlite', path: join(dir, 'k.db') });
+      const ask = (t: string) => askSeam(t, { channel: 'CVARTEST01', user: 'UVAR000001', store, now: NOW });
       expect((await ask('mark FERNWK spot 84.20 iv 31% yield 1.2%')).kind).toBe('answer');
       const text = '+1 call 90 2027-03-19 on FERNWK drift 8% asof 2027-01-02';
       expect(usesMark(text)).toBe(true);
@@ -96,7 +96,7 @@ describe('variations of a check', () => {
       expect((await ask('mark FERNWK spot 88 iv 31%')).kind).toBe('answer');
       const again = await ask(r.ok ? r.text : '') as Answer;
       expect((again.json as any).market.spot).toBe(88);
-      store.close();
+      await store.close();
     } finally {
       rmSync(dir, { recursive: true, force: true });
     }
