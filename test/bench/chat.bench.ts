@@ -13,23 +13,13 @@ import { availableParallelism } from 'node:os';
 import { request } from 'node:http';
 import { FakeWebApi } from '../chat/fake-web-api.js';
 import { httpEnv, sendSlash, startApp } from '../chat/harness.js';
-import { fmtTime, type Measure } from './harness.js';
+import { fmtTime, measureOf, type Measure } from './harness.js';
 
 const CHECK =
   'check +2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% spot 100 rate 4.5% yield 1% drift 9% vol 26% horizon 2027-02-15 asof 2027-01-04';
 const N = Number(process.env.KOLMO_BENCH_N ?? 200);
 const CONCURRENCY = 10;
 const ANSWER_TIMEOUT_MS = 120000;
-
-function quantile(sorted: number[], p: number): number {
-  return sorted[Math.min(sorted.length - 1, Math.floor(sorted.length * p))];
-}
-
-function measureOf(name: string, secs: number[]): Measure {
-  const s = [...secs].sort((a, b) => a - b);
-  const perOp = quantile(s, 0.5);
-  return { name, perOp, opsPerSec: 1 / perOp, p99: quantile(s, 0.99), samples: s.length };
-}
 
 interface RunFigures {
   ack: Measure;

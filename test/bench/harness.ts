@@ -14,6 +14,18 @@ export interface Measure {
   samples: number;
 }
 
+/** The value at quantile p of ascending samples (the lower of the two around it). */
+export function quantile(sorted: number[], p: number): number {
+  return sorted[Math.min(sorted.length - 1, Math.floor(sorted.length * p))];
+}
+
+/** A measure from latencies in seconds (one per operation): the median and the 99th percentile. */
+export function measureOf(name: string, secs: number[]): Measure {
+  const s = [...secs].sort((a, b) => a - b);
+  const perOp = quantile(s, 0.5);
+  return { name, perOp, opsPerSec: 1 / perOp, p99: quantile(s, 0.99), samples: s.length };
+}
+
 /** Calls `batch()` (which performs `opsPerBatch` operations) until `minSeconds` have passed. */
 export function measure(
   name: string,

@@ -23,37 +23,23 @@ import { FakeWebApi, FAKE_BOT, type Call } from '../chat/fake-web-api.js';
 import { actionBody, homeOpenedBody, httpEnv, imMessageBody, slashBody, viewSubmissionBody } from '../chat/harness.js';
 import { signedPost, startIn, until } from '../robust/harness.js';
 import { openDatabase, type AsyncStore } from '../../src/verbs/ask.js';
-import { freshDatabase } from '../support/pg.js';
-import { clusterCheck, sendEnvelope, startCluster, type Instance } from './harness.js';
+import { clusterFixture, type ClusterFixture } from './fixture.js';
+import { clusterCheck, sendEnvelope, type Instance } from './harness.js';
 
 const WAIT = 60_000;
 const FORM = 'application/x-www-form-urlencoded';
 const CHANNEL = 'C0BUTTONS1';
 const ASKER = 'U0PRESSER1';
 
-/** What a describe block runs against: a fake, a fresh database, instances on it, and a connection to read it. */
-interface OnePg {
-  fake: FakeWebApi;
-  db: { url: string; drop: () => Promise<void> };
-  cluster: Awaited<ReturnType<typeof startCluster>>;
-  store: AsyncStore;
-}
-
-/** Starts `count` instances on a fresh database before the block's tests and stops them after. */
-function onePg(tag: string, mode: 'http' | 'socket', count: number): OnePg {
-  const x = {} as OnePg;
+/** The shared cluster fixture (fixture.ts) and a connection to read its database. */
+function onePg(tag: string, mode: 'http' | 'socket', count: number): ClusterFixture & { store: AsyncStore } {
+  const x = clusterFixture(tag, { mode, count }) as ClusterFixture & { store: AsyncStore };
   beforeAll(async () => {
-    x.fake = await FakeWebApi.start();
-    x.db = await freshDatabase(tag);
-    x.cluster = await startCluster({ fake: x.fake, databaseUrl: x.db.url, mode, count });
     if (mode === 'socket') await until(() => x.cluster.instances.every((i) => x.fake.socketTagList.includes(i.tag)), WAIT, 'every Socket Mode connection');
     x.store = await openDatabase({ backend: 'postgres', url: x.db.url });
-  }, 120_000);
+  });
   afterAll(async () => {
     await x.store?.close();
-    await x.cluster?.close();
-    await x.fake?.close();
-    await x.db?.drop();
   });
   return x;
 }
@@ -61,7 +47,7 @@ function onePg(tag: string, mode: 'http' | 'socket', count: number): OnePg {
 describe('buttons, my desk, the form and direct messages on three instances, one PostgreSQL database', () => {
   const pg = onePg('cluster_interactive', 'http', 3);
   let fake: FakeWebApi;
-  let cluster: OnePg['cluster'];
+  let cluster: ClusterFixture['cluster'];
   let store: AsyncStore;
   let a: Instance;
   let b: Instance;
@@ -173,7 +159,7 @@ describe('buttons, my desk, the form and direct messages on three instances, one
 describe('buttons and direct messages in Socket Mode: two instances, each on its own connection', () => {
   const pg = onePg('cluster_interactive_socket', 'socket', 2);
   let fake: FakeWebApi;
-  let cluster: OnePg['cluster'];
+  let cluster: ClusterFixture['cluster'];
   let store: AsyncStore;
   beforeAll(() => {
     ({ fake, cluster, store } = pg);
