@@ -26,6 +26,10 @@ export const USER_BURST_DEFAULT = 20;
 export const USER_PER_MINUTE_DEFAULT = 30;
 export const BODY_LIMIT_DEFAULT = 256 * 1024;
 export const SHUTDOWN_GRACE_DEFAULT_S = 10;
+/** the shared request queue (chat/dispatch.ts): a claim's lease, how often it is renewed, how often the queue is polled */
+export const LEASE_DEFAULT_MS = 10_000;
+export const LEASE_RENEW_DEFAULT_MS = 3_000;
+export const QUEUE_POLL_DEFAULT_MS = 500;
 
 type Env = Record<string, string | undefined>;
 
@@ -89,6 +93,22 @@ export const SettingsSchema = z.object({
   KOLMO_OPS_PORT: opt(intIn(0, 65535), 'a TCP port from 0 to 65535 for /healthz and /metrics in Socket Mode'),
   KOLMO_OPS_HOST: opt(z.string().trim().regex(/^[A-Za-z0-9.:[\]-]+$/, 'not a host name or address'), 'an interface address such as 127.0.0.1'),
   USER: opt(text, 'the name of the person at the terminal'),
+  KOLMO_LEASE_MS: opt(intIn(1000, 600_000), `milliseconds from 1000 to 600000 a claim on a request lasts unless renewed (default ${LEASE_DEFAULT_MS})`),
+  KOLMO_LEASE_RENEW_MS: opt(intIn(100, 300_000), `milliseconds from 100 to 300000 between renewals of the claims (default ${LEASE_RENEW_DEFAULT_MS}; at most half the lease)`),
+  KOLMO_QUEUE_POLL_MS: opt(intIn(50, 60_000), `milliseconds from 50 to 60000 between looks at the shared queue (default ${QUEUE_POLL_DEFAULT_MS})`),
+  // set by the chat app for its worker processes (chat/pool.ts), not by an operator
+  KOLMO_WORKER_DB: opt(text, 'the SQLite file of the log (set by the app for its workers)'),
+  KOLMO_WORKER_STORE: opt(
+    z
+      .string()
+      .trim()
+      .regex(/^(sqlite|postgres) \S/, 'not "sqlite WHERE" or "postgres WHERE"')
+      .transform((s) => {
+        const [backend, ...where] = s.split(' ');
+        return { backend: backend as 'sqlite' | 'postgres', where: where.join(' ') };
+      }),
+    'the backend and place of the app\'s store, "postgres URL-without-password" (set by the app for its workers)',
+  ),
 });
 
 /** The settings as read: a setting that is unset or blank is undefined. */
@@ -158,6 +178,16 @@ export function localSettings(env: Env = process.env): LocalResult {
 
 // ---- `npm start`: the workspace app or the console --------------------------------------------
 
+/** Timings of the shared request queue (chat/dispatch.ts). */
+export interface QueueTimings {
+  /** how long a claim lasts unless renewed; work of an instance that died is taken over after it */
+  leaseMs: number;
+  /** how often a running request's lease is renewed (at most half the lease) */
+  renewMs: number;
+  /** how often an idle dispatcher looks at the queue (requests recorded by other instances, leases that ran out) */
+  pollMs: number;
+}
+
 export interface ChatSettings {
   /** the per-user rate limit (chat/ratelimit.ts) */
   userRate: { burst: number; perMinute: number };
@@ -169,6 +199,7 @@ export interface ChatSettings {
   opsPort?: number;
   /** the address the ops port listens on (default 127.0.0.1) */
   opsHost?: string;
+  queue: QueueTimings;
 }
 
 interface Common {
@@ -226,6 +257,9 @@ const WORKSPACE = [
   'KOLMO_SHUTDOWN_GRACE',
   'KOLMO_OPS_PORT',
   'KOLMO_OPS_HOST',
+  'KOLMO_LEASE_MS',
+  'KOLMO_LEASE_RENEW_MS',
+  'KOLMO_QUEUE_POLL_MS',
 ] as const;
 const SOCKET = [...WORKSPACE, 'SLACK_APP_TOKEN'] as const;
 const HTTP = [...WORKSPACE, 'SLACK_SIGNING_SECRET', 'PORT', 'HOST'] as const;
@@ -244,6 +278,7 @@ export function loadConfig(env: Env = process.env): ConfigResult {
   };
   if (mode !== 'console') missing('SLACK_BOT_TOKEN');
   if (mode === 'http') missing('SLACK_SIGNING_SECRET');
+  if (r.ok && mode !== 'console') errors.push(...queueTimingErrors(r.values));
   if (errors.length > 0 || !r.ok) {
     if (mode === 'http' && (!hasBot || !hasSecret)) {
       errors.push('For HTTP mode set SLACK_BOT_TOKEN and SLACK_SIGNING_SECRET; for Socket Mode set SLACK_APP_TOKEN and SLACK_BOT_TOKEN; set none of them for the local console.');
@@ -273,8 +308,39 @@ export function loadConfig(env: Env = process.env): ConfigResult {
       shutdownGraceMs: (v.KOLMO_SHUTDOWN_GRACE ?? SHUTDOWN_GRACE_DEFAULT_S) * 1000,
       ...(v.KOLMO_OPS_PORT !== undefined ? { opsPort: v.KOLMO_OPS_PORT } : {}),
       ...(v.KOLMO_OPS_HOST !== undefined ? { opsHost: v.KOLMO_OPS_HOST } : {}),
+      queue: queueTimingsOf(v),
     },
   };
   if (mode === 'socket') return { ok: true, config: { mode, ...workspace, appToken: v.SLACK_APP_TOKEN! } };
   return { ok: true, config: { mode, ...workspace, signingSecret: v.SLACK_SIGNING_SECRET!, port: v.PORT ?? 3000, host: v.HOST } };
+}
+
+// ---- the shared request queue's timings -------------------------------------------------------
+
+function queueTimingsOf(v: Settings): QueueTimings {
+  return { leaseMs: v.KOLMO_LEASE_MS ?? LEASE_DEFAULT_MS, renewMs: v.KOLMO_LEASE_RENEW_MS ?? LEASE_RENEW_DEFAULT_MS, pollMs: v.KOLMO_QUEUE_POLL_MS ?? QUEUE_POLL_DEFAULT_MS };
+}
+
+/** A lease renewed less often than twice in its life could run out between two renewals of a request that runs. */
+function queueTimingErrors(v: Settings): string[] {
+  const t = queueTimingsOf(v);
+  if (t.renewMs * 2 <= t.leaseMs) return [];
+  const named = (n: 'KOLMO_LEASE_MS' | 'KOLMO_LEASE_RENEW_MS', x: number) => (v[n] === undefined ? `${n} (default ${x})` : `${n}=${x}`);
+  return [
+    `${named('KOLMO_LEASE_RENEW_MS', t.renewMs)} must be at most half of ${named('KOLMO_LEASE_MS', t.leaseMs)}, so a running request's claim is renewed before it runs out: e.g. KOLMO_LEASE_MS=${Math.max(1000, t.renewMs * 3)} KOLMO_LEASE_RENEW_MS=${t.renewMs}.`,
+  ];
+}
+
+// ---- a worker process of the chat app (chat/worker.ts) ----------------------------------------
+
+export type WorkerLog = { kind: 'file'; path: string } | { kind: 'parent'; backend: 'sqlite' | 'postgres'; where: string } | { kind: 'none' };
+
+/** Where a worker's log is, as its app told it (KOLMO_WORKER_STORE wins over KOLMO_WORKER_DB). */
+export function workerSettings(env: Env = process.env): { ok: true; log: WorkerLog } | { ok: false; errors: string[] } {
+  const r = readSettings(['KOLMO_WORKER_DB', 'KOLMO_WORKER_STORE'], env);
+  if (!r.ok) return r;
+  const { KOLMO_WORKER_STORE: store, KOLMO_WORKER_DB: path } = r.values;
+  if (store) return { ok: true, log: { kind: 'parent', ...store } };
+  if (path) return { ok: true, log: { kind: 'file', path } };
+  return { ok: true, log: { kind: 'none' } };
 }

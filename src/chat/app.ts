@@ -57,6 +57,11 @@ const loopDelayMs = (h: IntervalHistogram) => {
 
 const sleep = (ms: number) => new Promise<void>((r) => setTimeout(r, ms));
 
+/** how long /healthz waits for the workers' answers */
+const WORKER_PING_MS = 1000;
+/** how long the start waits for the workers to be up before it listens (they may still come after) */
+const WORKER_START_MS = 20_000;
+
 /**
  * The store. PostgreSQL (several instances share it) must be there at start: an instance that
  * would answer from memory alone breaks the cluster's guarantees, so a malformed or unreachable
@@ -150,27 +155,45 @@ export async function startChatApp(config: WorkspaceConfig, log: Log): Promise<C
   };
   const intake = createIntake({ config, settings, log, store: counted, engine, deps, metrics, botUserId: bot.botUserId, errText });
   const dispatcher = counted
-    ? new Dispatcher({ queue: counted, owner, capacity: Math.max(1, engine.size), handle: intake.handle, onError: (what, err) => log.warn({ err: errText(err) }, what) })
+    ? new Dispatcher({
+        queue: counted,
+        owner,
+        capacity: Math.max(1, engine.size),
+        ...settings.queue,
+        handle: intake.handle,
+        onError: (what, err) => log.warn({ err: errText(err) }, what),
+        onLost: (r) => {
+          metrics.claimsLost.inc();
+          log.warn({ channel: r.channel, user: r.user, attempt: r.attempts }, 'another instance took over a request this one was answering while the database was away; parts of its answer may be posted twice');
+        },
+      })
     : null;
   if (dispatcher) intake.useDispatcher(dispatcher);
   running = () => (dispatcher?.running ?? 0) + intake.localSize;
 
-  /** Ready: the database answers (within 2 s), a worker is up, the dispatcher's last poll got through. */
+  /**
+   * Ready: the database answers (within 2 s), the workers answer over their IPC channel (within
+   * 1 s; at least one: "degraded" when some do not — a silent idle worker is replaced by the pool),
+   * the dispatcher's last poll got through. `unwritten`: claims whose progress is kept in memory
+   * until the database answers again.
+   */
   const health = async () => {
-    let database = 'none';
-    if (counted) {
-      database = await Promise.race([
-        counted.ping().then(
-          () => 'ok',
-          () => 'unavailable',
-        ),
-        sleep(2000).then(() => 'timeout'),
-      ]);
-    }
-    const workers = engine.alive > 0 ? 'ok' : 'down';
+    const [database, pool] = await Promise.all([
+      !counted
+        ? 'none'
+        : Promise.race([
+            counted.ping().then(
+              () => 'ok',
+              () => 'unavailable',
+            ),
+            sleep(2000).then(() => 'timeout'),
+          ]),
+      engine.ping(WORKER_PING_MS),
+    ]);
+    const workers = pool.answering === 0 ? 'down' : pool.answering < pool.of ? 'degraded' : 'ok';
     const queue = !dispatcher ? 'none' : dispatcher.healthy ? 'ok' : 'unreachable';
-    const ready = (database === 'ok' || database === 'none') && workers === 'ok' && queue !== 'unreachable' && !intake.stopping;
-    return { ready, database, workers, queue };
+    const ready = (database === 'ok' || database === 'none') && workers !== 'down' && queue !== 'unreachable' && !intake.stopping;
+    return { ready, database, workers, answering: `${pool.answering}/${pool.of}`, queue, ...(dispatcher ? { unwritten: dispatcher.unwritten } : {}) };
   };
   const ops = async (req: IncomingMessage, res: ServerResponse): Promise<boolean> => {
     const path = (req.url ?? '').split('?')[0];
@@ -197,6 +220,8 @@ export async function startChatApp(config: WorkspaceConfig, log: Log): Promise<C
     log.error({ err: errText(err), code: (err as { code?: string }).code }, 'listener error');
   });
 
+  // listening means ready to work: the workers are loaded first (bounded; /healthz says if not)
+  if (!(await engine.started(WORKER_START_MS))) log.warn({ workers: engine.size }, 'the workers are not all up yet; starting anyway');
   const { port, opsServer } = await startListening(app, config, settings, log, engine.size, ops, { store: counted?.backend ?? 'none', owner });
 
   // requests recorded but not answered (by a previous run, or by instances that stopped) are

@@ -20,7 +20,7 @@
  * answered from memory (queue.ts, ratelimit.ts, an in-memory inbox) and flagged "Not logged".
  */
 import type { Log } from '../log.js';
-import { verbOfText, StoreError, type AsyncStore, type ClaimedRequest, type Interaction, type Progress, type QueuedRequest, type RateDecision } from '../verbs/ask.js';
+import { verbOfText, StoreError, type Admission, type AsyncStore, type ClaimedRequest, type Interaction, type Progress, type QueuedRequest, type RateDecision } from '../verbs/ask.js';
 import type { ChatSettings } from '../config.js';
 import { plainNotice } from './blocks.js';
 import { buttonsFor } from './actions/buttons.js';
@@ -207,7 +207,8 @@ export function createIntake(d: IntakeDeps) {
       counts.handedBack++;
       return;
     }
-    const got = await answer(r, resumed, { progress: r.progress, onProgress: (p) => claim.progress(p) });
+    // taken over, or handed back at a shutdown: its check may be in the log already
+    const got = await answer(r, resumed || r.progress.handedBack === true, { progress: r.progress, onProgress: (p) => claim.progress(p) });
     if (got.outcome === 'closed') {
       await claim.release();
       counts.handedBack++;
@@ -276,12 +277,7 @@ export function createIntake(d: IntakeDeps) {
 
   // ---- record first, then acknowledge ------------------------------------------------------
 
-  type Intake =
-    | { kind: 'queued' }
-    | { kind: 'duplicate' }
-    | { kind: 'rate'; rate: Extract<RateDecision, { ok: false }> }
-    | { kind: 'busy'; depth: number }
-    | { kind: 'local' };
+  type Intake = Admission | { kind: 'local' };
   const intake = new WeakMap<object, { r: QueuedRequest; got: Intake; t0: number }>();
 
   /** The request a delivery carries (a /kolmo command or an app mention), or null for anything else. */
@@ -313,18 +309,17 @@ export function createIntake(d: IntakeDeps) {
     return null;
   };
 
-  /** Records the request in the shared queue (the rate limit and the bound on the line first). */
+  /**
+   * Records the request in the shared queue: a re-sent key first (it takes nothing from the
+   * asker's rate bucket), then the bucket and the bound on the line, in one transaction. The key
+   * is also noted in memory, so a re-send that comes while the store is away is still caught here.
+   */
   const admit = async (r: QueuedRequest): Promise<Intake> => {
     if (!counted || stopping) return { kind: 'local' };
     try {
-      const rate = await counted.take(r.user, { ...USER_RATE_DEFAULTS, ...settings.userRate });
-      const depth = rate.ok ? await counted.depth() : 0;
-      const busy = rate.ok && depth >= config.queueLimit;
-      const fresh = await counted.accept(r, !rate.ok || busy);
-      if (!fresh) return { kind: 'duplicate' };
-      if (!rate.ok) return { kind: 'rate', rate };
-      if (busy) return { kind: 'busy', depth };
-      return { kind: 'queued' };
+      const got = await counted.admit(r, { ...USER_RATE_DEFAULTS, ...settings.userRate }, config.queueLimit);
+      localInbox.accept(r.key);
+      return got;
     } catch (err) {
       if (!(err instanceof StoreError)) throw err;
       log.warn({ err: errText(err) }, 'the request could not be recorded; answering it from memory, without the log');

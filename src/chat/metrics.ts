@@ -11,6 +11,9 @@
  *   kolmo_requests_running                     requests this instance is running
  *   kolmo_store_errors_total{op, code}         StoreErrors seen by this instance
  *   kolmo_takeovers_total                      requests this instance took over from another claim
+ *   kolmo_claims_lost_total                    requests this instance was answering, its progress
+ *                                              kept in memory while the database was away, that
+ *                                              another instance took over (parts may repeat)
  *
  * One registry per app (no global state), so tests can start several apps in one process.
  */
@@ -23,6 +26,7 @@ export interface Metrics {
   answer: client.Histogram<'verb'>;
   storeErrors: client.Counter<'op' | 'code'>;
   takeovers: client.Counter;
+  claimsLost: client.Counter;
   text(): Promise<string>;
   contentType: string;
 }
@@ -46,6 +50,11 @@ export function createMetrics(probe: { depth(): Promise<number | null>; running(
   });
   const storeErrors = new client.Counter({ name: 'kolmo_store_errors_total', help: 'Store errors by operation and code', labelNames: ['op', 'code'] as const, registers: [registry] });
   const takeovers = new client.Counter({ name: 'kolmo_takeovers_total', help: 'Requests taken over after an earlier claim (its instance died or stopped)', registers: [registry] });
+  const claimsLost = new client.Counter({
+    name: 'kolmo_claims_lost_total',
+    help: 'Requests this instance was answering, with progress kept in memory while the database was away, that another instance took over',
+    registers: [registry],
+  });
   new client.Gauge({
     name: 'kolmo_queue_depth',
     help: 'Requests recorded and not yet answered (all instances)',
@@ -63,5 +72,5 @@ export function createMetrics(probe: { depth(): Promise<number | null>; running(
       this.set(probe.running());
     },
   });
-  return { registry, requests, ack, answer, storeErrors, takeovers, text: () => registry.metrics(), contentType: registry.contentType };
+  return { registry, requests, ack, answer, storeErrors, takeovers, claimsLost, text: () => registry.metrics(), contentType: registry.contentType };
 }

@@ -36,6 +36,21 @@ export interface Engine {
   readonly size: number;
   /** workers whose process is up (the inline engine: 1) */
   readonly alive: number;
+  /**
+   * Asks the workers whether they answer, within `timeoutMs`: how many did, of how many there
+   * are. A worker busy on a job counts as answering while the job is within its deadline (past
+   * it the pool replaces the worker anyway); an idle worker that does not answer is stuck and is
+   * replaced by a fresh one.
+   */
+  ping(timeoutMs: number): Promise<{ answering: number; of: number }>;
+  /** Resolves true once every worker is up (loaded and reading its channel), false after `timeoutMs`. */
+  started(timeoutMs: number): Promise<boolean>;
+}
+
+/** A health question to a worker and its answer, over the IPC channel. */
+export interface Ping {
+  kind: 'ping' | 'pong';
+  id: number;
 }
 
 export class EngineError extends Error {
@@ -62,6 +77,10 @@ interface Slot {
   worker: ChildProcess;
   task?: Task;
   ready: boolean;
+  /** health questions waiting for this worker's answer */
+  pings: Map<number, () => void>;
+  /** the worker has said it is up (its first message); until then it is starting, not stuck */
+  started: boolean;
 }
 
 export interface PoolOptions {
@@ -89,6 +108,8 @@ export class WorkerPool implements Engine {
   private readonly slots = new Set<Slot>();
   private readonly queue: Task[] = [];
   private nextId = 1;
+  private nextPing = 1;
+  private readonly startWaiters = new Set<() => void>();
   private closing = false;
   private crashes = 0;
   private readonly script: URL;
@@ -151,9 +172,15 @@ export class WorkerPool implements Engine {
     } catch {
       /* not permitted here: the workers run at the app's priority */
     }
-    const slot: Slot = { worker, ready: true };
+    const slot: Slot = { worker, ready: true, pings: new Map(), started: false };
     this.slots.add(slot);
-    worker.on('message', (m: { id: number; ok: boolean; result?: WorkResult; error?: string } | StoreCall) => {
+    worker.on('message', (m: { id: number; ok: boolean; result?: WorkResult; error?: string } | StoreCall | Ping) => {
+      if ('kind' in m && m.kind === 'pong') {
+        slot.started = true;
+        slot.pings.get(m.id)?.();
+        if (m.id === 0) for (const f of this.startWaiters) f();
+        return;
+      }
       if ('kind' in m && m.kind === 'store') {
         const store = db?.kind === 'parent' ? db.store : null;
         void serveStoreCall(store, m).then((a) => {
@@ -192,6 +219,58 @@ export class WorkerPool implements Engine {
         this.dispatch();
       }, pause);
       t.unref?.();
+    });
+  }
+
+  /** Resolves true once every worker has said it is up, false after `timeoutMs`. */
+  async started(timeoutMs: number): Promise<boolean> {
+    const all = () => this.slots.size >= this.opts.size && [...this.slots].every((s) => s.started);
+    if (all()) return true;
+    return new Promise<boolean>((resolve) => {
+      const f = () => {
+        if (!all()) return;
+        clearTimeout(t);
+        this.startWaiters.delete(f);
+        resolve(true);
+      };
+      const t = setTimeout(() => {
+        this.startWaiters.delete(f);
+        resolve(false);
+      }, timeoutMs);
+      t.unref?.();
+      this.startWaiters.add(f);
+    });
+  }
+
+  async ping(timeoutMs: number): Promise<{ answering: number; of: number }> {
+    const slots = [...this.slots].filter((s) => s.ready && s.worker.connected);
+    const answers = await Promise.all(slots.map((s) => (s.task ? Promise.resolve(true) : this.pingOne(s, timeoutMs))));
+    return { answering: answers.filter(Boolean).length, of: this.opts.size };
+  }
+
+  /** One worker's answer to a health question; a worker that does not answer in time is replaced. */
+  private pingOne(slot: Slot, timeoutMs: number): Promise<boolean> {
+    const id = this.nextPing++;
+    return new Promise<boolean>((resolve) => {
+      const t = setTimeout(() => {
+        slot.pings.delete(id);
+        const gone = slot.worker.exitCode !== null || slot.worker.signalCode !== null;
+        if (slot.task || !slot.ready || gone) return resolve(!!slot.task && !gone);
+        if (!slot.started) return resolve(false); // still loading: not answering yet, not stuck
+        // up, idle and silent: stuck (stopped, or its event loop blocked); a fresh worker takes its place
+        this.opts.onEvent?.({ event: 'worker-error', detail: `a worker did not answer a health check within ${timeoutMs} ms; replacing it` });
+        slot.ready = false;
+        slot.worker.kill('SIGKILL');
+        resolve(false);
+      }, timeoutMs);
+      t.unref?.();
+      slot.pings.set(id, () => {
+        clearTimeout(t);
+        slot.pings.delete(id);
+        resolve(true);
+      });
+      // a worker that is gone fails the send; its exit handler replaces it and the timer answers false
+      slot.worker.send({ kind: 'ping', id } satisfies Ping, () => undefined);
     });
   }
 
@@ -263,6 +342,13 @@ export class WorkerPool implements Engine {
 export class InlineEngine implements Engine {
   readonly size = 0;
   readonly alive = 1;
+  /** the calling thread answers whenever it runs this */
+  async ping(): Promise<{ answering: number; of: number }> {
+    return { answering: 1, of: 1 };
+  }
+  async started(): Promise<boolean> {
+    return true;
+  }
   constructor(private readonly store: LogStore | null) {}
   async run(job: Job): Promise<WorkResult> {
     return work(job, this.store);

@@ -5,8 +5,10 @@
  * PostgreSQL backend: the worker holds no database connection of its own). It ends when the app
  * goes away (the channel disconnects) or is told to stop.
  */
+import { workerSettings } from '../config.js';
 import { openDatabase, type LogStore } from '../verbs/ask.js';
 import { ipcStore, type StoreAnswer, type StoreCall } from './ipc-store.js';
+import type { Ping } from './pool.js';
 import { work, type Job } from './work.js';
 
 const send = process.send?.bind(process);
@@ -15,17 +17,22 @@ if (!send) {
   process.exit(2);
 }
 
+const settings = workerSettings();
+if (!settings.ok) {
+  process.stderr.write(`kolmo worker: ${settings.errors.join(' ')}\n`);
+  process.exit(2);
+}
+const where = settings.log;
+
 let store: LogStore | null = null;
 let closeStore: () => void = () => undefined;
 let storeNote: string | undefined;
 let viaParent: ReturnType<typeof ipcStore> | undefined;
-const dbPath = process.env.KOLMO_WORKER_DB;
-const parent = process.env.KOLMO_WORKER_STORE;
-if (parent) {
-  const [backend, ...where] = parent.split(' ');
-  viaParent = ipcStore((m: StoreCall) => send!(m), backend === 'postgres' ? 'postgres' : 'sqlite', where.join(' '));
+if (where.kind === 'parent') {
+  viaParent = ipcStore((m: StoreCall) => send!(m), where.backend, where.where);
   store = viaParent.store;
-} else if (dbPath) {
+} else if (where.kind === 'file') {
+  const dbPath = where.path;
   try {
     const s = await openDatabase({ backend: 'sqlite', path: dbPath });
     store = s;
@@ -46,9 +53,11 @@ const stop = () => {
 process.on('disconnect', stop);
 process.on('SIGTERM', stop);
 
-process.on('message', (m: { id: number; job: Job } | StoreAnswer) => {
+process.on('message', (m: { id: number; job: Job } | StoreAnswer | Ping) => {
   if ('kind' in m) {
     if (m.kind === 'store-answer') viaParent?.answer(m);
+    // the app's health check: answered as soon as this process reads its channel
+    else if (m.kind === 'ping') send!({ kind: 'pong', id: m.id } satisfies Ping);
     return;
   }
   work(m.job, store).then(
@@ -61,3 +70,6 @@ process.on('message', (m: { id: number; job: Job } | StoreAnswer) => {
     },
   );
 });
+
+// up: the pool counts this worker as started (until then a silent worker is loading, not stuck)
+send({ kind: 'pong', id: 0 } satisfies Ping);

@@ -64,6 +64,8 @@ export interface Progress {
   answered?: boolean;
   /** the chart was uploaded */
   chart?: boolean;
+  /** an instance handed it back unanswered (shutdown): its check may already be in the log */
+  handedBack?: boolean;
 }
 
 export interface ClaimedRequest extends QueuedRequest {
@@ -86,11 +88,22 @@ export interface RequestQueue {
   /** Records a request; false (nothing recorded) when its key was recorded before. `done` records it as already answered. */
   accept(r: QueuedRequest, done?: boolean): Promise<boolean>;
   /**
+   * The intake's one step, in one transaction: a key recorded before is a re-sent delivery
+   * (`duplicate`: nothing else happens, so a retry takes nothing from the asker's rate bucket);
+   * otherwise the asker's bucket is drawn on, then the bound on the line (`queueLimit` requests
+   * open, this one not counted) is checked, and the request is recorded: queued, or already
+   * done when it is turned away (so its re-sends are caught too). A transaction that fails
+   * leaves nothing recorded and no token taken.
+   */
+  admit(r: QueuedRequest, rate: RateOptions, queueLimit: number): Promise<Admission>;
+  /**
    * Claims the oldest request that is the first unanswered one of its channel and is not under
    * another owner's live lease (a lease that ran out is taken over), for `leaseMs`. Undefined when
    * there is none. A channel's next request is never claimed while an earlier one is unanswered.
+   * With `takeover: false` only requests nobody holds are claimed (leases that ran out are left
+   * to their holders: the dispatcher's grace after an outage).
    */
-  claim(owner: string, leaseMs: number): Promise<ClaimedRequest | undefined>;
+  claim(owner: string, leaseMs: number, opts?: { takeover?: boolean }): Promise<ClaimedRequest | undefined>;
   /** Extends the leases `owner` still holds on these keys; returns how many it still holds. */
   renew(owner: string, keys: readonly string[], leaseMs: number): Promise<number>;
   /** Records what of the answer has been posted; false when `owner` no longer holds the request. */
@@ -112,6 +125,13 @@ export interface RateOptions {
 }
 
 export type RateDecision = { ok: true } | { ok: false; retryInSeconds: number; notify: boolean };
+
+/** What the intake's step did with a request (RequestQueue.admit). */
+export type Admission =
+  | { kind: 'queued' }
+  | { kind: 'duplicate' }
+  | { kind: 'rate'; rate: Extract<RateDecision, { ok: false }> }
+  | { kind: 'busy'; depth: number };
 
 /** Per-user token buckets kept in the store, so every instance draws on one allowance per user. */
 export interface RateBuckets {
@@ -211,7 +231,8 @@ function asyncOf(s: SqliteStore, where: string): AsyncStore {
     putDefaults: async (u, d, at) => s.putDefaults(u, d, at),
     ping: async () => s.ping(),
     accept: async (r, done) => s.accept(r, done),
-    claim: async (owner, leaseMs) => s.claim(owner, leaseMs),
+    admit: async (r, rate, limit) => s.admit(r, rate, limit),
+    claim: async (owner, leaseMs, opts) => s.claim(owner, leaseMs, opts),
     renew: async (owner, keys, leaseMs) => s.renew(owner, keys, leaseMs),
     setProgress: async (key, owner, p) => s.setProgress(key, owner, p),
     finish: async (key, owner) => s.finish(key, owner),

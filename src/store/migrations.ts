@@ -1,6 +1,7 @@
 /**
  * Versioned schema of the store, one numbered list for both backends: migration i (1-based) takes
- * the schema from version i−1 to i, with its SQLite step (`up`) and its PostgreSQL text (`postgres`).
+ * the schema from version i−1 to i, with its SQLite step (`up`) and its PostgreSQL text (`postgres`),
+ * both made from one schema text (`dialectOf`).
  * The runner is our own and small (see DEVELOPERS.md, "The log and marks"): `plan` checks the list
  * and picks the steps; each backend applies them in one transaction.
  *
@@ -27,240 +28,155 @@ export interface Migration {
   postgres?: string;
 }
 
+/**
+ * The two dialects of one schema text. The migrations are written once, in the SQL both backends
+ * share, with four words for where they differ: `{real}` (a float column), `{bigint}` (ms since
+ * the epoch), `{rowid}` (a row id the database assigns) and `{seq}` (the same, never reused).
+ * The column `"user"` is quoted for PostgreSQL, where USER is reserved; SQLite reads the quoted
+ * name as the same identifier.
+ */
+const DIALECTS = {
+  sqlite: { real: 'REAL', bigint: 'INTEGER', rowid: 'INTEGER PRIMARY KEY', seq: 'INTEGER PRIMARY KEY AUTOINCREMENT' },
+  postgres: { real: 'DOUBLE PRECISION', bigint: 'BIGINT', rowid: 'BIGSERIAL PRIMARY KEY', seq: 'BIGSERIAL PRIMARY KEY' },
+} as const;
+
+/** The schema text `sql` in one backend's dialect. */
+export function dialectOf(sql: string, backend: keyof typeof DIALECTS): string {
+  const words: Record<string, string> = DIALECTS[backend];
+  return sql.replace(/\{(\w+)\}/g, (all, w: string) => {
+    if (!(w in words)) throw new Error(`unknown word ${all} in a migration`);
+    return words[w];
+  });
+}
+
+/** A migration written once for both backends. */
+const step = (version: number, description: string, sql: string): Migration => ({
+  version,
+  description,
+  up: (db) => db.exec(dialectOf(sql, 'sqlite')),
+  postgres: dialectOf(sql, 'postgres'),
+});
+
 export const MIGRATIONS: readonly Migration[] = [
-  {
-    version: 1,
-    description: 'log of checks with per-channel numbering, marks, rejected-request counters',
-    up(db) {
-      db.exec(`
-        CREATE TABLE channels (
-          channel     TEXT PRIMARY KEY NOT NULL,
-          next_number INTEGER NOT NULL CHECK (next_number >= 1)
-        );
-        CREATE TABLE checks (
-          id         INTEGER PRIMARY KEY,
-          channel    TEXT NOT NULL,
-          number     INTEGER NOT NULL CHECK (number >= 1),
-          user       TEXT NOT NULL,
-          at         TEXT NOT NULL,
-          verb       TEXT NOT NULL,
-          text       TEXT NOT NULL,
-          normalized TEXT NOT NULL,
-          summary    TEXT NOT NULL,
-          thread_ts  TEXT
-        );
-        CREATE UNIQUE INDEX checks_channel_number ON checks (channel, number);
-        CREATE TABLE marks (
-          channel TEXT NOT NULL,
-          symbol  TEXT NOT NULL,
-          spot    REAL,
-          iv      REAL,
-          yield   REAL,
-          rate    REAL,
-          user    TEXT NOT NULL,
-          at      TEXT NOT NULL,
-          PRIMARY KEY (channel, symbol)
-        );
-        CREATE TABLE rejected (
-          channel TEXT PRIMARY KEY NOT NULL,
-          count   INTEGER NOT NULL
-        );
-      `);
-    },
-    postgres: `
-      CREATE TABLE channels (
-        channel     TEXT PRIMARY KEY,
-        next_number INTEGER NOT NULL CHECK (next_number >= 1)
-      );
-      CREATE TABLE checks (
-        id         BIGSERIAL PRIMARY KEY,
-        channel    TEXT NOT NULL,
-        number     INTEGER NOT NULL CHECK (number >= 1),
-        "user"     TEXT NOT NULL,
-        at         TEXT NOT NULL,
-        verb       TEXT NOT NULL,
-        text       TEXT NOT NULL,
-        normalized TEXT NOT NULL,
-        summary    TEXT NOT NULL,
-        thread_ts  TEXT
-      );
-      CREATE UNIQUE INDEX checks_channel_number ON checks (channel, number);
-      CREATE TABLE marks (
-        channel TEXT NOT NULL,
-        symbol  TEXT NOT NULL,
-        spot    DOUBLE PRECISION,
-        iv      DOUBLE PRECISION,
-        yield   DOUBLE PRECISION,
-        rate    DOUBLE PRECISION,
-        "user"  TEXT NOT NULL,
-        at      TEXT NOT NULL,
-        PRIMARY KEY (channel, symbol)
-      );
-      CREATE TABLE rejected (
-        channel TEXT PRIMARY KEY,
-        count   INTEGER NOT NULL
-      );
+  step(
+    1,
+    'log of checks with per-channel numbering, marks, rejected-request counters',
+    `
+    CREATE TABLE channels (
+      channel     TEXT PRIMARY KEY NOT NULL,
+      next_number INTEGER NOT NULL CHECK (next_number >= 1)
+    );
+    CREATE TABLE checks (
+      id         {rowid},
+      channel    TEXT NOT NULL,
+      number     INTEGER NOT NULL CHECK (number >= 1),
+      "user"     TEXT NOT NULL,
+      at         TEXT NOT NULL,
+      verb       TEXT NOT NULL,
+      text       TEXT NOT NULL,
+      normalized TEXT NOT NULL,
+      summary    TEXT NOT NULL,
+      thread_ts  TEXT
+    );
+    CREATE UNIQUE INDEX checks_channel_number ON checks (channel, number);
+    CREATE TABLE marks (
+      channel TEXT NOT NULL,
+      symbol  TEXT NOT NULL,
+      spot    {real},
+      iv      {real},
+      yield   {real},
+      rate    {real},
+      "user"  TEXT NOT NULL,
+      at      TEXT NOT NULL,
+      PRIMARY KEY (channel, symbol)
+    );
+    CREATE TABLE rejected (
+      channel TEXT PRIMARY KEY NOT NULL,
+      count   INTEGER NOT NULL
+    );
     `,
-  },
-  {
-    version: 2,
-    description: 'delivery state and permalink of each check',
-    up(db) {
-      db.exec(`
-        ALTER TABLE checks ADD COLUMN permalink TEXT;
-        ALTER TABLE checks ADD COLUMN delivered TEXT NOT NULL DEFAULT 'pending'
-          CHECK (delivered IN ('pending', 'delivered', 'undelivered'));
-        -- a version-1 entry with a thread was answered in that thread
-        UPDATE checks SET delivered = 'delivered' WHERE thread_ts IS NOT NULL;
-      `);
-    },
-    postgres: `
-      ALTER TABLE checks ADD COLUMN permalink TEXT;
-      ALTER TABLE checks ADD COLUMN delivered TEXT NOT NULL DEFAULT 'pending'
-        CHECK (delivered IN ('pending', 'delivered', 'undelivered'));
-      UPDATE checks SET delivered = 'delivered' WHERE thread_ts IS NOT NULL;
+  ),
+  step(
+    2,
+    'delivery state and permalink of each check',
+    `
+    ALTER TABLE checks ADD COLUMN permalink TEXT;
+    ALTER TABLE checks ADD COLUMN delivered TEXT NOT NULL DEFAULT 'pending'
+      CHECK (delivered IN ('pending', 'delivered', 'undelivered'));
+    -- a version-1 entry with a thread was answered in that thread
+    UPDATE checks SET delivered = 'delivered' WHERE thread_ts IS NOT NULL;
     `,
-  },
-  {
-    version: 3,
-    description: "a mark's view (vol, drift and its uncertainty) and each channel's price histories",
-    up(db) {
-      db.exec(`
-        ALTER TABLE marks ADD COLUMN vol REAL;
-        ALTER TABLE marks ADD COLUMN drift REAL;
-        ALTER TABLE marks ADD COLUMN drift_se REAL;
-        CREATE TABLE closes (
-          channel TEXT NOT NULL,
-          symbol  TEXT NOT NULL,
-          seq     INTEGER NOT NULL CHECK (seq >= 0),
-          day     TEXT,
-          close   REAL NOT NULL,
-          PRIMARY KEY (channel, symbol, seq)
-        );
-      `);
-    },
-    postgres: `
-      ALTER TABLE marks ADD COLUMN vol DOUBLE PRECISION;
-      ALTER TABLE marks ADD COLUMN drift DOUBLE PRECISION;
-      ALTER TABLE marks ADD COLUMN drift_se DOUBLE PRECISION;
-      CREATE TABLE closes (
-        channel TEXT NOT NULL,
-        symbol  TEXT NOT NULL,
-        seq     INTEGER NOT NULL CHECK (seq >= 0),
-        day     TEXT,
-        close   DOUBLE PRECISION NOT NULL,
-        PRIMARY KEY (channel, symbol, seq)
-      );
+  ),
+  step(
+    3,
+    "a mark's view (vol, drift and its uncertainty) and each channel's price histories",
+    `
+    ALTER TABLE marks ADD COLUMN vol {real};
+    ALTER TABLE marks ADD COLUMN drift {real};
+    ALTER TABLE marks ADD COLUMN drift_se {real};
+    CREATE TABLE closes (
+      channel TEXT NOT NULL,
+      symbol  TEXT NOT NULL,
+      seq     INTEGER NOT NULL CHECK (seq >= 0),
+      day     TEXT,
+      close   {real} NOT NULL,
+      PRIMARY KEY (channel, symbol, seq)
+    );
     `,
-  },
-  {
-    version: 4,
-    description: 'buttons and my desk: which check a variation came from, tombstones of deleted checks, the messages and files each answer posted, a person\'s checks across channels, personal defaults',
-    up(db) {
-      db.exec(`
-        ALTER TABLE checks ADD COLUMN varied_from INTEGER;
-        ALTER TABLE checks ADD COLUMN deleted_at TEXT;
-        ALTER TABLE checks ADD COLUMN posted TEXT;
-        CREATE INDEX checks_user_at ON checks (user, at);
-        CREATE TABLE user_defaults (
-          user    TEXT PRIMARY KEY NOT NULL,
-          rate    REAL,
-          yield   REAL,
-          mult    INTEGER,
-          horizon TEXT,
-          at      TEXT NOT NULL
-        );
-      `);
-    },
-    postgres: `
-      ALTER TABLE checks ADD COLUMN varied_from INTEGER;
-      ALTER TABLE checks ADD COLUMN deleted_at TEXT;
-      ALTER TABLE checks ADD COLUMN posted TEXT;
-      CREATE INDEX checks_user_at ON checks ("user", at);
-      CREATE TABLE user_defaults (
-        "user"  TEXT PRIMARY KEY,
-        rate    DOUBLE PRECISION,
-        yield   DOUBLE PRECISION,
-        mult    INTEGER,
-        horizon TEXT,
-        at      TEXT NOT NULL
-      );
+  ),
+  step(
+    4,
+    "buttons and my desk: which check a variation came from, tombstones of deleted checks, the messages and files each answer posted, a person's checks across channels, personal defaults",
+    `
+    ALTER TABLE checks ADD COLUMN varied_from INTEGER;
+    ALTER TABLE checks ADD COLUMN deleted_at TEXT;
+    ALTER TABLE checks ADD COLUMN posted TEXT;
+    CREATE INDEX checks_user_at ON checks ("user", at);
+    CREATE TABLE user_defaults (
+      "user"  TEXT PRIMARY KEY NOT NULL,
+      rate    {real},
+      yield   {real},
+      mult    INTEGER,
+      horizon TEXT,
+      at      TEXT NOT NULL
+    );
     `,
-  },
-  {
-    version: 5,
-    description: 'shared request queue (inbox, per-channel order, leases) and per-user rate buckets',
-    up(db) {
-      db.exec(`
-        CREATE TABLE requests (
-          seq          INTEGER PRIMARY KEY AUTOINCREMENT,
-          key          TEXT NOT NULL UNIQUE,
-          source       TEXT NOT NULL,
-          channel      TEXT NOT NULL,
-          user         TEXT NOT NULL,
-          thread_ts    TEXT,
-          response_url TEXT,
-          text         TEXT NOT NULL,
-          now          TEXT NOT NULL,
-          received_ms  INTEGER NOT NULL,
-          state        TEXT NOT NULL DEFAULT 'queued' CHECK (state IN ('queued', 'running', 'done')),
-          owner        TEXT,
-          lease_ms     INTEGER,
-          attempts     INTEGER NOT NULL DEFAULT 0,
-          progress     TEXT NOT NULL DEFAULT '{}',
-          files        TEXT,
-          finished_ms  INTEGER
-        );
-        CREATE INDEX requests_open ON requests (channel, seq) WHERE state <> 'done';
-        CREATE INDEX requests_finished ON requests (finished_ms) WHERE state = 'done';
-        CREATE TABLE user_rates (
-          user      TEXT PRIMARY KEY NOT NULL,
-          tokens    REAL NOT NULL,
-          at_ms     INTEGER NOT NULL,
-          notice_ms INTEGER NOT NULL,
-          granted   INTEGER NOT NULL
-        );
-      `);
-    },
-    postgres: `
-      CREATE TABLE requests (
-        seq          BIGSERIAL PRIMARY KEY,
-        key          TEXT NOT NULL UNIQUE,
-        source       TEXT NOT NULL,
-        channel      TEXT NOT NULL,
-        "user"       TEXT NOT NULL,
-        thread_ts    TEXT,
-        response_url TEXT,
-        text         TEXT NOT NULL,
-        now          TEXT NOT NULL,
-        received_ms  BIGINT NOT NULL,
-        state        TEXT NOT NULL DEFAULT 'queued' CHECK (state IN ('queued', 'running', 'done')),
-        owner        TEXT,
-        lease_ms     BIGINT,
-        attempts     INTEGER NOT NULL DEFAULT 0,
-        progress     TEXT NOT NULL DEFAULT '{}',
-        files        TEXT,
-        finished_ms  BIGINT
-      );
-      CREATE INDEX requests_open ON requests (channel, seq) WHERE state <> 'done';
-      CREATE INDEX requests_finished ON requests (finished_ms) WHERE state = 'done';
-      CREATE TABLE user_rates (
-        "user"    TEXT PRIMARY KEY,
-        tokens    DOUBLE PRECISION NOT NULL,
-        at_ms     BIGINT NOT NULL,
-        notice_ms BIGINT NOT NULL,
-        granted   INTEGER NOT NULL
-      );
+  ),
+  step(
+    5,
+    'shared request queue (inbox, per-channel order, leases) and per-user rate buckets',
+    `
+    CREATE TABLE requests (
+      seq          {seq},
+      key          TEXT NOT NULL UNIQUE,
+      source       TEXT NOT NULL,
+      channel      TEXT NOT NULL,
+      "user"       TEXT NOT NULL,
+      thread_ts    TEXT,
+      response_url TEXT,
+      text         TEXT NOT NULL,
+      now          TEXT NOT NULL,
+      received_ms  {bigint} NOT NULL,
+      state        TEXT NOT NULL DEFAULT 'queued' CHECK (state IN ('queued', 'running', 'done')),
+      owner        TEXT,
+      lease_ms     {bigint},
+      attempts     INTEGER NOT NULL DEFAULT 0,
+      progress     TEXT NOT NULL DEFAULT '{}',
+      files        TEXT,
+      finished_ms  {bigint}
+    );
+    CREATE INDEX requests_open ON requests (channel, seq) WHERE state <> 'done';
+    CREATE INDEX requests_finished ON requests (finished_ms) WHERE state = 'done';
+    CREATE TABLE user_rates (
+      "user"    TEXT PRIMARY KEY NOT NULL,
+      tokens    {real} NOT NULL,
+      at_ms     {bigint} NOT NULL,
+      notice_ms {bigint} NOT NULL,
+      granted   INTEGER NOT NULL
+    );
     `,
-  },
-  {
-    version: 6,
-    description: 'interactive requests on the shared queue: how each is answered (its log, flat, notices, variation, preface)',
-    up(db) {
-      db.exec('ALTER TABLE requests ADD COLUMN interaction TEXT');
-    },
-    postgres: 'ALTER TABLE requests ADD COLUMN interaction TEXT;',
-  },
+  ),
+  step(6, 'interactive requests on the shared queue: how each is answered (its log, flat, notices, variation, preface)', 'ALTER TABLE requests ADD COLUMN interaction TEXT;'),
 ];
 
 /** The schema version this code reads and writes. */

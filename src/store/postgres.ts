@@ -25,6 +25,7 @@ import {
   deliveryArgsOf,
   id,
   isEntryNumber,
+  entryChannelOf,
   markRowOf,
   recentLimitOf,
   threadArgsOf,
@@ -35,6 +36,7 @@ import {
   toClaimed,
   checkRate,
   rateDecision,
+  admission,
   type CheckRow,
   type CloseRow,
   type MarkRow,
@@ -47,7 +49,7 @@ import {
   emptyDefaults,
   type DefaultsRow,
 } from './rows.js';
-import type { ClaimedRequest, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
+import type { Admission, ClaimedRequest, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
 import type { LogEntry, LogEntryInput, Mark, Posted, StoredClose, UserDefaults } from './store.js';
 import type { AsyncStore, DatabaseOptions } from './async.js';
 
@@ -164,12 +166,46 @@ class PgStore implements AsyncStore {
     readonly where: string,
   ) {}
 
-  private async q<R extends pg.QueryResultRow>(op: StoreOp, text: string, values: unknown[]): Promise<pg.QueryResult<R>> {
+  /** One statement on the pool, or on `on` (a transaction's connection). */
+  private async q<R extends pg.QueryResultRow>(op: StoreOp, text: string, values: unknown[], on: pg.Pool | pg.PoolClient = this.pool): Promise<pg.QueryResult<R>> {
     if (this.closed) throw new StoreError('unavailable', op, 'the log has been closed');
     try {
-      return await this.pool.query<R>(text, values);
+      return await on.query<R>(text, values);
     } catch (e) {
       throw pgStoreError(e, op, this.where);
+    }
+  }
+
+  /** A write statement; true when it changed a row. */
+  private async changed(text: string, values: unknown[]): Promise<boolean> {
+    return ((await this.q('write', text, values)).rowCount ?? 0) > 0;
+  }
+
+  /** `fn` in one transaction on one connection: committed when it resolves, rolled back when it throws. */
+  private async tx<T>(op: StoreOp, fn: (c: pg.PoolClient) => Promise<T>): Promise<T> {
+    if (this.closed) throw new StoreError('unavailable', op, 'the log has been closed');
+    let client: pg.PoolClient | undefined;
+    let broken: unknown;
+    // a connection that breaks while checked out emits 'error' on its client, which the pool only
+    // listens to while the client is idle: without a listener here it would end the process
+    const onError = (e: unknown) => {
+      broken ??= e;
+    };
+    try {
+      client = await this.pool.connect();
+      client.on('error', onError);
+      await client.query('BEGIN');
+      const out = await fn(client);
+      await client.query('COMMIT');
+      return out;
+    } catch (e) {
+      broken ??= e;
+      await client?.query('ROLLBACK').catch(() => undefined);
+      throw pgStoreError(e, op, this.where);
+    } finally {
+      client?.removeListener('error', onError);
+      // a client that failed is dropped, not handed back to the pool
+      client?.release(broken === undefined ? undefined : broken instanceof Error ? broken : new Error(String(broken)));
     }
   }
 
@@ -195,22 +231,19 @@ class PgStore implements AsyncStore {
   async setThread(channel: string, number: number, threadTs: string, permalink?: string | null): Promise<boolean> {
     const a = threadArgsOf(channel, number, threadTs, permalink);
     if (!a) return false;
-    const r =
-      a.permalink === undefined
-        ? await this.q('write', 'UPDATE checks SET thread_ts = $1 WHERE channel = $2 AND number = $3', [a.ts, a.channel, number])
-        : await this.q('write', 'UPDATE checks SET thread_ts = $1, permalink = $2 WHERE channel = $3 AND number = $4', [a.ts, a.permalink, a.channel, number]);
-    return (r.rowCount ?? 0) > 0;
+    return a.permalink === undefined
+      ? this.changed('UPDATE checks SET thread_ts = $1 WHERE channel = $2 AND number = $3', [a.ts, a.channel, number])
+      : this.changed('UPDATE checks SET thread_ts = $1, permalink = $2 WHERE channel = $3 AND number = $4', [a.ts, a.permalink, a.channel, number]);
   }
 
   async setDelivery(channel: string, number: number, state: 'delivered' | 'undelivered'): Promise<boolean> {
     const a = deliveryArgsOf(channel, number, state);
     if (!a) return false;
-    const r = await this.q('write', 'UPDATE checks SET delivered = $1 WHERE channel = $2 AND number = $3', [a.state, a.channel, number]);
-    return (r.rowCount ?? 0) > 0;
+    return this.changed('UPDATE checks SET delivered = $1 WHERE channel = $2 AND number = $3', [a.state, a.channel, number]);
   }
 
   async get(channel: string, number: number): Promise<LogEntry | undefined> {
-    if (typeof channel !== 'string' || !isEntryNumber(number) || number > 2147483647) return undefined;
+    if (typeof channel !== 'string' || !isEntryNumber(number)) return undefined;
     const r = await this.q<CheckRow>('read', `SELECT ${CHECK_COLUMNS} FROM checks WHERE channel = $1 AND number = $2`, [channel, number]);
     return r.rows[0] && toEntry(r.rows[0]);
   }
@@ -243,25 +276,15 @@ class PgStore implements AsyncStore {
 
   async putCloses(channel: string, sym: string, closes: StoredClose[]): Promise<void> {
     const r = closeRowsOf(channel, sym, closes);
-    if (this.closed) throw new StoreError('unavailable', 'write', 'the log has been closed');
     // the old history goes and the new one comes in one transaction
-    let client: pg.PoolClient | undefined;
-    try {
-      client = await this.pool.connect();
-      await client.query('BEGIN');
-      await client.query('DELETE FROM closes WHERE channel = $1 AND symbol = $2', [r.channel, r.symbol]);
-      await client.query(
+    await this.tx('write', async (c) => {
+      await c.query('DELETE FROM closes WHERE channel = $1 AND symbol = $2', [r.channel, r.symbol]);
+      await c.query(
         `INSERT INTO closes (channel, symbol, seq, day, close)
          SELECT $1, $2, t.seq, t.day, t.close FROM unnest($3::int[], $4::text[], $5::float8[]) AS t(seq, day, close)`,
         [r.channel, r.symbol, r.rows.map((x) => x.seq), r.rows.map((x) => x.day), r.rows.map((x) => x.close)],
       );
-      await client.query('COMMIT');
-    } catch (e) {
-      await client?.query('ROLLBACK').catch(() => undefined);
-      throw pgStoreError(e, 'write', this.where);
-    } finally {
-      client?.release();
-    }
+    });
   }
 
   async getMark(channel: string, sym: string): Promise<Mark | undefined> {
@@ -289,7 +312,7 @@ class PgStore implements AsyncStore {
 
   // ---- the request queue (see RequestQueue in async.ts) ----
 
-  async accept(r: QueuedRequest, done = false): Promise<boolean> {
+  async accept(r: QueuedRequest, done = false, on: pg.Pool | pg.PoolClient = this.pool): Promise<boolean> {
     const row = requestRowOf(r);
     const res = await this.q(
       'write',
@@ -297,8 +320,24 @@ class PgStore implements AsyncStore {
        VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $10, $11, ${NOW_MS}, $9, CASE WHEN $9 = 'done' THEN ${NOW_MS} END)
        ON CONFLICT (key) DO NOTHING`,
       [row.key, row.source, row.channel, row.user, row.thread_ts, row.response_url, row.text, row.now, done ? 'done' : 'queued', row.files, row.interaction],
+      on,
     );
     return res.rowCount === 1;
+  }
+
+  /**
+   * RequestQueue.admit in one transaction. A second delivery of the same key, arriving at another
+   * instance meanwhile, waits on the unique index for this transaction and then finds the key.
+   */
+  async admit(r: QueuedRequest, o: RateOptions, queueLimit: number): Promise<Admission> {
+    requestRowOf(r); // a malformed request is refused before a connection is taken
+    return this.tx('write', async (c) => {
+      if (!(await this.accept(r, false, c))) return { kind: 'duplicate' };
+      const rate = await this.take(r.user, o, c);
+      const got = admission(rate, rate.ok ? (await this.depth(c)) - 1 : 0, queueLimit);
+      if (got.kind !== 'queued') await this.finish(r.key, undefined, c);
+      return got;
+    });
   }
 
   /**
@@ -306,19 +345,19 @@ class PgStore implements AsyncStore {
    * SKIP LOCKED (so instances claiming at the same moment take different requests instead of
    * waiting on each other), is marked running under `owner`.
    */
-  async claim(owner: string, leaseMs: number): Promise<ClaimedRequest | undefined> {
+  async claim(owner: string, leaseMs: number, opts: { takeover?: boolean } = {}): Promise<ClaimedRequest | undefined> {
     const r = await this.q<RequestRow>(
       'write',
       `UPDATE requests SET state = 'running', owner = $1, lease_ms = ${NOW_MS} + $2, attempts = attempts + 1
        WHERE seq = (
          SELECT h.seq FROM requests h
-         WHERE h.state <> 'done' AND (h.state = 'queued' OR h.lease_ms < ${NOW_MS})
+         WHERE h.state <> 'done' AND (h.state = 'queued' OR ($3 AND h.lease_ms < ${NOW_MS}))
            AND NOT EXISTS (SELECT 1 FROM requests e WHERE e.channel = h.channel AND e.state <> 'done' AND e.seq < h.seq)
          ORDER BY h.seq LIMIT 1
          FOR UPDATE SKIP LOCKED
        )
        RETURNING ${REQUEST_COLUMNS}`,
-      [owner, Math.round(leaseMs)],
+      [owner, Math.round(leaseMs), opts.takeover !== false],
     );
     return r.rows[0] && toClaimed(r.rows[0]);
   }
@@ -338,11 +377,11 @@ class PgStore implements AsyncStore {
     return r.rowCount === 1;
   }
 
-  async finish(key: string, owner?: string): Promise<void> {
+  async finish(key: string, owner?: string, on: pg.Pool | pg.PoolClient = this.pool): Promise<void> {
     if (owner === undefined) {
-      await this.q('write', `UPDATE requests SET state = 'done', finished_ms = ${NOW_MS}, lease_ms = NULL WHERE key = $1 AND state <> 'done'`, [key]);
+      await this.q('write', `UPDATE requests SET state = 'done', finished_ms = ${NOW_MS}, lease_ms = NULL WHERE key = $1 AND state <> 'done'`, [key], on);
     } else {
-      await this.q('write', `UPDATE requests SET state = 'done', finished_ms = ${NOW_MS}, lease_ms = NULL WHERE key = $1 AND owner = $2 AND state = 'running'`, [key, owner]);
+      await this.q('write', `UPDATE requests SET state = 'done', finished_ms = ${NOW_MS}, lease_ms = NULL WHERE key = $1 AND owner = $2 AND state = 'running'`, [key, owner], on);
     }
   }
 
@@ -354,8 +393,8 @@ class PgStore implements AsyncStore {
     );
   }
 
-  async depth(): Promise<number> {
-    const r = await this.q<{ n: number }>('read', `SELECT COUNT(*)::int AS n FROM requests WHERE state <> 'done'`, []);
+  async depth(on: pg.Pool | pg.PoolClient = this.pool): Promise<number> {
+    const r = await this.q<{ n: number }>('read', `SELECT COUNT(*)::int AS n FROM requests WHERE state <> 'done'`, [], on);
     return r.rows[0]?.n ?? 0;
   }
 
@@ -365,7 +404,7 @@ class PgStore implements AsyncStore {
   }
 
   /** One statement on the user's bucket row (its lock serialises instances taking for one user). */
-  async take(user: string, o: RateOptions): Promise<RateDecision> {
+  async take(user: string, o: RateOptions, on: pg.Pool | pg.PoolClient = this.pool): Promise<RateDecision> {
     const u = id(user, 'user');
     checkRate(o);
     const refill = `LEAST($2::float8, r.tokens + (${NOW_MS} - r.at_ms) * $3::float8)`;
@@ -379,37 +418,32 @@ class PgStore implements AsyncStore {
          at_ms = ${NOW_MS}
        RETURNING tokens, granted, granted = 2 AS noticed`,
       [u, o.burst, o.perMinute / 60000, Math.round(o.noticeEverySeconds * 1000)],
+      on,
     );
     const row = r.rows[0];
     return rateDecision(row.granted, row.tokens, row.noticed, o);
   }
 
   async setVariedFrom(channel: string, number: number, from: number): Promise<boolean> {
-    const ch = id(channel, 'channel');
-    if (!isEntryNumber(number) || !isEntryNumber(from) || number > 2147483647 || from > 2147483647) return false;
-    const r = await this.q('write', 'UPDATE checks SET varied_from = $1 WHERE channel = $2 AND number = $3', [from, ch, number]);
-    return (r.rowCount ?? 0) > 0;
+    const ch = entryChannelOf(channel, number, from);
+    if (ch === null) return false;
+    return this.changed('UPDATE checks SET varied_from = $1 WHERE channel = $2 AND number = $3', [from, ch, number]);
   }
 
   async setPosted(channel: string, number: number, posted: Posted): Promise<boolean> {
-    const ch = id(channel, 'channel');
-    if (!isEntryNumber(number) || number > 2147483647) return false;
-    const j = postedJsonOf(posted);
-    const r = await this.q('write', 'UPDATE checks SET posted = $1 WHERE channel = $2 AND number = $3 AND deleted_at IS NULL', [j, ch, number]);
-    return (r.rowCount ?? 0) > 0;
+    const ch = entryChannelOf(channel, number);
+    if (ch === null) return false;
+    return this.changed('UPDATE checks SET posted = $1 WHERE channel = $2 AND number = $3 AND deleted_at IS NULL', [postedJsonOf(posted), ch, number]);
   }
 
   async tombstone(channel: string, number: number, at: string): Promise<boolean> {
-    const ch = id(channel, 'channel');
-    if (!isEntryNumber(number) || number > 2147483647) return false;
-    const when = isoTime(at);
-    const r = await this.q(
-      'write',
+    const ch = entryChannelOf(channel, number);
+    if (ch === null) return false;
+    return this.changed(
       `UPDATE checks SET text = '', normalized = 'null', summary = $1, posted = NULL, permalink = NULL, deleted_at = $2
        WHERE channel = $3 AND number = $4 AND deleted_at IS NULL`,
-      [TOMBSTONE_SUMMARY, when, ch, number],
+      [TOMBSTONE_SUMMARY, isoTime(at), ch, number],
     );
-    return (r.rowCount ?? 0) > 0;
   }
 
   async recentOfUser(user: string, n: number): Promise<LogEntry[]> {

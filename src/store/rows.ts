@@ -5,7 +5,7 @@
  */
 import { StoreError } from './errors.js';
 import type { CheckSummary, DeliveryState, LogEntry, LogEntryInput, Mark, Posted, StoredClose, UserDefaults } from './store.js';
-import type { ClaimedRequest, Interaction, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
+import type { Admission, ClaimedRequest, Interaction, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
 
 /**
  * Size limits. Identifiers are refused when too long (cutting a channel id could merge two
@@ -173,8 +173,15 @@ export function finiteOrNull(v: unknown, what: string): number | null {
   return v;
 }
 
+/** A number an entry can have: a whole number from 1 to the INTEGER column's largest (2³¹ − 1, PostgreSQL's bound). */
 export function isEntryNumber(n: unknown): n is number {
-  return typeof n === 'number' && Number.isSafeInteger(n) && n >= 1;
+  return typeof n === 'number' && Number.isSafeInteger(n) && n >= 1 && n <= 2147483647;
+}
+
+/** The checked channel of an entry to change, or null when one of the numbers (the entry's, another it names) cannot exist. */
+export function entryChannelOf(channel: string, ...numbers: number[]): string | null {
+  const ch = id(channel, 'channel');
+  return numbers.every(isEntryNumber) ? ch : null;
 }
 
 export function json(v: unknown): string {
@@ -475,4 +482,11 @@ export function rateDecision(granted: number | boolean, tokens: number, noticed:
   if (granted === true || granted === 1) return { ok: true };
   const perMs = o.perMinute / 60000;
   return { ok: false, retryInSeconds: Math.max(1, Math.ceil((1 - tokens) / perMs / 1000)), notify: noticed };
+}
+
+/** The admission of a fresh request once the asker's bucket and the open requests before it are known (RequestQueue.admit). */
+export function admission(rate: RateDecision, open: number, queueLimit: number): Admission {
+  if (!rate.ok) return { kind: 'rate', rate };
+  if (open >= queueLimit) return { kind: 'busy', depth: open };
+  return { kind: 'queued' };
 }

@@ -32,6 +32,7 @@ import {
   deliveryArgsOf,
   id,
   isEntryNumber,
+  entryChannelOf,
   markRowOf,
   recentLimitOf,
   threadArgsOf,
@@ -42,6 +43,7 @@ import {
   toClaimed,
   checkRate,
   rateDecision,
+  admission,
   type CheckRow,
   type CloseRow,
   type MarkRow,
@@ -54,7 +56,7 @@ import {
   emptyDefaults,
   type DefaultsRow,
 } from './rows.js';
-import type { ClaimedRequest, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
+import type { Admission, ClaimedRequest, Progress, QueuedRequest, RateDecision, RateOptions } from './async.js';
 import type { LogEntry, LogEntryInput, Mark, OpenOptions, Posted, StoredClose, UserDefaults } from './store.js';
 
 export { LIMITS, cutBytes } from './rows.js';
@@ -299,16 +301,28 @@ export class SqliteStore {
     return this.guard('write', () => st.run({ ...row, t, state: done ? 'done' : 'queued', finished: done ? t : null }).changes === 1);
   }
 
-  claim(owner: string, leaseMs: number): ClaimedRequest | undefined {
+  /** RequestQueue.admit: the steps below in one immediate transaction. */
+  admit(r: QueuedRequest, o: RateOptions, queueLimit: number): Admission {
+    const tx = this.db.transaction((): Admission => {
+      if (!this.accept(r)) return { kind: 'duplicate' };
+      const rate = this.take(r.user, o);
+      const got = admission(rate, rate.ok ? this.depth() - 1 : 0, queueLimit);
+      if (got.kind !== 'queued') this.finish(r.key);
+      return got;
+    });
+    return this.guard('write', () => tx.immediate());
+  }
+
+  claim(owner: string, leaseMs: number, opts: { takeover?: boolean } = {}): ClaimedRequest | undefined {
     const pick = this.q('write', `SELECT h.key FROM requests h
-      WHERE h.state <> 'done' AND (h.state = 'queued' OR h.lease_ms < @t)
+      WHERE h.state <> 'done' AND (h.state = 'queued' OR (@takeover = 1 AND h.lease_ms < @t))
         AND NOT EXISTS (SELECT 1 FROM requests e WHERE e.channel = h.channel AND e.state <> 'done' AND e.seq < h.seq)
       ORDER BY h.seq LIMIT 1`);
     const take = this.q('write', `UPDATE requests SET state = 'running', owner = @owner, lease_ms = @until, attempts = attempts + 1
       WHERE key = @key RETURNING seq, key, source, channel, user, thread_ts, response_url, text, now, received_ms, attempts, progress, files, interaction`);
     const tx = this.db.transaction(() => {
       const t = Date.now();
-      const key = pick.pluck().get({ t }) as string | undefined;
+      const key = pick.pluck().get({ t, takeover: opts.takeover === false ? 0 : 1 }) as string | undefined;
       if (key === undefined) return undefined;
       return take.get({ owner, until: t + leaseMs, key }) as RequestRow;
     });
@@ -379,21 +393,21 @@ export class SqliteStore {
   }
 
   setVariedFrom(channel: string, number: number, from: number): boolean {
-    const ch = id(channel, 'channel');
-    if (!isEntryNumber(number) || !isEntryNumber(from)) return false;
+    const ch = entryChannelOf(channel, number, from);
+    if (ch === null) return false;
     return this.guard('write', () => this.s.setVariedFrom.run(from, ch, number).changes > 0);
   }
 
   setPosted(channel: string, number: number, posted: Posted): boolean {
-    const ch = id(channel, 'channel');
-    if (!isEntryNumber(number)) return false;
+    const ch = entryChannelOf(channel, number);
+    if (ch === null) return false;
     const j = postedJsonOf(posted);
     return this.guard('write', () => this.s.setPosted.run(j, ch, number).changes > 0);
   }
 
   tombstone(channel: string, number: number, at: string): boolean {
-    const ch = id(channel, 'channel');
-    if (!isEntryNumber(number)) return false;
+    const ch = entryChannelOf(channel, number);
+    if (ch === null) return false;
     const when = isoTime(at);
     return this.guard('write', () => this.s.tombstone.run(TOMBSTONE_SUMMARY, when, ch, number).changes > 0);
   }

@@ -112,4 +112,5 @@ export {
   type RateBuckets,
   type RateOptions,
   type RateDecision,
+  type Admission,
 } from './async.js';

@@ -188,6 +188,7 @@ export {
   type RequestQueue,
   type RateOptions,
   type RateDecision,
+  type Admission,
 } from '../store/store.js';
 export { isRerunnable, verbOfText } from './registry.js';
 

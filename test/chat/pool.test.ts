@@ -75,4 +75,30 @@ describe('worker pool', () => {
     expect(await running).toBe('closed');
     expect(await reason(pool.run(job('help')))).toBe('closed');
   });
+
+  it('health: the real workers answer over their IPC channel', async () => {
+    const pool = new WorkerPool({ size: 2, db: null, taskTimeoutMs: 60000, script: realWorker });
+    try {
+      expect(await pool.started(30000)).toBe(true);
+      expect(await pool.ping(5000)).toEqual({ answering: 2, of: 2 });
+    } finally {
+      await pool.close();
+    }
+  });
+
+  it('health: a worker that is up but does not answer is counted out and replaced by a fresh one', async () => {
+    const events: string[] = [];
+    const pool = new WorkerPool({ size: 1, db: null, taskTimeoutMs: 30000, script: stuckWorker, onEvent: (e) => events.push(`${e.event}: ${e.detail}`) });
+    try {
+      expect(await pool.started(30000)).toBe(true);
+      expect(await pool.ping(300)).toEqual({ answering: 0, of: 1 });
+      expect(events[0]).toMatch(/^worker-error: a worker did not answer a health check within 300 ms; replacing it$/);
+      // the fresh worker takes the next job
+      const next = await pool.run(job('help'));
+      expect(next.reply.kind).toBe('answer');
+      expect(events.some((e) => /^worker-exit: signal SIGKILL$/.test(e))).toBe(true);
+    } finally {
+      await pool.close();
+    }
+  });
 });

@@ -12,14 +12,14 @@
  * acknowledged, and that a load balancer sends a request whose connection failed to another
  * instance (common practice). Every wait is bounded.
  */
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { FakeWebApi, FAKE_BOT } from '../chat/fake-web-api.js';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { type FakeWebApi, FAKE_BOT } from '../chat/fake-web-api.js';
 import { mentionBody, slashBody } from '../chat/harness.js';
 import { signedPost, until } from '../robust/harness.js';
 import pg from 'pg';
 import { openDatabase } from '../../src/verbs/ask.js';
-import { freshDatabase } from '../support/pg.js';
-import { chartTitles, clusterCheck, roots, startCluster, threadSpots, type Instance } from './harness.js';
+import { clusterFixture, type ClusterFixture } from './fixture.js';
+import { chartTitles, clusterCheck, roots, threadSpots, type Instance } from './harness.js';
 
 const CHANNELS = 30;
 const USERS = 100;
@@ -154,18 +154,12 @@ const logBody = (fake: FakeWebApi, c: number, id: string) =>
   slashBody({ text: `log ${PER_CHANNEL + 5}`, channel: channelId(c), user: userId(c), responseUrl: fake.responseUrl(id) }).replace('trigger_id=1111.2222.3333', `trigger_id=${id}`);
 
 describe('three instances on one PostgreSQL database, HTTP mode', () => {
+  const f = clusterFixture('cluster_http', { mode: 'http', count: 3 });
   let fake: FakeWebApi;
-  let db: { url: string; drop: () => Promise<void> };
-  let cluster: Awaited<ReturnType<typeof startCluster>>;
-  beforeAll(async () => {
-    fake = await FakeWebApi.start();
-    db = await freshDatabase('cluster_http');
-    cluster = await startCluster({ fake, databaseUrl: db.url, mode: 'http', count: 3 });
-  });
-  afterAll(async () => {
-    await cluster?.close();
-    await fake?.close();
-    await db?.drop();
+  let db: ClusterFixture['db'];
+  let cluster: ClusterFixture['cluster'];
+  beforeAll(() => {
+    ({ fake, db, cluster } = f);
   });
 
   it('answers every acknowledged request exactly once, in order per channel, across re-sends, a SIGKILL and a restart', { timeout: 300_000 }, async () => {
@@ -216,19 +210,13 @@ describe('three instances on one PostgreSQL database, HTTP mode', () => {
 });
 
 describe('three instances on one PostgreSQL database, Socket Mode (one connection each)', () => {
+  const f = clusterFixture('cluster_socket', { mode: 'socket', count: 3, env: { KOLMO_OPS_PORT: '0' } });
   let fake: FakeWebApi;
-  let db: { url: string; drop: () => Promise<void> };
-  let cluster: Awaited<ReturnType<typeof startCluster>>;
+  let db: ClusterFixture['db'];
+  let cluster: ClusterFixture['cluster'];
   beforeAll(async () => {
-    fake = await FakeWebApi.start();
-    db = await freshDatabase('cluster_socket');
-    cluster = await startCluster({ fake, databaseUrl: db.url, mode: 'socket', count: 3, env: { KOLMO_OPS_PORT: '0' } });
+    ({ fake, db, cluster } = f);
     await until(() => ['i0', 'i1', 'i2'].every((t) => fake.socketTagList.includes(t)), WAIT, 'three Socket Mode connections');
-  });
-  afterAll(async () => {
-    await cluster?.close();
-    await fake?.close();
-    await db?.drop();
   });
 
   let envelopes = 0;

@@ -15,36 +15,23 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { spawn } from 'node:child_process';
-import { mkdtempSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { FakeWebApi, type Call } from '../chat/fake-web-api.js';
+import type { Call, FakeWebApi } from '../chat/fake-web-api.js';
 import { BOT_TOKEN, MAIN_JS, SECRET, httpEnv, slashBody } from '../chat/harness.js';
-import { signedPost, startIn, until, type App } from '../robust/harness.js';
+import { appsFixture } from '../robust/fixture.js';
+import { signedPost, until, type App } from '../robust/harness.js';
 import { openDatabase } from '../../src/verbs/ask.js';
 import { freshDatabase } from '../support/pg.js';
 import { TcpProxy, targetOf, throughProxy } from '../support/tcp-proxy.js';
 import { clusterCheck } from './harness.js';
 
 const WAIT = 60_000;
+const fx = appsFixture('kolmo-faults');
 let fake: FakeWebApi;
-const dirs: string[] = [];
-const apps: App[] = [];
-
-beforeAll(async () => {
-  fake = await FakeWebApi.start();
+beforeAll(() => {
+  fake = fx.fake;
 });
-afterAll(async () => {
-  for (const a of apps) await a.stop('SIGKILL');
-  await fake?.close();
-  for (const d of dirs) rmSync(d, { recursive: true, force: true });
-});
-
-function freshDir(): string {
-  const d = mkdtempSync(join(tmpdir(), 'kolmo-faults-'));
-  dirs.push(d);
-  return d;
-}
+const freshDir = () => fx.freshDir();
 
 const inChannel = (method: string, channel: string): Call[] => fake.okCallsOf(method).filter((c) => (c.body.channel ?? c.body.channel_id) === channel);
 const completes = (channel: string) => inChannel('files.completeUploadExternal', channel);
@@ -52,6 +39,17 @@ const threadAnswers = (channel: string) => inChannel('chat.postMessage', channel
 let trigger = 0;
 const slash = (port: number, channel: string, text: string, responseId: string) =>
   signedPost(port, slashBody({ text, channel, responseUrl: fake.responseUrl(responseId) }).replace('trigger_id=1111.2222.3333', `trigger_id=${++trigger}.9.9`), 'application/x-www-form-urlencoded');
+
+/** Waits (bounded) until the database's request queue holds nothing unanswered. */
+async function queueEmpties(url: string): Promise<void> {
+  const probe = await openDatabase({ backend: 'postgres', url });
+  try {
+    for (let k = 0; k < 240 && (await probe.depth()) > 0; k++) await new Promise((r) => setTimeout(r, 250));
+    expect(await probe.depth()).toBe(0);
+  } finally {
+    await probe.close();
+  }
+}
 
 /** Runs main.js with `env`; resolves with its exit code and output once it ends (bounded). */
 function runMain(env: Record<string, string>, dir: string): Promise<{ code: number | null; stderr: string; stdout: string }> {
@@ -72,8 +70,7 @@ function runMain(env: Record<string, string>, dir: string): Promise<{ code: numb
 describe('record first, then acknowledge', () => {
   it('one instance on SQLite: slash commands acknowledged just before a SIGKILL are answered after the restart, once', { timeout: 180_000 }, async () => {
     const dir = freshDir();
-    let app = await startIn(dir, httpEnv(fake.apiUrl, { KOLMO_WORKERS: '1' }));
-    apps.push(app);
+    let app = await fx.start(dir, httpEnv(fake.apiUrl, { KOLMO_WORKERS: '1' }));
     const channel = 'C0RECFIRST';
     const acks = [];
     for (let k = 1; k <= 3; k++) acks.push(await slash(app.port, channel, clusterCheck(100 + k), `rf${k}`));
@@ -81,8 +78,7 @@ describe('record first, then acknowledge', () => {
     app.child.kill('SIGKILL');
     await app.exited;
     expect(acks.map((a) => a.status)).toEqual([200, 200, 200]);
-    app = await startIn(dir, httpEnv(fake.apiUrl, { KOLMO_WORKERS: '1' }));
-    apps.push(app);
+    app = await fx.start(dir, httpEnv(fake.apiUrl, { KOLMO_WORKERS: '1' }));
     await until(() => completes(channel).length >= 3, WAIT, 'the three answered after the restart');
     const spots = threadAnswers(channel).map((c) => Number(/· spot (\d+)/.exec(String(c.body.text))?.[1]));
     expect(spots).toEqual([101, 102, 103]);
@@ -127,8 +123,7 @@ describe('a PostgreSQL database that goes away mid-run', () => {
   beforeAll(async () => {
     db = await freshDatabase('away_app');
     proxy = await TcpProxy.start(targetOf(db.url));
-    app = await startIn(freshDir(), httpEnv(fake.apiUrl, { KOLMO_WORKERS: '1', KOLMO_DATABASE_URL: throughProxy(db.url, proxy.port) }));
-    apps.push(app);
+    app = await fx.start(freshDir(), httpEnv(fake.apiUrl, { KOLMO_WORKERS: '1', KOLMO_DATABASE_URL: throughProxy(db.url, proxy.port) }));
   });
   afterAll(async () => {
     await app?.stop();
@@ -148,13 +143,7 @@ describe('a PostgreSQL database that goes away mid-run', () => {
     // The chart reaching the platform comes a moment before the instance records the request as
     // done; cut the database only once that record is written, so the first request is finished
     // business (what happens to a request caught mid-answer by an outage is another test's subject).
-    const probe = await openDatabase({ backend: 'postgres', url: db.url });
-    try {
-      for (let k = 0; k < 240 && (await probe.depth()) > 0; k++) await new Promise((r) => setTimeout(r, 250));
-      expect(await probe.depth()).toBe(0);
-    } finally {
-      await probe.close();
-    }
+    await queueEmpties(db.url);
 
     proxy.cut();
     expect((await slash(app.port, channel, clusterCheck(102), 'away2')).status).toBe(200);
@@ -184,5 +173,57 @@ describe('a PostgreSQL database that goes away mid-run', () => {
     } finally {
       await s.close();
     }
+  });
+});
+
+describe('a PostgreSQL database that goes away in the middle of an answer (two instances)', () => {
+  let proxy: TcpProxy;
+  let db: { url: string; drop: () => Promise<void> };
+  const pair: App[] = [];
+  // short leases, so that the outage below outlasts one
+  const timings = { KOLMO_LEASE_MS: '2000', KOLMO_LEASE_RENEW_MS: '500', KOLMO_QUEUE_POLL_MS: '100' };
+  beforeAll(async () => {
+    db = await freshDatabase('away_mid');
+    proxy = await TcpProxy.start(targetOf(db.url));
+    const env = httpEnv(fake.apiUrl, { KOLMO_WORKERS: '1', KOLMO_DATABASE_URL: throughProxy(db.url, proxy.port), ...timings });
+    pair.push(await fx.start(freshDir(), env), await fx.start(freshDir(), env));
+  });
+  afterAll(async () => {
+    fake.onCall = undefined;
+    for (const a of pair) await a.stop();
+    await proxy?.close();
+    await db?.drop();
+  });
+
+  it('what was posted during the outage is written when the database returns: nothing is posted again, the claim is not taken over', { timeout: 180_000 }, async () => {
+    const channel = 'C0DBMID001';
+    // the database goes away the moment the answer reaches the thread: its root line is recorded
+    // in the request's progress, the answer, the chart and "done" cannot be
+    let cut = false;
+    fake.onCall = (c) => {
+      if (!cut && c.method === 'chat.postMessage' && c.body.channel === channel && c.body.thread_ts !== undefined) {
+        cut = true;
+        proxy.cut();
+      }
+    };
+    expect((await slash(pair[0].port, channel, clusterCheck(201), 'mid1')).status).toBe(200);
+    await until(() => completes(channel).length >= 1, WAIT, 'the chart, uploaded while the database is away');
+    expect(cut).toBe(true);
+    // longer than a lease (2 s): the claim's lease runs out while the database is away
+    await new Promise((r) => setTimeout(r, 3000));
+    proxy.restore();
+    await queueEmpties(db.url);
+    // the channel's next request waits for the first to be done, so once it is answered, anything
+    // the first would post again has been posted
+    expect((await slash(pair[1].port, channel, clusterCheck(202), 'mid2')).status).toBe(200);
+    await until(() => completes(channel).length >= 2, WAIT, 'the next answer');
+    const lines = pair.flatMap((a) => a.lines);
+    expect(threadAnswers(channel).map((c) => Number(/· spot (\d+)/.exec(String(c.body.text))?.[1]))).toEqual([201, 202]);
+    expect(inChannel('chat.postMessage', channel).filter((c) => c.body.thread_ts === undefined)).toHaveLength(2);
+    expect(completes(channel)).toHaveLength(2);
+    // not taken over (no second attempt), and the holder said what it kept
+    expect(lines.filter((l) => l.msg === 'request' && l.attempt !== undefined)).toEqual([]);
+    expect(lines.some((l) => /kept in memory until the database answers/.test(String(l.msg)))).toBe(true);
+    expect(lines.some((l) => /took over a request/.test(String(l.msg)))).toBe(false);
   });
 });

@@ -457,6 +457,21 @@ describe.each(backends)('the store contract on $name', (backend) => {
     expect((await s.claim('other', 10000))?.key).toBe('t2');
   });
 
+  it('queue: without take-over only requests nobody holds are claimed; a lease that ran out stays its holder\'s', async () => {
+    const { s } = await open();
+    await s.accept(req('g1', 'C0QG'));
+    await s.accept(req('g2', 'C0QH'));
+    expect((await s.claim('holder', 150))?.key).toBe('g1');
+    await sleep(300);
+    // g1's lease ran out: not taken over, and its channel waits; g2 (nobody's) is claimed
+    expect((await s.claim('back', 10000, { takeover: false }))?.key).toBe('g2');
+    expect(await s.claim('back', 10000, { takeover: false })).toBeUndefined();
+    // the holder can still record it (nobody took it)
+    expect(await s.setProgress('g1', 'holder', { answered: true })).toBe(true);
+    await s.finish('g1', 'holder');
+    expect(await s.claim('back', 10000)).toBeUndefined();
+  });
+
   it('queue: renewing keeps a lease; releasing hands the request back without counting the attempt', async () => {
     const { s } = await open();
     await s.accept(req('r1', 'C0QR'));
@@ -511,6 +526,44 @@ describe.each(backends)('the store contract on $name', (backend) => {
     expect(await s.prune(30)).toBe(1);
     expect(await s.accept(req('old', 'C0QX'))).toBe(true); // forgotten
     expect(await s.depth()).toBe(2);
+  });
+
+  it('admit: a re-sent key takes nothing from the rate bucket, on any connection; turned-away requests are recorded answered', async () => {
+    const a = await open();
+    const { s: b } = await open(a.place);
+    const o = { burst: 2, perMinute: 0.6, noticeEverySeconds: 3600 }; // refills one request per 100 s
+    const user = { user: 'U0ADMIT1' };
+    expect(await a.s.admit(req('ad1', 'C0AD1', user), o, 100)).toEqual({ kind: 'queued' });
+    // the same delivery again, to this connection and to another one: duplicates, no token taken
+    expect(await a.s.admit(req('ad1', 'C0AD1', user), o, 100)).toEqual({ kind: 'duplicate' });
+    expect(await b.admit(req('ad1', 'C0AD1', user), o, 100)).toEqual({ kind: 'duplicate' });
+    // so the second token is still there for a new request
+    expect(await b.admit(req('ad2', 'C0AD1', user), o, 100)).toEqual({ kind: 'queued' });
+    const refused = await a.s.admit(req('ad3', 'C0AD1', user), o, 100);
+    expect(refused).toMatchObject({ kind: 'rate', rate: { ok: false, notify: true } });
+    // a turned-away request is recorded answered: its re-send is a duplicate and nothing is claimed for it
+    expect(await b.admit(req('ad3', 'C0AD1', user), o, 100)).toEqual({ kind: 'duplicate' });
+    expect(await a.s.depth()).toBe(2);
+    // the bound on the line: two open, a limit of two turns the next (of another user) away as busy
+    expect(await a.s.admit(req('ad4', 'C0AD2', { user: 'U0ADMIT2' }), o, 2)).toEqual({ kind: 'busy', depth: 2 });
+    expect(await a.s.admit(req('ad4', 'C0AD2', { user: 'U0ADMIT2' }), o, 3)).toEqual({ kind: 'duplicate' });
+    expect(await a.s.admit(req('ad5', 'C0AD2', { user: 'U0ADMIT2' }), o, 3)).toEqual({ kind: 'queued' });
+    expect((await a.s.claim('i1', 10000))?.key).toBe('ad1');
+    expect((await a.s.claim('i1', 10000))?.key).toBe('ad5');
+    expect(await a.s.claim('i1', 10000)).toBeUndefined();
+  });
+
+  it('admit: the same key arriving on two connections at once is recorded once and draws one token', async () => {
+    const a = await open();
+    const { s: b } = await open(a.place);
+    const o = { burst: 3, perMinute: 0.6, noticeEverySeconds: 3600 };
+    const user = { user: 'U0ADMIT3' };
+    for (let k = 0; k < 3; k++) {
+      const got = await Promise.all([a.s.admit(req(`race${k}`, 'C0AD3', user), o, 100), b.admit(req(`race${k}`, 'C0AD3', user), o, 100)]);
+      expect(got.map((g) => g.kind).sort()).toEqual(['duplicate', 'queued']);
+    }
+    // three deliveries recorded, three tokens drawn: the fourth request is refused
+    expect(await a.s.admit(req('race3', 'C0AD3', user), o, 100)).toMatchObject({ kind: 'rate' });
   });
 
   it('rate buckets: burst then refusal, one notice per period, one allowance per user across connections', async () => {
