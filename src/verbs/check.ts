@@ -19,7 +19,7 @@ import { money, pct, pts, isNum } from '../report/format.js';
 import type { CheckSummary } from '../store/store.js';
 import { checkCost } from './budget.js';
 import { computeExits, exitLevels } from './exits.js';
-import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
+import { markFor, markJson, markLine, resolveContext, staleWords, resolvedOnItsMark } from './marks.js';
 import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 /** Runs the core for a resolved check and assembles the JSON result (docs/design.md §4). */
@@ -187,11 +187,7 @@ export const check: Verb<CheckRequest> = {
       '100 shares @84.20 -1 call 90 2m @1.85 iv 29% spot 84.20 rate 4% drift 7%',
     ],
   },
-  resolves: (req, ctx) => resolveCheck(req, ctx).ok,
-  answersHere: async (req, here) => {
-    const c = await here.context(req.terms.on);
-    return c !== null && resolveCheck(req, c).ok;
-  },
+  ...resolvedOnItsMark(resolveCheck),
   run: runCheckVerb,
   cost: (req, _text, ctx) => ({ units: checkCost(req, ctx.now), at: req.termsAt.jumps ?? req.termsAt.style ?? req.termsAt.target ?? req.termsAt.stop ?? 0, what: 'check' }),
   figureChanges: checkFigureChanges,

@@ -17,7 +17,7 @@ import type { IvRequest } from '../request/types.js';
 import { level, num, pct, pts, rate, shortDate, isNum } from '../report/format.js';
 import type { CheckSummary } from '../store/store.js';
 import { figurePair, joinFigures } from './check.js';
-import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
+import { markFor, markJson, markLine, resolveContext, staleWords, resolvedOnItsMark } from './marks.js';
 import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 /** The model an implied vol was solved under, in words. */
@@ -148,11 +148,7 @@ export const iv: Verb<IvRequest> = {
       'iv put 22 6w price 0.85 on BRISAND',
     ],
   },
-  resolves: (req, ctx) => resolveIv(req, ctx).ok,
-  answersHere: async (req, here) => {
-    const c = await here.context(req.terms.on);
-    return c !== null && resolveIv(req, c).ok;
-  },
+  ...resolvedOnItsMark(resolveIv),
   run: runIv,
   figureChanges: (before: CheckSummary, after: CheckSummary) => joinFigures([figurePair('iv', before.iv, after.iv, (x) => pct(x, 2), pts)]),
   logWords: (s) => (isNum(s.iv) ? ` → iv ${pct(s.iv, 2)}` : ''),

@@ -7,7 +7,23 @@ import type { MarkTerms } from '../request/resolve.js';
 import { ageWords, isStale, whenUtc } from '../report/log.js';
 import { level, rate } from '../report/format.js';
 import { StoreError, type Mark } from '../store/store.js';
-import { refuseFact, type VerbEnv } from './verb.js';
+import type { ResolveContext } from '../request/resolve/context.js';
+import { refuseFact, type Here, type VerbEnv } from './verb.js';
+
+/**
+ * `resolves` and `answersHere` of a verb whose request resolves on one `on SYMBOL` (check, iv,
+ * touch): it resolves in a context, and it is answered in a channel that has the mark it names
+ * and where it resolves on that mark.
+ */
+export function resolvedOnItsMark<R extends { terms: { on?: string } }>(resolve: (req: R, ctx: ResolveContext) => { ok: boolean }) {
+  return {
+    resolves: (req: R, ctx: ResolveContext): boolean => resolve(req, ctx).ok,
+    answersHere: async (req: R, here: Here): Promise<boolean> => {
+      const c = await here.context(req.terms.on);
+      return c !== null && resolve(req, c).ok;
+    },
+  };
+}
 
 export function termsOfMark(m: Mark): MarkTerms {
   return { symbol: m.symbol, spot: m.spot, iv: m.iv, yield: m.yield, rate: m.rate, vol: m.vol, drift: m.drift, driftSe: m.driftSe, at: m.at };

@@ -17,7 +17,7 @@ import { jumpWords, level, pct, pts, rate, isNum, table } from '../report/format
 import { wrapParts } from '../report/text.js';
 import type { CheckSummary } from '../store/store.js';
 import { figurePair, joinFigures } from './check.js';
-import { markFor, markJson, markLine, resolveContext, staleWords } from './marks.js';
+import { markFor, markJson, markLine, resolveContext, staleWords, resolvedOnItsMark } from './marks.js';
 import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
@@ -126,11 +126,7 @@ export const touch: Verb<TouchRequest> = {
     ],
     examples: ['touch 120 by 2027-03-19 spot 100 drift 8% vol 25%', 'touch 70 by 2m on FERNWK vol 34%'],
   },
-  resolves: (req, ctx) => resolveTouch(req, ctx).ok,
-  answersHere: async (req, here) => {
-    const c = await here.context(req.terms.on);
-    return c !== null && resolveTouch(req, c).ok;
-  },
+  ...resolvedOnItsMark(resolveTouch),
   run: runTouch,
   figureChanges: (before: CheckSummary, after: CheckSummary) =>
     joinFigures([figurePair('chance of touching', before.probTouch, after.probTouch, (x) => pct(x), pts)]),
