@@ -496,6 +496,26 @@ describe('migrations', () => {
     check.close();
   });
 
+  it('a version-5 file with requests in its queue keeps them: after v6 they are claimed as typed requests (no interaction)', () => {
+    const path = join(dir, 'v5.db');
+    const db = new Database(path);
+    expect(migrate(db, 5)).toEqual({ from: 0, to: 5 });
+    db.prepare(
+      `INSERT INTO requests (key, source, channel, user, text, now, received_ms, progress)
+       VALUES (?, 'command', 'C0DESKA', 'U0MAYA', ?, '2026-11-02T09:00:00.000Z', ?, ?)`,
+    ).run('cmd:old-1', 'check +1 call 105 exp 19Mar27 spot 100 iv 25%', Date.now(), '{"rootTs":"1790000000.000100"}');
+    db.close();
+    const s = open('v5.db');
+    const c = s.claim('inst-a', 10000)!;
+    expect(c).toMatchObject({ key: 'cmd:old-1', source: 'command', channel: 'C0DESKA', user: 'U0MAYA', text: 'check +1 call 105 exp 19Mar27 spot 100 iv 25%', attempts: 1 });
+    expect(c.progress).toEqual({ rootTs: '1790000000.000100' });
+    expect(c.interaction).toBeUndefined();
+    expect(s.claim('inst-a', 10000)).toBeUndefined();
+    const check = new Database(path, { readonly: true });
+    expect(check.pragma('user_version', { simple: true })).toBe(SCHEMA_VERSION);
+    check.close();
+  });
+
   it('a read-only old file is refused with a message saying how to upgrade it', () => {
     const path = join(dir, 'v1.db');
     const db = new Database(path);
