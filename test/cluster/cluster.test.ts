@@ -19,7 +19,7 @@ import { signedPost, until } from '../robust/harness.js';
 import pg from 'pg';
 import { openDatabase } from '../../src/verbs/ask.js';
 import { clusterFixture, type ClusterFixture } from './fixture.js';
-import { chartTitles, clusterCheck, roots, threadSpots, type Instance } from './harness.js';
+import { chartTitles, clusterCheck, roots, sendEnvelope, threadSpots, type Instance } from './harness.js';
 
 const CHANNELS = 30;
 const USERS = 100;
@@ -219,18 +219,8 @@ describe('three instances on one PostgreSQL database, Socket Mode (one connectio
     await until(() => ['i0', 'i1', 'i2'].every((t) => fake.socketTagList.includes(t)), WAIT, 'three Socket Mode connections');
   });
 
-  let envelopes = 0;
   /** Sends an envelope over that instance's connection; true once it is acknowledged. */
-  const envelope = async (to: Instance, e: Record<string, unknown>): Promise<boolean> => {
-    const id = `env-${++envelopes}`;
-    if (!fake.sendEnvelopeTo(to.tag, { envelope_id: id, ...e })) return false;
-    try {
-      await until(() => fake.socketMessages.some((m) => m.data.envelope_id === id), 15000, `the ack of ${id}`);
-      return true;
-    } catch {
-      return false; // the connection went down: the platform re-sends to another connection
-    }
-  };
+  const envelope = (to: Instance, e: Record<string, unknown>): Promise<boolean> => sendEnvelope(fake, to, e);
 
   it('answers every acknowledged request exactly once, in order per channel, across re-sends, a SIGKILL and a restart', { timeout: 300_000 }, async () => {
     const send: Transport = async (to, i, retry) => {

@@ -9,6 +9,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { Call, FakeWebApi } from '../chat/fake-web-api.js';
 import { APP_TOKEN, BOT_TOKEN, SECRET, launch, type Launched } from '../chat/harness.js';
+import { until } from '../robust/harness.js';
 
 export interface Instance {
   tag: string;
@@ -77,6 +78,22 @@ export async function startCluster(o: ClusterOptions): Promise<{ instances: Inst
       for (const i of instances) rmSync(i.dir, { recursive: true, force: true });
     },
   };
+}
+
+let envelopes = 0;
+/**
+ * Sends a Socket Mode envelope over that instance's connection; true once it is acknowledged,
+ * false when the connection went down first (the platform then re-sends to another connection).
+ */
+export async function sendEnvelope(fake: FakeWebApi, to: Instance, e: Record<string, unknown>): Promise<boolean> {
+  const id = `env-${++envelopes}`;
+  if (!fake.sendEnvelopeTo(to.tag, { envelope_id: id, ...e })) return false;
+  try {
+    await until(() => fake.socketMessages.some((m) => m.data.envelope_id === id), 15000, `the ack of ${id}`);
+    return true;
+  } catch {
+    return false;
+  }
 }
 
 /** A check with an invented position whose spot identifies it within its channel. */

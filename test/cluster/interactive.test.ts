@@ -9,6 +9,8 @@
  * - a form submission and a direct message are logged in the shared database;
  * - the instance answering a button press is killed with SIGKILL in the middle of its answer:
  *   another takes the request over and posts only the rest (the chart), the check logged once;
+ * in Socket Mode (two instances, each on its own connection): a press delivered again over the
+ * other connection is answered once, and a direct message is logged in the shared database;
  * and on the embedded SQLite log, one instance: a press acknowledged just before a SIGKILL is
  * answered after the restart, once.
  * Every wait is bounded.
@@ -21,35 +23,38 @@ import { FakeWebApi, FAKE_BOT, type Call } from '../chat/fake-web-api.js';
 import { actionBody, homeOpenedBody, httpEnv, imMessageBody, slashBody, viewSubmissionBody } from '../chat/harness.js';
 import { signedPost, startIn, until } from '../robust/harness.js';
 import { openDatabase, type AsyncStore } from '../../src/verbs/ask.js';
-import { freshDatabase } from '../support/pg.js';
-import { clusterCheck, startCluster, type Instance } from './harness.js';
+import { clusterFixture, type ClusterFixture } from './fixture.js';
+import { clusterCheck, sendEnvelope, type Instance } from './harness.js';
 
 const WAIT = 60_000;
 const FORM = 'application/x-www-form-urlencoded';
 const CHANNEL = 'C0BUTTONS1';
 const ASKER = 'U0PRESSER1';
 
+/** The shared cluster fixture (fixture.ts) and a connection to read its database. */
+function onePg(tag: string, mode: 'http' | 'socket', count: number): ClusterFixture & { store: AsyncStore } {
+  const x = clusterFixture(tag, { mode, count }) as ClusterFixture & { store: AsyncStore };
+  beforeAll(async () => {
+    if (mode === 'socket') await until(() => x.cluster.instances.every((i) => x.fake.socketTagList.includes(i.tag)), WAIT, 'every Socket Mode connection');
+    x.store = await openDatabase({ backend: 'postgres', url: x.db.url });
+  });
+  afterAll(async () => {
+    await x.store?.close();
+  });
+  return x;
+}
+
 describe('buttons, my desk, the form and direct messages on three instances, one PostgreSQL database', () => {
+  const pg = onePg('cluster_interactive', 'http', 3);
   let fake: FakeWebApi;
-  let db: { url: string; drop: () => Promise<void> };
-  let cluster: Awaited<ReturnType<typeof startCluster>>;
+  let cluster: ClusterFixture['cluster'];
   let store: AsyncStore;
   let a: Instance;
   let b: Instance;
   let c: Instance;
-
-  beforeAll(async () => {
-    fake = await FakeWebApi.start();
-    db = await freshDatabase('cluster_interactive');
-    cluster = await startCluster({ fake, databaseUrl: db.url, mode: 'http', count: 3 });
+  beforeAll(() => {
+    ({ fake, cluster, store } = pg);
     [a, b, c] = cluster.instances;
-    store = await openDatabase({ backend: 'postgres', url: db.url });
-  }, 120_000);
-  afterAll(async () => {
-    await store?.close();
-    await cluster?.close();
-    await fake?.close();
-    await db?.drop();
   });
 
   const posts = (channel: string): Call[] => fake.okCallsOf('chat.postMessage').filter((x) => x.body.channel === channel);
@@ -148,6 +153,52 @@ describe('buttons, my desk, the form and direct messages on three instances, one
     expect(e3?.variedFrom).toBe(2);
     expect(await store.get(CHANNEL, 4)).toBeUndefined();
     await victim!.restart();
+  });
+});
+
+describe('buttons and direct messages in Socket Mode: two instances, each on its own connection', () => {
+  const pg = onePg('cluster_interactive_socket', 'socket', 2);
+  let fake: FakeWebApi;
+  let cluster: ClusterFixture['cluster'];
+  let store: AsyncStore;
+  beforeAll(() => {
+    ({ fake, cluster, store } = pg);
+  });
+
+  const channel = 'C0SOCKBTN1';
+  const user = 'U0SOCKET01';
+  const posts = (ch: string): Call[] => fake.okCallsOf('chat.postMessage').filter((x) => x.body.channel === ch);
+  const blocksText = (x: Call): string => JSON.stringify(x.body.blocks ?? []);
+  const buttonsOf = (ch: string, n: number) => posts(ch).find((x) => blocksText(x).includes('kolmo_answer_actions') && blocksText(x).includes(`"value":"n${n}"`));
+  /** the JSON of an interaction payload (the HTTP form's `payload` field), as Socket Mode carries it */
+  const payloadOf = (form: string) => JSON.parse(new URLSearchParams(form).get('payload') ?? '{}') as Record<string, unknown>;
+
+  it('a press delivered again over the other connection is answered once; a direct message is logged', { timeout: 180_000 }, async () => {
+    const [a, b] = cluster.instances;
+    const slash = Object.fromEntries(new URLSearchParams(slashBody({ text: clusterCheck(100), channel, user, responseUrl: fake.responseUrl('s1') }).replace('trigger_id=1111.2222.3333', 'trigger_id=91.1.1')));
+    expect(await sendEnvelope(fake, a, { type: 'slash_commands', accepts_response_payload: true, payload: slash })).toBe(true);
+    await until(() => buttonsOf(channel, 1) !== undefined, WAIT, 'check #1');
+    const root = posts(channel).find((x) => x.body.thread_ts === undefined)!;
+    const press = payloadOf(actionBody({ user, channel, messageTs: (buttonsOf(channel, 1)!.response as { ts: string }).ts, threadTs: (root.response as { ts: string }).ts, actionId: 'kolmo_vary_vol_down', value: 'n1', triggerId: '92.sock.1' }));
+    const dupes = () => cluster.instances.flatMap((x) => x.lines()).filter((l) => l.outcome === 'duplicate').length;
+    const before = dupes();
+    expect(await sendEnvelope(fake, a, { type: 'interactive', accepts_response_payload: false, payload: press })).toBe(true);
+    expect(await sendEnvelope(fake, b, { type: 'interactive', accepts_response_payload: false, payload: press, retry_attempt: 1, retry_reason: 'timeout' })).toBe(true);
+    await until(() => buttonsOf(channel, 2) !== undefined, WAIT, 'check #2');
+    await until(() => dupes() > before, WAIT, 'the second delivery seen as one');
+    expect(blocksText(buttonsOf(channel, 2)!)).toContain('Vol 5 points lower than #1. Typed, it is: /kolmo');
+    for (let k = 0; k < 1200 && (await store.depth()) > 0; k++) await new Promise((r) => setTimeout(r, 50));
+    expect(buttonsOf(channel, 3)).toBeUndefined();
+    expect((await store.recent(channel, 10)).map((e) => [e.number, e.variedFrom ?? null])).toEqual([
+      [2, 1],
+      [1, null],
+    ]);
+
+    const dm = `D${user.slice(1)}`;
+    const event = JSON.parse(imMessageBody({ user, channel: dm, text: '+1 put 95 2027-03-19 iv 30% spot 100 rate 4.5% asof 2027-01-04', ts: '1798761600.300001', botUserId: FAKE_BOT.user_id })) as Record<string, unknown>;
+    expect(await sendEnvelope(fake, b, { type: 'events_api', accepts_response_payload: false, payload: event })).toBe(true);
+    await until(() => buttonsOf(dm, 1) !== undefined, WAIT, 'the private answer');
+    expect((await store.get(`im:${user}`, 1))?.text).toContain('put 95');
   });
 });
 
