@@ -95,6 +95,7 @@ export const SettingsSchema = z.object({
   USER: opt(text, 'the name of the person at the terminal'),
   KOLMO_LEASE_MS: opt(intIn(1000, 600_000), `milliseconds from 1000 to 600000 a claim on a request lasts unless renewed (default ${LEASE_DEFAULT_MS})`),
   KOLMO_LEASE_RENEW_MS: opt(intIn(100, 300_000), `milliseconds from 100 to 300000 between renewals of the claims (default ${LEASE_RENEW_DEFAULT_MS}; at most half the lease)`),
+  KOLMO_QUEUE_LISTEN: opt(z.string().trim().toLowerCase().pipe(z.enum(['on', 'off'])), 'on or off: PostgreSQL wakes idle instances when a request is recorded (LISTEN/NOTIFY; off behind a pooler that cannot hold a LISTEN, e.g. PgBouncer in transaction mode)'),
   KOLMO_QUEUE_POLL_MS: opt(intIn(50, 60_000), `milliseconds from 50 to 60000 between looks at the shared queue (default ${QUEUE_POLL_DEFAULT_MS})`),
   // set by the chat app for its worker processes (chat/pool.ts), not by an operator
   KOLMO_WORKER_DB: opt(text, 'the SQLite file of the log (set by the app for its workers)'),
@@ -186,6 +187,8 @@ export interface QueueTimings {
   renewMs: number;
   /** how often an idle dispatcher looks at the queue (requests recorded by other instances, leases that ran out) */
   pollMs: number;
+  /** PostgreSQL: idle dispatchers are woken by LISTEN/NOTIFY when a request is recorded (polling stays the fallback) */
+  listen: boolean;
 }
 
 export interface ChatSettings {
@@ -260,6 +263,7 @@ const WORKSPACE = [
   'KOLMO_LEASE_MS',
   'KOLMO_LEASE_RENEW_MS',
   'KOLMO_QUEUE_POLL_MS',
+  'KOLMO_QUEUE_LISTEN',
 ] as const;
 const SOCKET = [...WORKSPACE, 'SLACK_APP_TOKEN'] as const;
 const HTTP = [...WORKSPACE, 'SLACK_SIGNING_SECRET', 'PORT', 'HOST'] as const;
@@ -318,7 +322,12 @@ export function loadConfig(env: Env = process.env): ConfigResult {
 // ---- the shared request queue's timings -------------------------------------------------------
 
 function queueTimingsOf(v: Settings): QueueTimings {
-  return { leaseMs: v.KOLMO_LEASE_MS ?? LEASE_DEFAULT_MS, renewMs: v.KOLMO_LEASE_RENEW_MS ?? LEASE_RENEW_DEFAULT_MS, pollMs: v.KOLMO_QUEUE_POLL_MS ?? QUEUE_POLL_DEFAULT_MS };
+  return {
+    leaseMs: v.KOLMO_LEASE_MS ?? LEASE_DEFAULT_MS,
+    renewMs: v.KOLMO_LEASE_RENEW_MS ?? LEASE_RENEW_DEFAULT_MS,
+    pollMs: v.KOLMO_QUEUE_POLL_MS ?? QUEUE_POLL_DEFAULT_MS,
+    listen: v.KOLMO_QUEUE_LISTEN !== 'off',
+  };
 }
 
 /** A lease renewed less often than twice in its life could run out between two renewals of a request that runs. */

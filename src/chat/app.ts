@@ -79,7 +79,9 @@ async function openTheStore(config: WorkspaceConfig, owner: string, log: Log, er
   }
   if (choice.backend === 'postgres') {
     try {
-      return { choice, store: await openDatabase(choice, { poolSize: 6, applicationName: `kolmo ${owner}`.slice(0, 63) }) };
+      // six connections per instance: a pool of five, and the one that listens for new requests
+      const poolSize = config.chat.queue.listen ? 5 : 6;
+      return { choice, store: await openDatabase(choice, { poolSize, applicationName: `kolmo ${owner}`.slice(0, 63) }) };
     } catch (err) {
       throw new Error(`KOLMO_DATABASE_URL: ${errText(err)}`);
     }
@@ -237,6 +239,14 @@ export async function startChatApp(config: WorkspaceConfig, log: Log): Promise<C
     }
     dispatcher.start();
   }
+  // PostgreSQL: idle dispatchers are woken when any instance records a request (polling stays the fallback)
+  let listening: { close(): Promise<void> } | undefined;
+  if (counted?.listen && dispatcher && settings.queue.listen) {
+    listening = await counted.listen(
+      () => dispatcher.wake(),
+      (err) => log.warn({ err: errText(err) }, 'not listening for new requests meanwhile (polling every KOLMO_QUEUE_POLL_MS)'),
+    );
+  }
 
   let stopped: Promise<void> | undefined;
   return {
@@ -273,6 +283,7 @@ export async function startChatApp(config: WorkspaceConfig, log: Log): Promise<C
           'stopped',
         );
         await new Promise<void>((r) => (opsServer ? opsServer.close(() => r()) : r()));
+        await listening?.close();
         await counted?.close();
       })();
       return stopped;

@@ -176,6 +176,11 @@ export interface AsyncStore extends RequestQueue, RateBuckets {
   putDefaults(user: string, d: UserDefaults, at: string): Promise<void>;
   /** Resolves when the memory answers a read; rejects with a StoreError otherwise. */
   ping(): Promise<void>;
+  /**
+   * PostgreSQL: calls `onWake` when any instance records a request or hands one back (one
+   * listening connection per call; polling stays the fallback). Absent on SQLite (one instance).
+   */
+  listen?(onWake: () => void, onError: (err: StoreError) => void): Promise<{ close(): Promise<void> }>;
   close(): Promise<void>;
 }
 

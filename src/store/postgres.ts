@@ -113,17 +113,16 @@ export async function openPostgres(url: string, opts: DatabaseOptions = {}): Pro
   const where = redactUrl(url);
   const readonly = opts.readonly === true;
   const statementTimeoutMs = opts.statementTimeoutMs ?? 10000;
-  const pool = new pg.Pool({
+  const connection: pg.ClientConfig = {
     connectionString: url,
-    max: opts.poolSize ?? 4,
     connectionTimeoutMillis: opts.connectTimeoutMs ?? 5000,
-    idleTimeoutMillis: 30000,
     statement_timeout: statementTimeoutMs,
     query_timeout: statementTimeoutMs + 5000,
     keepAlive: true,
     application_name: opts.applicationName ?? 'kolmo',
     ...(readonly ? { options: '-c default_transaction_read_only=on' } : {}),
-  });
+  };
+  const pool = new pg.Pool({ ...connection, max: opts.poolSize ?? 4, idleTimeoutMillis: 30000 });
   // an idle connection that breaks (the server restarted) is dropped by the pool; without a
   // listener the 'error' event would end the process
   pool.on('error', () => undefined);
@@ -147,8 +146,12 @@ export async function openPostgres(url: string, opts: DatabaseOptions = {}): Pro
     await pool.end().catch(() => undefined);
     throw pgStoreError(e, 'open', where);
   }
-  return new PgStore(pool, where);
+  return new PgStore(pool, where, connection);
 }
+
+/** the channel on which instances are told that a request was recorded or handed back (LISTEN/NOTIFY) */
+const WAKE_CHANNEL = 'kolmo_requests';
+const WAKE = `SELECT pg_notify('${WAKE_CHANNEL}', '')`;
 
 /** the database's clock in ms since the epoch (one value per statement): leases and buckets use one clock for every host */
 const NOW_MS = '(extract(epoch from now()) * 1000)::bigint';
@@ -164,7 +167,63 @@ class PgStore implements AsyncStore {
   constructor(
     private readonly pool: pg.Pool,
     readonly where: string,
+    private readonly connection: pg.ClientConfig,
   ) {}
+
+  /**
+   * Calls `onWake` whenever a request is recorded or handed back on any instance (LISTEN on one
+   * connection of its own, outside the pool). A lost connection is told to `onError` and opened
+   * again (1 s, doubling to 30 s); on each (re)connection `onWake` is called once, for what may
+   * have been missed meanwhile. Polling stays the fallback.
+   */
+  async listen(onWake: () => void, onError: (err: StoreError) => void): Promise<{ close(): Promise<void> }> {
+    let client: pg.Client | undefined;
+    let closed = false;
+    let pause = 1000;
+    let timer: NodeJS.Timeout | undefined;
+    const again = (err: unknown) => {
+      if (closed) return;
+      // told as a StoreError whatever the client said (this runs in its event handlers: nothing may be thrown here)
+      onError(new StoreError('unavailable', 'read', `the database cannot be reached (${this.where}): ${err instanceof Error ? err.message : String(err)}`, { cause: err }));
+      const c = client;
+      client = undefined;
+      c?.removeAllListeners();
+      c?.on('error', () => undefined);
+      void c?.end().catch(() => undefined);
+      clearTimeout(timer);
+      timer = setTimeout(() => void connect(), pause);
+      timer.unref?.();
+      pause = Math.min(30_000, pause * 2);
+    };
+    const connect = async () => {
+      if (closed) return;
+      const c = new pg.Client(this.connection);
+      client = c;
+      c.on('error', again);
+      c.on('end', () => again(new Error('the listening connection was closed')));
+      c.on('notification', () => onWake());
+      try {
+        await c.connect();
+        await c.query(`LISTEN ${WAKE_CHANNEL}`);
+        pause = 1000;
+        onWake();
+      } catch (err) {
+        if (client === c) again(err);
+      }
+    };
+    await connect();
+    return {
+      close: async () => {
+        closed = true;
+        clearTimeout(timer);
+        const c = client;
+        client = undefined;
+        c?.removeAllListeners();
+        c?.on('error', () => undefined);
+        await c?.end().catch(() => undefined);
+      },
+    };
+  }
 
   /** One statement on the pool, or on `on` (a transaction's connection). */
   private async q<R extends pg.QueryResultRow>(op: StoreOp, text: string, values: unknown[], on: pg.Pool | pg.PoolClient = this.pool): Promise<pg.QueryResult<R>> {
@@ -336,6 +395,8 @@ class PgStore implements AsyncStore {
       const rate = await this.take(r.user, o, c);
       const got = admission(rate, rate.ok ? (await this.depth(c)) - 1 : 0, queueLimit);
       if (got.kind !== 'queued') await this.finish(r.key, undefined, c);
+      // idle dispatchers of every instance are woken when this commits
+      else await c.query(WAKE);
       return got;
     });
   }
@@ -388,7 +449,11 @@ class PgStore implements AsyncStore {
   async release(key: string, owner: string): Promise<void> {
     await this.q(
       'write',
-      `UPDATE requests SET state = 'queued', owner = NULL, lease_ms = NULL, attempts = GREATEST(0, attempts - 1) WHERE key = $1 AND owner = $2 AND state = 'running'`,
+      `WITH back AS (
+         UPDATE requests SET state = 'queued', owner = NULL, lease_ms = NULL, attempts = GREATEST(0, attempts - 1) WHERE key = $1 AND owner = $2 AND state = 'running'
+         RETURNING 1
+       )
+       SELECT pg_notify('${WAKE_CHANNEL}', '') FROM back`,
       [key, owner],
     );
   }

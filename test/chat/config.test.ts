@@ -116,9 +116,11 @@ describe("the shared queue's timings and the workers' log", () => {
 
   it('lease, renewal and poll: defaults when unset or blank, the values when set', () => {
     const r = loadConfig({ ...http, KOLMO_LEASE_MS: ' ' });
-    expect(r.ok && r.config.mode !== 'console' && r.config.chat.queue).toEqual({ leaseMs: 10000, renewMs: 3000, pollMs: 500 });
-    const r2 = loadConfig({ ...http, KOLMO_LEASE_MS: '4000', KOLMO_LEASE_RENEW_MS: '1000', KOLMO_QUEUE_POLL_MS: '200' });
-    expect(r2.ok && r2.config.mode !== 'console' && r2.config.chat.queue).toEqual({ leaseMs: 4000, renewMs: 1000, pollMs: 200 });
+    expect(r.ok && r.config.mode !== 'console' && r.config.chat.queue).toEqual({ leaseMs: 10000, renewMs: 3000, pollMs: 500, listen: true });
+    const r2 = loadConfig({ ...http, KOLMO_LEASE_MS: '4000', KOLMO_LEASE_RENEW_MS: '1000', KOLMO_QUEUE_POLL_MS: '200', KOLMO_QUEUE_LISTEN: 'OFF' });
+    expect(r2.ok && r2.config.mode !== 'console' && r2.config.chat.queue).toEqual({ leaseMs: 4000, renewMs: 1000, pollMs: 200, listen: false });
+    const r3 = loadConfig({ ...http, KOLMO_QUEUE_LISTEN: 'sometimes' });
+    expect(r3.ok ? [] : r3.errors).toEqual([expect.stringMatching(/^KOLMO_QUEUE_LISTEN="sometimes" is malformed .*expected on or off/)]);
   });
 
   it('a malformed or out-of-range timing is named with what is expected', () => {

@@ -22,6 +22,7 @@ import { migratePg } from '../../src/store/postgres.js';
 import { freshDatabase } from '../support/pg.js';
 import { TcpProxy, targetOf, throughProxy } from '../support/tcp-proxy.js';
 import { compileStore, repoRoot, type CompiledStore } from './fixtures/compile.js';
+import { until } from '../robust/harness.js';
 
 let seq = 0;
 function input(channel: string, over: Partial<LogEntryInput> = {}): LogEntryInput {
@@ -85,9 +86,11 @@ describe('a database that goes away mid-run', () => {
   let proxy: TcpProxy;
   let drop: () => Promise<void>;
   let url: string;
+  let direct: string;
   beforeAll(async () => {
     const db = await freshDatabase('away');
     drop = db.drop;
+    direct = db.url;
     proxy = await TcpProxy.start(targetOf(db.url));
     url = throughProxy(db.url, proxy.port);
   });
@@ -114,6 +117,64 @@ describe('a database that goes away mid-run', () => {
       await s.ping();
     } finally {
       await s.close();
+    }
+  });
+
+  const request = (key: string) => ({ key, source: 'command' as const, channel: 'C0WAKE001', user: 'U0WAKE1', text: 'help', now: '2027-01-04T15:30:00.000Z' });
+  const rate = { burst: 1000, perMinute: 1000, noticeEverySeconds: 30 };
+
+  it('a connection cut while a transaction holds it is a StoreError, not an error event nobody listens to', async () => {
+    const s = await openDatabase({ backend: 'postgres', url }, { connectTimeoutMs: 1500 });
+    try {
+      await s.admit(request('cut-warm'), rate, 1000);
+      // twenty admissions (transactions of four statements) racing the cut: each is recorded or refused
+      const got = Array.from({ length: 20 }, (_, i) =>
+        s.admit(request(`cut-${i}`), rate, 1000).then(
+          () => 'recorded',
+          (e: unknown) => (e instanceof StoreError ? e.code : `other: ${String(e)}`),
+        ),
+      );
+      await new Promise((r) => setTimeout(r, 2));
+      proxy.cut();
+      const outcomes = await Promise.all(got);
+      expect(outcomes.every((o) => o === 'recorded' || o === 'unavailable'), outcomes.join(', ')).toBe(true);
+      proxy.restore();
+      expect(await s.admit(request('cut-after'), rate, 1000)).toEqual({ kind: 'queued' });
+    } finally {
+      proxy.restore();
+      await s.close();
+    }
+  });
+
+  it('LISTEN/NOTIFY: a request recorded or handed back on another connection wakes the listener; a lost listening connection is re-opened', async () => {
+    const listener = await openDatabase({ backend: 'postgres', url }, { connectTimeoutMs: 1500 });
+    const other = await openDatabase({ backend: 'postgres', url: direct });
+    let wakes = 0;
+    const lost: StoreError[] = [];
+    const l = await listener.listen!(
+      () => wakes++,
+      (e) => lost.push(e),
+    );
+    try {
+      expect(wakes).toBe(1); // once on connecting: whatever came before is looked at
+      expect(await other.admit(request('wake-1'), rate, 1000)).toEqual({ kind: 'queued' });
+      await until(() => wakes >= 2, 10000, 'the wake for a recorded request');
+      const c = (await other.claim('inst-x', 10000))!;
+      await other.release(c.key, 'inst-x');
+      await until(() => wakes >= 3, 10000, 'the wake for a request handed back');
+      // the listening connection is lost: told, then opened again, waking once more
+      proxy.cut();
+      await until(() => lost.length >= 1, 10000, 'the lost connection told');
+      expect(lost[0].code).toBe('unavailable');
+      proxy.restore();
+      await until(() => wakes >= 4, 20000, 'the wake on reconnecting');
+      expect(await other.admit(request('wake-2'), rate, 1000)).toEqual({ kind: 'queued' });
+      await until(() => wakes >= 5, 10000, 'the wake after reconnecting');
+    } finally {
+      proxy.restore();
+      await l.close();
+      await listener.close();
+      await other.close();
     }
   });
 });
