@@ -2,7 +2,7 @@
  * The standard normal distribution: density, distribution function (both tails with full
  * relative precision) and its inverse.
  *
- * Methods (published; coefficients checked against several independent transcriptions of the
+ * Methods (published; coefficients checked against several independently published copies of the
  * original tables):
  *
  * - Φ: W. J. Cody, "Rational Chebyshev approximations for the error function", Math. Comp. 23
