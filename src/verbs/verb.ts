@@ -85,8 +85,14 @@ export interface CostContext {
   costOf(req: AnyRequest, text: string): Cost | null;
 }
 
-/** A person's default a request may take where it leaves the term out (set on my desk). */
-export type PersonalDefault = 'rate' | 'yield' | 'mult' | 'horizon';
+/** A person's defaults (set on my desk), which a request may take where it leaves the term out. */
+export const PERSONAL_DEFAULTS = ['rate', 'yield', 'mult', 'horizon'] as const;
+export type PersonalDefault = (typeof PERSONAL_DEFAULTS)[number];
+
+/** `answersHere` of a verb that needs nothing of the channel but its store (log, mark). */
+export async function hasStore(_req: AnyRequest, here: Here): Promise<boolean> {
+  return !!here.store;
+}
 
 /**
  * A verb's line in the help overview: `usage` in the first column, `says` after it (a function when
@@ -170,6 +176,11 @@ export function isoDay(d: Date): string {
 export function envOf(ctx: AskContext, registry: Pick<VerbEnv, 'verb' | 'verbs'>): VerbEnv {
   const now = ctx.now instanceof Date && Number.isFinite(ctx.now.getTime()) ? ctx.now : new Date();
   return { ctx, now, today: isoDay(now), nowIso: now.toISOString(), ...registry };
+}
+
+/** What a logged verb returns: its answer, and its request as written with the figures the log keeps. */
+export function loggedOutcome(text: string, req: AnyRequest, a: Answer, summary: CheckSummary): Outcome {
+  return { answer: a, log: { verb: req.verb, text, request: req, summary } };
 }
 
 export function reject(text: string, e: ParseError): Rejection {
