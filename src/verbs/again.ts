@@ -211,6 +211,8 @@ export const again: Verb<AgainRequest> = {
   words: ['again'],
   grammar: parseAgain,
   readsSemicolons: true,
+  overview: { usage: 'again N [changes]', says: 'rerun one', place: { with: 'log' } },
+  buttons: 'vary',
   example: 'again 1 spot 102',
   help: {
     title: 'again — rerun a logged check, optionally with changes',

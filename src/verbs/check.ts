@@ -156,6 +156,9 @@ export const check: Verb<CheckRequest> = {
   words: ['check'],
   grammar: parseCheckVerb,
   rerun: 'legs',
+  overview: { usage: 'LEG …', says: 'check a position (e.g. +1 call 100 3m iv 30% spot 98.50 drift 8%)' },
+  buttons: 'vary',
+  personalDefaults: ['rate', 'yield', 'mult', 'horizon'],
   example: '+2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% spot 100 rate 4.5% drift 9%',
   help: {
     title: 'check — fair value, Greeks and the likely outcome of a position under your view',

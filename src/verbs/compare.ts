@@ -130,6 +130,9 @@ export const compare: Verb<CompareRequest> = {
   grammar: parseCompare,
   readsSemicolons: true,
   rerun: 'parts',
+  overview: { usage: 'compare A ; B', says: 'checks side by side, each part inheriting from the one before' },
+  buttons: 'vary',
+  personalDefaults: ['rate', 'yield', 'mult', 'horizon'],
   example: 'compare +1 call 90 3m iv 30% spot 84.20 ; drift 0% ; drift 12%',
   help: {
     title: 'compare — several checks side by side',

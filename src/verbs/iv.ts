@@ -136,6 +136,9 @@ export const iv: Verb<IvRequest> = {
   words: ['iv'],
   grammar: parseIv,
   rerun: { head: 4 },
+  overview: { usage: 'iv …', says: 'implied vol of an option price' },
+  buttons: 'delete',
+  personalDefaults: ['rate', 'yield'],
   example: 'iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5% yield 1%',
   help: {
     title: 'iv — the implied vol of one option price',

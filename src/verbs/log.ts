@@ -50,6 +50,7 @@ export const log: Verb<LogRequest> = {
   name: 'log',
   schema: logSchema,
   words: ['log'],
+  overview: { usage: 'log [N]', says: 'past checks' },
   grammar: parseLog,
   run: runLog,
   // it needs the channel's store

@@ -127,6 +127,7 @@ export const mark: Verb<MarkRequest> = {
   schema: markSchema,
   body: { terms: ['spot', 'iv', 'yield', 'rate', 'vol', 'drift'], legs: false },
   words: ['mark'],
+  overview: { usage: 'mark SYMBOL …', says: 'store spot, iv, yield, rate for later `on SYMBOL`' },
   grammar: parseMark,
   run: runMark,
   // it needs the channel's store

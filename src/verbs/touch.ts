@@ -117,6 +117,9 @@ export const touch: Verb<TouchRequest> = {
   words: ['touch'],
   grammar: parseTouch,
   rerun: { head: 2 },
+  overview: { usage: 'touch L by D …', says: 'chance of touching a level by a date' },
+  buttons: 'delete',
+  personalDefaults: ['rate', 'yield'],
   example: 'touch 120 by 2027-03-19 spot 100 drift 8% vol 25%',
   help: {
     title: 'touch — the chance that the stock touches a level by a date',

@@ -85,6 +85,20 @@ export interface CostContext {
   costOf(req: AnyRequest, text: string): Cost | null;
 }
 
+/** A person's default a request may take where it leaves the term out (set on my desk). */
+export type PersonalDefault = 'rate' | 'yield' | 'mult' | 'horizon';
+
+/**
+ * A verb's line in the help overview: `usage` in the first column, `says` after it (a function when
+ * it is read from elsewhere, as help's list of topics). Lines follow the registry's order; `place`
+ * moves one: `{ after: V }` on the line after verb V's, `{ with: V }` on V's own line, after it.
+ */
+export interface OverviewLine {
+  usage: string;
+  says: string | (() => string);
+  place?: { after: string } | { with: string };
+}
+
 /** One verb: everything the rest of Kolmo needs to know about it. `R` is its request. */
 export interface Verb<R extends AnyRequest = AnyRequest> {
   name: R['verb'];
@@ -111,6 +125,21 @@ export interface Verb<R extends AnyRequest = AnyRequest> {
   example: string;
   /** its page of `help NAME` (the verb's name is the topic); `help` itself has none */
   help?: HelpPage;
+  /** its line in the help overview (the "Verbs:" block of `help`) */
+  overview: OverviewLine;
+  /**
+   * the buttons under its logged answer in a workspace (src/chat/actions/buttons.ts): 'vary' —
+   * the variations (spot, vol, drift, today's mark), edit in the check form and delete; 'delete'
+   * — delete only; both add "post to a channel" to a private answer. Absent: no buttons.
+   */
+  buttons?: 'vary' | 'delete';
+  /**
+   * the person's defaults its request takes where it and its mark leave the term out (written
+   * into its `terms`; a comparison's into its first part); absent: none
+   */
+  personalDefaults?: readonly PersonalDefault[];
+  /** it reads the files shared with the request (`AskContext.files`): a shell hands files only to it */
+  readsFiles?: boolean;
   /**
    * whether a request of this verb resolves in this context: a rejection offers the user's own
    * request corrected as its example only when it does (absent: never offered, the canonical
