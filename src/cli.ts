@@ -11,6 +11,7 @@
  * The command line is channel `cli` in the store, the console channel `console` (override with
  * --channel); --no-log answers without touching the store.
  */
+import './runtime.js';
 import { mkdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
 import { basename, dirname, join, resolve } from 'node:path';
 import { DEMO_HISTORY, DEMO_HISTORY_SYMBOL } from './demo/history.js';

@@ -5,6 +5,7 @@
  *   neither                                 → the local console (src/cli.ts)
  * A missing or malformed setting stops it with one line per problem (never a secret's value).
  */
+import './runtime.js';
 import { realpathSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { loadConfig } from './config.js';

@@ -20,7 +20,7 @@
  * answered from memory (queue.ts, ratelimit.ts, an in-memory inbox) and flagged "Not logged".
  */
 import type { Log } from '../log.js';
-import { verbOfText, StoreError, type Admission, type AsyncStore, type ClaimedRequest, type Interaction, type Progress, type QueuedRequest, type RateDecision } from '../verbs/ask.js';
+import { readsFiles, verbOfText, StoreError, type Admission, type AsyncStore, type ClaimedRequest, type Interaction, type Progress, type QueuedRequest, type RateDecision } from '../verbs/ask.js';
 import type { ChatSettings } from '../config.js';
 import { plainNotice } from './blocks.js';
 import { buttonsFor } from './actions/buttons.js';
@@ -295,8 +295,8 @@ export function createIntake(d: IntakeDeps) {
     if (body.type === 'event_callback' && ev?.type === 'app_mention' && ev.user && ev.channel) {
       const key = eventKey(typeof body.event_id === 'string' ? body.event_id : undefined, `${ev.channel}\n${ev.ts}`);
       const text = stripMention(ev.text ?? '', botUserId);
-      // only a `history` request reads the files attached to its message
-      const files = verbOf(text) === 'history' ? fileRefsOf((ev as { files?: unknown }).files) : [];
+      // only a request of a verb that reads files (`history`) takes those attached to its message
+      const files = readsFiles(text) ? fileRefsOf((ev as { files?: unknown }).files) : [];
       return { key, source: 'mention', channel: ev.channel, user: ev.user, ...(ev.thread_ts ? { threadTs: ev.thread_ts } : {}), text, now, ...(files.length ? { files } : {}) };
     }
     const dm = ev as { channel_type?: string; subtype?: string; bot_id?: string } | undefined;

@@ -5,6 +5,7 @@
  * PostgreSQL backend: the worker holds no database connection of its own). It ends when the app
  * goes away (the channel disconnects) or is told to stop.
  */
+import '../runtime.js';
 import { workerSettings } from '../config.js';
 import { openDatabase, type LogStore } from '../verbs/ask.js';
 import { ipcStore, type StoreAnswer, type StoreCall } from './ipc-store.js';

@@ -575,50 +575,31 @@ export function solveExitBackward(g: ExitGrid, walk: Walk, q: number, discount =
       const dl = dt * cl;
       const dr = dt * cr;
       di[i] = a0 + dl + dr + dt * discount;
-      let rt = a1 * T1[i] - a2 * T2[i];
-      let rs = a1 * S1[i] - a2 * S2[i];
-      let rn = a1 * N1[i] - a2 * N2[i];
-      let re = a1 * E1[i] - a2 * E2[i];
+      // a neighbour in the region is a coefficient of the system (lo, up); an absorbing one (a
+      // target, a stop or a cut) moves to the right-hand side with its value (weight wl, wr)
       const lk = LK[o + i];
-      if (lk === K_IN) lo[i] = -dl;
-      else {
-        lo[i] = 0;
-        rt += dl * VT[lk];
-        rs += dl * VS[lk];
-        rn += dl * VN[lk];
-        re += dl * VE[lk];
-      }
       const rk = RK[o + i];
-      if (rk === K_IN) up[i] = -dr;
-      else {
-        up[i] = 0;
-        rt += dr * VT[rk];
-        rs += dr * VS[rk];
-        rn += dr * VN[rk];
-        re += dr * VE[rk];
+      lo[i] = lk === K_IN ? -dl : 0;
+      up[i] = rk === K_IN ? -dr : 0;
+      T0[i] = a1 * T1[i] - a2 * T2[i];
+      S0[i] = a1 * S1[i] - a2 * S2[i];
+      N0[i] = a1 * N1[i] - a2 * N2[i];
+      E0[i] = a1 * E1[i] - a2 * E2[i];
+      if (lk !== K_IN || rk !== K_IN) {
+        const wl = lk === K_IN ? 0 : dl;
+        const wr = rk === K_IN ? 0 : dr;
+        T0[i] = T0[i] + wl * VT[lk] + wr * VT[rk];
+        S0[i] = S0[i] + wl * VS[lk] + wr * VS[rk];
+        N0[i] = N0[i] + wl * VN[lk] + wr * VN[rk];
+        E0[i] = E0[i] + wl * VE[lk] + wr * VE[rk];
       }
-      T0[i] = rt;
-      S0[i] = rs;
-      N0[i] = rn;
-      E0[i] = re;
     }
     if (fi <= la) thomas4(lo, di, up, T0, S0, N0, E0, cp, fi, la);
-    let tmp = T2;
-    T2 = T1;
-    T1 = T0;
-    T0 = tmp;
-    tmp = S2;
-    S2 = S1;
-    S1 = S0;
-    S0 = tmp;
-    tmp = N2;
-    N2 = N1;
-    N1 = N0;
-    N0 = tmp;
-    tmp = E2;
-    E2 = E1;
-    E1 = E0;
-    E0 = tmp;
+    // the three time levels move back one step: this step's solution becomes the later level
+    [T0, T1, T2] = [T2, T0, T1];
+    [S0, S1, S2] = [S2, S0, S1];
+    [N0, N1, N2] = [N2, N0, N1];
+    [E0, E1, E2] = [E2, E0, E1];
   }
   return { uT: T1, uS: S1, uN: N1, uE: E1 };
 }

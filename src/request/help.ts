@@ -5,6 +5,8 @@
  */
 import { verbNamed, verbs } from '../verbs/registry.js';
 
+type Verb = ReturnType<typeof verbs>[number];
+
 /** One page of help: a title, its lines, and examples that run. */
 export interface HelpPage {
   title: string;
@@ -101,6 +103,27 @@ function section(s: HelpPage): string {
   return [s.title, ...s.lines.map((l) => `  ${l}`), 'Examples:', ...s.examples.map((e) => `  ${e}`)].join('\n');
 }
 
+/**
+ * The overview's verb lines, one per verb's `overview` (src/verbs/verb.ts) in the registry's order,
+ * except where a verb places itself after another's line or on it: "USAGE  says", the says
+ * aligned after a 15-character usage column; verbs sharing a line are joined by " · ".
+ */
+function overviewLines(): string[] {
+  const lines: Verb[][] = [];
+  const lineOf = (name: string) => lines.find((l) => l.some((v) => v.name === name));
+  const placed = [...verbs()].sort((a, b) => Number(a.overview.place !== undefined) - Number(b.overview.place !== undefined));
+  for (const v of placed) {
+    const p = v.overview.place;
+    const at = p ? lineOf('with' in p ? p.with : p.after) : undefined;
+    if (p && !at) throw new Error(`the overview line of ${v.name} is placed by a verb with no line`);
+    if (p && at && 'with' in p) at.push(v);
+    else if (at) lines.splice(lines.indexOf(at) + 1, 0, [v]);
+    else lines.push([v]);
+  }
+  const cell = ({ overview: o }: Verb) => `${o.usage.padEnd(15)}  ${typeof o.says === 'string' ? o.says : o.says()}`;
+  return lines.map((l) => l.map(cell).join(' · '));
+}
+
 /** Help text: the overview, or one topic. An unknown topic gets the overview with the topic list. */
 export function helpText(topic?: string): string {
   const page = pages().get((topic ?? '').toLowerCase());
@@ -110,14 +133,7 @@ export function helpText(topic?: string): string {
     'likely to make under your view of the stock (drift, vol, jumps) by a horizon.',
     '',
     'Verbs:',
-    '  LEG …            check a position (e.g. +1 call 100 3m iv 30% spot 98.50 drift 8%)',
-    '  compare A ; B    checks side by side, each part inheriting from the one before',
-    '  iv …             implied vol of an option price',
-    '  touch L by D …   chance of touching a level by a date',
-    '  mark SYMBOL …    store spot, iv, yield, rate for later `on SYMBOL`',
-    '  history SYM …    vol and drift ± standard errors from past closes (save: into the mark)',
-    '  log [N]          past checks · again N [changes]  rerun one',
-    '  help [topic]     topics: ' + helpTopics().join(', '),
+    ...overviewLines().map((l) => `  ${l}`),
     '',
     'Words are case-insensitive, terms after the legs come in any order, percentages carry %.',
     'Examples:',

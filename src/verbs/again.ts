@@ -188,8 +188,7 @@ export function parseAgain(src: string, toks: Tok[]): AgainRequest {
   const semi = toks.find((t) => t.text === ';');
   if (semi) throw rejectAt(semi, `again takes overrides for one check; ';' belongs to compare`, undefined, 'again');
   const c = new Cursor(src, toks, 1, toks.length, 'again');
-  const nTok = c.peek();
-  if (!nTok) throw c.missing(toks[0], 'again needs the number of a check in the log, e.g. again 17', '17');
+  const nTok = c.needed('again needs the number of a check in the log, e.g. again 17', '17');
   const number = readWholeNumber(c, nTok, 'again', 1, LIMITS.againMax, '17');
   // `again N now`: on today's date and the channel's marks as they are now (default: as logged)
   let now = false;
@@ -211,6 +210,8 @@ export const again: Verb<AgainRequest> = {
   words: ['again'],
   grammar: parseAgain,
   readsSemicolons: true,
+  overview: { usage: 'again N [changes]', says: 'rerun one', place: { with: 'log' } },
+  buttons: 'vary',
   example: 'again 1 spot 102',
   help: {
     title: 'again — rerun a logged check, optionally with changes',

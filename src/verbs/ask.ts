@@ -190,7 +190,8 @@ export {
   type RateDecision,
   type Admission,
 } from '../store/store.js';
-export { isRerunnable, verbOfText } from './registry.js';
+export { answerButtons, isRerunnable, personalDefaultsOf, readsFiles, verbOfText } from './registry.js';
+export type { PersonalDefault } from './verb.js';
 
 // What the shells may read of the grammar: they build request text (the check form, the buttons'
 // variations, personal defaults) and check it against the parser before it comes back here.

@@ -20,7 +20,7 @@ import type { CheckSummary } from '../store/store.js';
 import { checkCost } from './budget.js';
 import { computeExits, exitLevels } from './exits.js';
 import { markFor, markJson, markLine, resolveContext, staleWords, resolvedOnItsMark } from './marks.js';
-import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
+import { answer, loggedOutcome, PERSONAL_DEFAULTS, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 /** Runs the core for a resolved check and assembles the JSON result (docs/design.md §4). */
 export function computeCheck(rc: ResolvedCheck): CheckAssembly {
@@ -146,7 +146,7 @@ function runCheckVerb(text: string, req: CheckRequest, env: VerbEnv): Outcome {
     json: { ...asm.json, ...(mark ? { mark: markJson(mark, env.now) } : {}) } as unknown as Record<string, unknown>,
     chart: checkChartInput(asm),
   });
-  return { answer: a, log: { verb: 'check', text, request: req, summary: checkSummary(asm.json) } };
+  return loggedOutcome(text, req, a, checkSummary(asm.json));
 }
 
 export const check: Verb<CheckRequest> = {
@@ -156,6 +156,9 @@ export const check: Verb<CheckRequest> = {
   words: ['check'],
   grammar: parseCheckVerb,
   rerun: 'legs',
+  overview: { usage: 'LEG …', says: 'check a position (e.g. +1 call 100 3m iv 30% spot 98.50 drift 8%)' },
+  buttons: 'vary',
+  personalDefaults: PERSONAL_DEFAULTS,
   example: '+2 call 105 2027-03-19 @3.10 iv 28% -2 call 115 2027-03-19 @1.05 iv 25% spot 100 rate 4.5% drift 9%',
   help: {
     title: 'check — fair value, Greeks and the likely outcome of a position under your view',

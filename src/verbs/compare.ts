@@ -21,7 +21,7 @@ import type { Mark } from '../store/store.js';
 import { checkCost } from './budget.js';
 import { addExits, checkSummary, computeCheck } from './check.js';
 import { markFor, markJson, markLine, resolveContext } from './marks.js';
-import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
+import { answer, loggedOutcome, PERSONAL_DEFAULTS, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 function runCompare(text: string, req: CompareRequest, env: VerbEnv): Outcome {
   const checks = req.checks ?? [];
@@ -58,7 +58,7 @@ function runCompare(text: string, req: CompareRequest, env: VerbEnv): Outcome {
     position: `compare ${parts.length}: ${positionWords(parts[0].json)}`,
     parts: parts.map((p) => checkSummary(p.json)),
   };
-  return { answer: a, log: { verb: 'compare', text, request: req, summary } };
+  return loggedOutcome(text, req, a, summary);
 }
 
 export function parseCompare(src: string, toks: Tok[]): CompareRequest {
@@ -130,6 +130,9 @@ export const compare: Verb<CompareRequest> = {
   grammar: parseCompare,
   readsSemicolons: true,
   rerun: 'parts',
+  overview: { usage: 'compare A ; B', says: 'checks side by side, each part inheriting from the one before' },
+  buttons: 'vary',
+  personalDefaults: PERSONAL_DEFAULTS,
   example: 'compare +1 call 90 3m iv 30% spot 84.20 ; drift 0% ; drift 12%',
   help: {
     title: 'compare — several checks side by side',

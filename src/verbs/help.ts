@@ -31,6 +31,7 @@ export const help: Verb<HelpRequest> = {
   name: 'help',
   schema: helpSchema,
   words: ['help', '?'],
+  overview: { usage: 'help [topic]', says: () => `topics: ${helpTopics().join(', ')}` },
   grammar: parseHelp,
   example: 'help check',
   run: (_text, req) => ({

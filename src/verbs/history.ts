@@ -282,6 +282,8 @@ export const history: Verb<HistoryRequest> = {
   name: 'history',
   schema: historySchema,
   words: ['history'],
+  overview: { usage: 'history SYM …', says: 'vol and drift ± standard errors from past closes (save: into the mark)', place: { after: 'mark' } },
+  readsFiles: true,
   grammar,
   example: HISTORY_EXAMPLE,
   help: {

@@ -7,7 +7,7 @@ import { SAMPLE } from '../request/examples.js';
 import { NUMBER, type Tok } from '../request/lex.js';
 import { readBody } from '../request/grammar/body.js';
 import { Cursor, isSpecToken } from '../request/grammar/cursor.js';
-import { Reject, after, fmtNum, insertAfter, insertBefore } from '../request/grammar/errors.js';
+import { fmtNum, insertBefore } from '../request/grammar/errors.js';
 import { readPrice, specOf } from '../request/grammar/values.js';
 import { SPAN_WORDS, TYPE_WORDS } from '../request/grammar/words.js';
 import type { ExpirySpec } from '../request/types.js';
@@ -18,7 +18,7 @@ import { level, num, pct, pts, rate, shortDate, isNum } from '../report/format.j
 import type { CheckSummary } from '../store/store.js';
 import { figurePair, joinFigures } from './check.js';
 import { markFor, markJson, markLine, resolveContext, staleWords, resolvedOnItsMark } from './marks.js';
-import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
+import { answer, loggedOutcome, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 /** The model an implied vol was solved under, in words. */
 const METHOD_WORDS: Record<IvMethod, string> = {
@@ -68,17 +68,12 @@ function runIv(text: string, req: IvRequest, env: VerbEnv): Outcome {
   ].join('\n');
   const what = `iv ${v.kind} ${level(v.K)} ${shortDate(v.expiry)} @${num(v.price)}`;
   const summary = { position: what, iv: s.iv, asof: v.asof, spot: v.S, rate: v.r, yield: v.q, price: v.price };
-  return {
-    answer: answer({ verb: 'iv', headline: `${what} → ${pct(s.iv, 2)}${staleWords(mark, env.now)}`, text: txt, json }),
-    log: { verb: 'iv', text, request: req, summary },
-  };
+  return loggedOutcome(text, req, answer({ verb: 'iv', headline: `${what} → ${pct(s.iv, 2)}${staleWords(mark, env.now)}`, text: txt, json }), summary);
 }
 
 export function parseIv(src: string, toks: Tok[]): IvRequest {
   const c = new Cursor(src, toks, 1, toks.length, 'iv');
-  const head = toks[0];
-  const kTok = c.peek();
-  if (!kTok) throw c.missing(head, 'iv needs an option: iv call 105 2027-03-19 price 3.10 spot 100', 'call 105 2027-03-19 price 3.10 spot 100');
+  const kTok = c.needed('iv needs an option: iv call 105 2027-03-19 price 3.10 spot 100', 'call 105 2027-03-19 price 3.10 spot 100');
   const kind = TYPE_WORDS[kTok.low];
   if (kind !== 'call' && kind !== 'put') {
     const msg =
@@ -113,10 +108,7 @@ export function parseIv(src: string, toks: Tok[]): IvRequest {
     throw where ? c.reject(where, msg, insertBefore(where, '2027-03-19')) : c.missing(c.toks[c.i - 1], msg, '2027-03-19');
   }
   const body = readBody(c, 'iv');
-  if (body.price === undefined) {
-    const last = toks[toks.length - 1];
-    throw new Reject('iv needs the option price: price 3.10', after(last), 1, insertAfter(last, 'price 3.10'), 'iv');
-  }
+  if (body.price === undefined) throw c.missing(toks[toks.length - 1], 'iv needs the option price: price 3.10', 'price 3.10');
   return {
     verb: 'iv',
     kind,
@@ -136,6 +128,9 @@ export const iv: Verb<IvRequest> = {
   words: ['iv'],
   grammar: parseIv,
   rerun: { head: 4 },
+  overview: { usage: 'iv …', says: 'implied vol of an option price' },
+  buttons: 'delete',
+  personalDefaults: ['rate', 'yield'],
   example: 'iv call 105 2027-03-19 price 3.10 spot 100 rate 4.5% yield 1%',
   help: {
     title: 'iv — the implied vol of one option price',

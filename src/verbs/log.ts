@@ -6,7 +6,7 @@ import { Cursor } from '../request/grammar/cursor.js';
 import { readWholeNumber } from '../request/grammar/values.js';
 import type { LogRequest } from '../request/types.js';
 import { logText, type LoggedCheck } from '../report/log.js';
-import { answer, needStore, storeCall, type Outcome, type VerbEnv, type Verb } from './verb.js';
+import { answer, hasStore, needStore, storeCall, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 async function runLog(text: string, req: LogRequest, env: VerbEnv): Promise<Outcome> {
   const store = needStore(text, env, 'log');
@@ -50,10 +50,10 @@ export const log: Verb<LogRequest> = {
   name: 'log',
   schema: logSchema,
   words: ['log'],
+  overview: { usage: 'log [N]', says: 'past checks' },
   grammar: parseLog,
   run: runLog,
-  // it needs the channel's store
-  answersHere: async (_req, here) => !!here.store,
+  answersHere: hasStore,
   example: 'log 20',
   help: {
     title: 'log — the channel\'s past checks',

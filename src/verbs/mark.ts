@@ -14,7 +14,7 @@ import { marksText, whenUtc } from '../report/log.js';
 import { level, rate } from '../report/format.js';
 import type { Mark } from '../store/store.js';
 import { markJson, markRecord, markTermsWords } from './marks.js';
-import { answer, needStore, refuseFact, storeCall, type Outcome, type VerbEnv, type Verb } from './verb.js';
+import { answer, hasStore, needStore, refuseFact, storeCall, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 function listing(marks: Mark[], env: VerbEnv): Outcome {
   return {
@@ -127,10 +127,10 @@ export const mark: Verb<MarkRequest> = {
   schema: markSchema,
   body: { terms: ['spot', 'iv', 'yield', 'rate', 'vol', 'drift'], legs: false },
   words: ['mark'],
+  overview: { usage: 'mark SYMBOL …', says: 'store spot, iv, yield, rate for later `on SYMBOL`' },
   grammar: parseMark,
   run: runMark,
-  // it needs the channel's store
-  answersHere: async (_req, here) => !!here.store,
+  answersHere: hasStore,
   example: 'mark FERNWK spot 84.20 iv 31% yield 1.2%',
   help: {
     title: 'mark — store the market for a symbol in this channel',

@@ -1,8 +1,9 @@
 /**
  * The verbs, in one list: everything that lists or dispatches verbs reads it (the parser's
  * dispatch and its "unknown verb" message, the reply's `verb`, the seam, the budget, the help
- * topics and pages, the canonical examples, `again`'s rerunnable verbs and how it rewrites them,
- * the resolver's check of a corrected example, the chat app's log lines). Adding a verb:
+ * topics, pages and overview, the canonical examples, `again`'s rerunnable verbs and how it
+ * rewrites them, the resolver's check of a corrected example, the chat app's log lines, which
+ * answers get which buttons, which requests take personal defaults or shared files). Adding a verb:
  * DEVELOPERS.md, "Adding a verb".
  *
  * The list is read through functions, never at module load: the grammar (src/request/parse.ts)
@@ -19,7 +20,7 @@ import { iv } from './iv.js';
 import { log } from './log.js';
 import { mark } from './mark.js';
 import { touch } from './touch.js';
-import type { Verb } from './verb.js';
+import type { PersonalDefault, Verb } from './verb.js';
 
 /** Every verb, in the order help and the "unknown verb" message list them. */
 export function verbs() {
@@ -35,9 +36,14 @@ export type VerbName = Request['verb'];
 /** Every request's shape: the schemas of the verbs (read when first used, not at load). */
 export const requestSchema = z.lazy(() => z.union(verbs().map((v) => v.schema as z.ZodType<Request>) as [z.ZodType<Request>, ...z.ZodType<Request>[]]));
 
+/** The verb of that name, if there is one. */
+function verbFound(name: string): Verb | undefined {
+  return (verbs() as readonly Verb[]).find((x) => x.name === name);
+}
+
 /** The verb of that name. */
 export function verbNamed(name: string): Verb {
-  const v = (verbs() as readonly Verb[]).find((x) => x.name === name);
+  const v = verbFound(name);
   if (!v) throw new Error(`no verb ${name}`);
   return v;
 }
@@ -54,7 +60,22 @@ export function verbNames(): VerbName[] {
 
 /** Whether `again N` can rerun a logged entry of this verb (its `rerun`; false for a name no verb has). */
 export function isRerunnable(name: string): boolean {
-  return (verbs() as readonly Verb[]).some((v) => v.name === name && v.rerun !== undefined);
+  return verbFound(name)?.rerun !== undefined;
+}
+
+/** The buttons under a logged answer of this verb (its `buttons`; none for a name no verb has). */
+export function answerButtons(name: string): Verb['buttons'] {
+  return verbFound(name)?.buttons;
+}
+
+/** The person's defaults a request of this verb takes (its `personalDefaults`; none for a name no verb has). */
+export function personalDefaultsOf(name: string): readonly PersonalDefault[] {
+  return verbFound(name)?.personalDefaults ?? [];
+}
+
+/** Whether a request text asks for a verb that reads the files shared with it (its `readsFiles`). */
+export function readsFiles(text: string): boolean {
+  return verbFound(verbOfText(text))?.readsFiles === true;
 }
 
 /** The verb a request text starts with, for a log line: its name, `check` for a leg, else `unknown`. */

@@ -7,7 +7,6 @@ import { SAMPLE } from '../request/examples.js';
 import type { Tok } from '../request/lex.js';
 import { readBody } from '../request/grammar/body.js';
 import { Cursor } from '../request/grammar/cursor.js';
-import { Reject, after, insertAfter } from '../request/grammar/errors.js';
 import { readPrice } from '../request/grammar/values.js';
 import { activeJumps } from '../core/jumps.js';
 import { TOUCH_MC_SEED, touchFigures } from '../core/models.js';
@@ -18,7 +17,7 @@ import { wrapParts } from '../report/text.js';
 import type { CheckSummary } from '../store/store.js';
 import { figurePair, joinFigures } from './check.js';
 import { markFor, markJson, markLine, resolveContext, staleWords, resolvedOnItsMark } from './marks.js';
-import { answer, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
+import { answer, loggedOutcome, refuse, type Outcome, type VerbEnv, type Verb } from './verb.js';
 
 function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
   const mark = markFor(text, env, req.terms.on, req.termsAt.on);
@@ -83,23 +82,15 @@ function runTouch(text: string, req: TouchRequest, env: VerbEnv): Outcome {
     drift: t.view.drift,
     vol: t.view.vol,
   };
-  return {
-    answer: answer({ verb: 'touch', headline: `${what}: ${pct(pv)} under the view${staleWords(mark, env.now)}`, text: rows.join('\n'), json }),
-    log: { verb: 'touch', text, request: req, summary },
-  };
+  return loggedOutcome(text, req, answer({ verb: 'touch', headline: `${what}: ${pct(pv)} under the view${staleWords(mark, env.now)}`, text: rows.join('\n'), json }), summary);
 }
 
 export function parseTouch(src: string, toks: Tok[]): TouchRequest {
   const c = new Cursor(src, toks, 1, toks.length, 'touch');
-  const head = toks[0];
-  const lTok = c.peek();
-  if (!lTok) throw c.missing(head, 'touch needs a level: touch 120 by 2027-03-19 spot 100', '120 by 2027-03-19 spot 100');
-  const level = readPrice(c, head, 'the touch level', SAMPLE.level);
+  const lTok = c.needed('touch needs a level: touch 120 by 2027-03-19 spot 100', '120 by 2027-03-19 spot 100');
+  const level = readPrice(c, toks[0], 'the touch level', SAMPLE.level);
   const body = readBody(c, 'touch');
-  if (body.by === undefined) {
-    const last = toks[toks.length - 1];
-    throw new Reject('touch needs a date: by 2027-03-19 (or a span such as by 3m)', after(last), 1, insertAfter(last, 'by 2027-03-19'), 'touch');
-  }
+  if (body.by === undefined) throw c.missing(toks[toks.length - 1], 'touch needs a date: by 2027-03-19 (or a span such as by 3m)', 'by 2027-03-19');
   return {
     verb: 'touch',
     level,
@@ -117,6 +108,9 @@ export const touch: Verb<TouchRequest> = {
   words: ['touch'],
   grammar: parseTouch,
   rerun: { head: 2 },
+  overview: { usage: 'touch L by D …', says: 'chance of touching a level by a date' },
+  buttons: 'delete',
+  personalDefaults: ['rate', 'yield'],
   example: 'touch 120 by 2027-03-19 spot 100 drift 8% vol 25%',
   help: {
     title: 'touch — the chance that the stock touches a level by a date',

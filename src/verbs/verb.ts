@@ -85,6 +85,26 @@ export interface CostContext {
   costOf(req: AnyRequest, text: string): Cost | null;
 }
 
+/** A person's defaults (set on my desk), which a request may take where it leaves the term out. */
+export const PERSONAL_DEFAULTS = ['rate', 'yield', 'mult', 'horizon'] as const;
+export type PersonalDefault = (typeof PERSONAL_DEFAULTS)[number];
+
+/** `answersHere` of a verb that needs nothing of the channel but its store (log, mark). */
+export async function hasStore(_req: AnyRequest, here: Here): Promise<boolean> {
+  return !!here.store;
+}
+
+/**
+ * A verb's line in the help overview: `usage` in the first column, `says` after it (a function when
+ * it is read from elsewhere, as help's list of topics). Lines follow the registry's order; `place`
+ * moves one: `{ after: V }` on the line after verb V's, `{ with: V }` on V's own line, after it.
+ */
+export interface OverviewLine {
+  usage: string;
+  says: string | (() => string);
+  place?: { after: string } | { with: string };
+}
+
 /** One verb: everything the rest of Kolmo needs to know about it. `R` is its request. */
 export interface Verb<R extends AnyRequest = AnyRequest> {
   name: R['verb'];
@@ -111,6 +131,21 @@ export interface Verb<R extends AnyRequest = AnyRequest> {
   example: string;
   /** its page of `help NAME` (the verb's name is the topic); `help` itself has none */
   help?: HelpPage;
+  /** its line in the help overview (the "Verbs:" block of `help`) */
+  overview: OverviewLine;
+  /**
+   * the buttons under its logged answer in a workspace (src/chat/actions/buttons.ts): 'vary' —
+   * the variations (spot, vol, drift, today's mark), edit in the check form and delete; 'delete'
+   * — delete only; both add "post to a channel" to a private answer. Absent: no buttons.
+   */
+  buttons?: 'vary' | 'delete';
+  /**
+   * the person's defaults its request takes where it and its mark leave the term out (written
+   * into its `terms`; a comparison's into its first part); absent: none
+   */
+  personalDefaults?: readonly PersonalDefault[];
+  /** it reads the files shared with the request (`AskContext.files`): a shell hands files only to it */
+  readsFiles?: boolean;
   /**
    * whether a request of this verb resolves in this context: a rejection offers the user's own
    * request corrected as its example only when it does (absent: never offered, the canonical
@@ -141,6 +176,11 @@ export function isoDay(d: Date): string {
 export function envOf(ctx: AskContext, registry: Pick<VerbEnv, 'verb' | 'verbs'>): VerbEnv {
   const now = ctx.now instanceof Date && Number.isFinite(ctx.now.getTime()) ? ctx.now : new Date();
   return { ctx, now, today: isoDay(now), nowIso: now.toISOString(), ...registry };
+}
+
+/** What a logged verb returns: its answer, and its request as written with the figures the log keeps. */
+export function loggedOutcome(text: string, req: AnyRequest, a: Answer, summary: CheckSummary): Outcome {
+  return { answer: a, log: { verb: req.verb, text, request: req, summary } };
 }
 
 export function reject(text: string, e: ParseError): Rejection {

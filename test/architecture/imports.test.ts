@@ -120,4 +120,14 @@ describe('import direction in src/', () => {
   it('nothing imports the shells except the shells', () => {
     expect(show(ALL.filter((e) => SHELLS(e.to) && !SHELLS(e.from)))).toEqual([]);
   });
+
+  it('every entry point sets the engine up first: its first import is runtime.ts (the settings the benchmarks measure)', () => {
+    for (const entry of ['main.ts', 'cli.ts', 'chat/worker.ts']) {
+      const text = readFileSync(join(SRC, entry), 'utf8');
+      const first = /(?:^|\n)import\s[^;]*;/.exec(text)?.[0].trim();
+      expect(first, entry).toBe(`import '${entry.includes('/') ? '../' : './'}runtime.js';`);
+    }
+    const bench = readFileSync(join(SRC, '..', 'test', 'bench', 'run.ts'), 'utf8');
+    expect(/(?:^|\n)import\s[^;]*;/.exec(bench)?.[0].trim()).toBe("import '../../src/runtime.js';");
+  });
 });

@@ -3,6 +3,7 @@
  * after another in this process, or only those whose file name contains an argument.
  * Each module exports `run(): Promise<void> | void` that prints its own figures.
  */
+import '../../src/runtime.js';
 import { readdirSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';

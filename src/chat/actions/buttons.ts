@@ -10,6 +10,7 @@
  */
 import type { types } from '@slack/bolt';
 import type { Answer } from '../../reply.js';
+import { answerButtons } from '../../verbs/ask.js';
 import type { Variation } from './variations.js';
 
 export const ACTION_PREFIX = 'kolmo_';
@@ -60,13 +61,13 @@ function button(actionId: string, text: string, number: number, extra: Partial<t
 }
 
 /**
- * The actions block of an answer. Checks and comparisons get every button; other logged verbs
- * (iv, touch) only delete and post.
+ * The actions block of an answer, as its verb declares (its `buttons`, src/verbs/verb.ts): checks,
+ * comparisons and reruns get every button (`vary`); iv and touch only delete and post.
  */
 export function answerActions(a: AnswerActionsInput): types.ActionsBlock {
   const n = a.number;
   const elements: types.Button[] = [];
-  if (a.verb === 'check' || a.verb === 'compare' || a.verb === 'again') {
+  if (answerButtons(a.verb) === 'vary') {
     elements.push(
       button(VARY_ACTIONS.spot_down, 'Spot −5%', n),
       button(VARY_ACTIONS.spot_up, 'Spot +5%', n),
@@ -93,12 +94,9 @@ export function answerActions(a: AnswerActionsInput): types.ActionsBlock {
   return { type: 'actions', block_id: ANSWER_ACTIONS_BLOCK, elements };
 }
 
-/** answers that carry buttons: logged checks of these verbs */
-const BUTTON_VERBS = new Set(['check', 'compare', 'iv', 'touch', 'again']);
-
-/** The buttons of a delivered answer, if it has any (a logged, non-ephemeral check). */
+/** The buttons of a delivered answer, if it has any (a logged, non-ephemeral answer of a verb with `buttons`). */
 export function buttonsFor(a: Answer, origin: { channel: string; log?: string }): types.ActionsBlock | undefined {
-  if (a.logNumber === undefined || a.ephemeral || !BUTTON_VERBS.has(a.verb)) return undefined;
+  if (a.logNumber === undefined || a.ephemeral || answerButtons(a.verb) === undefined) return undefined;
   return answerActions({
     number: a.logNumber,
     verb: a.verb,

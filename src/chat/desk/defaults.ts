@@ -9,7 +9,7 @@
  * or before the earliest option expiry (otherwise the usual default, the earliest expiry, stays).
  */
 import type { types } from '@slack/bolt';
-import { LIMITS, SPAN_MAX, parse, resolveSpec, type CheckRequest, type Request } from '../../verbs/ask.js';
+import { LIMITS, SPAN_MAX, parse, personalDefaultsOf, resolveSpec, type CheckRequest, type PersonalDefault, type Request } from '../../verbs/ask.js';
 import { pctText } from '../actions/variations.js';
 
 export interface PersonalDefaults {
@@ -139,9 +139,10 @@ export interface Applied {
 
 /**
  * Where the request leaves a term out, writes the person's default. `markHas` tells which terms
- * the request's mark (`on SYMBOL`) supplies; those are left to the mark. Only checks and
- * comparisons (their first part, which the others inherit), iv (rate, yield) and touch (rate,
- * yield, horizon is not a touch term) take defaults; other requests are returned unchanged.
+ * the request's mark (`on SYMBOL`) supplies; those are left to the mark. A request takes the
+ * defaults its verb declares (`personalDefaults` in src/verbs: checks and comparisons, in their
+ * first part, which the others inherit, all four; iv and touch rate and yield); other requests
+ * are returned unchanged.
  */
 export function applyDefaults(
   text: string,
@@ -154,23 +155,16 @@ export function applyDefaults(
   const p = parse(text);
   if (!p.ok) return none;
   const r: Request = p.request;
-  let terms: CheckRequest['terms'];
-  let allowed: Set<string>;
-  if (r.verb === 'check') {
-    terms = r.terms;
-    allowed = new Set(['rate', 'yield', 'mult', 'horizon']);
-  } else if (r.verb === 'compare' && r.checks?.length) {
-    // written into the first part: later parts inherit it unless they write their own
-    terms = r.checks[0].terms;
-    allowed = new Set(['rate', 'yield', 'mult', 'horizon']);
-  } else if (r.verb === 'iv' || r.verb === 'touch') {
-    terms = r.terms;
-    allowed = new Set(['rate', 'yield']);
-  } else return none;
+  // what the verb declares it takes (its `personalDefaults`); a comparison takes them in its first
+  // part, which the others inherit
+  const allowed = new Set<string>(personalDefaultsOf(r.verb));
+  const first = r.verb === 'compare' ? r.checks?.[0] : r;
+  if (allowed.size === 0 || !first || !('terms' in first)) return none;
+  const terms: Pick<CheckRequest['terms'], 'on' | 'asof' | 'exp' | PersonalDefault> = first.terms;
   const fromMark = terms.on ? markHas(terms.on) : new Set<string>();
   const add: string[] = [];
   const used: string[] = [];
-  const want = (name: 'rate' | 'yield' | 'mult' | 'horizon', value: string) => {
+  const want = (name: PersonalDefault, value: string) => {
     if (!allowed.has(name) || terms[name] !== undefined || fromMark.has(name)) return;
     add.push(`${name} ${value}`);
     used.push(`your default ${name} ${value}`);
@@ -178,10 +172,9 @@ export function applyDefaults(
   if (d.rate !== undefined) want('rate', pctText(d.rate));
   if (d.yield !== undefined) want('yield', pctText(d.yield));
   if (d.mult !== undefined) want('mult', String(d.mult));
-  if (d.horizon !== undefined && (r.verb === 'check' || r.verb === 'compare')) {
-    const first = r.verb === 'check' ? r : r.checks![0];
+  if (d.horizon !== undefined && allowed.has('horizon')) {
     const asof = terms.asof && terms.asof !== 'today' ? terms.asof : today;
-    const expiries = first.legs
+    const expiries = ('legs' in first ? first.legs : [])
       .filter((l) => l.kind !== 'shares')
       .map((l) => l.expiry ?? terms.exp)
       .filter((e): e is NonNullable<typeof e> => e !== undefined)

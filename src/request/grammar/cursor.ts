@@ -35,6 +35,12 @@ export class Cursor {
   reject(t: Tok, message: string, fix?: Edit): Reject {
     return rejectAt(t, message, fix, this.fallback);
   }
+  /** The next token; when there is none, a rejection after the last token read (`sample` inserted there). */
+  needed(message: string, sample: string): Tok {
+    const t = this.peek();
+    if (!t) throw this.missing(this.toks[this.i - 1], message, sample);
+    return t;
+  }
   /** A value is missing after `t` (the term word). */
   missing(t: Tok, message: string, sample: string): Reject {
     return new Reject(message, after(t), 1, insertAfter(t, sample), this.fallback);
