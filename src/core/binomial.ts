@@ -9,7 +9,7 @@
  *   European value instead of the payoff (removing the odd-even oscillation), and two trees of
  *   n and n/2 steps are combined as 2·V(n) − V(n/2).
  */
-import type { OptionKind } from './types.js';
+import type { OptionInputs, OptionKind } from './types.js';
 import { normCdf } from './normal.js';
 
 function intrinsic(kind: OptionKind, S: number, K: number): number {
@@ -27,18 +27,14 @@ function bsmEuropean(kind: OptionKind, S: number, K: number, T: number, r: numbe
   return kind === 'call' ? fS * normCdf(d1) - fK * normCdf(d2) : fK * normCdf(-d2) - fS * normCdf(-d1);
 }
 
-function tree(
-  kind: OptionKind,
-  american: boolean,
-  S: number,
-  K: number,
-  T: number,
-  r: number,
-  q: number,
-  sigma: number,
-  steps: number,
-  bsmLastStep: boolean,
-): number {
+/** Exercise style and number of steps of a tree. */
+export interface TreeOptions {
+  american: boolean;
+  steps: number;
+}
+
+function tree(o: OptionInputs, american: boolean, steps: number, bsmLastStep: boolean): number {
+  const { kind, S, K, T, r, q, sigma } = o;
   const n = Math.max(1, Math.floor(steps));
   const dt = T / n;
   const u = Math.exp(sigma * Math.sqrt(dt));
@@ -76,32 +72,12 @@ function tree(
 }
 
 /** Plain CRR tree value with `steps` steps. */
-export function crrValue(
-  kind: OptionKind,
-  american: boolean,
-  S: number,
-  K: number,
-  T: number,
-  r: number,
-  q: number,
-  sigma: number,
-  steps: number,
-): number {
-  return tree(kind, american, S, K, T, r, q, sigma, steps, false);
+export function crrValue(o: OptionInputs, t: TreeOptions): number {
+  return tree(o, t.american, t.steps, false);
 }
 
 /** Broadie-Detemple BBSR value: 2·BBS(n) − BBS(n/2), n rounded to an even number. */
-export function bbsrValue(
-  kind: OptionKind,
-  american: boolean,
-  S: number,
-  K: number,
-  T: number,
-  r: number,
-  q: number,
-  sigma: number,
-  steps: number,
-): number {
-  const n = Math.max(2, 2 * Math.round(steps / 2));
-  return 2 * tree(kind, american, S, K, T, r, q, sigma, n, true) - tree(kind, american, S, K, T, r, q, sigma, n / 2, true);
+export function bbsrValue(o: OptionInputs, t: TreeOptions): number {
+  const n = Math.max(2, 2 * Math.round(t.steps / 2));
+  return 2 * tree(o, t.american, n, true) - tree(o, t.american, n / 2, true);
 }

@@ -24,7 +24,7 @@
  *   bound so rounding can never make it negative. Gamma is capped at Number.MAX_VALUE (reached
  *   only when S·σ√T is below about 1e−308).
  */
-import type { Greeks, OptionKind } from './types.js';
+import type { Greeks, OptionInputs, OptionKind, OptionTerms } from './types.js';
 import { normCdf, normCdfWithPdf, normPdf } from './normal.js';
 
 // Local names for the Math builtins keep the hot functions' bytecode small enough for V8 to
@@ -36,15 +36,8 @@ const INV_SQRT_2PI = 0.398942280401432677939946059934;
 const TINY_SD = 1e-15;
 
 /** Value per share of a European call or put under Black-Scholes-Merton. */
-export function bsmValue(
-  kind: OptionKind,
-  S: number,
-  K: number,
-  T: number,
-  r: number,
-  q: number,
-  sigma: number,
-): number {
+export function bsmValue(o: OptionInputs): number {
+  const { kind, S, K, T, r, q, sigma } = o;
   const w = kind === 'call' ? 1 : -1;
   if (!(T > 0)) return max(w * (S - K), 0);
   // the log does not wait for the discount exponentials (shorter dependency chain)
@@ -64,15 +57,8 @@ export function bsmValue(
 }
 
 /** Value and Greeks per share (units in the module comment). */
-export function bsmGreeks(
-  kind: OptionKind,
-  S: number,
-  K: number,
-  T: number,
-  r: number,
-  q: number,
-  sigma: number,
-): Greeks {
+export function bsmGreeks(o: OptionInputs): Greeks {
+  const { kind, S, K, T, r, q, sigma } = o;
   const sqT = sqrt(T);
   const sd = sigma * sqT;
   // T ≤ 0 (sqT is 0 or NaN) and σ√T = 0 go out of line; both parts stay small enough for V8 to
@@ -164,19 +150,12 @@ function greeksLimit(kind: OptionKind, S: number, K: number, T: number, r: numbe
 
 /**
  * Probability that the option finishes in the money (S_T > K for a call, S_T < K for a put)
- * when dS = (drift − q) S dt + σ S dW; drift = r gives the risk-neutral probability.
+ * when dS = (drift − q) S dt + σ S dW; drift = o.r (the default) gives the risk-neutral probability.
  * Limits: T ≤ 0 or σ√T = 0 compare the (certain) forward S e^{(drift−q)T} with K, strictly;
  * a forward exactly at the strike gives 0 (it finishes at the strike, not beyond it).
  */
-export function probItm(
-  kind: OptionKind,
-  S: number,
-  K: number,
-  T: number,
-  drift: number,
-  q: number,
-  sigma: number,
-): number {
+export function probItm(o: OptionInputs, drift: number = o.r): number {
+  const { kind, S, K, T, q, sigma } = o;
   const t = T > 0 ? T : 0;
   const sd = sigma * Math.sqrt(t);
   const m = Math.log(S / K) + (drift - q) * t; // ln(F/K)
@@ -204,7 +183,8 @@ export interface BsmAcross {
   shift: number;
 }
 
-export function bsmAcross(kind: OptionKind, K: number, T: number, r: number, q: number, sigma: number): BsmAcross {
+export function bsmAcross(o: OptionTerms): BsmAcross {
+  const { kind, K, T, r, q, sigma } = o;
   return { w: kind === 'call' ? 1 : -1, sd: sigma * sqrt(T), dq: exp(-q * T), fK: K * exp(-r * T), shift: (r - q) * T - log(K) };
 }
 

@@ -15,11 +15,25 @@ export interface InputNames {
 }
 
 /**
- * S (unless null) and K finite and > 0, T finite and ≥ 0, r and q finite, σ finite and ≥ 0, in
+ * The figures checked, in OptionInputs' names (an OptionInputs or OptionTerms passes as it is):
+ * K is a strike or a level, r a rate or a drift; no S when there is none (a curve across spots).
+ */
+export interface CheckedInputs {
+  S?: number;
+  K: number;
+  T: number;
+  r: number;
+  q: number;
+  sigma: number;
+}
+
+/**
+ * S (when present) and K finite and > 0, T finite and ≥ 0, r and q finite, σ finite and ≥ 0, in
  * that order. Messages: `who: NAME must be finite and > 0 (got v)` and so on.
  */
-export function checkMarketInputs(who: string, names: InputNames, S: number | null, K: number, T: number, r: number, q: number, sigma: number): void {
-  if (S !== null && !(Number.isFinite(S) && S > 0)) throw new RangeError(`${who}: ${names.S} must be finite and > 0 (got ${S})`);
+export function checkMarketInputs(who: string, names: InputNames, o: CheckedInputs): void {
+  const { S, K, T, r, q, sigma } = o;
+  if (S !== undefined && !(Number.isFinite(S) && S > 0)) throw new RangeError(`${who}: ${names.S} must be finite and > 0 (got ${S})`);
   if (!(Number.isFinite(K) && K > 0)) throw new RangeError(`${who}: ${names.K} must be finite and > 0 (got ${K})`);
   if (!(Number.isFinite(T) && T >= 0)) throw new RangeError(`${who}: ${names.T} must be finite and ≥ 0 (got ${T})`);
   if (!Number.isFinite(r) || !Number.isFinite(q)) throw new RangeError(`${who}: ${names.rq} must be finite (got ${r}, ${q})`);

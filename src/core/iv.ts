@@ -28,7 +28,7 @@
  *    leaves it), until the step is below 1e−11·s (then taken: the error left is
  *    far below the rounding noise of the inputs).
  */
-import type { OptionKind } from './types.js';
+import type { IvInputs, OptionInputs } from './types.js';
 import { normCdfMinusHalf, normInv, normMills } from './normal.js';
 
 export type IvResult =
@@ -50,7 +50,8 @@ export function noIv(bound: 'lower' | 'upper', boundValue: number, message: stri
  * or T not positive (T = 0 allowed when `expiredOk`), anything not finite, or `othersOk` false
  * (e.g. invalid jumps); undefined when the inputs are fine.
  */
-export function badIvInputs(price: number, S: number, K: number, T: number, r: number, q: number, expiredOk: boolean, othersOk = true): IvResult | undefined {
+export function badIvInputs(o: Pick<OptionInputs, 'S' | 'K' | 'T' | 'r' | 'q'>, price: number, expiredOk: boolean, othersOk = true): IvResult | undefined {
+  const { S, K, T, r, q } = o;
   const tOk = expiredOk ? T >= 0 : T > 0;
   if (S > 0 && K > 0 && tOk && othersOk && [price, S, K, T, r, q].every(Number.isFinite)) return undefined;
   return noIv('lower', 0, 'implied vol needs a finite price and positive spot, strike and time to expiry');
@@ -64,24 +65,17 @@ function fmt(v: number): string {
 }
 
 /**
- * The volatility σ at which bsmValue(kind, S, K, T, r, q, σ) equals `price`, with the vega per
+ * The volatility σ at which bsmValue({ ...o, sigma: σ }) equals `price`, with the vega per
  * vol point at that σ. Prices at or below the no-arbitrage lower bound (the discounted intrinsic
  * of the forward, max(±(S e^{−qT} − K e^{−rT}), 0)) or at or above the upper bound (S e^{−qT}
  * for a call, K e^{−rT} for a put) have no implied vol and return ok:false naming the bound.
  * Inputs the request layer should never pass (S, K or T not positive, anything not finite) also
  * return ok:false (bound 'lower') with a message saying so.
  */
-export function impliedVol(
-  kind: OptionKind,
-  price: number,
-  S: number,
-  K: number,
-  T: number,
-  r: number,
-  q: number,
-): IvResult {
-  const bad = badIvInputs(price, S, K, T, r, q, false);
+export function impliedVol(o: IvInputs, price: number): IvResult {
+  const bad = badIvInputs(o, price, false);
   if (bad) return bad;
+  const { kind, S, K, T, r, q } = o;
   const fS = S * Math.exp(-q * T);
   const fK = K * Math.exp(-r * T);
   const isCall = kind === 'call';

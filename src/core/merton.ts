@@ -23,7 +23,7 @@
  */
 import { bsmGreeks, bsmValue } from './bsm.js';
 import type { IvResult } from './iv.js';
-import type { Greeks, Jumps, OptionKind } from './types.js';
+import type { Greeks, IvInputs, Jumps, OptionInputs, OptionKind } from './types.js';
 import { logFactorial } from './numeric/special.js';
 import { hasJumps, jumpCompensator } from './jumps.js';
 import { checkMarketInputs } from './inputs.js';
@@ -39,8 +39,8 @@ function jumpsAct(j: Jumps | undefined, T: number): j is Jumps {
 
 const NAMES = { S: 'spot', K: 'strike', T: 'time', rq: 'rate and yield', sigma: 'sigma' };
 
-function checkInputs(S: number, K: number, T: number, r: number, q: number, sigma: number, j: Jumps): void {
-  checkMarketInputs('merton', NAMES, S, K, T, r, q, sigma);
+function checkInputs(o: OptionInputs, j: Jumps): void {
+  checkMarketInputs('merton', NAMES, o);
   if (!(Number.isFinite(j.intensity) && j.intensity >= 0)) throw new RangeError(`merton: jump intensity must be finite and ≥ 0 (got ${j.intensity})`);
   if (!Number.isFinite(j.mean)) throw new RangeError(`merton: mean log jump must be finite (got ${j.mean})`);
   if (!(Number.isFinite(j.sd) && j.sd >= 0)) throw new RangeError(`merton: s.d. of the log jump must be finite and ≥ 0 (got ${j.sd})`);
@@ -93,12 +93,15 @@ function forTerms(kind: OptionKind, S: number, K: number, T: number, r: number, 
 }
 
 /** Merton jump-diffusion value per share of a European call or put. */
-export function mertonValue(kind: OptionKind, S: number, K: number, T: number, r: number, q: number, sigma: number, jumps: Jumps): number {
-  checkInputs(S, K, T, r, q, sigma, jumps);
-  if (!jumpsAct(jumps, T)) return bsmValue(kind, S, K, T, r, q, sigma);
+export function mertonValue(o: OptionInputs, jumps: Jumps): number {
+  checkInputs(o, jumps);
+  const { kind, S, K, T, r, q } = o;
+  if (!jumpsAct(jumps, T)) return bsmValue(o);
   let v = 0;
-  forTerms(kind, S, K, T, r, q, sigma, jumps, (t) => {
-    if (t.w > 0) v += t.w * bsmValue(kind, S, K, T, t.rn, q, t.sn);
+  // a record written per term (V8 inlines bsmValue here and drops the allocation); forTerms keeps
+  // its numbers as parameters: reading them from the record there measured 10% slower
+  forTerms(kind, S, K, T, r, q, o.sigma, jumps, (t) => {
+    if (t.w > 0) v += t.w * bsmValue({ kind, S, K, T, r: t.rn, q, sigma: t.sn });
   });
   // no-arbitrage bounds (rounding only)
   const fS = S * Math.exp(-q * T);
@@ -107,9 +110,10 @@ export function mertonValue(kind: OptionKind, S: number, K: number, T: number, r
 }
 
 /** Value and Greeks per share under Merton jumps (vega: per vol point of the diffusion σ). */
-export function mertonGreeks(kind: OptionKind, S: number, K: number, T: number, r: number, q: number, sigma: number, jumps: Jumps): Greeks {
-  checkInputs(S, K, T, r, q, sigma, jumps);
-  if (!jumpsAct(jumps, T)) return bsmGreeks(kind, S, K, T, r, q, sigma);
+export function mertonGreeks(o: OptionInputs, jumps: Jumps): Greeks {
+  checkInputs(o, jumps);
+  const { kind, S, K, T, r, q, sigma } = o;
+  if (!jumpsAct(jumps, T)) return bsmGreeks(o);
   const lp = jumps.intensity * (1 + jumpCompensator(jumps)) * T;
   const lnJ = jumps.mean + 0.5 * jumps.sd * jumps.sd;
   const d2 = jumps.sd * jumps.sd;
@@ -119,9 +123,10 @@ export function mertonGreeks(kind: OptionKind, S: number, K: number, T: number, 
   let vega = 0;
   let rho = 0;
   let dVdT = 0;
+  // a record written per term, as in mertonValue
   forTerms(kind, S, K, T, r, q, sigma, jumps, (t) => {
     if (!(t.w > 0)) return;
-    const g = bsmGreeks(kind, S, K, T, t.rn, q, t.sn);
+    const g = bsmGreeks({ kind, S, K, T, r: t.rn, q, sigma: t.sn });
     const w = t.w;
     value += w * g.value;
     delta += w * g.delta;
@@ -147,11 +152,12 @@ export function mertonGreeks(kind: OptionKind, S: number, K: number, T: number, 
  * S e^{−qT} (call) or K e^{−rT} (put); prices outside that range have no solution and return
  * ok:false naming the bound. Safeguarded Newton inside a bisection bracket on [0, 10].
  */
-export function mertonImpliedVol(kind: OptionKind, price: number, S: number, K: number, T: number, r: number, q: number, jumps: Jumps): IvResult {
+export function mertonImpliedVol(o: IvInputs, price: number, jumps: Jumps): IvResult {
+  const { kind, S, K, T, r, q } = o;
   if (!(S > 0 && K > 0 && T > 0) || ![price, S, K, T, r, q, jumps.intensity, jumps.mean, jumps.sd].every(Number.isFinite) || jumps.intensity < 0 || jumps.sd < 0) {
     return { ok: false, bound: 'lower', boundValue: 0, message: 'implied vol needs a finite price, positive spot, strike and time to expiry, and valid jumps' };
   }
-  const lowerV = mertonValue(kind, S, K, T, r, q, 0, jumps);
+  const lowerV = mertonValue({ kind, S, K, T, r, q, sigma: 0 }, jumps);
   const upperV = kind === 'call' ? S * Math.exp(-q * T) : K * Math.exp(-r * T);
   const tol = 1e-12 * Math.max(1, S, K);
   if (!(price > lowerV + tol)) {
@@ -172,13 +178,15 @@ export function mertonImpliedVol(kind: OptionKind, price: number, S: number, K: 
   }
   let lo = 0;
   let hi = 10;
-  const vHi = mertonValue(kind, S, K, T, r, q, hi, jumps);
+  const vHi = mertonValue({ kind, S, K, T, r, q, sigma: hi }, jumps);
   if (!(vHi > price)) {
     return { ok: false, bound: 'upper', boundValue: vHi, message: `price ${fmt(price)} needs a volatility above 1000%` };
   }
   let s = 0.3;
+  const at = { kind, S, K, T, r, q, sigma: s };
   for (let it = 0; it < 200; it++) {
-    const g = mertonGreeks(kind, S, K, T, r, q, s, jumps);
+    at.sigma = s;
+    const g = mertonGreeks(at, jumps);
     const f = g.value - price;
     if (f > 0) hi = s;
     else lo = s;
@@ -191,7 +199,8 @@ export function mertonImpliedVol(kind: OptionKind, price: number, S: number, K: 
     }
     s = next;
   }
-  const vega = mertonGreeks(kind, S, K, T, r, q, s, jumps).vega;
+  at.sigma = s;
+  const vega = mertonGreeks(at, jumps).vega;
   return { ok: true, iv: s, vega };
 }
 

@@ -27,19 +27,14 @@ import { mertonImpliedVol } from './merton.js';
 import { probBeyondAtEnd, touchProb } from './touch.js';
 import { probBeyondAtEndPredictive, touchProbPredictive } from './predictive.js';
 import { touchProbJumps } from './touch-jumps.js';
-import type { CheckInput, ExerciseStyle, Jumps, OptionKind, Walk } from './types.js';
+import type { CheckInput, ExerciseStyle, IvInputs, Jumps, TouchInputs, Walk } from './types.js';
 
 /** Which method an implied vol was solved with. */
 export type IvMethod = 'american' | 'american-jumps' | 'merton' | 'bsm';
 
-export interface IvQuestion {
-  kind: OptionKind;
+/** One option price to solve for its vol: the option and its market (IvInputs) and the price. */
+export interface IvQuestion extends IvInputs {
   price: number;
-  S: number;
-  K: number;
-  T: number;
-  r: number;
-  q: number;
   style: ExerciseStyle;
   jumps?: Jumps;
 }
@@ -47,10 +42,10 @@ export interface IvQuestion {
 /** The implied vol of one option price under the model its style and jumps call for. */
 export function solveImpliedVol(v: IvQuestion): { result: IvResult; method: IvMethod } {
   if (v.style === 'american') {
-    return { result: americanImpliedVol(v.kind, v.price, v.S, v.K, v.T, v.r, v.q, v.jumps), method: v.jumps ? 'american-jumps' : 'american' };
+    return { result: americanImpliedVol(v, v.price, v.jumps), method: v.jumps ? 'american-jumps' : 'american' };
   }
-  if (v.jumps) return { result: mertonImpliedVol(v.kind, v.price, v.S, v.K, v.T, v.r, v.q, v.jumps), method: 'merton' };
-  return { result: impliedVol(v.kind, v.price, v.S, v.K, v.T, v.r, v.q), method: 'bsm' };
+  if (v.jumps) return { result: mertonImpliedVol(v, v.price, v.jumps), method: 'merton' };
+  return { result: impliedVol(v, v.price), method: 'bsm' };
 }
 
 /** Monte Carlo paths for touch under jumps (standard error ≤ 0.25 percentage points) and their seed. */
@@ -84,20 +79,13 @@ export interface TouchFigures {
 export function touchFigures(t: TouchQuestion, drift: number, driftSe = 0): TouchFigures {
   const jumps = activeJumps(t.jumps);
   const tau = driftSe > 0 ? driftSe : 0;
+  const o: TouchInputs = { S: t.S, level: t.level, T: t.T, drift, q: t.q, sigma: t.vol, driftSe: tau };
   if (!jumps) {
-    return tau > 0
-      ? {
-          touch: touchProbPredictive(t.S, t.level, t.T, drift, tau, t.q, t.vol),
-          beyond: probBeyondAtEndPredictive(t.S, t.level, t.T, drift, tau, t.q, t.vol),
-        }
-      : {
-          touch: touchProb(t.S, t.level, t.T, drift, t.q, t.vol),
-          beyond: probBeyondAtEnd(t.S, t.level, t.T, drift, t.q, t.vol),
-        };
+    return tau > 0 ? { touch: touchProbPredictive(o), beyond: probBeyondAtEndPredictive(o) } : { touch: touchProb(o), beyond: probBeyondAtEnd(o) };
   }
   // first passage with jumps has no closed form: a seeded Monte Carlo with its standard error;
   // the chance of ending beyond is exact from the Poisson mixture of lognormals
-  const mc = touchProbJumps(t.S, t.level, t.T, drift, t.q, t.vol, jumps, { paths: TOUCH_MC_PATHS, seed: TOUCH_MC_SEED, ...(tau > 0 ? { driftSe: tau } : {}) });
+  const mc = touchProbJumps(o, jumps, { paths: TOUCH_MC_PATHS, seed: TOUCH_MC_SEED });
   const d = walkDistribution(t.S, t.T, t.q, { drift, vol: t.vol, jumps, ...(tau > 0 ? { driftSe: tau } : {}) });
   const beyond = t.level >= t.S ? spotSf(d, t.level) : spotCdf(d, t.level);
   return { touch: mc.prob, beyond, stderr: mc.stderr, paths: mc.paths };

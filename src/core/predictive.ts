@@ -26,7 +26,7 @@ import { normCdf, normPdf } from './normal.js';
 import { GL8 } from './numeric/gauss-legendre.js';
 import { runCheck } from './outcome.js';
 import { touchProb } from './touch.js';
-import type { CheckInput } from './types.js';
+import type { CheckInput, TouchInputs } from './types.js';
 
 /** A drift with its weight in the mixture over μ. */
 export interface DriftNode {
@@ -93,41 +93,34 @@ export function mixOverDrift(nodes: DriftNode[], f: (drift: number) => number): 
 }
 
 /**
- * Chance that the spot touches `level` by T when the drift is uncertain: the mixture over μ of
- * the closed form (touch.ts). driftSe = 0 is exactly `touchProb`.
+ * Chance that the spot touches `level` by T when the drift is uncertain (τ = o.driftSe): the
+ * mixture over μ of the closed form (touch.ts). driftSe = 0 (or absent) is exactly `touchProb`.
  */
-export function touchProbPredictive(
-  S: number,
-  level: number,
-  T: number,
-  drift: number,
-  driftSe: number,
-  q: number,
-  sigma: number,
-  opts: Omit<DriftNodeOptions, 'scale'> = {},
-): number {
-  if (!(driftSe > 0) || !(T > 0)) return touchProb(S, level, T, drift, q, sigma);
+export function touchProbPredictive(o: TouchInputs, opts: Omit<DriftNodeOptions, 'scale'> = {}): number {
+  const { S, level, T, drift, q, sigma } = o;
+  const driftSe = o.driftSe ?? 0;
+  if (!(driftSe > 0) || !(T > 0)) return touchProb(o);
   // the touch probability turns over a drift change of about σ/√T (plus the level's distance
   // in time when σ is tiny): in z units σ/(τ√T)
   const scale = Math.max(1e-3, sigma / (driftSe * Math.sqrt(T)));
   const nodes = driftNodes(drift, driftSe, { ...opts, scale });
-  const p = mixOverDrift(nodes, (mu) => touchProb(S, level, T, mu, q, sigma));
+  // one record for every node: only the drift changes
+  const at: TouchInputs = { S, level, T, drift, q, sigma };
+  const p = mixOverDrift(nodes, (mu) => {
+    at.drift = mu;
+    return touchProb(at);
+  });
   return p < 0 ? 0 : p > 1 ? 1 : p;
 }
 
 /**
  * Chance of ending at or beyond `level` at T under the predictive law, exact (lognormal):
- * ln S_T ~ N(ln S + (μ₀ − q − σ²/2)T, σ²T + τ²T²). Same conventions as `probBeyondAtEnd`.
+ * ln S_T ~ N(ln S + (μ₀ − q − σ²/2)T, σ²T + τ²T²) with τ = o.driftSe (absent: 0). Same
+ * conventions as `probBeyondAtEnd`.
  */
-export function probBeyondAtEndPredictive(
-  S: number,
-  level: number,
-  T: number,
-  drift: number,
-  driftSe: number,
-  q: number,
-  sigma: number,
-): number {
+export function probBeyondAtEndPredictive(o: TouchInputs): number {
+  const { S, level, T, drift, q, sigma } = o;
+  const driftSe = o.driftSe ?? 0;
   const b = Math.log(level / S);
   const dir = b >= 0 ? 1 : -1;
   const a = Math.abs(b);

@@ -11,7 +11,7 @@
 import { americanGreeks, americanValueCurve } from './american.js';
 import { bsmAcross, bsmAcrossValue, bsmGreeks, type BsmAcross } from './bsm.js';
 import { mertonGreeks, mertonValue } from './merton.js';
-import type { ExerciseStyle, Greeks, Jumps, LegInput, Market } from './types.js';
+import type { ExerciseStyle, Greeks, Jumps, LegInput, Market, OptionInputs } from './types.js';
 import { activeJumps } from './jumps.js';
 
 export interface LegModel {
@@ -32,9 +32,10 @@ export function legGreeks(leg: LegInput, m: LegModel): Greeks {
   const { spot, rate, yield: q } = m.market;
   if (leg.kind === 'shares') return { value: spot, delta: 1, gamma: 0, vega: 0, theta: 0, rho: 0 };
   const j = jumpsOf(m);
-  if (m.style === 'american') return americanGreeks(leg.kind, spot, leg.strike, leg.years, rate, q, leg.iv, j ? { jumps: j } : {});
-  if (j) return mertonGreeks(leg.kind, spot, leg.strike, leg.years, rate, q, leg.iv, j);
-  return bsmGreeks(leg.kind, spot, leg.strike, leg.years, rate, q, leg.iv);
+  const o: OptionInputs = { kind: leg.kind, S: spot, K: leg.strike, T: leg.years, r: rate, q, sigma: leg.iv };
+  if (m.style === 'american') return americanGreeks(o, j ? { jumps: j } : {});
+  if (j) return mertonGreeks(o, j);
+  return bsmGreeks(o);
 }
 
 /** True when the option leg expires at (or before) the horizon. Shares never expire. */
@@ -62,12 +63,20 @@ export function legValuer(leg: LegInput, m: LegModel, horizonYears: number): (sp
     // one backward solve over a wide band of spots; outside it the curve's own asymptotes
     const w = 1 + 10 * Math.max(iv, 0.2) * Math.sqrt(horizonYears + tau);
     const spot = m.market.spot;
-    return americanValueCurve(kind, K, tau, rate, q, iv, Math.min(spot, K) * Math.exp(-w), Math.max(spot, K) * Math.exp(w), jumpsOf(m));
+    return americanValueCurve({ kind, K, T: tau, r: rate, q, sigma: iv }, Math.min(spot, K) * Math.exp(-w), Math.max(spot, K) * Math.exp(w), jumpsOf(m));
   }
   const atZero = kind === 'call' ? 0 : K * Math.exp(-rate * tau);
   const j = jumpsOf(m);
-  if (j) return (s) => (s > 0 ? mertonValue(kind, s, K, tau, rate, q, iv, j) : atZero);
-  const c = bsmAcross(kind, K, tau, rate, q, iv);
+  if (j) {
+    // one record for every spot (mertonValue keeps no reference to it): only S changes
+    const o: OptionInputs = { kind, S: m.market.spot, K, T: tau, r: rate, q, sigma: iv };
+    return (s) => {
+      if (!(s > 0)) return atZero;
+      o.S = s;
+      return mertonValue(o, j);
+    };
+  }
+  const c = bsmAcross({ kind, K, T: tau, r: rate, q, sigma: iv });
   return (s) => (s > 0 ? bsmAcrossValue(c, Math.log(s), s) : atZero);
 }
 
@@ -79,7 +88,7 @@ export function legValuer(leg: LegInput, m: LegModel, horizonYears: number): (sp
 export function legAcross(leg: LegInput, m: LegModel, horizonYears: number): BsmAcross | null {
   if (leg.kind === 'shares' || expiresBy(leg, horizonYears) || m.style === 'american' || jumpsOf(m)) return null;
   const { rate, yield: q } = m.market;
-  return bsmAcross(leg.kind, leg.strike, leg.years - horizonYears, rate, q, leg.iv);
+  return bsmAcross({ kind: leg.kind, K: leg.strike, T: leg.years - horizonYears, r: rate, q, sigma: leg.iv });
 }
 
 /**

@@ -17,7 +17,7 @@
  * Random numbers: xoshiro128** (Blackman and Vigna) seeded through splitmix32, normals by the
  * Box-Muller transform; the same seed gives the same answer on every platform.
  */
-import type { Jumps } from './types.js';
+import type { Jumps, TouchInputs } from './types.js';
 import { hasJumps, jumpCompensator, validJumps } from './jumps.js';
 import { checkMarketInputs } from './inputs.js';
 
@@ -33,12 +33,6 @@ export interface TouchJumpsOptions {
   steps?: number;
   /** seed of the generator (default 1) */
   seed?: number;
-  /**
-   * the drift's uncertainty τ (predictive.ts): each path draws its own μ ~ N(drift, τ²), which
-   * makes the estimate the exact mixture over μ at no extra cost. 0 or absent: the same random
-   * stream, and the same answer, as a known drift.
-   */
-  driftSe?: number;
 }
 
 export interface TouchJumpsResult {
@@ -117,19 +111,13 @@ const NAMES = { S: 'spot', K: 'level', T: 'time', rq: 'drift and yield', sigma: 
  * Monte Carlo probability that the spot touches `level` by T, and that it ends beyond it, under
  * dS/S = (drift − q) dt + σ dW + compensated Merton jumps. `drift` is the expected total return
  * (the rate for the risk-neutral walk). Without jumps (or λ = 0) the same estimator runs, which is
- * what lets the tests compare it with the closed form.
+ * what lets the tests compare it with the closed form. With `driftSe` (τ, predictive.ts) each
+ * path draws its own μ ~ N(drift, τ²), which makes the estimate the exact mixture over μ at no
+ * extra cost; 0 or absent: the same random stream, and the same answer, as a known drift.
  */
-export function touchProbJumps(
-  S: number,
-  level: number,
-  T: number,
-  drift: number,
-  q: number,
-  sigma: number,
-  jumps: Jumps | undefined,
-  opts: TouchJumpsOptions = {},
-): TouchJumpsResult {
-  checkMarketInputs('touchProbJumps', NAMES, S, level, T, drift, q, sigma);
+export function touchProbJumps(o: TouchInputs, jumps: Jumps | undefined, opts: TouchJumpsOptions = {}): TouchJumpsResult {
+  const { S, level, T, drift, q, sigma, driftSe } = o;
+  checkMarketInputs('touchProbJumps', NAMES, { S, K: level, T, r: drift, q, sigma });
   const lam = jumps ? jumps.intensity : 0;
   const jm = jumps ? jumps.mean : 0;
   const jsd = jumps ? jumps.sd : 0;
@@ -157,7 +145,7 @@ export function touchProbJumps(
   let sumT = 0;
   let sumT2 = 0;
   let sumB = 0;
-  const tau = opts.driftSe !== undefined && opts.driftSe > 0 && Number.isFinite(opts.driftSe) ? opts.driftSe : 0;
+  const tau = driftSe !== undefined && driftSe > 0 && Number.isFinite(driftSe) ? driftSe : 0;
   for (let p = 0; p < paths; p++) {
     const nuP = tau > 0 ? nu + tau * rng.normal() : nu;
     let x = 0;

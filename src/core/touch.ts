@@ -14,22 +14,18 @@
  * precision when both factors are extreme.
  */
 import { normCdf, normMills, normPdf } from './normal.js';
+import type { TouchInputs } from './types.js';
 
 const TINY_SD = 1e-15;
 
 /**
  * Probability that the spot touches `level` at some time in [0, T] (either direction; a level
  * equal to the spot counts as touched: 1). T ≤ 0: 1 if level == S, else 0. σ√T = 0: the path is
- * the certain exponential S e^{(drift − q)t}, touched if it gets there by T.
+ * the certain exponential S e^{(drift − q)t}, touched if it gets there by T. The drift is taken as
+ * known (`driftSe` is not read: touchProbPredictive mixes over it).
  */
-export function touchProb(
-  S: number,
-  level: number,
-  T: number,
-  drift: number,
-  q: number,
-  sigma: number,
-): number {
+export function touchProb(o: TouchInputs): number {
+  const { S, level, T, drift, q, sigma } = o;
   const b = Math.log(level / S);
   if (b === 0) return 1;
   const t = T > 0 ? T : 0;
@@ -57,16 +53,11 @@ export function touchProb(
 /**
  * Probability that the spot ends at or beyond `level` at T: P(S_T ≥ level) when level ≥ S (a
  * level equal to the spot is taken upward), P(S_T ≤ level) when level < S. σ√T = 0 or T ≤ 0:
- * 1 if the certain end point is at or beyond the level, else 0.
+ * 1 if the certain end point is at or beyond the level, else 0. The drift is taken as known
+ * (`driftSe` is not read: probBeyondAtEndPredictive widens the law by it).
  */
-export function probBeyondAtEnd(
-  S: number,
-  level: number,
-  T: number,
-  drift: number,
-  q: number,
-  sigma: number,
-): number {
+export function probBeyondAtEnd(o: TouchInputs): number {
+  const { S, level, T, drift, q, sigma } = o;
   const b = Math.log(level / S);
   const dir = b >= 0 ? 1 : -1;
   const a = Math.abs(b);

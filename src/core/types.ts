@@ -9,6 +9,57 @@ export type OptionKind = 'call' | 'put';
 export type LegKind = OptionKind | 'shares';
 export type ExerciseStyle = 'european' | 'american';
 
+/**
+ * One option and its market, as the option pricers take it (bsm.ts, merton.ts, american/,
+ * binomial.ts). Callers in hot loops build one record and update its fields rather than a new
+ * record per call.
+ */
+export interface OptionInputs {
+  kind: OptionKind;
+  /** spot, money per share, > 0 */
+  S: number;
+  /** strike, money per share, > 0 */
+  K: number;
+  /** years to expiry (calendar days / 365), ≥ 0; 0 is expired */
+  T: number;
+  /** continuously compounded rate, decimal */
+  r: number;
+  /** continuous dividend yield, decimal */
+  q: number;
+  /** volatility per √year, decimal (the diffusion's when jumps are added) */
+  sigma: number;
+}
+
+/** An option and its market without the spot: what a valuer across spots fixes (bsmAcross, americanValueCurve). */
+export type OptionTerms = Omit<OptionInputs, 'S'>;
+
+/** An option and its market without a vol: what an implied-vol solver takes beside the price. */
+export type IvInputs = Omit<OptionInputs, 'sigma'>;
+
+/**
+ * A level and the walk towards it, as the touch and ends-beyond functions take it (touch.ts,
+ * predictive.ts, touch-jumps.ts): dS/S = (drift − q) dt + σ dW.
+ */
+export interface TouchInputs {
+  /** spot, > 0 */
+  S: number;
+  /** the level, > 0 (either side of the spot) */
+  level: number;
+  /** years to the date, ≥ 0 */
+  T: number;
+  /** expected total return per year, decimal (the rate for the risk-neutral walk) */
+  drift: number;
+  /** continuous dividend yield, decimal */
+  q: number;
+  /** volatility per √year, decimal */
+  sigma: number;
+  /**
+   * the drift's uncertainty τ (μ ~ N(drift, τ²), fixed over the path): read by the predictive
+   * forms and touchProbJumps; the known-drift closed forms (touch.ts) leave it out
+   */
+  driftSe?: number;
+}
+
 /** Merton (1976) jumps: Poisson intensity per year; mean and s.d. of the log jump size. */
 export interface Jumps {
   intensity: number;

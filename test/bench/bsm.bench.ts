@@ -75,7 +75,7 @@ export function run(): void {
         () => {
           let acc = 0;
           for (let i = 0; i < N; i++) {
-            const g = bsmGreeks(kind[i], S[i], K[i], T[i], r[i], q[i], v[i]);
+            const g = bsmGreeks({ kind: kind[i], S: S[i], K: K[i], T: T[i], r: r[i], q: q[i], sigma: v[i] });
             acc += g.value + g.delta + g.gamma + g.vega + g.theta + g.rho;
           }
           return acc;
@@ -85,7 +85,7 @@ export function run(): void {
         'bsmValue per leg',
         () => {
           let acc = 0;
-          for (let i = 0; i < N; i++) acc += bsmValue(kind[i], S[i], K[i], T[i], r[i], q[i], v[i]);
+          for (let i = 0; i < N; i++) acc += bsmValue({ kind: kind[i], S: S[i], K: K[i], T: T[i], r: r[i], q: q[i], sigma: v[i] });
           return acc;
         },
       ],
@@ -116,7 +116,7 @@ export function run(): void {
         () => {
           let acc = 0;
           for (let i = 0; i < N; i++) {
-            const g = bsmGreeks('put', grid[i], 100, 0.4, 0.045, 0.01, 0.3);
+            const g = bsmGreeks({ kind: 'put', S: grid[i], K: 100, T: 0.4, r: 0.045, q: 0.01, sigma: 0.3 });
             acc += g.value + g.delta + g.gamma + g.vega + g.theta + g.rho;
           }
           return acc;

@@ -27,7 +27,7 @@ export function run(): void {
       for (const t of Ts)
         for (const v of vols) {
           // the region of test/core/iv.test.ts: price a normal double and κ = (A + B)/(σ ∂P/∂σ) ≤ 1e4
-          const g = bsmGreeks(k, 100, 100 * m, t, 0.04, 0.015, v);
+          const g = bsmGreeks({ kind: k, S: 100, K: 100 * m, T: t, r: 0.04, q: 0.015, sigma: v });
           const w = k === 'call' ? 1 : -1;
           const fS = 100 * Math.exp(-0.015 * t);
           const fK = 100 * m * Math.exp(-0.04 * t);
@@ -47,7 +47,7 @@ export function run(): void {
   const n = price.length;
   let worst = 0;
   for (let i = 0; i < n; i++) {
-    const res = impliedVol(kind[i], price[i], S[i], K[i], T[i], r[i], q[i]);
+    const res = impliedVol({ kind: kind[i], S: S[i], K: K[i], T: T[i], r: r[i], q: q[i] }, price[i]);
     worst = Math.max(worst, res.ok ? Math.abs(res.iv / sig[i] - 1) : Infinity);
   }
   // alternating rounds, best of each (the machine is shared; see bsm.bench.ts)
@@ -58,7 +58,7 @@ export function run(): void {
       'bsmValue on the same inputs',
       () => {
         let acc = 0;
-        for (let i = 0; i < n; i++) acc += bsmValue(kind[i], S[i], K[i], T[i], r[i], q[i], sig[i]);
+        for (let i = 0; i < n; i++) acc += bsmValue({ kind: kind[i], S: S[i], K: K[i], T: T[i], r: r[i], q: q[i], sigma: sig[i] });
         return acc;
       },
       n,
@@ -69,7 +69,7 @@ export function run(): void {
       () => {
         let acc = 0;
         for (let i = 0; i < n; i++) {
-          const res = impliedVol(kind[i], price[i], S[i], K[i], T[i], r[i], q[i]);
+          const res = impliedVol({ kind: kind[i], S: S[i], K: K[i], T: T[i], r: r[i], q: q[i] }, price[i]);
           if (res.ok) acc += res.iv;
         }
         return acc;

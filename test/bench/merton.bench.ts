@@ -38,49 +38,49 @@ export function run(): void {
     console.log(`\n-- jumps ${j.intensity}/yr, mean ${j.mean}, sd ${j.sd}`);
     const bv = measure('bsmValue', () => {
       let s = 0;
-      for (const l of legs) s += bsmValue(l.kind, l.S, l.K, l.T, l.r, l.q, l.v);
+      for (const l of legs) s += bsmValue({ kind: l.kind, S: l.S, K: l.K, T: l.T, r: l.r, q: l.q, sigma: l.v });
       return s;
     }, N);
     const mv = measure('mertonValue', () => {
       let s = 0;
-      for (const l of legs) s += mertonValue(l.kind, l.S, l.K, l.T, l.r, l.q, l.v, j);
+      for (const l of legs) s += mertonValue({ kind: l.kind, S: l.S, K: l.K, T: l.T, r: l.r, q: l.q, sigma: l.v }, j);
       return s;
     }, N);
     const bg = measure('bsmGreeks', () => {
       let s = 0;
-      for (const l of legs) s += bsmGreeks(l.kind, l.S, l.K, l.T, l.r, l.q, l.v).vega;
+      for (const l of legs) s += bsmGreeks({ kind: l.kind, S: l.S, K: l.K, T: l.T, r: l.r, q: l.q, sigma: l.v }).vega;
       return s;
     }, N);
     const mg = measure('mertonGreeks', () => {
       let s = 0;
-      for (const l of legs) s += mertonGreeks(l.kind, l.S, l.K, l.T, l.r, l.q, l.v, j).vega;
+      for (const l of legs) s += mertonGreeks({ kind: l.kind, S: l.S, K: l.K, T: l.T, r: l.r, q: l.q, sigma: l.v }, j).vega;
       return s;
     }, N);
     report(bv);
     report(mv, bv);
     report(bg);
     report(mg, bg);
-    const prices = legs.map((l) => mertonValue(l.kind, l.S, l.K, l.T, l.r, l.q, l.v, j));
+    const prices = legs.map((l) => mertonValue({ kind: l.kind, S: l.S, K: l.K, T: l.T, r: l.r, q: l.q, sigma: l.v }, j));
     report(measure('mertonImpliedVol', () => {
       let s = 0;
       for (let i = 0; i < 64; i++) {
         const l = legs[i];
-        const r = mertonImpliedVol(l.kind, prices[i], l.S, l.K, l.T, l.r, l.q, j);
+        const r = mertonImpliedVol({ kind: l.kind, S: l.S, K: l.K, T: l.T, r: l.r, q: l.q }, prices[i], j);
         s += r.ok ? r.iv : 0;
       }
       return s;
     }, 64), mv);
   }
   console.log('\n-- touch probability, level 120 from 100, T = 0.5, σ = 25%');
-  const closed = measure('touchProb (closed form, no jumps)', () => touchProb(100, 120, 0.5, 0.08, 0.01, 0.25), 1, 0.3);
+  const closed = measure('touchProb (closed form, no jumps)', () => touchProb({ S: 100, level: 120, T: 0.5, drift: 0.08, q: 0.01, sigma: 0.25 }), 1, 0.3);
   report(closed);
   for (const [label, j] of [
     ['touchProbJumps, no jumps, 10k paths', undefined],
     ['touchProbJumps, 2 jumps/yr, 10k paths', { intensity: 2, mean: -0.05, sd: 0.1 }],
     ['touchProbJumps, 50 jumps/yr, 10k paths', { intensity: 50, mean: -0.01, sd: 0.03 }],
   ] as [string, Jumps | undefined][]) {
-    const r = touchProbJumps(100, 120, 0.5, 0.08, 0.01, 0.25, j, { paths: 10000 });
+    const r = touchProbJumps({ S: 100, level: 120, T: 0.5, drift: 0.08, q: 0.01, sigma: 0.25 }, j, { paths: 10000 });
     console.log(`  ${label}: prob ${r.prob.toFixed(4)} ± ${r.stderr.toFixed(4)}`);
-    report(measure(label, () => touchProbJumps(100, 120, 0.5, 0.08, 0.01, 0.25, j, { paths: 10000 }), 1, 1), closed);
+    report(measure(label, () => touchProbJumps({ S: 100, level: 120, T: 0.5, drift: 0.08, q: 0.01, sigma: 0.25 }, j, { paths: 10000 }), 1, 1), closed);
   }
 }

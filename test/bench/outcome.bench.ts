@@ -65,7 +65,7 @@ export function run(): void {
   const fourValues = () => {
     let t = 0;
     for (const l of beforeExpiry.legs) {
-      if (l.kind !== 'shares') t += bsmValue(l.kind, 84.2, l.strike, l.years, 0.045, 0.012, l.iv);
+      if (l.kind !== 'shares') t += bsmValue({ kind: l.kind, S: 84.2, K: l.strike, T: l.years, r: 0.045, q: 0.012, sigma: l.iv });
     }
     return t;
   };

@@ -34,13 +34,13 @@ export function run(): void {
 
   const t0 = measure('baseline: touchProb closed form ×100', () => {
     let s = 0;
-    for (let i = 0; i < 100; i++) s += touchProb(84.2, 95 + i * 0.01, 0.5, 0.09, 0.012, 0.3);
+    for (let i = 0; i < 100; i++) s += touchProb({ S: 84.2, level: 95 + i * 0.01, T: 0.5, drift: 0.09, q: 0.012, sigma: 0.3 });
     return s;
   }, 100);
   report(t0);
   report(measure('touch averaged over drift ± 6% ×100', () => {
     let s = 0;
-    for (let i = 0; i < 100; i++) s += touchProbPredictive(84.2, 95 + i * 0.01, 0.5, 0.09, 0.06, 0.012, 0.3);
+    for (let i = 0; i < 100; i++) s += touchProbPredictive({ S: 84.2, level: 95 + i * 0.01, T: 0.5, drift: 0.09, q: 0.012, sigma: 0.3, driftSe: 0.06 });
     return s;
   }, 100), t0);
 

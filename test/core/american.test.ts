@@ -10,12 +10,15 @@ import {
 import { bbsrValue, crrValue } from '../../src/core/binomial.js';
 import { bsmValue } from '../../src/core/bsm.js';
 import { mertonGreeks, mertonValue } from '../../src/core/merton.js';
-import type { Jumps, OptionKind } from '../../src/core/types.js';
+import type { Jumps, OptionInputs, OptionKind } from '../../src/core/types.js';
 
 type Case = [OptionKind, number, number, number, number, number, number]; // kind S K T r q sigma
 
+/** A case as the pricers take it. */
+const opt = (c: Case): OptionInputs => ({ kind: c[0], S: c[1], K: c[2], T: c[3], r: c[4], q: c[5], sigma: c[6] });
+
 /** Reference: Broadie-Detemple BBSR tree (binomial.ts) with many steps. */
-const tree = (c: Case, steps = 8000): number => bbsrValue(c[0], true, c[1], c[2], c[3], c[4], c[5], c[6], steps);
+const tree = (c: Case, steps = 8000): number => bbsrValue(opt(c), { american: true, steps });
 
 /** Small deterministic generator for the random cases (reproducible). */
 function lcg(seed: number): () => number {
@@ -40,7 +43,7 @@ describe('binomial reference trees', () => {
       [500, 4.283, 0.0005],
     ];
     for (const [n, v, tol] of published) {
-      expect(Math.abs(crrValue('put', true, 50, 50, 5 / 12, 0.1, 0, 0.4, n) - v)).toBeLessThan(tol);
+      expect(Math.abs(crrValue({ kind: 'put', S: 50, K: 50, T: 5 / 12, r: 0.1, q: 0, sigma: 0.4 }, { american: true, steps: n }) - v)).toBeLessThan(tol);
     }
   });
 
@@ -50,8 +53,8 @@ describe('binomial reference trees', () => {
     expect(Math.abs(a - b)).toBeLessThan(1e-5);
     // Hull's "converging near 4.284" (from memory)
     expect(Math.abs(b - 4.284)).toBeLessThan(5e-4);
-    const eu = bbsrValue('put', false, 50, 50, 5 / 12, 0.1, 0, 0.4, 2000);
-    expect(Math.abs(eu - bsmValue('put', 50, 50, 5 / 12, 0.1, 0, 0.4))).toBeLessThan(1e-5);
+    const eu = bbsrValue({ kind: 'put', S: 50, K: 50, T: 5 / 12, r: 0.1, q: 0, sigma: 0.4 }, { american: false, steps: 2000 });
+    expect(Math.abs(eu - bsmValue({ kind: 'put', S: 50, K: 50, T: 5 / 12, r: 0.1, q: 0, sigma: 0.4 }))).toBeLessThan(1e-5);
   });
 });
 
@@ -67,7 +70,7 @@ describe('americanFdValue: Hull American put and grid convergence', () => {
       [200, 200],
       [400, 400],
     ]) {
-      const v = americanFdValue(...HULL, { nx, nt });
+      const v = americanFdValue(opt(HULL), { nx, nt });
       errs.push(Math.abs(v - ref));
       rows.push(`${String(nx).padStart(5)} ${String(nt).padStart(5)}  ${v.toFixed(7)}  ${(v - ref).toExponential(2)}`);
     }
@@ -76,8 +79,8 @@ describe('americanFdValue: Hull American put and grid convergence', () => {
     // (a few 1e-6), and the finer solutions agree with each other
     expect(errs[0]).toBeGreaterThan(5 * errs[2]);
     for (let i = 2; i < errs.length; i++) expect(errs[i]).toBeLessThan(1e-5);
-    expect(Math.abs(americanValue(...HULL) - ref)).toBeLessThan(1e-4);
-    expect(Math.abs(americanValue(...HULL, { accuracy: 'fine' }) - ref)).toBeLessThan(3e-5);
+    expect(Math.abs(americanValue(opt(HULL)) - ref)).toBeLessThan(1e-4);
+    expect(Math.abs(americanValue(opt(HULL), { accuracy: 'fine' }) - ref)).toBeLessThan(3e-5);
   });
 
   it('is within 1e-4 of the BBSR tree on random typical cases (puts and calls with yield)', () => {
@@ -86,7 +89,7 @@ describe('americanFdValue: Hull American put and grid convergence', () => {
     for (let i = 0; i < 16; i++) {
       const kind: OptionKind = rnd() < 0.6 ? 'put' : 'call';
       const c: Case = [kind, 100 * (0.75 + 0.5 * rnd()), 100, 0.05 + 1.95 * rnd(), 0.1 * rnd(), (kind === 'call' ? 0.08 : 0.04) * rnd(), 0.1 + 0.5 * rnd()];
-      const err = Math.abs(americanValue(...c) - tree(c, 6000));
+      const err = Math.abs(americanValue(opt(c)) - tree(c, 6000));
       worst = Math.max(worst, err);
       expect(err, `case ${c.join(' ')}`).toBeLessThan(1e-4);
     }
@@ -109,7 +112,7 @@ describe('americanFdValue: Hull American put and grid convergence', () => {
         let e = 0;
         for (const S of [80, 95, 100, 110, 125]) {
           const i = Math.round((Math.log(S) - x[0]) / h);
-          e = Math.max(e, Math.abs(sol.v[i] - bsmValue(kind, Math.exp(x[i]), K, T, r, q, sigma)));
+          e = Math.max(e, Math.abs(sol.v[i] - bsmValue({ kind, S: Math.exp(x[i]), K, T, r, q, sigma })));
         }
         return e;
       };
@@ -129,7 +132,7 @@ describe('American identities', () => {
       ['call', 90, 110, 0.5, 0.08, 0, 0.35],
       ['call', 120, 100, 2, 0.0, 0, 0.3],
     ] as Case[]) {
-      expect(Math.abs(americanValue(...c) - bsmValue(...c))).toBeLessThan(1e-4);
+      expect(Math.abs(americanValue(opt(c)) - bsmValue(opt(c)))).toBeLessThan(1e-4);
     }
   });
 
@@ -139,19 +142,19 @@ describe('American identities', () => {
       const kind: OptionKind = rnd() < 0.5 ? 'put' : 'call';
       const S = 60 + 80 * rnd();
       const c: Case = [kind, S, 100, 0.02 + 2 * rnd(), 0.1 * rnd(), 0.08 * rnd(), 0.1 + 0.5 * rnd()];
-      const v = americanValue(...c);
-      expect(v).toBeGreaterThanOrEqual(bsmValue(...c) - 2e-5);
+      const v = americanValue(opt(c));
+      expect(v).toBeGreaterThanOrEqual(bsmValue(opt(c)) - 2e-5);
       expect(v).toBeGreaterThanOrEqual(kind === 'call' ? Math.max(S - 100, 0) : Math.max(100 - S, 0));
     }
     // McDonald-Schroder symmetry (an identity of the model, checked across two different solves)
-    const call = americanValue('call', 110, 100, 1, 0.03, 0.07, 0.3);
-    const put = americanValue('put', 100, 110, 1, 0.07, 0.03, 0.3);
+    const call = americanValue({ kind: 'call', S: 110, K: 100, T: 1, r: 0.03, q: 0.07, sigma: 0.3 });
+    const put = americanValue({ kind: 'put', S: 100, K: 110, T: 1, r: 0.07, q: 0.03, sigma: 0.3 });
     expect(Math.abs(call - put)).toBeLessThan(1e-4);
   });
 
   it('smooth pasting: delta tends to −1 and value to K − S at the put exercise boundary', () => {
     const [K, T, r, q, sigma] = [100, 1, 0.08, 0, 0.25];
-    const timeValue = (S: number): number => americanValue('put', S, K, T, r, q, sigma) - (K - S);
+    const timeValue = (S: number): number => americanValue({ kind: 'put', S, K, T, r, q, sigma }) - (K - S);
     // locate the boundary: the largest S where the value is (numerically) intrinsic
     let lo = 50;
     let hi = 100;
@@ -162,12 +165,12 @@ describe('American identities', () => {
     }
     const b = lo;
     // the tree puts the boundary within 1% of it
-    expect(bbsrValue('put', true, b * 0.99, K, T, r, q, sigma, 4000) - (K - b * 0.99)).toBeLessThan(1e-9);
-    expect(bbsrValue('put', true, b * 1.01, K, T, r, q, sigma, 4000) - (K - b * 1.01)).toBeGreaterThan(1e-4);
-    const above = americanGreeks('put', b * 1.02, K, T, r, q, sigma);
+    expect(bbsrValue({ kind: 'put', S: b * 0.99, K, T, r, q, sigma }, { american: true, steps: 4000 }) - (K - b * 0.99)).toBeLessThan(1e-9);
+    expect(bbsrValue({ kind: 'put', S: b * 1.01, K, T, r, q, sigma }, { american: true, steps: 4000 }) - (K - b * 1.01)).toBeGreaterThan(1e-4);
+    const above = americanGreeks({ kind: 'put', S: b * 1.02, K, T, r, q, sigma });
     expect(above.delta).toBeGreaterThan(-1);
     expect(above.delta).toBeLessThan(-0.9);
-    const below = americanGreeks('put', b * 0.98, K, T, r, q, sigma);
+    const below = americanGreeks({ kind: 'put', S: b * 0.98, K, T, r, q, sigma });
     expect(below.delta).toBeCloseTo(-1, 6);
     expect(below.value).toBeCloseTo(K - b * 0.98, 8);
     expect(below.theta).toBeCloseTo(0, 8);
@@ -186,17 +189,17 @@ describe('American identities', () => {
   it('negative rates: a put with q < r < 0 (double exercise boundary, projected SOR) matches the tree', () => {
     const c: Case = ['put', 100, 100, 2, -0.01, -0.04, 0.15];
     const ref = tree(c, 6000);
-    expect(ref).toBeGreaterThan(bsmValue(...c) + 1e-3); // early exercise does matter here
-    expect(Math.abs(americanValue(...c) - ref)).toBeLessThan(2e-4);
+    expect(ref).toBeGreaterThan(bsmValue(opt(c)) + 1e-3); // early exercise does matter here
+    expect(Math.abs(americanValue(opt(c)) - ref)).toBeLessThan(2e-4);
   });
 
   it('σ = 0 gives the best deterministic exercise time; T = 0 gives intrinsic value', () => {
     // put, r > 0: exercise at once if K − S > K e^{−rT} − S e^{−qT}
     const [S, K, T, r, q] = [90, 100, 1, 0.05, 0.0];
     const best = Math.max(K - S, K * Math.exp(-r * T) - S * Math.exp(-q * T), 0);
-    expect(americanValue('put', S, K, T, r, q, 0)).toBeCloseTo(best, 12);
-    expect(americanValue('call', 120, 100, 0, 0.05, 0, 0.3)).toBe(20);
-    const g = americanGreeks('put', 90, 100, 0, 0.05, 0, 0.3);
+    expect(americanValue({ kind: 'put', S, K, T, r, q, sigma: 0 })).toBeCloseTo(best, 12);
+    expect(americanValue({ kind: 'call', S: 120, K: 100, T: 0, r: 0.05, q: 0, sigma: 0.3 })).toBe(20);
+    const g = americanGreeks({ kind: 'put', S: 90, K: 100, T: 0, r: 0.05, q: 0, sigma: 0.3 });
     expect(g).toEqual({ value: 10, delta: -1, gamma: 0, vega: 0, theta: 0, rho: 0 });
   });
 
@@ -210,7 +213,7 @@ describe('American identities', () => {
               [-0.02, -0.05],
               [0.2, 0.1],
             ]) {
-              const g = americanGreeks(kind, S, 100, T, r, q, sigma);
+              const g = americanGreeks({ kind, S, K: 100, T, r, q, sigma });
               for (const v of Object.values(g)) expect(Number.isFinite(v), `${kind} ${S} ${T} ${sigma} ${r} ${q}`).toBe(true);
               expect(g.value).toBeGreaterThanOrEqual(kind === 'put' ? Math.max(100 - S, 0) : Math.max(S - 100, 0));
               expect(Math.abs(g.delta)).toBeLessThanOrEqual(Math.max(1, Math.exp(-q * T)) + 1e-12);
@@ -223,9 +226,9 @@ describe('American identities', () => {
   });
 
   it('rejects bad input with a clear error', () => {
-    expect(() => americanGreeks('put', -1, 100, 1, 0.05, 0, 0.2)).toThrow(/S must be/);
-    expect(() => americanGreeks('put', 100, 100, Number.NaN, 0.05, 0, 0.2)).toThrow(/T must be/);
-    expect(() => americanValueCurve('put', 100, 1, 0.05, 0, 0.2, 50, 10)).toThrow(/sLo < sHi/);
+    expect(() => americanGreeks({ kind: 'put', S: -1, K: 100, T: 1, r: 0.05, q: 0, sigma: 0.2 })).toThrow(/S must be/);
+    expect(() => americanGreeks({ kind: 'put', S: 100, K: 100, T: Number.NaN, r: 0.05, q: 0, sigma: 0.2 })).toThrow(/T must be/);
+    expect(() => americanValueCurve({ kind: 'put', K: 100, T: 1, r: 0.05, q: 0, sigma: 0.2 }, 50, 10)).toThrow(/sLo < sHi/);
   });
 });
 
@@ -233,9 +236,9 @@ describe('americanGreeks against bumped trees', () => {
   const cases: Case[] = [HULL, ['put', 95, 100, 0.5, 0.05, 0.01, 0.25], ['call', 105, 100, 1, 0.04, 0.07, 0.3]];
   for (const c of cases) {
     it(`${c.join(' ')}`, () => {
-      const g = americanGreeks(...c);
+      const g = americanGreeks(opt(c));
       const [kind, S, K, T, r, q, sigma] = c;
-      const V = (s: number, t: number, rate: number, vol: number): number => bbsrValue(kind, true, s, K, t, rate, q, vol, 6000);
+      const V = (s: number, t: number, rate: number, vol: number): number => bbsrValue({ kind, S: s, K, T: t, r: rate, q, sigma: vol }, { american: true, steps: 6000 });
       const v0 = V(S, T, r, sigma);
       const hS = 0.01 * S;
       const up = V(S + hS, T, r, sigma);
@@ -263,13 +266,13 @@ describe('American gamma', () => {
     // (Crank-Nicolson with the projection leaves undamped high-frequency noise from the moving
     // exercise boundary, about ±0.2% in gamma here; the BDF2 steps damp it.)
     const [K, T, r, q, sigma] = [100, 0.5, 0.05, 0.01, 0.25];
-    const f = (s: number): number => americanValue('put', s, K, T, r, q, sigma, { accuracy: 'fine' });
+    const f = (s: number): number => americanValue({ kind: 'put', S: s, K, T, r, q, sigma }, { accuracy: 'fine' });
     const h = 0.5;
     const bumped = (f(95 + h) - 2 * f(95) + f(95 - h)) / (h * h);
-    const g = americanGreeks('put', 95, K, T, r, q, sigma).gamma;
+    const g = americanGreeks({ kind: 'put', S: 95, K, T, r, q, sigma }).gamma;
     expect(Math.abs(g - bumped) / bumped).toBeLessThan(5e-4);
     const sweep: number[] = [];
-    for (let s = 88; s <= 100; s += 0.5) sweep.push(americanGreeks('put', s, K, T, r, q, sigma).gamma);
+    for (let s = 88; s <= 100; s += 0.5) sweep.push(americanGreeks({ kind: 'put', S: s, K, T, r, q, sigma }).gamma);
     for (let i = 1; i < sweep.length - 1; i++) {
       expect(Math.abs(sweep[i + 1] - 2 * sweep[i] + sweep[i - 1])).toBeLessThan(3e-5);
     }
@@ -282,9 +285,9 @@ describe('americanValueCurve', () => {
       ['put', 100, 0.5, 0.05, 0.01, 0.3],
       ['call', 100, 1, 0.03, 0.06, 0.25],
     ] as [OptionKind, number, number, number, number, number][]) {
-      const f = americanValueCurve(kind, K, T, r, q, sigma, 20, 400);
+      const f = americanValueCurve({ kind, K, T, r, q, sigma }, 20, 400);
       for (const S of [40, 70, 85, 97.3, 100, 104, 120, 150]) {
-        const ref = bbsrValue(kind, true, S, K, T, r, q, sigma, 6000);
+        const ref = bbsrValue({ kind, S, K, T, r, q, sigma }, { american: true, steps: 6000 });
         expect(Math.abs(f(S) - ref), `${kind} S=${S}`).toBeLessThan(1e-4);
       }
       // far outside: intrinsic deep in the money (both have early exercise here), 0 far out
@@ -306,9 +309,9 @@ describe('americanValueCurve', () => {
   });
 
   it('a call without dividends follows BSM over the whole curve (Merton)', () => {
-    const f = americanValueCurve('call', 100, 1, 0.05, 0, 0.3, 30, 300);
+    const f = americanValueCurve({ kind: 'call', K: 100, T: 1, r: 0.05, q: 0, sigma: 0.3 }, 30, 300);
     for (const S of [30, 60, 90, 100, 110, 150, 300]) {
-      expect(Math.abs(f(S) - bsmValue('call', S, 100, 1, 0.05, 0, 0.3))).toBeLessThan(1e-4);
+      expect(Math.abs(f(S) - bsmValue({ kind: 'call', S, K: 100, T: 1, r: 0.05, q: 0, sigma: 0.3 }))).toBeLessThan(1e-4);
     }
     // far beyond the grid the continuation S − K e^{−rT} holds
     expect(f(1e6)).toBeCloseTo(1e6 - 100 * Math.exp(-0.05), 6);
@@ -319,27 +322,27 @@ describe('americanImpliedVol', () => {
   it('recovers the volatility of a tree price and reports bounds', () => {
     const c: Case = ['put', 95, 100, 0.75, 0.05, 0.01, 0.32];
     const price = tree(c, 6000);
-    const res = americanImpliedVol('put', price, 95, 100, 0.75, 0.05, 0.01);
+    const res = americanImpliedVol({ kind: 'put', S: 95, K: 100, T: 0.75, r: 0.05, q: 0.01 }, price);
     expect(res.ok).toBe(true);
     if (res.ok) {
       expect(Math.abs(res.iv - 0.32)).toBeLessThan(1e-4);
       expect(res.vega).toBeGreaterThan(0);
     }
-    const low = americanImpliedVol('put', 4.99, 95, 100, 0.75, 0.05, 0.01);
+    const low = americanImpliedVol({ kind: 'put', S: 95, K: 100, T: 0.75, r: 0.05, q: 0.01 }, 4.99);
     expect(low.ok).toBe(false);
     if (!low.ok) {
       expect(low.bound).toBe('lower');
       expect(low.boundValue).toBe(5);
     }
-    const high = americanImpliedVol('put', 100, 95, 100, 0.75, 0.05, 0.01);
+    const high = americanImpliedVol({ kind: 'put', S: 95, K: 100, T: 0.75, r: 0.05, q: 0.01 }, 100);
     expect(high.ok).toBe(false);
     if (!high.ok) expect(high.bound).toBe('upper');
-    const bad = americanImpliedVol('put', Number.NaN, 95, 100, 0.75, 0.05, 0.01);
+    const bad = americanImpliedVol({ kind: 'put', S: 95, K: 100, T: 0.75, r: 0.05, q: 0.01 }, Number.NaN);
     expect(bad.ok).toBe(false);
     // with jumps: the diffusion volatility of a price made with σ = 22%
     const j: Jumps = { intensity: 1, mean: -0.1, sd: 0.15 };
-    const pj = americanValue('put', 95, 100, 0.75, 0.05, 0.01, 0.22, { jumps: j });
-    const rj = americanImpliedVol('put', pj, 95, 100, 0.75, 0.05, 0.01, j);
+    const pj = americanValue({ kind: 'put', S: 95, K: 100, T: 0.75, r: 0.05, q: 0.01, sigma: 0.22 }, { jumps: j });
+    const rj = americanImpliedVol({ kind: 'put', S: 95, K: 100, T: 0.75, r: 0.05, q: 0.01 }, pj, j);
     expect(rj.ok).toBe(true);
     if (rj.ok) expect(Math.abs(rj.iv - 0.22)).toBeLessThan(1e-6);
   });
@@ -363,7 +366,7 @@ describe('American options with Merton jumps (the PIDE)', () => {
         let e = 0;
         for (const S of [80, 95, 100, 110, 125]) {
           const i = Math.round((Math.log(S) - x[0]) / h);
-          e = Math.max(e, Math.abs(sol.v[i] - mertonValue(kind, Math.exp(x[i]), K, T, r, q, sigma, j)));
+          e = Math.max(e, Math.abs(sol.v[i] - mertonValue({ kind, S: Math.exp(x[i]), K, T, r, q, sigma }, j)));
         }
         return e;
       };
@@ -379,14 +382,14 @@ describe('American options with Merton jumps (the PIDE)', () => {
     // diffusion processes", IMA J. Numer. Anal. 25 (2005): S = K = 100, T = 0.25, σ = 0.15,
     // r = 0.05, λ = 0.1, log jump N(−0.9, 0.45²): European put 3.149026, American put 3.241251
     // (both from memory).
-    expect(Math.abs(mertonValue('put', 100, 100, 0.25, 0.05, 0, 0.15, DHFV) - 3.149026)).toBeLessThan(2e-6);
-    expect(Math.abs(americanValue('put', 100, 100, 0.25, 0.05, 0, 0.15, { jumps: DHFV }) - 3.241251)).toBeLessThan(1e-4);
+    expect(Math.abs(mertonValue({ kind: 'put', S: 100, K: 100, T: 0.25, r: 0.05, q: 0, sigma: 0.15 }, DHFV) - 3.149026)).toBeLessThan(2e-6);
+    expect(Math.abs(americanValue({ kind: 'put', S: 100, K: 100, T: 0.25, r: 0.05, q: 0, sigma: 0.15 }, { jumps: DHFV }) - 3.241251)).toBeLessThan(1e-4);
   });
 
   it("Merton's theorem with jumps: an American call without dividends is the European Merton call", () => {
     const j: Jumps = { intensity: 1, mean: -0.1, sd: 0.15 };
-    const g = americanGreeks('call', 100, 100, 1, 0.05, 0, 0.2, { jumps: j });
-    const m = mertonGreeks('call', 100, 100, 1, 0.05, 0, 0.2, j);
+    const g = americanGreeks({ kind: 'call', S: 100, K: 100, T: 1, r: 0.05, q: 0, sigma: 0.2 }, { jumps: j });
+    const m = mertonGreeks({ kind: 'call', S: 100, K: 100, T: 1, r: 0.05, q: 0, sigma: 0.2 }, j);
     expect(Math.abs(g.value - m.value)).toBeLessThan(1.5e-4);
     expect(Math.abs(g.delta - m.delta)).toBeLessThan(1e-4);
     expect(Math.abs(g.gamma - m.gamma)).toBeLessThan(1e-5);
@@ -396,22 +399,22 @@ describe('American options with Merton jumps (the PIDE)', () => {
   });
 
   it('jumps with zero intensity change nothing; with jumps the put is worth at least the European and intrinsic', () => {
-    const none = americanValue('put', 95, 100, 0.5, 0.05, 0, 0.25, { jumps: { intensity: 0, mean: -0.2, sd: 0.1 } });
-    expect(none).toBe(americanValue('put', 95, 100, 0.5, 0.05, 0, 0.25));
+    const none = americanValue({ kind: 'put', S: 95, K: 100, T: 0.5, r: 0.05, q: 0, sigma: 0.25 }, { jumps: { intensity: 0, mean: -0.2, sd: 0.1 } });
+    expect(none).toBe(americanValue({ kind: 'put', S: 95, K: 100, T: 0.5, r: 0.05, q: 0, sigma: 0.25 }));
     const j: Jumps = { intensity: 2, mean: -0.1, sd: 0.1 };
     for (const S of [70, 90, 100, 115]) {
-      const v = americanValue('put', S, 100, 0.5, 0.05, 0, 0.25, { jumps: j });
-      expect(v).toBeGreaterThanOrEqual(mertonValue('put', S, 100, 0.5, 0.05, 0, 0.25, j) - 1e-4);
+      const v = americanValue({ kind: 'put', S, K: 100, T: 0.5, r: 0.05, q: 0, sigma: 0.25 }, { jumps: j });
+      expect(v).toBeGreaterThanOrEqual(mertonValue({ kind: 'put', S, K: 100, T: 0.5, r: 0.05, q: 0, sigma: 0.25 }, j) - 1e-4);
       expect(v).toBeGreaterThanOrEqual(Math.max(100 - S, 0));
-      expect(v).toBeGreaterThan(americanValue('put', S, 100, 0.5, 0.05, 0, 0.25) - 1e-9); // jumps add value here
+      expect(v).toBeGreaterThan(americanValue({ kind: 'put', S, K: 100, T: 0.5, r: 0.05, q: 0, sigma: 0.25 }) - 1e-9); // jumps add value here
     }
   });
 
   it('the value curve with jumps agrees with the pointwise values', () => {
     const j: Jumps = { intensity: 1, mean: -0.1, sd: 0.15 };
-    const f = americanValueCurve('put', 100, 0.5, 0.05, 0, 0.25, 20, 400, j);
+    const f = americanValueCurve({ kind: 'put', K: 100, T: 0.5, r: 0.05, q: 0, sigma: 0.25 }, 20, 400, j);
     for (const S of [60, 85, 100, 120, 160]) {
-      expect(Math.abs(f(S) - americanValue('put', S, 100, 0.5, 0.05, 0, 0.25, { jumps: j }))).toBeLessThan(1e-4);
+      expect(Math.abs(f(S) - americanValue({ kind: 'put', S, K: 100, T: 0.5, r: 0.05, q: 0, sigma: 0.25 }, { jumps: j }))).toBeLessThan(1e-4);
     }
   });
 });

@@ -17,17 +17,17 @@ const kinds: OptionKind[] = ['call', 'put'];
 
 describe('worked examples', () => {
   it('Hull, Options, Futures, and Other Derivatives, BSM example: S=42, K=40, r=10%, σ=20%, T=0.5 → call 4.76, put 0.81 (from memory)', () => {
-    expect(bsmValue('call', 42, 40, 0.5, 0.1, 0, 0.2)).toBeCloseTo(4.76, 2);
-    expect(bsmValue('put', 42, 40, 0.5, 0.1, 0, 0.2)).toBeCloseTo(0.81, 2);
+    expect(bsmValue({ kind: 'call', S: 42, K: 40, T: 0.5, r: 0.1, q: 0, sigma: 0.2 })).toBeCloseTo(4.76, 2);
+    expect(bsmValue({ kind: 'put', S: 42, K: 40, T: 0.5, r: 0.1, q: 0, sigma: 0.2 })).toBeCloseTo(0.81, 2);
   });
 
   it('Haug, The Complete Guide to Option Pricing Formulas (2nd ed.), generalized BSM: call 2.1334 and put 2.4648 (from memory)', () => {
-    expect(bsmValue('call', 60, 65, 0.25, 0.08, 0, 0.3)).toBeCloseTo(2.1334, 4);
-    expect(bsmValue('put', 100, 95, 0.5, 0.1, 0.05, 0.2)).toBeCloseTo(2.4648, 4);
+    expect(bsmValue({ kind: 'call', S: 60, K: 65, T: 0.25, r: 0.08, q: 0, sigma: 0.3 })).toBeCloseTo(2.1334, 4);
+    expect(bsmValue({ kind: 'put', S: 100, K: 95, T: 0.5, r: 0.1, q: 0.05, sigma: 0.2 })).toBeCloseTo(2.4648, 4);
   });
 
   it("Hull, Greek letters chapter, the bank's written call: S=49, K=50, r=5%, σ=20%, T=20 weeks → delta 0.522, gamma 0.066, vega 12.1 per 1.00 of vol, theta −4.31 per year, rho 8.91 per 1.00 of rate (from memory)", () => {
-    const g = bsmGreeks('call', 49, 50, 20 / 52, 0.05, 0, 0.2);
+    const g = bsmGreeks({ kind: 'call', S: 49, K: 50, T: 20 / 52, r: 0.05, q: 0, sigma: 0.2 });
     expect(g.delta).toBeCloseTo(0.522, 3);
     expect(g.gamma).toBeCloseTo(0.066, 3);
     expect(g.vega).toBeCloseTo(0.121, 3); // per vol point
@@ -51,8 +51,8 @@ describe('identities', () => {
     fc.assert(
       fc.property(inputs, ({ S, m, T, r, q, sigma }) => {
         const K = S * m;
-        const c = bsmGreeks('call', S, K, T, r, q, sigma);
-        const p = bsmGreeks('put', S, K, T, r, q, sigma);
+        const c = bsmGreeks({ kind: 'call', S, K, T, r, q, sigma });
+        const p = bsmGreeks({ kind: 'put', S, K, T, r, q, sigma });
         const dq = Math.exp(-q * T);
         const dr = Math.exp(-r * T);
         const scale = S + K;
@@ -63,8 +63,8 @@ describe('identities', () => {
         // ∂/∂t of (S e^{−qT} − K e^{−rT}) per day, and ∂/∂r of it per 1%
         expect(Math.abs(c.theta - p.theta - (q * S * dq - r * K * dr) / 365)).toBeLessThan(1e-13 * scale);
         expect(Math.abs(c.rho - p.rho - K * T * dr * 0.01)).toBeLessThan(1e-13 * scale * (1 + T));
-        expect(bsmValue('call', S, K, T, r, q, sigma)).toBe(c.value);
-        expect(bsmValue('put', S, K, T, r, q, sigma)).toBe(p.value);
+        expect(bsmValue({ kind: 'call', S, K, T, r, q, sigma })).toBe(c.value);
+        expect(bsmValue({ kind: 'put', S, K, T, r, q, sigma })).toBe(p.value);
       }),
     );
   });
@@ -82,8 +82,8 @@ describe('identities', () => {
     fc.assert(
       fc.property(moderate, ({ S, m, T, r, q, sigma, kind }) => {
         const K = S * m;
-        const V = (s: number, t: number, rr: number, v: number) => bsmValue(kind, s, K, t, rr, q, v);
-        const g = bsmGreeks(kind, S, K, T, r, q, sigma);
+        const V = (s: number, t: number, rr: number, v: number) => bsmValue({ kind, S: s, K, T: t, r: rr, q, sigma: v });
+        const g = bsmGreeks({ kind, S, K, T, r, q, sigma });
         const hD = 1e-5 * S;
         const delta = (V(S + hD, T, r, sigma) - V(S - hD, T, r, sigma)) / (2 * hD);
         const hS = 1e-4 * S;
@@ -107,13 +107,13 @@ describe('identities', () => {
 
   it('probItm matches the lognormal law of S_T (jstat lognormal cdf) under any drift', () => {
     fc.assert(
-      fc.property(inputs, fc.double({ min: -0.3, max: 0.4, noNaN: true }), ({ S, m, T, q, sigma }, mu) => {
+      fc.property(inputs, fc.double({ min: -0.3, max: 0.4, noNaN: true }), ({ S, m, T, r, q, sigma }, mu) => {
         const K = S * m;
         const mean = Math.log(S) + (mu - q - 0.5 * sigma * sigma) * T;
         const sd = sigma * Math.sqrt(T);
         const below = jStat.lognormal.cdf(K, mean, sd);
-        expect(Math.abs(probItm('put', S, K, T, mu, q, sigma) - below)).toBeLessThan(1e-12);
-        expect(Math.abs(probItm('call', S, K, T, mu, q, sigma) - (1 - below))).toBeLessThan(1e-12);
+        expect(Math.abs(probItm({ kind: 'put', S, K, T, r, q, sigma }, mu) - below)).toBeLessThan(1e-12);
+        expect(Math.abs(probItm({ kind: 'call', S, K, T, r, q, sigma }, mu) - (1 - below))).toBeLessThan(1e-12);
       }),
     );
   });
@@ -123,8 +123,8 @@ describe('identities', () => {
       fc.property(inputs, ({ S, m, T, r, q, sigma }) => {
         const K = S * m;
         const h = 1e-5 * K;
-        const dCdK = (bsmValue('call', S, K + h, T, r, q, sigma) - bsmValue('call', S, K - h, T, r, q, sigma)) / (2 * h);
-        expect(Math.abs(probItm('call', S, K, T, r, q, sigma) + Math.exp(r * T) * dCdK)).toBeLessThan(1e-6);
+        const dCdK = (bsmValue({ kind: 'call', S, K: K + h, T, r, q, sigma }) - bsmValue({ kind: 'call', S, K: K - h, T, r, q, sigma })) / (2 * h);
+        expect(Math.abs(probItm({ kind: 'call', S, K, T, r, q, sigma }) + Math.exp(r * T) * dCdK)).toBeLessThan(1e-6);
       }),
     );
   });
@@ -135,12 +135,12 @@ describe('identities', () => {
         const K = S * m;
         const fS = S * Math.exp(-q * T);
         const fK = K * Math.exp(-r * T);
-        const v = bsmValue(kind, S, K, T, r, q, sigma);
+        const v = bsmValue({ kind, S, K, T, r, q, sigma });
         const lower = Math.max(kind === 'call' ? fS - fK : fK - fS, 0);
         expect(v).toBeGreaterThanOrEqual(lower);
         expect(v).toBeLessThanOrEqual(kind === 'call' ? fS : fK);
         // (up to rounding: deep in or out of the money the value barely moves with vol)
-        expect(bsmValue(kind, S, K, T, r, q, sigma * 1.01)).toBeGreaterThanOrEqual(v * (1 - 1e-15));
+        expect(bsmValue({ kind, S, K, T, r, q, sigma: sigma * 1.01 })).toBeGreaterThanOrEqual(v * (1 - 1e-15));
       }),
     );
   });
@@ -148,19 +148,19 @@ describe('identities', () => {
 
 describe('limits', () => {
   it('T = 0: intrinsic value, step deltas (½ at the money), no other Greeks', () => {
-    expect(bsmGreeks('call', 110, 100, 0, 0.05, 0.01, 0.3)).toEqual({ value: 10, delta: 1, gamma: 0, vega: 0, theta: 0, rho: 0 });
-    expect(bsmGreeks('put', 110, 100, 0, 0.05, 0.01, 0.3).value).toBe(0);
-    expect(bsmGreeks('put', 110, 100, 0, 0.05, 0.01, 0.3).delta).toBe(0);
-    expect(bsmGreeks('put', 90, 100, 0, 0.05, 0.01, 0.3).delta).toBe(-1);
-    expect(bsmGreeks('call', 100, 100, 0, 0.05, 0.01, 0.3).delta).toBe(0.5);
-    expect(bsmValue('put', 90, 100, 0, 0.05, 0.01, 0.3)).toBe(10);
+    expect(bsmGreeks({ kind: 'call', S: 110, K: 100, T: 0, r: 0.05, q: 0.01, sigma: 0.3 })).toEqual({ value: 10, delta: 1, gamma: 0, vega: 0, theta: 0, rho: 0 });
+    expect(bsmGreeks({ kind: 'put', S: 110, K: 100, T: 0, r: 0.05, q: 0.01, sigma: 0.3 }).value).toBe(0);
+    expect(bsmGreeks({ kind: 'put', S: 110, K: 100, T: 0, r: 0.05, q: 0.01, sigma: 0.3 }).delta).toBe(0);
+    expect(bsmGreeks({ kind: 'put', S: 90, K: 100, T: 0, r: 0.05, q: 0.01, sigma: 0.3 }).delta).toBe(-1);
+    expect(bsmGreeks({ kind: 'call', S: 100, K: 100, T: 0, r: 0.05, q: 0.01, sigma: 0.3 }).delta).toBe(0.5);
+    expect(bsmValue({ kind: 'put', S: 90, K: 100, T: 0, r: 0.05, q: 0.01, sigma: 0.3 })).toBe(10);
   });
 
   it('T → 0 approaches the T = 0 values (value and delta)', () => {
     for (const kind of kinds) {
       for (const S of [80, 99, 101, 120]) {
-        const g = bsmGreeks(kind, S, 100, 1e-9, 0.05, 0.01, 0.3);
-        const g0 = bsmGreeks(kind, S, 100, 0, 0.05, 0.01, 0.3);
+        const g = bsmGreeks({ kind, S, K: 100, T: 1e-9, r: 0.05, q: 0.01, sigma: 0.3 });
+        const g0 = bsmGreeks({ kind, S, K: 100, T: 0, r: 0.05, q: 0.01, sigma: 0.3 });
         expect(Math.abs(g.value - g0.value)).toBeLessThan(1e-6);
         expect(Math.abs(g.delta - g0.delta)).toBeLessThan(1e-6);
       }
@@ -177,10 +177,10 @@ describe('limits', () => {
       const fK = K * Math.exp(-r * T);
       for (const kind of kinds) {
         const exact = Math.max(kind === 'call' ? fS - fK : fK - fS, 0);
-        const g0 = bsmGreeks(kind, S, K, T, r, q, 0);
+        const g0 = bsmGreeks({ kind, S, K, T, r, q, sigma: 0 });
         expect(g0.value).toBeCloseTo(exact, 12);
         expect(g0.gamma).toBe(0);
-        const gs = bsmGreeks(kind, S, K, T, r, q, 1e-7);
+        const gs = bsmGreeks({ kind, S, K, T, r, q, sigma: 1e-7 });
         expect(Math.abs(gs.value - g0.value)).toBeLessThan(1e-6);
         expect(Math.abs(gs.delta - g0.delta)).toBeLessThan(1e-6);
         expect(Math.abs(gs.theta - g0.theta)).toBeLessThan(1e-6);
@@ -188,7 +188,7 @@ describe('limits', () => {
       }
     }
     // in the money forward: delta e^{−qT}, rho K T e^{−rT} per 1%
-    const g = bsmGreeks('call', 100, 90, T, r, q, 0);
+    const g = bsmGreeks({ kind: 'call', S: 100, K: 90, T, r, q, sigma: 0 });
     expect(g.delta).toBeCloseTo(Math.exp(-q * T), 14);
     expect(g.rho).toBeCloseTo(90 * T * Math.exp(-r * T) * 0.01, 14);
   });
@@ -208,13 +208,13 @@ describe('limits', () => {
             for (const r of rs)
               for (const q of qs)
                 for (const sigma of sigmas) {
-                  const g = bsmGreeks(kind, S, K, T, r, q, sigma);
+                  const g = bsmGreeks({ kind, S, K, T, r, q, sigma });
                   for (const v of Object.values(g)) {
                     if (!Number.isFinite(v)) throw new Error(`${kind} S=${S} K=${K} T=${T} r=${r} q=${q} σ=${sigma}: ${JSON.stringify(g)}`);
                   }
                   expect(g.value).toBeGreaterThanOrEqual(0);
-                  expect(Number.isFinite(bsmValue(kind, S, K, T, r, q, sigma))).toBe(true);
-                  const p = probItm(kind, S, K, T, r, q, sigma);
+                  expect(Number.isFinite(bsmValue({ kind, S, K, T, r, q, sigma }))).toBe(true);
+                  const p = probItm({ kind, S, K, T, r, q, sigma });
                   expect(p >= 0 && p <= 1).toBe(true);
                   n++;
                 }
@@ -222,13 +222,14 @@ describe('limits', () => {
   });
 
   it('probItm limits: T = 0 and σ = 0 compare the forward with the strike', () => {
-    expect(probItm('call', 110, 100, 0, 0.05, 0, 0.3)).toBe(1);
-    expect(probItm('call', 90, 100, 0, 0.05, 0, 0.3)).toBe(0);
-    expect(probItm('put', 90, 100, 0, 0.05, 0, 0.3)).toBe(1);
-    expect(probItm('call', 100, 100, 0, 0.05, 0, 0.3)).toBe(0);
-    // forward 100 e^{0.2} ≈ 122 > 120
-    expect(probItm('call', 100, 120, 1, 0.2, 0, 0)).toBe(1);
-    expect(probItm('put', 100, 120, 1, 0.2, 0, 0)).toBe(0);
-    expect(probItm('call', 100, 125, 1, 0.2, 0, 0)).toBe(0);
+    expect(probItm({ kind: 'call', S: 110, K: 100, T: 0, r: 0.05, q: 0, sigma: 0.3 })).toBe(1);
+    expect(probItm({ kind: 'call', S: 90, K: 100, T: 0, r: 0.05, q: 0, sigma: 0.3 })).toBe(0);
+    expect(probItm({ kind: 'put', S: 90, K: 100, T: 0, r: 0.05, q: 0, sigma: 0.3 })).toBe(1);
+    expect(probItm({ kind: 'call', S: 100, K: 100, T: 0, r: 0.05, q: 0, sigma: 0.3 })).toBe(0);
+    // forward under the drift 100 e^{0.2} ≈ 122 > 120 (at the rate, 100 e^{0.05} ≈ 105 would not be)
+    const certain = { S: 100, T: 1, r: 0.05, q: 0, sigma: 0 };
+    expect(probItm({ ...certain, kind: 'call', K: 120 }, 0.2)).toBe(1);
+    expect(probItm({ ...certain, kind: 'put', K: 120 }, 0.2)).toBe(0);
+    expect(probItm({ ...certain, kind: 'call', K: 125 }, 0.2)).toBe(0);
   });
 });

@@ -25,7 +25,7 @@ import type { OptionKind } from '../../src/core/types.js';
 const kinds: OptionKind[] = ['call', 'put'];
 
 function inRegion(kind: OptionKind, S: number, K: number, T: number, r: number, q: number, sigma: number) {
-  const g = bsmGreeks(kind, S, K, T, r, q, sigma);
+  const g = bsmGreeks({ kind, S, K, T, r, q, sigma });
   const w = kind === 'call' ? 1 : -1;
   const fS = S * Math.exp(-q * T);
   const fK = K * Math.exp(-r * T);
@@ -64,7 +64,7 @@ describe('round trips over the accuracy grid', () => {
               if (!reg.ok) continue;
               tested++;
               if (reg.price < 1e-100) tiny++;
-              const res = impliedVol(kind, reg.price, S, K, T, r, q);
+              const res = impliedVol({ kind, S, K, T, r, q }, reg.price);
               if (!res.ok) throw new Error(`no solution for ${kind} K=${K} T=${T} σ=${sigma} r=${r} q=${q}: ${res.message}`);
               const err = Math.abs(res.iv / sigma - 1);
               if (err > worst) {
@@ -96,7 +96,7 @@ describe('round trips over the accuracy grid', () => {
           const sigma = Math.exp(lv);
           const reg = inRegion(kind, S, K, T, r, q, sigma);
           if (!reg.ok) return;
-          const res = impliedVol(kind, reg.price, S, K, T, r, q);
+          const res = impliedVol({ kind, S, K, T, r, q }, reg.price);
           expect(res.ok).toBe(true);
           if (res.ok) expect(Math.abs(res.iv / sigma - 1)).toBeLessThan(1e-10);
         },
@@ -111,18 +111,18 @@ describe('round trips over the accuracy grid', () => {
       ['call', 200],
       ['put', 50],
     ] as const) {
-      const price = bsmValue(kind, 100, K, 7 / 365, 0.03, 0.01, 0.2);
+      const price = bsmValue({ kind, S: 100, K, T: 7 / 365, r: 0.03, q: 0.01, sigma: 0.2 });
       expect(price).toBeLessThan(1e-100);
       expect(price).toBeGreaterThan(1e-280);
-      const res = impliedVol(kind, price, 100, K, 7 / 365, 0.03, 0.01);
+      const res = impliedVol({ kind, S: 100, K, T: 7 / 365, r: 0.03, q: 0.01 }, price);
       expect(res.ok && Math.abs(res.iv / 0.2 - 1)).toBeLessThan(1e-10);
     }
   });
 
   it('very low and very high vols outside the grid still solve (σ = 0.5% and 500%)', () => {
     for (const sigma of [0.005, 5]) {
-      const price = bsmValue('call', 100, 105, 1, 0.02, 0, sigma);
-      const res = impliedVol('call', price, 100, 105, 1, 0.02, 0);
+      const price = bsmValue({ kind: 'call', S: 100, K: 105, T: 1, r: 0.02, q: 0, sigma });
+      const res = impliedVol({ kind: 'call', S: 100, K: 105, T: 1, r: 0.02, q: 0 }, price);
       expect(res.ok && Math.abs(res.iv / sigma - 1)).toBeLessThan(1e-10);
     }
   });
@@ -131,7 +131,7 @@ describe('round trips over the accuracy grid', () => {
 describe('robustness', () => {
   it('at the money forward with tiny prices (σ√T far below the grid): call ≈ S·σ√T/√(2π)', () => {
     for (const price of [1e-3, 1e-8, 1e-20, 1e-300]) {
-      const res = impliedVol('call', price, 100, 100, 1, 0.02, 0.02);
+      const res = impliedVol({ kind: 'call', S: 100, K: 100, T: 1, r: 0.02, q: 0.02 }, price);
       expect(res.ok).toBe(true);
       // for small σ the at-the-money-forward call is S e^{−qT}(2Φ(σ√T/2) − 1) ≈ S e^{−qT} σ√T/√(2π)
       if (res.ok) expect(Math.abs((res.iv * 100 * Math.exp(-0.02)) / Math.sqrt(2 * Math.PI) / price - 1)).toBeLessThan(1e-6);
@@ -156,12 +156,12 @@ describe('robustness', () => {
           const upper = kind === 'call' ? fS : fK;
           const price = lower + u * (upper - lower);
           if (!(price > lower && price < upper)) return;
-          const res = impliedVol(kind, price, S, K, T, r, q);
+          const res = impliedVol({ kind, S, K, T, r, q }, price);
           expect(res.ok).toBe(true);
           if (!res.ok) return;
           expect(Number.isFinite(res.iv) && res.iv > 0).toBe(true);
           expect(Number.isFinite(res.vega) && res.vega >= 0).toBe(true);
-          expect(Math.abs(bsmValue(kind, S, K, T, r, q, res.iv) - price)).toBeLessThan(1e-9 * (fS + fK));
+          expect(Math.abs(bsmValue({ kind, S, K, T, r, q, sigma: res.iv }) - price)).toBeLessThan(1e-9 * (fS + fK));
         },
       ),
       { numRuns: 2000 },
@@ -171,13 +171,13 @@ describe('robustness', () => {
 
 describe('worked example', () => {
   it('Hull, Options, Futures, and Other Derivatives, implied volatility: call 1.875 with S=21, K=20, r=10%, T=0.25 → 23.5% (from memory)', () => {
-    const res = impliedVol('call', 1.875, 21, 20, 0.25, 0.1, 0);
+    const res = impliedVol({ kind: 'call', S: 21, K: 20, T: 0.25, r: 0.1, q: 0 }, 1.875);
     expect(res.ok).toBe(true);
     if (res.ok) expect(res.iv).toBeCloseTo(0.235, 3);
   });
 
   it('Haug, The Complete Guide to Option Pricing Formulas, generalized BSM call 2.1334 → σ ≈ 30% (price quoted to 4 decimals; from memory)', () => {
-    const res = impliedVol('call', 2.1334, 60, 65, 0.25, 0.08, 0);
+    const res = impliedVol({ kind: 'call', S: 60, K: 65, T: 0.25, r: 0.08, q: 0 }, 2.1334);
     expect(res.ok && Math.abs(res.iv - 0.3)).toBeLessThan(1e-4);
   });
 });
@@ -193,7 +193,7 @@ describe('no-arbitrage bounds', () => {
 
   it('a call at or below the discounted intrinsic of the forward: ok:false, lower bound named with its value', () => {
     for (const price of [fS - fK, fS - fK - 0.5, 0, -1]) {
-      const res = impliedVol('call', price, S, K, T, r, q);
+      const res = impliedVol({ kind: 'call', S, K, T, r, q }, price);
       expect(res.ok).toBe(false);
       if (!res.ok) {
         expect(res.bound).toBe('lower');
@@ -206,7 +206,7 @@ describe('no-arbitrage bounds', () => {
 
   it('a call at or above S e^{−qT}: ok:false, upper bound', () => {
     for (const price of [fS, fS + 1, 1000]) {
-      const res = impliedVol('call', price, S, K, T, r, q);
+      const res = impliedVol({ kind: 'call', S, K, T, r, q }, price);
       expect(res.ok).toBe(false);
       if (!res.ok) {
         expect(res.bound).toBe('upper');
@@ -217,24 +217,24 @@ describe('no-arbitrage bounds', () => {
   });
 
   it('a put: lower bound 0 out of the money, upper bound K e^{−rT}', () => {
-    const low = impliedVol('put', 0, S, K, T, r, q);
+    const low = impliedVol({ kind: 'put', S, K, T, r, q }, 0);
     expect(!low.ok && low.bound === 'lower' && low.boundValue === 0).toBe(true);
-    const high = impliedVol('put', fK, S, K, T, r, q);
+    const high = impliedVol({ kind: 'put', S, K, T, r, q }, fK);
     expect(!high.ok && high.bound === 'upper').toBe(true);
     if (!high.ok) expect(high.boundValue).toBeCloseTo(fK, 12);
     // in the money put: lower bound K e^{−rT} − S e^{−qT}
-    const itm = impliedVol('put', 1, 80, 120, T, r, q);
+    const itm = impliedVol({ kind: 'put', S: 80, K: 120, T, r, q }, 1);
     expect(!itm.ok && itm.bound === 'lower').toBe(true);
     if (!itm.ok) expect(itm.boundValue).toBeCloseTo(120 * Math.exp(-r * T) - 80 * Math.exp(-q * T), 12);
   });
 
   it('just inside the bounds a solution exists and reprices', () => {
     for (const price of [fS - fK + 1e-6, fS - 1e-3]) {
-      const res = impliedVol('call', price, S, K, T, r, q);
+      const res = impliedVol({ kind: 'call', S, K, T, r, q }, price);
       expect(res.ok).toBe(true);
       if (res.ok) {
         expect(Number.isFinite(res.iv) && res.iv > 0).toBe(true);
-        expect(Math.abs(bsmValue('call', S, K, T, r, q, res.iv) - price)).toBeLessThan(1e-12 * S);
+        expect(Math.abs(bsmValue({ kind: 'call', S, K, T, r, q, sigma: res.iv }) - price)).toBeLessThan(1e-12 * S);
       }
     }
   });
@@ -247,7 +247,7 @@ describe('no-arbitrage bounds', () => {
       [1, 100, Infinity, 1, 0.05, 0],
     ]) {
       const [price, s, k, t, rr, qq] = args;
-      const res = impliedVol('call', price, s, k, t, rr, qq);
+      const res = impliedVol({ kind: 'call', S: s, K: k, T: t, r: rr, q: qq }, price);
       expect(res.ok).toBe(false);
       if (!res.ok) expect(res.message.length).toBeGreaterThan(10);
     }

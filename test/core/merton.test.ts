@@ -53,8 +53,8 @@ describe('mertonValue', () => {
         [100, 100, 1, 0.05, 0.02, 0.2],
         [80, 120, 0.25, 0.01, 0, 0.6],
       ]) {
-        expect(mertonValue(kind, S, K, T, r, q, s, { intensity: 0, mean: -0.2, sd: 0.3 })).toBe(bsmValue(kind, S, K, T, r, q, s));
-        expect(mertonGreeks(kind, S, K, T, r, q, s, { intensity: 0, mean: -0.2, sd: 0.3 })).toEqual(bsmGreeks(kind, S, K, T, r, q, s));
+        expect(mertonValue({ kind, S, K, T, r, q, sigma: s }, { intensity: 0, mean: -0.2, sd: 0.3 })).toBe(bsmValue({ kind, S, K, T, r, q, sigma: s }));
+        expect(mertonGreeks({ kind, S, K, T, r, q, sigma: s }, { intensity: 0, mean: -0.2, sd: 0.3 })).toEqual(bsmGreeks({ kind, S, K, T, r, q, sigma: s }));
       }
     }
   });
@@ -67,7 +67,7 @@ describe('mertonValue', () => {
       ['put', 100, 100, 0.1, 0.08, 0.0, 0.1, { intensity: 10, mean: 0, sd: 0.05 }],
     ];
     for (const [kind, S, K, T, r, q, s, j] of cases) {
-      const series = mertonValue(kind, S, K, T, r, q, s, j);
+      const series = mertonValue({ kind, S, K, T, r, q, sigma: s }, j);
       const quad = quadratureValue(kind, S, K, T, r, q, s, j);
       expect(Math.abs(series - quad), `${kind} ${S} ${K} ${T}`).toBeLessThan(1e-9 * Math.max(1, quad));
     }
@@ -77,7 +77,7 @@ describe('mertonValue', () => {
     // d'Halluin, Forsyth and Vetzal, "Robust numerical methods for contingent claims under jump
     // diffusion processes", IMA J. Numer. Anal. 25 (2005): S = K = 100, T = 0.25, σ = 0.15,
     // r = 0.05, λ = 0.1, log jump N(−0.9, 0.45²): European put 3.149026 (from memory).
-    const v = mertonValue('put', 100, 100, 0.25, 0.05, 0, 0.15, { intensity: 0.1, mean: -0.9, sd: 0.45 });
+    const v = mertonValue({ kind: 'put', S: 100, K: 100, T: 0.25, r: 0.05, q: 0, sigma: 0.15 }, { intensity: 0.1, mean: -0.9, sd: 0.45 });
     expect(Math.abs(v - 3.149026)).toBeLessThan(2e-6);
   });
 
@@ -89,8 +89,8 @@ describe('mertonValue', () => {
       // λT = 900: the weights are computed in logs (e^{−λ'T} would underflow)
       [100, 105, 1, 0.03, 0.01, 0.1, { intensity: 900, mean: 0, sd: 0.01 }],
     ] as [number, number, number, number, number, number, Jumps][]) {
-      const c = mertonValue('call', S, K, T, r, q, s, j);
-      const p = mertonValue('put', S, K, T, r, q, s, j);
+      const c = mertonValue({ kind: 'call', S, K, T, r, q, sigma: s }, j);
+      const p = mertonValue({ kind: 'put', S, K, T, r, q, sigma: s }, j);
       expect(Math.abs(c - p - (S * Math.exp(-q * T) - K * Math.exp(-r * T)))).toBeLessThan(1e-10 * S);
     }
   });
@@ -106,17 +106,17 @@ describe('mertonValue', () => {
         const ST = S * Math.exp((r - q - j.intensity * kappa) * T + n * j.mean);
         v += poisson(j.intensity * T, n) * Math.exp(-r * T) * Math.max(kind === 'call' ? ST - K : K - ST, 0);
       }
-      expect(Math.abs(mertonValue(kind, S, K, T, r, q, 0, j) - v)).toBeLessThan(1e-12 * S);
+      expect(Math.abs(mertonValue({ kind, S, K, T, r, q, sigma: 0 }, j) - v)).toBeLessThan(1e-12 * S);
     }
   });
 
   it('jumps add value to an at-the-money option, and the value stays within its bounds', () => {
-    const bsm = bsmValue('put', 100, 100, 1, 0.05, 0, 0.2);
-    expect(mertonValue('put', 100, 100, 1, 0.05, 0, 0.2, J)).toBeGreaterThan(bsm);
-    const far = mertonValue('call', 100, 1e6, 1, 0.05, 0, 0.2, { intensity: 1, mean: 0.5, sd: 0.5 });
+    const bsm = bsmValue({ kind: 'put', S: 100, K: 100, T: 1, r: 0.05, q: 0, sigma: 0.2 });
+    expect(mertonValue({ kind: 'put', S: 100, K: 100, T: 1, r: 0.05, q: 0, sigma: 0.2 }, J)).toBeGreaterThan(bsm);
+    const far = mertonValue({ kind: 'call', S: 100, K: 1e6, T: 1, r: 0.05, q: 0, sigma: 0.2 }, { intensity: 1, mean: 0.5, sd: 0.5 });
     expect(far).toBeGreaterThanOrEqual(0);
     expect(Number.isFinite(far)).toBe(true);
-    const deep = mertonValue('put', 1e-3, 100, 1, 0.05, 0, 0.2, J);
+    const deep = mertonValue({ kind: 'put', S: 1e-3, K: 100, T: 1, r: 0.05, q: 0, sigma: 0.2 }, J);
     expect(deep).toBeLessThanOrEqual(100 * Math.exp(-0.05));
   });
 
@@ -129,7 +129,7 @@ describe('mertonValue', () => {
               { intensity: 0.01, mean: -2, sd: 1 },
               { intensity: 50, mean: 0.1, sd: 0 },
             ] as Jumps[]) {
-              const g = mertonGreeks(kind, S, 100, T, 0.05, 0.02, sigma, j);
+              const g = mertonGreeks({ kind, S, K: 100, T, r: 0.05, q: 0.02, sigma }, j);
               for (const v of Object.values(g)) expect(Number.isFinite(v), `${kind} ${S} ${T} ${sigma} ${j.intensity}`).toBe(true);
               expect(g.value).toBeGreaterThanOrEqual(0);
             }
@@ -140,8 +140,8 @@ describe('mertonValue', () => {
   });
 
   it('rejects bad input with a clear error', () => {
-    expect(() => mertonValue('call', 100, 100, 1, 0.05, 0, 0.2, { intensity: -1, mean: 0, sd: 0.1 })).toThrow(/intensity/);
-    expect(() => mertonValue('call', 0, 100, 1, 0.05, 0, 0.2, J)).toThrow(/spot/);
+    expect(() => mertonValue({ kind: 'call', S: 100, K: 100, T: 1, r: 0.05, q: 0, sigma: 0.2 }, { intensity: -1, mean: 0, sd: 0.1 })).toThrow(/intensity/);
+    expect(() => mertonValue({ kind: 'call', S: 0, K: 100, T: 1, r: 0.05, q: 0, sigma: 0.2 }, J)).toThrow(/spot/);
   });
 });
 
@@ -152,8 +152,8 @@ describe('mertonGreeks', () => {
       ['put', 95, 100, 1.5, 0.03, 0.01, 0.3, { intensity: 2, mean: -0.15, sd: 0.2 }],
       ['put', 100, 80, 0.2, 0.05, 0.0, 0.15, { intensity: 0.3, mean: -0.3, sd: 0.1 }],
     ] as [OptionKind, number, number, number, number, number, number, Jumps][]) {
-      const g = mertonGreeks(kind, S, K, T, r, q, s, j);
-      const V = (S1: number, T1: number, r1: number, s1: number): number => mertonValue(kind, S1, K, T1, r1, q, s1, j);
+      const g = mertonGreeks({ kind, S, K, T, r, q, sigma: s }, j);
+      const V = (S1: number, T1: number, r1: number, s1: number): number => mertonValue({ kind, S: S1, K, T: T1, r: r1, q, sigma: s1 }, j);
       const hS = 1e-3 * S;
       expect(g.value).toBe(V(S, T, r, s));
       const hD = 1e-5 * S;
@@ -174,22 +174,22 @@ describe('mertonImpliedVol', () => {
       ['put', 90, 0.05],
       ['put', 100, 0.8],
     ] as [OptionKind, number, number][]) {
-      const price = mertonValue(kind, 100, K, 0.75, 0.04, 0.01, s, J);
-      const res = mertonImpliedVol(kind, price, 100, K, 0.75, 0.04, 0.01, J);
+      const price = mertonValue({ kind, S: 100, K, T: 0.75, r: 0.04, q: 0.01, sigma: s }, J);
+      const res = mertonImpliedVol({ kind, S: 100, K, T: 0.75, r: 0.04, q: 0.01 }, price, J);
       expect(res.ok).toBe(true);
       if (res.ok) {
         expect(Math.abs(res.iv - s)).toBeLessThan(1e-9);
-        expect(Math.abs(res.vega - mertonGreeks(kind, 100, K, 0.75, 0.04, 0.01, s, J).vega)).toBeLessThan(1e-9);
+        expect(Math.abs(res.vega - mertonGreeks({ kind, S: 100, K, T: 0.75, r: 0.04, q: 0.01, sigma: s }, J).vega)).toBeLessThan(1e-9);
       }
     }
-    const floor = mertonValue('call', 100, 100, 0.75, 0.04, 0.01, 0, J);
-    const low = mertonImpliedVol('call', floor * 0.99, 100, 100, 0.75, 0.04, 0.01, J);
+    const floor = mertonValue({ kind: 'call', S: 100, K: 100, T: 0.75, r: 0.04, q: 0.01, sigma: 0 }, J);
+    const low = mertonImpliedVol({ kind: 'call', S: 100, K: 100, T: 0.75, r: 0.04, q: 0.01 }, floor * 0.99, J);
     expect(low.ok).toBe(false);
     if (!low.ok) {
       expect(low.bound).toBe('lower');
       expect(low.boundValue).toBeCloseTo(floor, 12);
     }
-    const high = mertonImpliedVol('put', 120, 100, 100, 0.75, 0.04, 0.01, J);
+    const high = mertonImpliedVol({ kind: 'put', S: 100, K: 100, T: 0.75, r: 0.04, q: 0.01 }, 120, J);
     expect(high.ok).toBe(false);
     if (!high.ok) expect(high.bound).toBe('upper');
   });

@@ -66,7 +66,7 @@ describe('Merton jumps in a check', () => {
   it('the diffusion iv recovered from a Merton leg value is the leg iv', () => {
     const jumps = { intensity: 0.8, mean: -0.08, sd: 0.12 };
     const c = runCheck({ ...base, view: { drift: 0.05, vol: 0.3, jumps } });
-    const r = mertonImpliedVol('put', c.legs[0].value, 100, 90, 90 / 365, 0.05, 0, jumps);
+    const r = mertonImpliedVol({ kind: 'put', S: 100, K: 90, T: 90 / 365, r: 0.05, q: 0 }, c.legs[0].value, jumps);
     expect(r.ok && r.iv).toBeCloseTo(0.3, 7);
   });
 });
@@ -112,7 +112,7 @@ describe('American exercise in a check', () => {
   it('the American iv recovered from the leg value is the leg iv', () => {
     const p: CheckInput = { ...base, style: 'american', legs: [{ qty: 1, kind: 'put', strike: 105, years: 180 / 365, iv: 0.32, entry: null }] };
     const v = runCheck(p).legs[0].value;
-    const r = americanImpliedVol('put', v, 100, 105, 180 / 365, 0.05, 0);
+    const r = americanImpliedVol({ kind: 'put', S: 100, K: 105, T: 180 / 365, r: 0.05, q: 0 }, v);
     expect(r.ok && r.iv).toBeCloseTo(0.32, 4);
   });
 

@@ -107,7 +107,7 @@ describe('long call at expiry (closed forms derived here)', () => {
     expect(Math.abs(r.legs[0].probItmRiskNeutral - N(d2))).toBeLessThan(1e-12);
     const d2v = (Math.log(S / K) + (mu - q - 0.5 * sv * sv) * h) / (sv * Math.sqrt(h));
     expect(Math.abs(r.legs[0].probItmView - N(d2v))).toBeLessThan(1e-12);
-    expect(Math.abs(r.legs[0].value - bsmValue('call', S, K, h, market.rate, q, iv))).toBeLessThan(1e-12);
+    expect(Math.abs(r.legs[0].value - bsmValue({ kind: 'call', S, K, T: h, r: market.rate, q, sigma: iv }))).toBeLessThan(1e-12);
     expect(r.position.cost).toBeCloseTo(100 * c, 9);
   });
 });

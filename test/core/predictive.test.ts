@@ -78,7 +78,7 @@ describe('the lognormal predictive law in closed form', () => {
   const mu0 = 0.09;
   const tau = 0.06;
   const iv = 0.25;
-  const premium = bsmValue('call', S, K, h, r, q, iv);
+  const premium = bsmValue({ kind: 'call', S, K, T: h, r, q, sigma: iv });
   const input: CheckInput = {
     market: { spot: S, rate: r, yield: q },
     mult: 100,
@@ -115,7 +115,7 @@ describe('the lognormal predictive law in closed form', () => {
     for (const L of [80, 120]) {
       const up = L >= S;
       const p = normCdf(((up ? 1 : -1) * (m - Math.log(L))) / v);
-      expect(probBeyondAtEndPredictive(S, L, h, mu0, tau, q, sigma)).toBeCloseTo(p, 14);
+      expect(probBeyondAtEndPredictive({ S, level: L, T: h, drift: mu0, q, sigma, driftSe: tau })).toBeCloseTo(p, 14);
     }
   });
 });
@@ -139,26 +139,27 @@ describe('τ = 0 reproduces the known-drift answers exactly', () => {
     }
   });
   it('touch: closed form and Monte Carlo', () => {
-    expect(touchProbPredictive(84.2, 95, 0.4, 0.1, 0, 0.01, 0.3)).toBe(touchProb(84.2, 95, 0.4, 0.1, 0.01, 0.3));
-    expect(probBeyondAtEndPredictive(84.2, 95, 0.4, 0.1, 0, 0.01, 0.3)).toBe(probBeyondAtEnd(84.2, 95, 0.4, 0.1, 0.01, 0.3));
+    const o = { S: 84.2, level: 95, T: 0.4, drift: 0.1, q: 0.01, sigma: 0.3 };
+    expect(touchProbPredictive({ ...o, driftSe: 0 })).toBe(touchProb(o));
+    expect(probBeyondAtEndPredictive({ ...o, driftSe: 0 })).toBe(probBeyondAtEnd(o));
     const j = { intensity: 2, mean: -0.04, sd: 0.08 };
     const opts = { paths: 3000, seed: 5 };
-    expect(touchProbJumps(84.2, 95, 0.4, 0.1, 0.01, 0.3, j, { ...opts, driftSe: 0 })).toEqual(touchProbJumps(84.2, 95, 0.4, 0.1, 0.01, 0.3, j, opts));
+    expect(touchProbJumps({ ...o, driftSe: 0 }, j, opts)).toEqual(touchProbJumps(o, j, opts));
   });
 });
 
 describe('touch under an uncertain drift', () => {
   const cases = [
     // benign: τ√T small against σ
-    { S: 84.2, L: 95, T: 0.5, mu: 0.09, tau: 0.06, q: 0.01, sigma: 0.3 },
+    { S: 84.2, level: 95, T: 0.5, drift: 0.09, driftSe: 0.06, q: 0.01, sigma: 0.3 },
     // drift uncertainty dominates: the touch probability is a sharp step in μ
-    { S: 84.2, L: 70, T: 3, mu: 0.05, tau: 0.5, q: 0, sigma: 0.08 },
-    { S: 100, L: 130, T: 10, mu: 0.02, tau: 0.3, q: 0.02, sigma: 0.05 },
+    { S: 84.2, level: 70, T: 3, drift: 0.05, driftSe: 0.5, q: 0, sigma: 0.08 },
+    { S: 100, level: 130, T: 10, drift: 0.02, driftSe: 0.3, q: 0.02, sigma: 0.05 },
   ];
   it('the rule against one with twice the panels (error below 1e-9)', () => {
     for (const c of cases) {
-      const a = touchProbPredictive(c.S, c.L, c.T, c.mu, c.tau, c.q, c.sigma);
-      const b = touchProbPredictive(c.S, c.L, c.T, c.mu, c.tau, c.q, c.sigma, { refine: 2 });
+      const a = touchProbPredictive(c);
+      const b = touchProbPredictive(c, { refine: 2 });
       expect(Math.abs(a - b)).toBeLessThan(1e-9);
     }
   });
@@ -172,10 +173,10 @@ describe('touch under an uncertain drift', () => {
     const gh = (c: (typeof cases)[number], n: number) => {
       const r = gaussHermite(n);
       let s = 0;
-      r.x.forEach((x, i) => (s += (r.w[i] / Math.sqrt(Math.PI)) * touchProb(c.S, c.L, c.T, c.mu + c.tau * Math.SQRT2 * x, c.q, c.sigma)));
+      r.x.forEach((x, i) => (s += (r.w[i] / Math.sqrt(Math.PI)) * touchProb({ ...c, drift: c.drift + c.driftSe * Math.SQRT2 * x })));
       return s;
     };
-    const ours = cases.map((c) => touchProbPredictive(c.S, c.L, c.T, c.mu, c.tau, c.q, c.sigma));
+    const ours = cases.map((c) => touchProbPredictive(c));
     // benign case: an independent rule confirms the figure
     expect(Math.abs(gh(cases[0], 40) - ours[0])).toBeLessThan(1e-10);
     // drift uncertainty dominating (τ√T ≫ σ): even 80 Gauss-Hermite nodes are off by percents
@@ -191,35 +192,35 @@ describe('touch under an uncertain drift', () => {
       let s1 = 0;
       let s2 = 0;
       for (let k = 0; k < n; k++) {
-        const p = touchProb(c.S, c.L, c.T, c.mu + c.tau * z[k], c.q, c.sigma);
+        const p = touchProb({ ...c, drift: c.drift + c.driftSe * z[k] });
         s1 += p;
         s2 += p * p;
       }
       const mean = s1 / n;
       const se = Math.sqrt((s2 / n - mean * mean) / (n - 1));
-      expect(Math.abs(touchProbPredictive(c.S, c.L, c.T, c.mu, c.tau, c.q, c.sigma) - mean)).toBeLessThan(4 * se + 1e-12);
+      expect(Math.abs(touchProbPredictive(c) - mean)).toBeLessThan(4 * se + 1e-12);
     }
   });
   it('the path simulation with a drift drawn per path agrees with the mixture (no jumps), and with jumps', () => {
     const c = cases[0];
-    const mc = touchProbJumps(c.S, c.L, c.T, c.mu, c.q, c.sigma, undefined, { paths: 40_000, seed: 3, driftSe: 0.4 });
-    const exact = touchProbPredictive(c.S, c.L, c.T, c.mu, 0.4, c.q, c.sigma);
+    const mc = touchProbJumps({ ...c, driftSe: 0.4 }, undefined, { paths: 40_000, seed: 3 });
+    const exact = touchProbPredictive({ ...c, driftSe: 0.4 });
     expect(Math.abs(mc.prob - exact)).toBeLessThan(4 * mc.stderr);
-    expect(Math.abs(mc.probBeyond - probBeyondAtEndPredictive(c.S, c.L, c.T, c.mu, 0.4, c.q, c.sigma))).toBeLessThan(4 * mc.probBeyondStderr);
+    expect(Math.abs(mc.probBeyond - probBeyondAtEndPredictive({ ...c, driftSe: 0.4 }))).toBeLessThan(4 * mc.probBeyondStderr);
     // jumps: the per-path draw against the mixture over the nodes of fixed-drift simulations
     const j = { intensity: 1.5, mean: -0.06, sd: 0.1 };
-    const per = touchProbJumps(c.S, c.L, c.T, c.mu, c.q, c.sigma, j, { paths: 40_000, seed: 11, driftSe: 0.4 });
-    const nodes = driftNodes(c.mu, 0.4, { scale: 2 });
+    const per = touchProbJumps({ ...c, driftSe: 0.4 }, j, { paths: 40_000, seed: 11 });
+    const nodes = driftNodes(c.drift, 0.4, { scale: 2 });
     let mix = 0;
     let varMix = 0;
     for (const [k, nd] of nodes.entries()) {
-      const r = touchProbJumps(c.S, c.L, c.T, nd.drift, c.q, c.sigma, j, { paths: 2000, seed: 100 + k });
+      const r = touchProbJumps({ ...c, drift: nd.drift, driftSe: 0 }, j, { paths: 2000, seed: 100 + k });
       mix += nd.weight * r.prob;
       varMix += (nd.weight * r.stderr) ** 2;
     }
     expect(Math.abs(per.prob - mix)).toBeLessThan(4 * Math.sqrt(per.stderr ** 2 + varMix));
     // and the drift's uncertainty moves the answer by more than that error (the test can fail)
-    const fixed = touchProbJumps(c.S, c.L, c.T, c.mu, c.q, c.sigma, j, { paths: 40_000, seed: 11 });
+    const fixed = touchProbJumps({ ...c, driftSe: 0 }, j, { paths: 40_000, seed: 11 });
     expect(Math.abs(per.prob - fixed.prob)).toBeGreaterThan(8 * per.stderr);
   });
 });

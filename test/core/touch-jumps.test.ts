@@ -72,7 +72,7 @@ describe('touchProbJumps', () => {
   for (const steps of [1, 12]) {
     it(`without jumps agrees with the closed-form first passage within 4 standard errors (${steps} steps)`, () => {
       for (const [S, H, T, mu, q, s] of cases) {
-        const r = touchProbJumps(S, H, T, mu, q, s, undefined, { paths: 20000, steps, seed: 11 });
+        const r = touchProbJumps({ S, level: H, T, drift: mu, q, sigma: s }, undefined, { paths: 20000, steps, seed: 11 });
         const exact = closedTouch(S, H, T, mu, q, s);
         expect(r.stderr).toBeGreaterThan(0);
         expect(Math.abs(r.prob - exact), `${S}→${H}: ${r.prob} vs ${exact} ± ${r.stderr}`).toBeLessThan(4 * r.stderr);
@@ -91,7 +91,7 @@ describe('touchProbJumps', () => {
       { intensity: 0.5, mean: 0.15, sd: 0.2 },
     ] as Jumps[]) {
       for (const H of [120, 85]) {
-        const r = touchProbJumps(100, H, 0.75, 0.07, 0.01, 0.2, j, { paths: 30000, seed: 5 });
+        const r = touchProbJumps({ S: 100, level: H, T: 0.75, drift: 0.07, q: 0.01, sigma: 0.2 }, j, { paths: 30000, seed: 5 });
         const exact = mixtureBeyond(100, H, 0.75, 0.07, 0.01, 0.2, j);
         expect(Math.abs(r.probBeyond - exact), `H=${H}`).toBeLessThan(4 * r.probBeyondStderr);
         expect(r.prob).toBeGreaterThanOrEqual(r.probBeyond);
@@ -127,7 +127,7 @@ describe('touchProbJumps', () => {
     }
     const brute = hits / n;
     const bruteErr = Math.sqrt((brute * (1 - brute)) / n);
-    const r = touchProbJumps(S, H, T, mu, q, s, j, { paths: 20000, seed: 3 });
+    const r = touchProbJumps({ S, level: H, T, drift: mu, q, sigma: s }, j, { paths: 20000, seed: 3 });
     const tol = 4 * Math.hypot(bruteErr, r.stderr) + 0.005; // + allowance for the O(Δt) residue
     console.log(`touch with jumps: bridge MC ${r.prob.toFixed(4)} ± ${r.stderr.toFixed(4)}, brute force ${brute.toFixed(4)} ± ${bruteErr.toFixed(4)}, no jumps ${closedTouch(S, H, T, mu, q, s).toFixed(4)}`);
     expect(Math.abs(r.prob - brute), `${r.prob} vs ${brute}`).toBeLessThan(tol);
@@ -137,19 +137,19 @@ describe('touchProbJumps', () => {
 
   it('is reproducible: the same seed gives the same answer, another seed a different one', () => {
     const j: Jumps = { intensity: 1, mean: -0.1, sd: 0.1 };
-    const a = touchProbJumps(100, 110, 1, 0.05, 0, 0.2, j, { paths: 3000, seed: 17 });
-    const b = touchProbJumps(100, 110, 1, 0.05, 0, 0.2, j, { paths: 3000, seed: 17 });
-    const c = touchProbJumps(100, 110, 1, 0.05, 0, 0.2, j, { paths: 3000, seed: 18 });
+    const a = touchProbJumps({ S: 100, level: 110, T: 1, drift: 0.05, q: 0, sigma: 0.2 }, j, { paths: 3000, seed: 17 });
+    const b = touchProbJumps({ S: 100, level: 110, T: 1, drift: 0.05, q: 0, sigma: 0.2 }, j, { paths: 3000, seed: 17 });
+    const c = touchProbJumps({ S: 100, level: 110, T: 1, drift: 0.05, q: 0, sigma: 0.2 }, j, { paths: 3000, seed: 18 });
     expect(a).toEqual(b);
     expect(c.prob).not.toBe(a.prob);
   });
 
   it('handles the edges: level at the spot, T = 0, bad input', () => {
-    const at = touchProbJumps(100, 100, 1, 0.05, 0, 0.2, undefined, { paths: 1000 });
+    const at = touchProbJumps({ S: 100, level: 100, T: 1, drift: 0.05, q: 0, sigma: 0.2 }, undefined, { paths: 1000 });
     expect(at.prob).toBe(1);
     expect(at.stderr).toBe(0);
-    expect(touchProbJumps(100, 120, 0, 0.05, 0, 0.2, undefined)).toMatchObject({ prob: 0, probBeyond: 0 });
-    expect(() => touchProbJumps(100, -5, 1, 0.05, 0, 0.2, undefined)).toThrow(/level/);
-    expect(() => touchProbJumps(100, 120, 1, 0.05, 0, 0.2, { intensity: -1, mean: 0, sd: 0 })).toThrow(/jumps/);
+    expect(touchProbJumps({ S: 100, level: 120, T: 0, drift: 0.05, q: 0, sigma: 0.2 }, undefined)).toMatchObject({ prob: 0, probBeyond: 0 });
+    expect(() => touchProbJumps({ S: 100, level: -5, T: 1, drift: 0.05, q: 0, sigma: 0.2 }, undefined)).toThrow(/level/);
+    expect(() => touchProbJumps({ S: 100, level: 120, T: 1, drift: 0.05, q: 0, sigma: 0.2 }, { intensity: -1, mean: 0, sd: 0 })).toThrow(/jumps/);
   });
 });

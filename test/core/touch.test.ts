@@ -63,8 +63,8 @@ describe('reflection principle', () => {
         fc.double({ min: 0, max: 0.08, noNaN: true }),
         (m, T, sigma, q) => {
           const drift = q + 0.5 * sigma * sigma;
-          const t = touchProb(100, 100 * m, T, drift, q, sigma);
-          const e = probBeyondAtEnd(100, 100 * m, T, drift, q, sigma);
+          const t = touchProb({ S: 100, level: 100 * m, T, drift, q, sigma });
+          const e = probBeyondAtEnd({ S: 100, level: 100 * m, T, drift, q, sigma });
           expect(Math.abs(t - 2 * e)).toBeLessThan(1e-13);
         },
       ),
@@ -79,8 +79,8 @@ describe('reflection principle', () => {
         fc.double({ min: 0.05, max: 1.5, noNaN: true }),
         fc.double({ min: -0.5, max: 0.5, noNaN: true }),
         (m, T, sigma, drift) => {
-          expect(touchProb(100, 100 * m, T, drift, 0.01, sigma)).toBeGreaterThanOrEqual(
-            probBeyondAtEnd(100, 100 * m, T, drift, 0.01, sigma) - 1e-15,
+          expect(touchProb({ S: 100, level: 100 * m, T, drift, q: 0.01, sigma })).toBeGreaterThanOrEqual(
+            probBeyondAtEnd({ S: 100, level: 100 * m, T, drift, q: 0.01, sigma }) - 1e-15,
           );
         },
       ),
@@ -97,7 +97,7 @@ describe('against a seeded Monte Carlo with Brownian-bridge crossing', () => {
   ];
   it.each(cases)('%s: within 4 standard errors', (_name, S, L, T, mu, q, sigma) => {
     const mc = monteCarloTouch(S, L, T, mu, q, sigma, 20000, 100, 20261201);
-    const exact = touchProb(S, L, T, mu, q, sigma);
+    const exact = touchProb({ S, level: L, T, drift: mu, q, sigma });
     expect(mc.se).toBeLessThan(0.005);
     expect(Math.abs(mc.mean - exact)).toBeLessThan(4 * mc.se);
   });
@@ -115,7 +115,7 @@ describe('probability of ending beyond', () => {
           const L = 100 * m;
           const mean = Math.log(100) + (mu - 0.02 - 0.5 * sigma * sigma) * T;
           const below = jStat.lognormal.cdf(L, mean, sigma * Math.sqrt(T));
-          const p = probBeyondAtEnd(100, L, T, mu, 0.02, sigma);
+          const p = probBeyondAtEnd({ S: 100, level: L, T, drift: mu, q: 0.02, sigma });
           expect(Math.abs(p - (L >= 100 ? 1 - below : below))).toBeLessThan(1e-12);
         },
       ),
@@ -133,7 +133,7 @@ describe('shape and limits', () => {
     ]) {
       let prev = 0;
       for (let T = 0.001; T < 20; T *= 1.1) {
-        const p = touchProb(100, L, T, mu, 0.01, 0.3);
+        const p = touchProb({ S: 100, level: L, T, drift: mu, q: 0.01, sigma: 0.3 });
         expect(p).toBeGreaterThanOrEqual(prev - 1e-15);
         prev = p;
       }
@@ -141,12 +141,12 @@ describe('shape and limits', () => {
   });
 
   it('T → 0: 0 for a level away from the spot, 1 at the spot', () => {
-    expect(touchProb(100, 101, 1e-10, 0.05, 0, 0.3)).toBeLessThan(1e-12);
-    expect(touchProb(100, 99, 1e-10, 0.05, 0, 0.3)).toBeLessThan(1e-12);
-    expect(touchProb(100, 101, 0, 0.05, 0, 0.3)).toBe(0);
-    expect(touchProb(100, 100, 0, 0.05, 0, 0.3)).toBe(1);
-    expect(touchProb(100, 100, 1, 0.05, 0, 0.3)).toBe(1);
-    expect(probBeyondAtEnd(100, 101, 0, 0.05, 0, 0.3)).toBe(0);
+    expect(touchProb({ S: 100, level: 101, T: 1e-10, drift: 0.05, q: 0, sigma: 0.3 })).toBeLessThan(1e-12);
+    expect(touchProb({ S: 100, level: 99, T: 1e-10, drift: 0.05, q: 0, sigma: 0.3 })).toBeLessThan(1e-12);
+    expect(touchProb({ S: 100, level: 101, T: 0, drift: 0.05, q: 0, sigma: 0.3 })).toBe(0);
+    expect(touchProb({ S: 100, level: 100, T: 0, drift: 0.05, q: 0, sigma: 0.3 })).toBe(1);
+    expect(touchProb({ S: 100, level: 100, T: 1, drift: 0.05, q: 0, sigma: 0.3 })).toBe(1);
+    expect(probBeyondAtEnd({ S: 100, level: 101, T: 0, drift: 0.05, q: 0, sigma: 0.3 })).toBe(0);
   });
 
   it('T → ∞: drift away gives e^{−2|ν|a/σ²} (a Brownian motion with drift −|ν| ever rising by a; common practice), drift towards gives 1', () => {
@@ -155,18 +155,18 @@ describe('shape and limits', () => {
     const nu = mu - 0.5 * sigma * sigma;
     const a = Math.log(1.3);
     const limit = Math.exp((2 * nu * a) / (sigma * sigma));
-    expect(Math.abs(touchProb(100, 130, 1e5, mu, 0, sigma) - limit)).toBeLessThan(1e-12);
-    expect(touchProb(100, 130, 1e5, 0.2, 0, sigma)).toBeCloseTo(1, 12);
+    expect(Math.abs(touchProb({ S: 100, level: 130, T: 1e5, drift: mu, q: 0, sigma }) - limit)).toBeLessThan(1e-12);
+    expect(touchProb({ S: 100, level: 130, T: 1e5, drift: 0.2, q: 0, sigma })).toBeCloseTo(1, 12);
   });
 
   it('σ → 0: the certain path e^{(μ−q)t} touches when it gets there', () => {
     // 100 e^{0.2} ≈ 122.1
-    expect(touchProb(100, 120, 1, 0.2, 0, 0)).toBe(1);
-    expect(touchProb(100, 125, 1, 0.2, 0, 0)).toBe(0);
-    expect(touchProb(100, 80, 1, 0.2, 0, 0)).toBe(0);
-    expect(touchProb(100, 120, 1, 0.2, 0, 1e-6)).toBeCloseTo(1, 10);
-    expect(touchProb(100, 125, 1, 0.2, 0, 1e-6)).toBeLessThan(1e-10);
-    expect(probBeyondAtEnd(100, 120, 1, 0.2, 0, 0)).toBe(1);
+    expect(touchProb({ S: 100, level: 120, T: 1, drift: 0.2, q: 0, sigma: 0 })).toBe(1);
+    expect(touchProb({ S: 100, level: 125, T: 1, drift: 0.2, q: 0, sigma: 0 })).toBe(0);
+    expect(touchProb({ S: 100, level: 80, T: 1, drift: 0.2, q: 0, sigma: 0 })).toBe(0);
+    expect(touchProb({ S: 100, level: 120, T: 1, drift: 0.2, q: 0, sigma: 1e-6 })).toBeCloseTo(1, 10);
+    expect(touchProb({ S: 100, level: 125, T: 1, drift: 0.2, q: 0, sigma: 1e-6 })).toBeLessThan(1e-10);
+    expect(probBeyondAtEnd({ S: 100, level: 120, T: 1, drift: 0.2, q: 0, sigma: 0 })).toBe(1);
   });
 
   it('never NaN or Infinity for extreme but finite inputs', () => {
@@ -174,8 +174,8 @@ describe('shape and limits', () => {
       for (const T of [0, 1e-12, 1 / 365, 1, 1e4])
         for (const mu of [-5, -0.1, 0, 0.1, 5])
           for (const sigma of [0, 1e-12, 0.001, 0.3, 10]) {
-            const t = touchProb(100, L, T, mu, 0.02, sigma);
-            const e = probBeyondAtEnd(100, L, T, mu, 0.02, sigma);
+            const t = touchProb({ S: 100, level: L, T, drift: mu, q: 0.02, sigma });
+            const e = probBeyondAtEnd({ S: 100, level: L, T, drift: mu, q: 0.02, sigma });
             expect(t >= 0 && t <= 1, `touch L=${L} T=${T} μ=${mu} σ=${sigma}: ${t}`).toBe(true);
             expect(e >= 0 && e <= 1, `beyond L=${L} T=${T} μ=${mu} σ=${sigma}: ${e}`).toBe(true);
           }

@@ -64,7 +64,7 @@ describe('drift with its uncertainty', () => {
   it('touch: the chance of touching is the mixture over the drift', async () => {
     const j = answered(await ask(null, 'touch 120 by 2028-01-04 spot 100 drift 8% ± 25% vol 25% asof 2027-01-04')).json as J;
     expect(j.view.driftSe).toBe(0.25);
-    expect(j.probTouchView).toBeCloseTo(touchProbPredictive(100, 120, 365 / 365, 0.08, 0.25, 0, 0.25), 14);
+    expect(j.probTouchView).toBeCloseTo(touchProbPredictive({ S: 100, level: 120, T: 365 / 365, drift: 0.08, q: 0, sigma: 0.25, driftSe: 0.25 }), 14);
     expect(j.probTouchMarket).toBe((answered(await ask(null, 'touch 120 by 2028-01-04 spot 100 drift 8% vol 25% asof 2027-01-04')).json as J).probTouchMarket);
   });
 

@@ -24,7 +24,7 @@ export function referenceExitsMc(input: CheckInput, target: number | null, stop:
   const h = input.horizonYears;
   const legs = input.legs.map((l) => {
     const m = l.kind === 'shares' ? 1 : input.mult;
-    const fair = l.kind === 'shares' ? spot : bsmGreeks(l.kind, spot, l.strike, l.years, rate, q, l.iv).value;
+    const fair = l.kind === 'shares' ? spot : bsmGreeks({ kind: l.kind, S: spot, K: l.strike, T: l.years, r: rate, q, sigma: l.iv }).value;
     return { ...l, c: l.qty * m, entry: l.entry ?? fair };
   });
   /** P&L and its derivative in ln S at (S, t) */
@@ -44,7 +44,7 @@ export function referenceExitsMc(input: CheckInput, target: number | null, stop:
         d += l.c * (itm ? (l.kind === 'call' ? S : -S) : 0);
         continue;
       }
-      const g = bsmGreeks(l.kind, S, l.strike, tau, rate, q, l.iv);
+      const g = bsmGreeks({ kind: l.kind, S, K: l.strike, T: tau, r: rate, q, sigma: l.iv });
       v += l.c * (g.value - l.entry);
       d += l.c * g.delta * S;
     }

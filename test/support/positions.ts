@@ -12,12 +12,12 @@ export function pnlFn(input: CheckInput): (S: number) => number {
   const h = input.horizonYears;
   const parts = input.legs.map((l) => {
     const m = l.kind === 'shares' ? 1 : input.mult;
-    const fair = l.kind === 'shares' ? spot : bsmValue(l.kind, spot, l.strike, l.years, rate, q, l.iv);
+    const fair = l.kind === 'shares' ? spot : bsmValue({ kind: l.kind, S: spot, K: l.strike, T: l.years, r: rate, q, sigma: l.iv });
     const entry = l.entry ?? fair;
     const value = (S: number): number => {
       if (l.kind === 'shares') return S;
       if (l.years - h <= 1e-9) return l.kind === 'call' ? Math.max(S - l.strike, 0) : Math.max(l.strike - S, 0);
-      return bsmValue(l.kind, S, l.strike, l.years - h, rate, q, l.iv);
+      return bsmValue({ kind: l.kind, S, K: l.strike, T: l.years - h, r: rate, q, sigma: l.iv });
     };
     return { c: l.qty * m, entry, value };
   });

@@ -4,7 +4,7 @@
  */
 import { activeJumps } from '../jumps.js';
 import { naturalSpline } from '../numeric/spline.js';
-import type { Jumps, OptionKind } from '../types.js';
+import type { Jumps, OptionTerms } from '../types.js';
 import { deterministicValue } from './deterministic.js';
 import { sinhGrid } from './grid.js';
 import { boundaryValue, checkInputs, halfWidth, payoff, totalSd, type Problem } from './problem.js';
@@ -22,25 +22,16 @@ const CURVE_NT = 160;
  * intrinsic), far out of the money 0). The grid spans [sLo, sHi] as far as it matters: beyond
  * about 8 standard deviations from the strike the asymptotes are exact to far below 1e-8·K.
  */
-export function americanValueCurve(
-  kind: OptionKind,
-  K: number,
-  T: number,
-  r: number,
-  q: number,
-  sigma: number,
-  sLo: number,
-  sHi: number,
-  jumps?: Jumps,
-): (S: number) => number {
-  checkInputs(null, K, T, r, q, sigma, jumps);
+export function americanValueCurve(o: OptionTerms, sLo: number, sHi: number, jumps?: Jumps): (S: number) => number {
+  checkInputs(o, jumps);
+  const { kind, K, T, r, q, sigma } = o;
   const j = activeJumps(jumps);
   if (!(Number.isFinite(sLo) && Number.isFinite(sHi) && sLo > 0 && sHi > sLo)) {
     throw new RangeError(`americanValueCurve: need 0 < sLo < sHi, finite (got ${sLo}, ${sHi})`);
   }
   if (T === 0) return (S: number) => payoff(kind, Math.max(S, 0), K);
   if (!j && sigma * Math.sqrt(T) < 1e-4) {
-    return (S: number) => (S > 0 ? deterministicValue(kind, S, K, T, r, q) : payoff(kind, 0, K));
+    return (S: number) => (S > 0 ? deterministicValue({ kind, S, K, T, r, q }) : payoff(kind, 0, K));
   }
   const p: Problem = { kind, K, T, r, q, sigma, jumps: j };
   const xK = Math.log(K);

@@ -1,13 +1,14 @@
 /**
  * The σ → 0 limit of the American option: with no volatility (and no jumps) the path is certain.
  */
-import type { Greeks, OptionKind } from '../types.js';
+import type { Greeks, OptionInputs } from '../types.js';
 
 /**
  * With no volatility the path is deterministic: the holder exercises at the best time on
  * S e^{(r−q)t}. Value = max over t ∈ [0, T] of e^{−rt}·payoff(S e^{(r−q)t}).
  */
-export function deterministicValue(kind: OptionKind, S: number, K: number, T: number, r: number, q: number): number {
+export function deterministicValue(o: Omit<OptionInputs, 'sigma'>): number {
+  const { kind, S, K, T, r, q } = o;
   const f = (t: number): number =>
     kind === 'call' ? S * Math.exp(-q * t) - K * Math.exp(-r * t) : K * Math.exp(-r * t) - S * Math.exp(-q * t);
   let best = Math.max(0, f(0), f(T));
@@ -20,8 +21,9 @@ export function deterministicValue(kind: OptionKind, S: number, K: number, T: nu
 }
 
 /** Value and Greeks of the deterministic limit (delta, theta and rho by differences). */
-export function deterministicGreeks(kind: OptionKind, S: number, K: number, T: number, r: number, q: number): Greeks {
-  const v = (s: number, t: number, rate: number): number => deterministicValue(kind, s, K, t, rate, q);
+export function deterministicGreeks(o: Omit<OptionInputs, 'sigma'>): Greeks {
+  const { kind, S, K, T, r, q } = o;
+  const v = (s: number, t: number, rate: number): number => deterministicValue({ kind, S: s, K, T: t, r: rate, q });
   const value = v(S, T, r);
   const hS = 1e-4 * S;
   const dMax = Math.max(1, Math.exp(-q * T));

@@ -3,7 +3,7 @@
  * from the grid at the spot, vega and rho by bumps re-solved on the same grids.
  */
 import { activeJumps } from '../jumps.js';
-import type { Greeks, OptionKind } from '../types.js';
+import type { Greeks, OptionInputs } from '../types.js';
 import { nearSize, richardson, sizeFor } from './at-spot.js';
 import { deterministicGreeks } from './deterministic.js';
 import { FdCache } from './grid.js';
@@ -17,17 +17,9 @@ import type { AmericanOptions } from './value.js';
  * error largely cancels in the differences). Every figure is the Richardson combination over the
  * two grid sizes.
  */
-export function americanGreeks(
-  kind: OptionKind,
-  S: number,
-  K: number,
-  T: number,
-  r: number,
-  q: number,
-  sigma: number,
-  opts: AmericanOptions = {},
-): Greeks {
-  checkInputs(S, K, T, r, q, sigma, opts.jumps);
+export function americanGreeks(o: OptionInputs, opts: AmericanOptions = {}): Greeks {
+  checkInputs(o, opts.jumps);
+  const { kind, S, K, T, r, q, sigma } = o;
   const j = activeJumps(opts.jumps);
   const cache = opts.cache ?? new FdCache();
   let size = sizeFor(opts.accuracy ?? 'normal');
@@ -37,7 +29,7 @@ export function americanGreeks(
     return { value: intrinsic, delta: itm ? (kind === 'call' ? 1 : -1) : 0, gamma: 0, vega: 0, theta: 0, rho: 0 };
   }
   const p: Problem = { kind, K, T, r, q, sigma, jumps: j };
-  if (!j && sigma * Math.sqrt(T) < 1e-4) return deterministicGreeks(kind, S, K, T, r, q);
+  if (!j && sigma * Math.sqrt(T) < 1e-4) return deterministicGreeks(o);
   let base = richardson({ p, S, withTheta: true, layout: p, cache }, size);
   if (base.near) {
     size = nearSize(size);

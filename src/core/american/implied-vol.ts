@@ -2,7 +2,7 @@
 import { badIvInputs, type IvResult } from '../iv.js';
 import { validJumps } from '../jumps.js';
 import { brentRoot } from '../numeric/root.js';
-import type { Jumps, OptionKind } from '../types.js';
+import type { IvInputs, Jumps } from '../types.js';
 import { sizeFor } from './at-spot.js';
 import { payoff } from './problem.js';
 import { americanFdValue } from './value.js';
@@ -13,18 +13,10 @@ import { americanFdValue } from './value.js';
  * (S for a call, K for a put). Brent's method on σ ∈ [0.0005, 5]. With `jumps`, the diffusion's
  * volatility under Merton jumps.
  */
-export function americanImpliedVol(
-  kind: OptionKind,
-  price: number,
-  S: number,
-  K: number,
-  T: number,
-  r: number,
-  q: number,
-  jumps?: Jumps,
-): IvResult {
-  const bad = badIvInputs(price, S, K, T, r, q, true, !jumps || validJumps(jumps));
+export function americanImpliedVol(o: IvInputs, price: number, jumps?: Jumps): IvResult {
+  const bad = badIvInputs(o, price, true, !jumps || validJumps(jumps));
   if (bad) return bad;
+  const { kind, S, K, T, r, q } = o;
   const intrinsic = payoff(kind, S, K);
   const lower = Math.max(intrinsic, kind === 'call' ? S * Math.exp(-q * T) - K * Math.exp(-r * T) : K * Math.exp(-r * T) - S * Math.exp(-q * T), 0);
   const upper = kind === 'call' ? S : K;
@@ -42,7 +34,11 @@ export function americanImpliedVol(
   }
   const sMin = 0.0005;
   const sMax = 5;
-  const f = (s: number): number => americanFdValue(kind, S, K, T, r, q, s, size, { jumps }) - price;
+  const at = { kind, S, K, T, r, q, sigma: sMin };
+  const f = (s: number): number => {
+    at.sigma = s;
+    return americanFdValue(at, size, { jumps }) - price;
+  };
   const a = sMin;
   const b = sMax;
   const fa = f(a);

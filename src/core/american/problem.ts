@@ -2,17 +2,12 @@
  * The problem of one backward solve (an option under the walk with rate r, yield q, diffusion vol
  * σ and optional Merton jumps), its payoff and its values at the far ends of the grid.
  */
-import { checkMarketInputs } from '../inputs.js';
+import { checkMarketInputs, type CheckedInputs } from '../inputs.js';
 import { jumpCompensator, jumpVariance, validJumps } from '../jumps.js';
-import type { Jumps, OptionKind } from '../types.js';
+import type { Jumps, OptionKind, OptionTerms } from '../types.js';
 
-export interface Problem {
-  kind: OptionKind;
-  K: number;
-  T: number;
-  r: number;
-  q: number;
-  sigma: number;
+/** The option's terms (OptionInputs without the spot: a solve covers every spot) and the jumps. */
+export interface Problem extends OptionTerms {
   /** Merton jumps (only active ones count: intensity > 0) */
   jumps?: Jumps;
 }
@@ -48,9 +43,9 @@ export function halfWidth(p: Problem, sds: number): number {
 const NAMES = { S: 'S', K: 'K', T: 'T', rq: 'rate and yield', sigma: 'sigma' };
 
 /** Programming errors only (the request edge rejects bad input first): throws a RangeError. */
-export function checkInputs(S: number | null, K: number, T: number, r: number, q: number, sigma: number, jumps?: Jumps): void {
+export function checkInputs(o: CheckedInputs, jumps?: Jumps): void {
   if (jumps && !validJumps(jumps)) {
     throw new RangeError(`american: jumps need a finite intensity ≥ 0, a finite mean and an s.d. ≥ 0 (got ${jumps.intensity}, ${jumps.mean}, ${jumps.sd})`);
   }
-  checkMarketInputs('american', NAMES, S, K, T, r, q, sigma);
+  checkMarketInputs('american', NAMES, o);
 }

@@ -1,6 +1,6 @@
 /** The American value at one spot (Richardson over two grids; re-solved finer near the exercise boundary). */
 import { activeJumps } from '../jumps.js';
-import type { Jumps, OptionKind } from '../types.js';
+import type { Jumps, OptionInputs } from '../types.js';
 import { nearSize, richardson, sizeFor, type FdSize } from './at-spot.js';
 import { deterministicValue } from './deterministic.js';
 import { FdCache } from './grid.js';
@@ -23,21 +23,12 @@ export interface AmericanOptions {
 }
 
 /** Value of the American option on grids of the given size (Richardson over n and 2n). */
-export function americanFdValue(
-  kind: OptionKind,
-  S: number,
-  K: number,
-  T: number,
-  r: number,
-  q: number,
-  sigma: number,
-  size: FdSize,
-  opts: Pick<AmericanOptions, 'jumps' | 'cache'> = {},
-): number {
-  checkInputs(S, K, T, r, q, sigma, opts.jumps);
+export function americanFdValue(o: OptionInputs, size: FdSize, opts: Pick<AmericanOptions, 'jumps' | 'cache'> = {}): number {
+  checkInputs(o, opts.jumps);
+  const { kind, S, K, T, r, q, sigma } = o;
   const j = activeJumps(opts.jumps);
   if (T === 0) return payoff(kind, S, K);
-  if (!j && sigma * Math.sqrt(T) < 1e-4) return deterministicValue(kind, S, K, T, r, q);
+  if (!j && sigma * Math.sqrt(T) < 1e-4) return deterministicValue(o);
   const p: Problem = { kind, K, T, r, q, sigma, jumps: j };
   const s = { p, S, withTheta: false, layout: p, cache: opts.cache ?? new FdCache() };
   let res = richardson(s, size);
@@ -46,15 +37,6 @@ export function americanFdValue(
 }
 
 /** Value of the American option, 'normal' or 'fine' accuracy. */
-export function americanValue(
-  kind: OptionKind,
-  S: number,
-  K: number,
-  T: number,
-  r: number,
-  q: number,
-  sigma: number,
-  opts: AmericanOptions = {},
-): number {
-  return americanFdValue(kind, S, K, T, r, q, sigma, sizeFor(opts.accuracy ?? 'normal'), opts);
+export function americanValue(o: OptionInputs, opts: AmericanOptions = {}): number {
+  return americanFdValue(o, sizeFor(opts.accuracy ?? 'normal'), opts);
 }
