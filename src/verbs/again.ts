@@ -228,6 +228,7 @@ export const again: Verb<AgainRequest> = {
     const e = await here.store?.get(here.channel, req.number);
     return !!e && !e.deletedAt;
   },
+  entryOf: (req) => req.number,
   // the cost of the check it reruns: its logged text with the changes applied
   cost: (req, text, ctx) => {
     const stored = ctx.logged?.(req.number);

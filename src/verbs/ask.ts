@@ -37,24 +37,25 @@ function costOf(req: AnyRequest, text: string, ctx: Omit<CostContext, 'costOf'>)
 }
 
 /**
- * The cost context of a request: for `again N`, the logged text of check N is read first (the
- * budget needs it before the verb runs; an unreadable log just leaves the cost unknown).
+ * The cost context of a request: for one that reruns a log entry (its verb's `entryOf`: `again N`),
+ * the entry's text is read first (the budget needs it before the verb runs; an unreadable log just
+ * leaves the cost unknown).
  */
 async function costContext(ctx: AskContext, now: Date, req: AnyRequest): Promise<Omit<CostContext, 'costOf'>> {
   const { store, channel } = ctx;
-  const n = req.verb === 'again' ? (req as { number?: unknown }).number : undefined;
-  if (typeof n !== 'number' || !store) return { now };
+  const n = verbNamed(req.verb).entryOf?.(req);
+  if (n === undefined || !store) return { now };
   const entry = await store.get(channel, n).catch(() => undefined);
   return { now, logged: (k) => (k === n ? entry?.text : undefined) };
 }
 
 /**
  * Reads the channel's marks once before the verb runs, when the request may use one (`on SYMBOL`,
- * or `again`, whose rerun may): the verbs resolve marks without I/O (VerbEnv.marks).
+ * or a rerun of a log entry, `again`, which may): the verbs resolve marks without I/O (VerbEnv.marks).
  */
 async function withMarks(env: VerbEnv, text: string, req: AnyRequest): Promise<void> {
   const store = env.ctx.store;
-  if (!store || !(req.verb === 'again' || /\bon\b/i.test(text))) return;
+  if (!store || !(verbNamed(req.verb).entryOf || /\bon\b/i.test(text))) return;
   try {
     env.marks = new Map((await store.listMarks(env.ctx.channel)).map((m) => [m.symbol, m]));
   } catch (err) {

@@ -161,6 +161,12 @@ export interface Verb<R extends AnyRequest = AnyRequest> {
   answersHere?(req: R, here: Here): Promise<boolean>;
   /** resolve, compute, render; refusals are thrown as `Refused` */
   run(text: string, req: R, env: VerbEnv): Outcome | Promise<Outcome>;
+  /**
+   * the number of the channel's log entry a request of this verb reruns (`again N`): the seam reads
+   * that entry's text for `cost` (CostContext.logged) and the channel's marks, which the rerun may
+   * use, before it runs
+   */
+  entryOf?(req: R): number;
   /** units against the compute budget; absent: its work is small */
   cost?(req: R, text: string, ctx: CostContext): Cost | null;
   /** figures of a logged summary against a rerun's, in words (for `again`) */

@@ -22,6 +22,16 @@ afterEach(() => d.close());
 type Out = { outcome: { probProfit: number; expectedPnl: number } };
 
 describe('again of a check', () => {
+  it('the seam reads the logged check for the budget: changes that make it too heavy are refused before it runs, nothing logged', async () => {
+    // a long-dated call the budget lets through alone; with many wide jumps over 13 years it is not
+    // (test/robust/budget.test.ts costs the same pair from the text)
+    answered(await ask(d.store, 'check +1 c 100 2056-12-01 iv 30% spot 100 rate 4% drift 8% asof 2027-01-04'));
+    const r = rejected(await ask(d.store, 'again 1 jumps 100/yr -10% 200% horizon 2040-01-01'));
+    expect(r.message).toMatch(/this rerun needs about/);
+    expect(r.at).toBe('again 1 '.length);
+    expect(await d.store.recent('C0DESKA', 10)).toHaveLength(1);
+  });
+
   it('unchanged: the same figures, posted as a new check', async () => {
     const a = answered(await ask(d.store, SPREAD));
     const b = answered(await ask(d.store, 'again 1', { now: at(30) }));
